@@ -1,0 +1,402 @@
+package netfile
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"strconv"
+	"strings"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// CSV columns. The header names them, in any order; see the package
+// documentation for their meaning.
+const (
+	colKind = iota
+	colID
+	colFrom
+	colTo
+	colLength
+	colDiffusivity
+	colDrift
+	colDecay
+	colSource
+	colCapacity
+	colWeight
+	colWeightFrom
+	colWeightTo
+	colCells
+	colFixed
+	colLeak
+	colInject
+	colX
+	colY
+	numCols
+)
+
+var csvNames = [numCols]string{
+	colKind: "kind", colID: "id", colFrom: "from", colTo: "to", colLength: "length",
+	colDiffusivity: "diffusivity", colDrift: "drift", colDecay: "decay", colSource: "source",
+	colCapacity: "capacity", colWeight: "weight", colWeightFrom: "weight_from", colWeightTo: "weight_to",
+	colCells: "cells", colFixed: "fixed", colLeak: "leak", colInject: "inject", colX: "x", colY: "y",
+}
+
+// Columns used only by edge rows, and only by node rows. id and capacity
+// serve both (capacity is ρ on an edge row, ρ_v on a node row).
+var (
+	csvEdgeOnly = []int{colFrom, colTo, colLength, colDiffusivity, colDrift, colDecay, colSource, colWeight, colWeightFrom, colWeightTo, colCells}
+	csvNodeOnly = []int{colFixed, colLeak, colInject, colX, colY}
+	csvRequired = []int{colID, colFrom, colTo, colLength, colDiffusivity}
+)
+
+// csvReader holds the state of one ReadCSV.
+type csvReader struct {
+	file    string
+	cr      *csv.Reader
+	col     [numCols]int // index of each column in a record, -1 if absent
+	rec     []string
+	net     *graphpde.Network
+	edgeRow []int // line of each edge's row
+	nodeRow []int // line of each node's own row, 0 if created by an edge
+	cells   int64
+}
+
+// ReadCSV reads a network from an edge list in CSV (RFC 4180, comma
+// separated, '#' starts a comment line). The first record is a header naming
+// the columns in any order; the columns are listed in the package
+// documentation. Every row is an edge unless a kind column says "node".
+// Nodes named by edges are created as they first appear, as balance nodes
+// with no leak, injection or capacity; a node row sets the condition of its
+// node, before or after the edges that use it. name is the file name used in
+// errors, which are *Error values carrying the row's line.
+//
+// ReadCSV streams the input: it holds one record at a time, and its cost is
+// linear in the number of rows.
+func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
+	cr := csv.NewReader(r)
+	cr.Comment = '#'
+	cr.ReuseRecord = true
+	cr.TrimLeadingSpace = true
+	c := &csvReader{file: name, cr: cr, net: &graphpde.Network{}}
+	if err := c.header(); err != nil {
+		return nil, err
+	}
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil && !errors.Is(err, csv.ErrFieldCount) {
+			return nil, c.csvError(err)
+		}
+		if err != nil {
+			line, _ := cr.FieldPos(0)
+			return nil, &Error{File: name, Line: line, Msg: fmt.Sprintf("row has %d fields but the header has %d", len(rec), cr.FieldsPerRecord), Err: err}
+		}
+		c.rec = rec
+		switch kind := strings.ToLower(c.field(colKind)); kind {
+		case "", "edge":
+			err = c.edge()
+		case "node":
+			err = c.node()
+		default:
+			err = c.fail(colKind, "", fmt.Sprintf("kind %q must be edge or node", kind))
+		}
+		if err != nil {
+			return nil, err
+		}
+	}
+	return c.net, nil
+}
+
+func (c *csvReader) csvError(err error) error {
+	e := &Error{File: c.file, Msg: err.Error(), Err: err}
+	var pe *csv.ParseError
+	if errors.As(err, &pe) {
+		e.Line = pe.Line
+		e.Msg = pe.Err.Error()
+	} else {
+		e.Msg = "cannot read: " + errMsg(err)
+	}
+	return e
+}
+
+func (c *csvReader) header() error {
+	rec, err := c.cr.Read()
+	if err == io.EOF {
+		return &Error{File: c.file, Msg: "empty file: the first line must be a header naming the columns (id,from,to,length,diffusivity,...)"}
+	}
+	if err != nil {
+		return c.csvError(err)
+	}
+	line, _ := c.cr.FieldPos(0)
+	for i := range c.col {
+		c.col[i] = -1
+	}
+	for i, h := range rec {
+		h = strings.ToLower(strings.TrimSpace(strings.TrimPrefix(h, "\uFEFF")))
+		k := -1
+		for j, n := range csvNames {
+			if n == h {
+				k = j
+			}
+		}
+		switch {
+		case k < 0:
+			return &Error{File: c.file, Line: line, Msg: "header: " + strings.Replace(unknownKey(h, csvNames[:]), "key", "column", 1)}
+		case c.col[k] >= 0:
+			return &Error{File: c.file, Line: line, Msg: fmt.Sprintf("header: column %q appears twice", h)}
+		}
+		c.col[k] = i
+	}
+	for _, k := range csvRequired {
+		if c.col[k] < 0 {
+			return &Error{File: c.file, Line: line, Msg: fmt.Sprintf("header: missing column %q (required: id,from,to,length,diffusivity)", csvNames[k])}
+		}
+	}
+	if c.col[colKind] < 0 {
+		for _, k := range csvNodeOnly {
+			if c.col[k] >= 0 {
+				return &Error{File: c.file, Line: line, Msg: fmt.Sprintf("header: column %q is for node rows, which need a kind column", csvNames[k])}
+			}
+		}
+	}
+	return nil
+}
+
+// field returns the trimmed value of column k in the current record, or ""
+// when the column is absent.
+func (c *csvReader) field(k int) string {
+	if i := c.col[k]; i >= 0 {
+		return strings.TrimSpace(c.rec[i])
+	}
+	return ""
+}
+
+// fail reports an error in column k of the current row.
+func (c *csvReader) fail(k int, obj, msg string) *Error {
+	i := c.col[k]
+	if i < 0 {
+		i = 0
+	}
+	line, _ := c.cr.FieldPos(i)
+	return &Error{File: c.file, Line: line, Object: obj, Msg: msg}
+}
+
+// number parses column k; ok is false for an empty field.
+func (c *csvReader) number(k int, obj string, r rule) (v float64, ok bool, err error) {
+	s := c.field(k)
+	if s == "" {
+		return 0, false, nil
+	}
+	v, perr := strconv.ParseFloat(s, 64)
+	if perr != nil && !errors.Is(perr, strconv.ErrRange) {
+		return 0, false, c.fail(k, obj, fmt.Sprintf("%s = %q is not a number", csvNames[k], s))
+	}
+	if reason := check(v, r); reason != "" {
+		return 0, false, c.fail(k, obj, csvNames[k]+" "+reason)
+	}
+	return v, true, nil
+}
+
+// unused reports a non-empty field in one of cols, which this kind of row
+// does not use.
+func (c *csvReader) unused(cols []int, obj, kind string) error {
+	for _, k := range cols {
+		if c.field(k) != "" {
+			return c.fail(k, obj, fmt.Sprintf("column %s is not used on %s rows; leave it empty", csvNames[k], kind))
+		}
+	}
+	return nil
+}
+
+// rowID reads and checks the id column.
+func (c *csvReader) rowID(kind string) (string, string, error) {
+	id := c.field(colID)
+	if id == "" {
+		return "", "", c.fail(colID, "", kind+" row without an id")
+	}
+	if !graphpde.ValidID(id) {
+		return "", "", c.fail(colID, "", fmt.Sprintf("%s id %q must be letters, digits, '_', '-' or '.'", kind, id))
+	}
+	return id, fmt.Sprintf("%s %q", kind, id), nil
+}
+
+// nodeFor returns the index of node id, creating a balance node if needed.
+func (c *csvReader) nodeFor(k int, obj string) (int, error) {
+	id := c.field(k)
+	if id == "" {
+		return 0, c.fail(k, obj, fmt.Sprintf("missing %s", csvNames[k]))
+	}
+	if v, ok := c.net.NodeIndex(id); ok {
+		return v, nil
+	}
+	if !graphpde.ValidID(id) {
+		return 0, c.fail(k, obj, fmt.Sprintf("%s: node id %q must be letters, digits, '_', '-' or '.'", csvNames[k], id))
+	}
+	v, err := c.net.AddNode(graphpde.Node{ID: strings.Clone(id)})
+	if err != nil {
+		e := c.fail(k, obj, err.Error())
+		e.Err = err
+		return 0, e
+	}
+	c.nodeRow = append(c.nodeRow, 0)
+	return v, nil
+}
+
+func (c *csvReader) edge() error {
+	id, obj, err := c.rowID("edge")
+	if err != nil {
+		return err
+	}
+	line, _ := c.cr.FieldPos(0)
+	if e, dup := c.net.EdgeIndex(id); dup {
+		return c.fail(colID, obj, fmt.Sprintf("duplicate id (first used at line %d)", c.edgeRow[e]))
+	}
+	if err := c.unused(csvNodeOnly, obj, "edge"); err != nil {
+		return err
+	}
+	e := graphpde.Edge{ID: strings.Clone(id)}
+	if e.From, err = c.nodeFor(colFrom, obj); err != nil {
+		return err
+	}
+	if e.To, err = c.nodeFor(colTo, obj); err != nil {
+		return err
+	}
+	for _, f := range []struct {
+		col int
+		dst *float64
+		r   rule
+		req bool
+	}{
+		{colLength, &e.Length, positive, true},
+		{colDiffusivity, &e.A, positive, true},
+		{colDrift, &e.B, finite, false},
+		{colDecay, &e.C, nonNeg, false},
+		{colSource, &e.F, finite, false},
+		{colCapacity, &e.Rho, positive, false},
+	} {
+		v, ok, err := c.number(f.col, obj, f.r)
+		if err != nil {
+			return err
+		}
+		if !ok && f.req {
+			return c.fail(f.col, obj, fmt.Sprintf("missing %s", csvNames[f.col]))
+		}
+		*f.dst = v
+	}
+	if w, ok, err := c.number(colWeight, obj, positive); err != nil {
+		return err
+	} else if ok {
+		for _, k := range []int{colWeightFrom, colWeightTo} {
+			if c.field(k) != "" {
+				return c.fail(k, obj, "give weight (both ends) or weight_from and weight_to, not both")
+			}
+		}
+		e.Weight = [2]float64{w, w}
+	}
+	for s, k := range []int{colWeightFrom, colWeightTo} {
+		if w, ok, err := c.number(k, obj, positive); err != nil {
+			return err
+		} else if ok {
+			e.Weight[s] = w
+		}
+	}
+	if s := c.field(colCells); s != "" {
+		n, perr := strconv.ParseInt(s, 10, 64)
+		if perr != nil && !errors.Is(perr, strconv.ErrRange) {
+			return c.fail(colCells, obj, fmt.Sprintf("cells = %q is not an integer", s))
+		}
+		if reason := cellCount(n); reason != "" {
+			return c.fail(colCells, obj, "cells "+reason)
+		}
+		c.cells += n
+		if c.cells > MemoryLimit/BytesPerCell {
+			return c.fail(colCells, obj, tooManyCells(c.cells))
+		}
+		e.Cells = int(n)
+	}
+	if _, err := c.net.AddEdge(e); err != nil {
+		fe := c.fail(colID, obj, err.Error())
+		var me *graphpde.ModelError
+		if errors.As(err, &me) {
+			fe.Msg = strings.TrimSpace(me.Field + " " + me.Reason)
+		}
+		fe.Err = err
+		return fe
+	}
+	c.edgeRow = append(c.edgeRow, line)
+	return nil
+}
+
+func (c *csvReader) node() error {
+	id, obj, err := c.rowID("node")
+	if err != nil {
+		return err
+	}
+	line, _ := c.cr.FieldPos(0)
+	if err := c.unused(csvEdgeOnly, obj, "node"); err != nil {
+		return err
+	}
+	nd := graphpde.Node{ID: id}
+	if g, ok, err := c.number(colFixed, obj, finite); err != nil {
+		return err
+	} else if ok {
+		nd.Law = vertex.Law{Kind: vertex.Fixed, Value: g}
+		for _, k := range []int{colLeak, colInject, colCapacity} {
+			if c.field(k) != "" {
+				return c.fail(k, obj, fmt.Sprintf("%s is not allowed on a fixed node (it has no balance law); leave it empty", csvNames[k]))
+			}
+		}
+	}
+	for _, f := range []struct {
+		col int
+		dst *float64
+		r   rule
+	}{{colLeak, &nd.Law.Leak, nonNeg}, {colInject, &nd.Law.Inject, finite}, {colCapacity, &nd.Law.Capacity, nonNeg}} {
+		v, _, err := c.number(f.col, obj, f.r)
+		if err != nil {
+			return err
+		}
+		*f.dst = v
+	}
+	x, hasX, err := c.number(colX, obj, finite)
+	if err != nil {
+		return err
+	}
+	y, hasY, err := c.number(colY, obj, finite)
+	if err != nil {
+		return err
+	}
+	switch {
+	case hasX && hasY:
+		nd.XY = &[2]float64{x, y}
+	case hasX != hasY:
+		return c.fail(colX, obj, "give both x and y, or neither")
+	}
+	if err := nd.Law.Validate(); err != nil {
+		fe := c.fail(colID, obj, err.Error())
+		fe.Err = err
+		return fe
+	}
+	if v, ok := c.net.NodeIndex(id); ok {
+		if first := c.nodeRow[v]; first > 0 {
+			return c.fail(colID, obj, fmt.Sprintf("duplicate node row (first at line %d)", first))
+		}
+		nd.ID = c.net.Nodes[v].ID
+		c.net.Nodes[v] = nd
+		c.nodeRow[v] = line
+		return nil
+	}
+	nd.ID = strings.Clone(id)
+	if _, err := c.net.AddNode(nd); err != nil {
+		fe := c.fail(colID, obj, err.Error())
+		fe.Err = err
+		return fe
+	}
+	c.nodeRow = append(c.nodeRow, line)
+	return nil
+}

@@ -1,0 +1,677 @@
+package netfile
+
+import (
+	"errors"
+	"fmt"
+	"io"
+	"maps"
+	"math"
+	"os"
+	"path/filepath"
+	"slices"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/BurntSushi/toml"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// Keys accepted in each table, in the order the documentation lists them.
+var (
+	networkKeys  = []string{"name", "description"}
+	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split"}
+	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells"}
+	defaultsKeys = edgeKeys[3:]
+	topKeys      = []string{"network", "defaults", "node", "edge"}
+)
+
+// ReadFile reads the network in path, choosing the format by the extension:
+// ".toml" for a network file (Read), ".csv" for an edge list (ReadCSV). The
+// path is used as the file name in errors.
+func ReadFile(path string) (*graphpde.Network, error) {
+	var read func(io.Reader, string) (*graphpde.Network, error)
+	switch ext := strings.ToLower(filepath.Ext(path)); ext {
+	case ".toml":
+		read = Read
+	case ".csv":
+		read = ReadCSV
+	default:
+		return nil, &Error{File: path, Msg: fmt.Sprintf("unknown file type %q: want .toml (network file) or .csv (edge list)", ext)}
+	}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, &Error{File: path, Msg: "cannot open: " + errMsg(err), Err: err}
+	}
+	defer f.Close()
+	return read(f, path)
+}
+
+// errMsg strips the path that *os.PathError repeats.
+func errMsg(err error) string {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err.Error()
+	}
+	return err.Error()
+}
+
+// Read parses a network file (TOML 1.0, keys in the package documentation)
+// and returns the network it describes. name is the file name used in error
+// messages. Every error is an *Error carrying the line of the offending key.
+// Read holds the whole file in memory; its cost is linear in the file size.
+func Read(r io.Reader, name string) (*graphpde.Network, error) {
+	data, err := io.ReadAll(r)
+	if err != nil {
+		return nil, &Error{File: name, Msg: "cannot read: " + errMsg(err), Err: err}
+	}
+	src := string(data)
+	var root map[string]any
+	if _, err := toml.Decode(src, &root); err != nil {
+		e := &Error{File: name, Msg: "invalid TOML: " + err.Error(), Err: err}
+		var pe toml.ParseError
+		if errors.As(err, &pe) {
+			// The library counts a newline it failed at as the next line;
+			// counting up to the error's byte offset gives the line it is on.
+			e.Line = pe.Position.Line
+			if st := pe.Position.Start; st >= 0 && st <= len(src) {
+				e.Line = 1 + strings.Count(src[:st], "\n")
+			}
+			e.Msg = "invalid TOML: " + pe.Message
+		}
+		return nil, e
+	}
+	rd := &reader{file: name, loc: locate(src), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	return rd.network(root)
+}
+
+// reader holds the state of one Read.
+type reader struct {
+	file     string
+	loc      *locator
+	nodeLine map[string]int // node id → line of its id key
+	edgeLine map[string]int
+	cells    int64 // cells so far, for the memory guard
+}
+
+// tbl is one table of the file being read: [network], [defaults], one
+// [[node]] or one [[edge]].
+type tbl struct {
+	rd   *reader
+	obj  string   // as printed in errors
+	kind string   // "node" or "edge" for a *graphpde.ModelError, else ""
+	id   string   // the object's id, once known
+	path []string // locator path of the table
+	m    map[string]any
+}
+
+func (t *tbl) line(key ...string) int {
+	return t.rd.loc.lineOf(append(slices.Clip(t.path), key...)...)
+}
+
+// fail returns an *Error at the line of key (the table header if key is "").
+func (t *tbl) fail(key, msg string) *Error {
+	var ln int
+	if key == "" {
+		ln = t.line()
+	} else {
+		ln = t.line(key)
+	}
+	return &Error{File: t.rd.file, Line: ln, Object: t.obj, Msg: msg}
+}
+
+// bad reports an inadmissible value of field given by key, wrapping a
+// *graphpde.ModelError for nodes and edges. reason begins with "= value".
+func (t *tbl) bad(key, field, reason string) *Error {
+	e := t.fail(key, field+" "+reason)
+	if t.kind != "" {
+		e.Err = &graphpde.ModelError{Object: t.kind, ID: t.id, Field: field, Reason: reason}
+	}
+	return e
+}
+
+// keys returns the table's keys in file order (by line, then name).
+func (t *tbl) keys() []string {
+	ks := slices.Collect(maps.Keys(t.m))
+	lines := make(map[string]int, len(ks))
+	for _, k := range ks {
+		lines[k] = t.line(k)
+	}
+	slices.SortFunc(ks, func(a, b string) int {
+		if lines[a] != lines[b] {
+			return lines[a] - lines[b]
+		}
+		return strings.Compare(a, b)
+	})
+	return ks
+}
+
+// checkKeys reports the first key (in file order) not in known.
+func (t *tbl) checkKeys(known []string, hint string) error {
+	for _, k := range t.keys() {
+		if !slices.Contains(known, k) {
+			return t.fail(k, unknownKey(k, known)+hint)
+		}
+	}
+	return nil
+}
+
+// typeName describes a decoded TOML value for "must be a number, not ...".
+func typeName(v any) string {
+	switch v.(type) {
+	case string:
+		return "a string"
+	case bool:
+		return "a boolean"
+	case int64:
+		return "an integer"
+	case float64:
+		return "a float"
+	case []any, []map[string]any:
+		return "an array"
+	case map[string]any:
+		return "a table"
+	case time.Time:
+		return "a date or time"
+	}
+	return fmt.Sprintf("%T", v)
+}
+
+func (t *tbl) str(key string) (string, error) {
+	s, ok := t.m[key].(string)
+	if !ok {
+		return "", t.fail(key, fmt.Sprintf("%s must be a string, not %s", key, typeName(t.m[key])))
+	}
+	return s, nil
+}
+
+// toFloat converts a decoded TOML number.
+func toFloat(v any) (float64, bool) {
+	switch x := v.(type) {
+	case int64:
+		return float64(x), true
+	case float64:
+		return x, true
+	}
+	return 0, false
+}
+
+func (t *tbl) number(key string) (float64, error) {
+	v, ok := toFloat(t.m[key])
+	if !ok {
+		return 0, t.fail(key, fmt.Sprintf("%s must be a number, not %s", key, typeName(t.m[key])))
+	}
+	return v, nil
+}
+
+// Rules for numeric values.
+type rule int
+
+const (
+	finite   rule = iota // any finite number
+	nonNeg               // finite and ≥ 0
+	positive             // finite and > 0
+)
+
+// check returns "" if v obeys r, else the reason, beginning "= v".
+func check(v float64, r rule) string {
+	fin := !math.IsNaN(v) && !math.IsInf(v, 0)
+	switch r {
+	case finite:
+		if !fin {
+			return fmt.Sprintf("= %g must be a finite number", v)
+		}
+	case nonNeg:
+		if !fin || v < 0 {
+			return fmt.Sprintf("= %g must be a finite number ≥ 0", v)
+		}
+	case positive:
+		if !fin || v <= 0 {
+			return fmt.Sprintf("= %g must be a finite number > 0", v)
+		}
+	}
+	return ""
+}
+
+// ruled reads key as a number obeying r.
+func (t *tbl) ruled(key string, r rule) (float64, error) {
+	v, err := t.number(key)
+	if err != nil {
+		return 0, err
+	}
+	if reason := check(v, r); reason != "" {
+		return 0, t.bad(key, key, reason)
+	}
+	return v, nil
+}
+
+// pair reads key as an array of two numbers obeying r.
+func (t *tbl) pair(key string, r rule, what string) ([2]float64, error) {
+	var out [2]float64
+	var elems []any
+	switch x := t.m[key].(type) {
+	case []any:
+		elems = x
+	default:
+		return out, t.fail(key, fmt.Sprintf("%s must be an array of two numbers %s, not %s", key, what, typeName(t.m[key])))
+	}
+	if len(elems) != 2 {
+		plural := "s"
+		if len(elems) == 1 {
+			plural = ""
+		}
+		return out, t.fail(key, fmt.Sprintf("%s must be an array of two numbers %s, but has %d value%s", key, what, len(elems), plural))
+	}
+	for i, e := range elems {
+		v, ok := toFloat(e)
+		if !ok {
+			return out, t.fail(key, fmt.Sprintf("%s must be an array of two numbers %s, but element %d is %s", key, what, i+1, typeName(e)))
+		}
+		out[i] = v
+	}
+	for _, v := range out {
+		if check(v, r) != "" {
+			reason := strings.TrimPrefix(check(v, r), fmt.Sprintf("= %g ", v))
+			return out, t.bad(key, key, fmt.Sprintf("= [%g, %g]: both values %s", out[0], out[1], strings.Replace(reason, "must be a finite number", "must be finite numbers", 1)))
+		}
+	}
+	return out, nil
+}
+
+// cellCount checks a cells value read from a file or a CSV field.
+func cellCount(v int64) string {
+	switch {
+	case v < 1:
+		return fmt.Sprintf("= %d must be an integer ≥ 1", v)
+	case v > MaxCellsPerEdge:
+		return fmt.Sprintf("= %d is over the limit of %d cells on one edge", v, MaxCellsPerEdge)
+	}
+	return ""
+}
+
+func (t *tbl) cells(key string) (int, error) {
+	v, ok := t.m[key].(int64)
+	if !ok {
+		if f, isF := t.m[key].(float64); isF && f == math.Trunc(f) && math.Abs(f) < 1e18 {
+			v = int64(f)
+		} else {
+			return 0, t.fail(key, fmt.Sprintf("cells must be an integer, not %s", typeName(t.m[key])))
+		}
+	}
+	if reason := cellCount(v); reason != "" {
+		return 0, t.bad(key, "cells", reason)
+	}
+	return int(v), nil
+}
+
+// tableArray returns the elements of an array of tables.
+func tableArray(v any) ([]map[string]any, bool) {
+	switch x := v.(type) {
+	case []map[string]any:
+		return x, true
+	case []any:
+		out := make([]map[string]any, len(x))
+		for i, e := range x {
+			m, ok := e.(map[string]any)
+			if !ok {
+				return nil, false
+			}
+			out[i] = m
+		}
+		return out, true
+	}
+	return nil, false
+}
+
+// edgeVals collects the values of an edge: from [defaults], then its own.
+type edgeVals struct {
+	length, a, b, c, f, rho float64
+	w                       [2]float64 // 0: default weight
+	cells                   int
+	line                    map[string]int // key → line it was given on
+}
+
+// edgeValue reads one edge key other than id, from and to into ev.
+func (t *tbl) edgeValue(k string, ev *edgeVals) error {
+	var err error
+	switch k {
+	case "length":
+		ev.length, err = t.ruled(k, positive)
+	case "diffusivity":
+		ev.a, err = t.ruled(k, positive)
+	case "drift":
+		ev.b, err = t.ruled(k, finite)
+	case "decay":
+		ev.c, err = t.ruled(k, nonNeg)
+	case "source":
+		ev.f, err = t.ruled(k, finite)
+	case "capacity":
+		ev.rho, err = t.ruled(k, positive)
+	case "weight":
+		var w float64
+		w, err = t.ruled(k, positive)
+		ev.w = [2]float64{w, w}
+		delete(ev.line, "weights")
+	case "weights":
+		ev.w, err = t.pair(k, positive, "[from, to]")
+		delete(ev.line, "weight")
+	case "cells":
+		ev.cells, err = t.cells(k)
+	default:
+		panic("netfile: edgeValue of " + k)
+	}
+	if err != nil {
+		return err
+	}
+	ev.line[k] = t.line(k)
+	return nil
+}
+
+// edgeValues reads the edge keys of t (which must be known) into ev.
+func (t *tbl) edgeValues(ev *edgeVals) error {
+	if _, w := t.m["weight"]; w {
+		if _, ws := t.m["weights"]; ws {
+			k := "weights"
+			if t.line("weight") > t.line("weights") {
+				k = "weight"
+			}
+			return t.fail(k, "give weight (both ends) or weights = [from, to], not both")
+		}
+	}
+	for _, k := range t.keys() {
+		switch k {
+		case "id", "from", "to":
+		default:
+			if err := t.edgeValue(k, ev); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
+
+// splitSpec is a node's split table, checked once the edges are known.
+type splitSpec struct {
+	t    *tbl
+	node int
+	m    map[string]any
+}
+
+func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
+	top := &tbl{rd: rd, m: root}
+	for _, k := range top.keys() {
+		if slices.Contains(topKeys, k) {
+			continue
+		}
+		if _, isTable := root[k].(map[string]any); isTable {
+			return nil, top.fail(k, fmt.Sprintf("unknown table [%s] (the tables are [network], [defaults], [[node]] and [[edge]])", k))
+		}
+		return nil, top.fail(k, unknownKey(k, topKeys)+" at the top level (the tables are [network], [defaults], [[node]] and [[edge]])")
+	}
+	net := &graphpde.Network{}
+	if v, ok := root["network"]; ok {
+		m, isTable := v.(map[string]any)
+		if !isTable {
+			return nil, top.fail("network", "network must be a table [network], not "+typeName(v))
+		}
+		t := &tbl{rd: rd, obj: "[network]", path: []string{"network"}, m: m}
+		if err := t.checkKeys(networkKeys, ""); err != nil {
+			return nil, err
+		}
+		var err error
+		if _, ok := m["name"]; ok {
+			if net.Name, err = t.str("name"); err != nil {
+				return nil, err
+			}
+		}
+		if _, ok := m["description"]; ok {
+			if net.Description, err = t.str("description"); err != nil {
+				return nil, err
+			}
+		}
+	}
+	def := edgeVals{rho: 1, line: map[string]int{}}
+	if v, ok := root["defaults"]; ok {
+		m, isTable := v.(map[string]any)
+		if !isTable {
+			return nil, top.fail("defaults", "defaults must be a table [defaults], not "+typeName(v))
+		}
+		t := &tbl{rd: rd, obj: "[defaults]", path: []string{"defaults"}, m: m}
+		hint := ""
+		for k := range m {
+			if slices.Contains(nodeKeys, k) || k == "id" || k == "from" || k == "to" {
+				hint = " ([defaults] holds edge values other than id, from and to)"
+			}
+		}
+		if err := t.checkKeys(defaultsKeys, hint); err != nil {
+			return nil, err
+		}
+		if err := t.edgeValues(&def); err != nil {
+			return nil, err
+		}
+	}
+	var nodes, edges []map[string]any
+	for _, sec := range []struct {
+		key string
+		dst *[]map[string]any
+	}{{"node", &nodes}, {"edge", &edges}} {
+		v, ok := root[sec.key]
+		if !ok {
+			continue
+		}
+		arr, isArr := tableArray(v)
+		if !isArr {
+			return nil, top.fail(sec.key, fmt.Sprintf("%s must be an array of tables: write [[%s]] before each one", sec.key, sec.key))
+		}
+		*sec.dst = arr
+	}
+	var splits []splitSpec
+	for i, m := range nodes {
+		t := &tbl{rd: rd, obj: fmt.Sprintf("node #%d", i+1), kind: "node", path: []string{"node", index(i)}, m: m}
+		nd, split, err := rd.node(t)
+		if err != nil {
+			return nil, err
+		}
+		v, err := net.AddNode(nd)
+		if err != nil {
+			return nil, rd.modelError(t, err, func(field string) int { return t.line(field) })
+		}
+		if split != nil {
+			splits = append(splits, splitSpec{t: t, node: v, m: split})
+		}
+	}
+	for i, m := range edges {
+		t := &tbl{rd: rd, obj: fmt.Sprintf("edge #%d", i+1), kind: "edge", path: []string{"edge", index(i)}, m: m}
+		if err := rd.edge(net, t, &def); err != nil {
+			return nil, err
+		}
+	}
+	for _, s := range splits {
+		if err := rd.split(net, s); err != nil {
+			return nil, err
+		}
+	}
+	return net, nil
+}
+
+// modelError wraps an error of AddNode or AddEdge (which the reader's own
+// checks should have caught first) with the line of its field.
+func (rd *reader) modelError(t *tbl, err error, line func(field string) int) error {
+	e := &Error{File: rd.file, Line: t.line(), Object: t.obj, Msg: err.Error(), Err: err}
+	var me *graphpde.ModelError
+	if errors.As(err, &me) {
+		e.Msg = me.Reason
+		if me.Field != "" {
+			e.Msg = me.Field + " " + me.Reason
+			if ln := line(me.Field); ln > 0 {
+				e.Line = ln
+			}
+		}
+	}
+	return e
+}
+
+// id reads and checks the id of a node or edge table, renaming t.obj.
+func (rd *reader) id(t *tbl, seen map[string]int) error {
+	if _, ok := t.m["id"]; !ok {
+		return t.fail("", `missing key "id"`)
+	}
+	id, err := t.str("id")
+	if err != nil {
+		return err
+	}
+	if !graphpde.ValidID(id) {
+		return t.fail("id", fmt.Sprintf("id %q must be letters, digits, '_', '-' or '.'", id))
+	}
+	t.id = id
+	t.obj = fmt.Sprintf("%s %q", t.kind, id)
+	if first, dup := seen[id]; dup {
+		return &Error{File: rd.file, Line: t.line("id"), Object: t.obj,
+			Msg: fmt.Sprintf("duplicate id (first used at line %d)", first),
+			Err: &graphpde.ModelError{Object: t.kind, ID: id, Reason: "duplicate id"}}
+	}
+	seen[id] = t.line("id")
+	return nil
+}
+
+// node reads one [[node]] table.
+func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
+	nd := graphpde.Node{}
+	if err := rd.id(t, rd.nodeLine); err != nil {
+		return nd, nil, err
+	}
+	nd.ID = t.id
+	if err := t.checkKeys(nodeKeys, ""); err != nil {
+		return nd, nil, err
+	}
+	_, fixed := t.m["fixed"]
+	if fixed {
+		nd.Law.Kind = vertex.Fixed
+	}
+	var split map[string]any
+	for _, k := range t.keys() {
+		var err error
+		switch k {
+		case "id":
+		case "xy":
+			var xy [2]float64
+			xy, err = t.pair(k, finite, "[x, y]")
+			nd.XY = &xy
+		case "fixed":
+			nd.Law.Value, err = t.ruled(k, finite)
+		case "leak", "inject", "capacity", "split":
+			if fixed {
+				return nd, nil, t.fail(k, k+" is not allowed on a fixed node (it has no balance law; remove fixed or "+k+")")
+			}
+			switch k {
+			case "leak":
+				nd.Law.Leak, err = t.ruled(k, nonNeg)
+			case "inject":
+				nd.Law.Inject, err = t.ruled(k, finite)
+			case "capacity":
+				nd.Law.Capacity, err = t.ruled(k, nonNeg)
+			case "split":
+				var ok bool
+				if split, ok = t.m[k].(map[string]any); !ok {
+					err = t.fail(k, "split must be a table of edge ids and probabilities, e.g. split = { arm1 = 0.5, arm2 = 0.5 }, not "+typeName(t.m[k]))
+				}
+			}
+		}
+		if err != nil {
+			return nd, nil, err
+		}
+	}
+	return nd, split, nil
+}
+
+// edge reads one [[edge]] table and adds it to net.
+func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
+	if err := rd.id(t, rd.edgeLine); err != nil {
+		return err
+	}
+	if err := t.checkKeys(edgeKeys, ""); err != nil {
+		return err
+	}
+	ev := *def
+	ev.line = maps.Clone(def.line)
+	var ends [2]int
+	for s, k := range []string{"from", "to"} {
+		if _, ok := t.m[k]; !ok {
+			return t.fail("", fmt.Sprintf("missing key %q", k))
+		}
+		id, err := t.str(k)
+		if err != nil {
+			return err
+		}
+		v, ok := net.NodeIndex(id)
+		if !ok {
+			return t.fail(k, fmt.Sprintf("%s: no node %q", k, id))
+		}
+		ends[s] = v
+	}
+	if err := t.edgeValues(&ev); err != nil {
+		return err
+	}
+	for _, k := range []string{"length", "diffusivity"} {
+		if _, ok := ev.line[k]; !ok {
+			return t.fail("", fmt.Sprintf("missing key %q (give it here or in [defaults])", k))
+		}
+	}
+	if ev.cells > 0 {
+		rd.cells += int64(ev.cells)
+		if rd.cells > MemoryLimit/BytesPerCell {
+			return &Error{File: rd.file, Line: ev.line["cells"], Object: t.obj, Msg: tooManyCells(rd.cells)}
+		}
+	}
+	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
+	if _, err := net.AddEdge(e); err != nil {
+		return rd.modelError(t, err, func(field string) int {
+			if field == "weight" && ev.line["weights"] > 0 {
+				return ev.line["weights"]
+			}
+			return ev.line[field]
+		})
+	}
+	return nil
+}
+
+func tooManyCells(total int64) string {
+	return fmt.Sprintf("cells: the grid would need %d cells in all, about %.3g GiB at %d bytes per cell, over the %d GiB limit",
+		total, float64(total)*BytesPerCell/(1<<30), BytesPerCell, MemoryLimit>>30)
+}
+
+// split checks and normalises a node's split table.
+func (rd *reader) split(net *graphpde.Network, s splitSpec) error {
+	t := s.t
+	st := &tbl{rd: rd, obj: t.obj, kind: "node", id: t.id, path: append(slices.Clip(t.path), "split"), m: s.m}
+	p := make(map[string]float64, len(s.m))
+	var sum float64
+	for _, k := range st.keys() {
+		e, ok := net.EdgeIndex(k)
+		if !ok {
+			return st.fail(k, fmt.Sprintf("split: no edge %q", k))
+		}
+		if from, to := net.EdgeNodes(e); from != s.node && to != s.node {
+			return st.fail(k, fmt.Sprintf("split: edge %q does not touch this node", k))
+		}
+		v, ok := toFloat(s.m[k])
+		if !ok {
+			return st.fail(k, fmt.Sprintf("split: %s must be a number, not %s", strconv.Quote(k), typeName(s.m[k])))
+		}
+		if reason := check(v, nonNeg); reason != "" {
+			return st.bad(k, "split "+strconv.Quote(k), reason)
+		}
+		p[k] = v
+		sum += v
+	}
+	if !(sum > 0) || math.IsInf(sum, 0) {
+		return st.fail("", fmt.Sprintf("split: the values sum to %g; they must have a finite sum > 0", sum))
+	}
+	for k := range p {
+		p[k] /= sum
+	}
+	net.Nodes[s.node].Split = p
+	return nil
+}
