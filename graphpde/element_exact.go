@@ -34,7 +34,7 @@ type scalar interface{ ~float64 | ~complex128 }
 // (c/a)/(κ ± μ) when they are small), and for |κL| < 1 from z coth z and
 // z/sinh z, which are smooth at z = 0 (c = 0, b = 0 included). The source
 // terms come from Green's identity with the adjoint operator
-// a v'' − b v' − c v: a·u'(0) gets f·∫v₀ and a·u'(L) gets −f·∫v_L, where v₀,
+// a v” − b v' − c v: a·u'(0) gets f·∫v₀ and a·u'(L) gets −f·∫v_L, where v₀,
 // v_L are the adjoint solutions that equal 1 at one end and 0 at the other.
 // These integrals are sums of positive terms for real data, so small c (no
 // f/c cancellation) and large Péclet numbers |b|L/a are handled stably; they
@@ -72,8 +72,8 @@ func exactElement[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T)
 		i0, iL = adjointIntegrals(mu, kappa, L)
 	} else {
 		e2 := expT(-2 * z)
-		q := -expm1T(-2 * z) // 1 − e^{−2κL}
-		cz := 2 * z * e2 / q  // z coth z − z
+		q := -expm1T(-2 * z)   // 1 − e^{−2κL}
+		cz := 2 * z * e2 / q   // z coth z − z
 		emm := expT(-kmm * LT) // e^{(μ−κ)L}
 		epm := expT(-kpm * LT) // e^{−(μ+κ)L}
 		d[0][0] = -kpm - cz/LT
