@@ -1,6 +1,9 @@
 package nodesys
 
-import "fmt"
+import (
+	"fmt"
+	"slices"
+)
 
 // Matrix is a square sparse matrix with a symmetric pattern, assembled by Add.
 //
@@ -140,79 +143,75 @@ func (m *Matrix[T]) freeze() bool {
 		return false
 	}
 	n := m.n
-	old := 0
-	if m.rowPtr != nil {
-		old = len(m.col)
-	}
-	tot := old + len(m.pi) + n
-	ti := make([]int, 0, tot)
-	tj := make([]int, 0, tot)
-	tv := make([]T, 0, tot)
-	if m.rowPtr != nil {
-		for i := 0; i < n; i++ {
-			for p := m.rowPtr[i]; p < m.rowPtr[i+1]; p++ {
-				ti = append(ti, i)
-				tj = append(tj, m.col[p])
-				tv = append(tv, m.val[p])
-			}
+	// Bucket all entries by row: the diagonal, the frozen entries, the
+	// pending ones.
+	cnt := make([]int, n+1)
+	for i := 0; i < n; i++ {
+		cnt[i+1] = 1
+		if m.rowPtr != nil {
+			cnt[i+1] += m.rowPtr[i+1] - m.rowPtr[i]
 		}
 	}
-	ti = append(ti, m.pi...)
-	tj = append(tj, m.pj...)
-	tv = append(tv, m.pv...)
-	for i := 0; i < n; i++ {
-		ti = append(ti, i)
-		tj = append(tj, i)
-		tv = append(tv, 0)
-	}
-
-	// Two stable counting sorts: by column, then by row, so that rows come
-	// out with sorted columns.
-	cnt := make([]int, n+1)
-	ord := make([]int, tot)
-	for _, j := range tj {
-		cnt[j+1]++
-	}
-	for j := 0; j < n; j++ {
-		cnt[j+1] += cnt[j]
-	}
-	for k, j := range tj {
-		ord[cnt[j]] = k
-		cnt[j]++
-	}
-	clear(cnt)
-	for _, i := range ti {
+	for _, i := range m.pi {
 		cnt[i+1]++
 	}
 	for i := 0; i < n; i++ {
 		cnt[i+1] += cnt[i]
 	}
-	ord2 := make([]int, tot)
-	for _, k := range ord {
-		i := ti[k]
-		ord2[cnt[i]] = k
-		cnt[i]++
+	tot := cnt[n]
+	col := make([]int, tot)
+	val := make([]T, tot)
+	fill := make([]int, n)
+	for i := 0; i < n; i++ {
+		q := cnt[i]
+		col[q] = i
+		q++
+		if m.rowPtr != nil {
+			q += copy(col[q:], m.col[m.rowPtr[i]:m.rowPtr[i+1]])
+			copy(val[cnt[i]+1:], m.val[m.rowPtr[i]:m.rowPtr[i+1]])
+		}
+		fill[i] = q
+	}
+	for k, i := range m.pi {
+		col[fill[i]] = m.pj[k]
+		val[fill[i]] = m.pv[k]
+		fill[i]++
 	}
 
-	// Merge duplicates.
+	// Sort each row by column and merge duplicates, compacting in place.
 	rowPtr := make([]int, n+1)
-	col := make([]int, 0, tot)
-	val := make([]T, 0, tot)
-	lastI, lastJ := -1, -1
-	for _, k := range ord2 {
-		i, j := ti[k], tj[k]
-		if i == lastI && j == lastJ {
-			val[len(val)-1] += tv[k]
-			continue
-		}
-		col = append(col, j)
-		val = append(val, tv[k])
-		rowPtr[i+1]++
-		lastI, lastJ = i, j
-	}
+	var tmp []colVal[T]
+	w := 0
 	for i := 0; i < n; i++ {
-		rowPtr[i+1] += rowPtr[i]
+		c, v := col[cnt[i]:cnt[i+1]], val[cnt[i]:cnt[i+1]]
+		if len(c) <= 32 {
+			for a := 1; a < len(c); a++ {
+				for b := a; b > 0 && c[b] < c[b-1]; b-- {
+					c[b], c[b-1] = c[b-1], c[b]
+					v[b], v[b-1] = v[b-1], v[b]
+				}
+			}
+		} else {
+			tmp = tmp[:0]
+			for a := range c {
+				tmp = append(tmp, colVal[T]{c[a], v[a]})
+			}
+			slices.SortStableFunc(tmp, func(x, y colVal[T]) int { return x.c - y.c })
+			for a := range tmp {
+				c[a], v[a] = tmp[a].c, tmp[a].v
+			}
+		}
+		for a := range c {
+			if a > 0 && c[a] == c[a-1] {
+				val[w-1] += v[a]
+				continue
+			}
+			col[w], val[w] = c[a], v[a]
+			w++
+		}
+		rowPtr[i+1] = w
 	}
+	col, val = col[:w:w], val[:w:w]
 
 	// Transpose slots: scanning rows in increasing order visits, for each
 	// column j, the entries (i,j) in increasing i, which is the order of row
@@ -232,4 +231,9 @@ func (m *Matrix[T]) freeze() bool {
 	m.pi, m.pj, m.pv = m.pi[:0], m.pj[:0], m.pv[:0]
 	m.version++
 	return true
+}
+
+type colVal[T Scalar] struct {
+	c int
+	v T
 }
