@@ -63,14 +63,18 @@ func benchSolve(b *testing.B, m *Matrix[float64]) {
 	}
 	b.Run("first", func(b *testing.B) {
 		b.ReportAllocs()
+		var st Stats
 		for b.Loop() {
 			f := NewFactor[float64](nil)
 			if err := f.Factorize(m); err != nil {
 				b.Fatal(err)
 			}
 			f.SolveTo(x, rhs)
+			st = f.Stats()
 		}
 		report(b)
+		b.ReportMetric(float64(st.OrderTime.Nanoseconds())/float64(n), "order-ns/unknown")
+		b.ReportMetric(float64(st.Fill), "fill")
 	})
 	b.Run("refactor", func(b *testing.B) {
 		f := NewFactor[float64](nil)
@@ -177,6 +181,32 @@ func itoa(n int) string {
 		n /= 10
 		if n == 0 {
 			return s
+		}
+	}
+}
+
+// BenchmarkMeshOrderings compares the orderings on a k×k grid: nnz(L) against
+// the nested-dissection leading term 31/8·n·log₂n (George 1973, from memory).
+func BenchmarkMeshOrderings(b *testing.B) {
+	for _, k := range []int{100, 300} {
+		n := k * k
+		rnd := rand.New(rand.NewPCG(13, uint64(k)))
+		m := laplacian(n, mesh(k), 0.01, rnd)
+		m.freeze()
+		nd := 31.0 / 8 * float64(n) * math.Log2(float64(n))
+		th := thomasTime(n)
+		for _, o := range []Ordering{MinimumDegree, NestedDissection, Best} {
+			b.Run("k="+itoa(k)+"/"+o.String(), func(b *testing.B) {
+				f := NewFactor[float64](&Settings{Ordering: o})
+				b.ReportAllocs()
+				for b.Loop() {
+					f.analyze(m)
+				}
+				st := f.Stats()
+				b.ReportMetric(float64(st.NNZL), "nnzL")
+				b.ReportMetric(float64(st.NNZL)/nd, "nnzL/ND")
+				b.ReportMetric(float64(st.OrderTime.Nanoseconds())/float64(th.Nanoseconds()), "order-x-thomas")
+			})
 		}
 	}
 }

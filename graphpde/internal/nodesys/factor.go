@@ -16,6 +16,13 @@ const (
 	// Natural eliminates the nodes in their given order (for tests and for
 	// systems already ordered by the caller, e.g. a chain numbered along it).
 	Natural
+	// NestedDissection splits the graph recursively by level-structure
+	// separators (no coordinates needed) and orders small pieces by minimum
+	// degree.
+	NestedDissection
+	// Best computes both MinimumDegree and NestedDissection and keeps the one
+	// with fewer entries in L (about twice the analysis cost).
+	Best
 )
 
 // String returns the name of the ordering.
@@ -25,6 +32,10 @@ func (o Ordering) String() string {
 		return "minimum degree"
 	case Natural:
 		return "natural"
+	case NestedDissection:
+		return "nested dissection"
+	case Best:
+		return "best"
 	}
 	return fmt.Sprintf("Ordering(%d)", int(o))
 }
@@ -173,23 +184,28 @@ func (f *Factor[T]) analyze(m *Matrix[T]) {
 	n := m.n
 	f.mat, f.version, f.n = m, m.version, n
 	t0 := time.Now()
+	name := f.set.Ordering.String()
 	var perm []int
 	switch f.set.Ordering {
 	case Natural:
-		perm = make([]int, n)
-		for i := range perm {
-			perm[i] = i
-		}
+		perm = identity(n)
 	case MinimumDegree:
 		perm = minimumDegree(n, m.rowPtr, m.col)
+	case NestedDissection:
+		perm = nestedDissection(n, m.rowPtr, m.col)
+	case Best:
+		p1 := minimumDegree(n, m.rowPtr, m.col)
+		p2 := nestedDissection(n, m.rowPtr, m.col)
+		if countL(n, m.rowPtr, m.col, p2) < countL(n, m.rowPtr, m.col, p1) {
+			perm, name = p2, "best: "+NestedDissection.String()
+		} else {
+			perm, name = p1, "best: "+MinimumDegree.String()
+		}
 	default:
 		panic("nodesys: unknown ordering " + f.set.Ordering.String())
 	}
 	t1 := time.Now()
-	iperm := make([]int, n)
-	for k, v := range perm {
-		iperm[v] = k
-	}
+	iperm := inverse(perm)
 
 	// Postorder the elimination tree: the same fill, better locality.
 	par := etree(n, m.rowPtr, m.col, perm, iperm)
@@ -273,7 +289,7 @@ func (f *Factor[T]) analyze(m *Matrix[T]) {
 		NNZA:         nnzA,
 		NNZL:         nnzL + n,
 		Fill:         nnzL - nUp,
-		Ordering:     f.set.Ordering.String(),
+		Ordering:     name,
 		OrderTime:    t1.Sub(t0),
 		SymbolicTime: time.Since(t1),
 	}

@@ -44,6 +44,8 @@ func TestFactorRealAgainstDense(t *testing.T) {
 		{"nonsymmetric drift, natural", 120, 100, true, 0.2, Settings{Ordering: Natural}},
 		{"nonsymmetric drift weak leak, md", 200, 150, true, 1e-3, Settings{}},
 		{"spd forced ldlt path", 50, 40, false, 1, Settings{Symmetric: &yes}},
+		{"spd, nested dissection", 400, 300, false, 0.3, Settings{Ordering: NestedDissection}},
+		{"nonsymmetric drift, best", 300, 300, true, 0.2, Settings{Ordering: Best}},
 	}
 	for ci, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -216,6 +218,14 @@ func TestZeroFillTrees(t *testing.T) {
 			if st.Fill != 0 || st.NNZL != lowerNNZ(m) {
 				t.Errorf("fill %d, nnz(L) %d, nnz(lower A) %d; want no fill", st.Fill, st.NNZL, lowerNNZ(m))
 			}
+			if c.n <= 5000 {
+				// Best must keep the zero-fill order too.
+				fb := NewFactor[float64](&Settings{Ordering: Best})
+				fb.analyze(m)
+				if fb.Stats().Fill != 0 {
+					t.Errorf("best ordering (%s): fill %d, want 0", fb.Stats().Ordering, fb.Stats().Fill)
+				}
+			}
 			b := make([]float64, c.n)
 			for i := range b {
 				b[i] = rnd.NormFloat64()
@@ -239,7 +249,9 @@ func TestMeshFill(t *testing.T) {
 	m := laplacian(n, mesh(k), 0.1, rnd)
 	md := NewFactor[float64](nil)
 	nat := NewFactor[float64](&Settings{Ordering: Natural})
-	for _, f := range []*Factor[float64]{md, nat} {
+	nd := NewFactor[float64](&Settings{Ordering: NestedDissection})
+	best := NewFactor[float64](&Settings{Ordering: Best})
+	for _, f := range []*Factor[float64]{md, nat, nd, best} {
 		if err := f.Factorize(m); err != nil {
 			t.Fatal(err)
 		}
@@ -253,9 +265,14 @@ func TestMeshFill(t *testing.T) {
 	// Nested-dissection leading term 31/8·n·log2 n (George 1973, from
 	// memory); at k = 40 minimum degree is well below it and below half the
 	// band fill.
-	nd := 31.0 / 8 * float64(n) * math.Log2(float64(n))
-	if got := float64(md.Stats().NNZL); got > nd || got > 0.5*float64(nat.Stats().NNZL) {
-		t.Errorf("minimum degree nnz(L) = %g, nested-dissection term %g, band %d", got, nd, nat.Stats().NNZL)
+	ndTerm := 31.0 / 8 * float64(n) * math.Log2(float64(n))
+	for _, f := range []*Factor[float64]{md, nd} {
+		if got := float64(f.Stats().NNZL); got > ndTerm || got > 0.5*float64(nat.Stats().NNZL) {
+			t.Errorf("%s nnz(L) = %g, nested-dissection term %g, band %d", f.Stats().Ordering, got, ndTerm, nat.Stats().NNZL)
+		}
+	}
+	if got, want := best.Stats().NNZL, min(md.Stats().NNZL, nd.Stats().NNZL); got != want {
+		t.Errorf("best nnz(L) = %d, want the smaller of md and nd, %d", got, want)
 	}
 	b := make([]float64, n)
 	for i := range b {

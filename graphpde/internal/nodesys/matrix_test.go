@@ -126,6 +126,8 @@ func TestOrderingIsPermutation(t *testing.T) {
 		{"two hubs and a path", 500, twoHubs(500), []int{0, 1}, 0},
 		{"random cyclic", 400, randomCyclic(400, 400, rnd), nil, 0},
 		{"mesh 20", 400, mesh(20), nil, 0},
+		{"mesh 40 plus isolated", 1700, mesh(40), nil, 0},
+		{"forest", 2000, randomTree(700, rnd), nil, 0},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -137,17 +139,9 @@ func TestOrderingIsPermutation(t *testing.T) {
 				m.Add(e.u, e.v, 0)
 			}
 			m.freeze()
+			checkPerm(t, "nested dissection", nestedDissection(c.n, m.rowPtr, m.col), c.n)
 			perm := minimumDegree(c.n, m.rowPtr, m.col)
-			seen := make([]bool, c.n)
-			if len(perm) != c.n {
-				t.Fatalf("len(perm) = %d, want %d", len(perm), c.n)
-			}
-			for _, v := range perm {
-				if v < 0 || v >= c.n || seen[v] {
-					t.Fatalf("perm is not a permutation: %v repeated or out of range", v)
-				}
-				seen[v] = true
-			}
+			checkPerm(t, "minimum degree", perm, c.n)
 			for k, v := range c.lastNodes {
 				found := false
 				for _, p := range perm[c.n-len(c.lastNodes):] {
@@ -165,5 +159,19 @@ func TestOrderingIsPermutation(t *testing.T) {
 				}
 			}
 		})
+	}
+}
+
+func checkPerm(t *testing.T, name string, perm []int, n int) {
+	t.Helper()
+	if len(perm) != n {
+		t.Fatalf("%s: len(perm) = %d, want %d", name, len(perm), n)
+	}
+	seen := make([]bool, len(perm))
+	for _, v := range perm {
+		if v < 0 || v >= len(perm) || seen[v] {
+			t.Fatalf("%s: not a permutation: %v repeated or out of range", name, v)
+		}
+		seen[v] = true
 	}
 }

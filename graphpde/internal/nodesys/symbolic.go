@@ -62,3 +62,33 @@ func postorder(parent []int) []int {
 	}
 	return post
 }
+
+// inverse returns the inverse permutation.
+func inverse(perm []int) []int {
+	ip := make([]int, len(perm))
+	for k, v := range perm {
+		ip[v] = k
+	}
+	return ip
+}
+
+// countL returns the number of strictly lower entries of the factor of
+// P·A·Pᵀ for the order perm, by climbing the row subtrees of the elimination
+// tree. Cost O(nnz(L)).
+func countL(n int, rowPtr, col, perm []int) int {
+	iperm := inverse(perm)
+	par := etree(n, rowPtr, col, perm, iperm)
+	flag := make([]int, n)
+	c := 0
+	for k := 0; k < n; k++ {
+		flag[k] = k
+		v := perm[k]
+		for p := rowPtr[v]; p < rowPtr[v+1]; p++ {
+			for i := iperm[col[p]]; i < k && flag[i] != k; i = par[i] {
+				flag[i] = k
+				c++
+			}
+		}
+	}
+	return c
+}
