@@ -1,0 +1,527 @@
+package graphpde
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sort"
+	"sync"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/laplace"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// ExitSettings controls ExitStatistics. The zero value (or a nil pointer)
+// gives the defaults.
+type ExitSettings struct {
+	// Times are the times t ≥ 0 at which the survival function P(τ > t) is
+	// reported in ExitStats.Survival. Nil means none.
+	Times []float64
+	// Quantiles are the probabilities p, 0 < p < 1, whose lifetime quantiles
+	// (P(τ ≤ T) = p) are reported. Nil means 0.1, 0.25, 0.5, 0.75, 0.9; an
+	// empty non-nil slice means none.
+	Quantiles []float64
+	// Moments is the number of moments E τ, E τ², … to compute. Zero (or 1)
+	// means 2, the least that gives the standard deviation.
+	Moments int
+	// InversionNodes is the number of fixed-Talbot nodes per time, each one
+	// complex node-system solve. Zero means laplace.DefaultM (24, about 1e−11
+	// relative to max S).
+	InversionNodes int
+}
+
+// TimeProb is a value of the survival function: P(τ > T) = P.
+type TimeProb struct{ T, P float64 }
+
+// Quantile is a quantile of the lifetime: P(τ ≤ T) = P.
+type Quantile struct{ P, T float64 }
+
+// ExitStats are the statistics of the lifetime τ of a walker started at
+// Start: the time until it is absorbed at a fixed node or killed by decay
+// on an edge (rate c/ρ) or by the leak of a node. Times are in the units of
+// the capacities ρ (DESIGN.md §4).
+type ExitStats struct {
+	Start Point
+	// Hit[v] is the probability of absorption at node v for a fixed node v
+	// (0 for fixed nodes the walker cannot reach) and NaN for other nodes.
+	Hit []float64
+	// Killed is the probability of being killed before absorption,
+	// 1 − Σ Hit.
+	Killed float64
+	// Moments[n−1] = E τⁿ, n = 1 … Settings.Moments.
+	Moments  []float64
+	Mean, SD float64
+	// Occupation[e] is the expected time spent inside edge e before death.
+	// The rest of the mean is held in node capacities.
+	Occupation []float64
+	// Survival holds P(τ > t) at Settings.Times, in their order.
+	Survival []TimeProb
+	// Quantiles holds the lifetime quantiles, in the order of
+	// Settings.Quantiles.
+	Quantiles []Quantile
+	// HasDistribution reports whether the law of τ (Survival, Quantiles,
+	// SurvivalAt and moments above the first) is available.
+	HasDistribution bool
+	// Notes explain what is unavailable and why, and any accuracy warning.
+	Notes []string
+
+	law *lifetimeLaw
+}
+
+// SurvivalAt returns P(τ > t) by numerical inversion of the Laplace
+// transform of τ (fixed Talbot, absolute error about 1e−11), clamped to
+// [0, 1]; it is 1 for t ≤ 0 when the start is not absorbing. Each call costs
+// InversionNodes complex node-system factorisations, O(edges) each on a
+// tree. It is safe for concurrent use (calls are serialised). It returns NaN
+// when HasDistribution is false or a transform evaluation fails.
+func (x *ExitStats) SurvivalAt(t float64) float64 {
+	if x.law == nil {
+		return math.NaN()
+	}
+	s, _, err := x.law.survival(t)
+	if err != nil {
+		return math.NaN()
+	}
+	return s
+}
+
+// ExitError reports exit statistics that cannot be computed for this data.
+// A failure of the node system (for example a *nodesys.SingularError) is
+// kept in Err.
+type ExitError struct {
+	Start  string // the start point in network-file syntax
+	Reason string
+	Err    error // underlying error, or nil
+}
+
+func (e *ExitError) Error() string {
+	if e.Err != nil {
+		return fmt.Sprintf("exit statistics from %s: %s: %v", e.Start, e.Reason, e.Err)
+	}
+	return fmt.Sprintf("exit statistics from %s: %s", e.Start, e.Reason)
+}
+
+// Unwrap returns the underlying error.
+func (e *ExitError) Unwrap() error { return e.Err }
+
+// ExitStatistics computes the first-passage statistics of a walker started
+// at start (DESIGN.md §7): absorption probabilities, killed fraction, mean
+// and higher moments of the lifetime, expected occupation time of every
+// edge, and the survival function and quantiles of the lifetime.
+//
+// On networks whose edges (in the start's component) all have constant
+// coefficients every quantity is computed with exact edge elements, with
+// one unknown per node:
+//
+//   - the steady statistics (hits, killed fraction, occupations, mean) from
+//     one adjoint solve Kᵀw = e_start at s = 0, w being the expected local
+//     time per node: each statistic is w·r for its own right-hand side r;
+//     the mean is also solved forward and the two must agree;
+//   - the Laplace transform L(s) = E e^{−sτ} at complex s from the node
+//     system with decay c + sρ, leak β + sρ_v, value 1 at fixed nodes and
+//     the killing paid as a reward (f = c, γ = β);
+//   - the moments E τⁿ = (−1)ⁿ n! [sⁿ]L by the trapezoidal rule for the
+//     Cauchy integral on a circle |s| = R, R half a lower bound of the
+//     smallest decay rate (1/sup E τ), halved until the first moment agrees
+//     with the steady mean;
+//   - P(τ > t) by fixed-Talbot inversion of (1 − L(s))/s, and quantiles by a
+//     Newton iteration safeguarded by a bracket (the density comes from the
+//     same contour values).
+//
+// A complex factorisation reuses the symbolic analysis, so each s costs one
+// numeric factorisation, O(edges) on a tree.
+//
+// Edges with varying coefficients (grid elements) have no closed-form
+// Laplace transform; ExitStatistics then returns an *ExitError (the grid
+// path is not built yet). Bad input (start off the network, times < 0,
+// quantiles outside (0, 1), a component that never kills) gives an error.
+func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, error) {
+	var s ExitSettings
+	if set != nil {
+		s = *set
+	}
+	if err := checkStart(net, &start); err != nil {
+		return nil, err
+	}
+	where := net.PointString(start)
+	bad := func(format string, args ...any) error {
+		return &ExitError{Start: where, Reason: fmt.Sprintf(format, args...)}
+	}
+	fail := func(what string, err error) error {
+		return &ExitError{Start: where, Reason: what, Err: err}
+	}
+	for _, t := range s.Times {
+		if !(t >= 0) || math.IsInf(t, 0) {
+			return nil, bad("time %g must be a finite number ≥ 0", t)
+		}
+	}
+	if s.Quantiles == nil {
+		s.Quantiles = []float64{0.1, 0.25, 0.5, 0.75, 0.9}
+	}
+	for _, p := range s.Quantiles {
+		if !(p > 0 && p < 1) {
+			return nil, bad("quantile probability %g must lie in (0, 1)", p)
+		}
+	}
+	switch {
+	case s.Moments < 0:
+		return nil, bad("number of moments %d must be ≥ 0", s.Moments)
+	case s.Moments < 2:
+		s.Moments = 2
+	case s.Moments > 20:
+		return nil, bad("number of moments %d: at most 20 are computed (the Cauchy integral loses all digits beyond)", s.Moments)
+	}
+	if s.InversionNodes == 0 {
+		s.InversionNodes = laplace.DefaultM
+	}
+	if s.InversionNodes < 4 {
+		return nil, bad("inversion nodes %d must be ≥ 4", s.InversionNodes)
+	}
+
+	x := &ExitStats{
+		Start:      start,
+		Hit:        make([]float64, len(net.Nodes)),
+		Occupation: make([]float64, len(net.Edges)),
+		Moments:    make([]float64, s.Moments),
+	}
+	for v := range net.Nodes {
+		if net.Nodes[v].Law.Kind != vertex.Fixed {
+			x.Hit[v] = math.NaN()
+		}
+	}
+	if start.Edge < 0 && net.Nodes[start.Node].Law.Kind == vertex.Fixed {
+		// Absorbed at once: τ = 0.
+		x.Hit[start.Node] = 1
+		x.HasDistribution = true
+		x.law = &lifetimeLaw{zero: true, m: s.InversionNodes}
+		x.fillDistribution(&s)
+		return x, nil
+	}
+	for e := range net.Edges {
+		if !net.Edges[e].Constant() && inComponent(net, start, e) {
+			return nil, bad("edge %q has varying coefficients; exit statistics need exact (constant-coefficient) edges", net.Edges[e].ID)
+		}
+	}
+	sys := newExitSystem(net, start)
+	if !sys.anchored {
+		return nil, bad("its component has no fixed node, leak or decay, so the walker never dies")
+	}
+	if err := x.steady(sys); err != nil {
+		return nil, fail("steady adjoint problem", err)
+	}
+	T1, err := sys.steadyMean()
+	if err != nil {
+		return nil, fail("steady mean problem", err)
+	}
+	if d := math.Abs(T1[sys.start] - x.Mean); d > adjointAgreement*x.Mean {
+		x.Notes = append(x.Notes, fmt.Sprintf("forward and adjoint mean differ by %.2g (relative): ill-conditioned node system", d/x.Mean))
+	}
+	x.Mean = T1[sys.start]
+	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes}
+	if err := x.moments(sys.supMean(T1)); err != nil {
+		return nil, fail("moments", err)
+	}
+	x.HasDistribution = true
+	if err := x.fillDistribution(&s); err != nil {
+		return nil, fail("lifetime distribution", err)
+	}
+	return x, nil
+}
+
+// adjointAgreement is the relative difference allowed between the mean from
+// the adjoint (w·r) and from the forward solve: both are the same linear
+// algebra on a well-conditioned system, so they agree to rounding amplified
+// by the condition number; 1e−8 flags a condition number near 1e8.
+const adjointAgreement = 1e-8
+
+// checkStart validates p and turns a point at the end of an edge into its
+// node.
+func checkStart(net *Network, p *Point) error {
+	if p.Edge >= 0 {
+		if p.Edge >= len(net.Edges) {
+			return fmt.Errorf("exit statistics: start point on edge %d, but the network has %d edges", p.Edge, len(net.Edges))
+		}
+		e := &net.Edges[p.Edge]
+		if !(p.X >= 0 && p.X <= e.Length) {
+			return fmt.Errorf("exit statistics: start point %g is off edge %q, whose length is %g", p.X, e.ID, e.Length)
+		}
+		switch p.X {
+		case 0:
+			*p = Point{Node: e.From, Edge: -1}
+		case e.Length:
+			*p = Point{Node: e.To, Edge: -1}
+		default:
+			p.Node = -1
+		}
+		return nil
+	}
+	if p.Node < 0 || p.Node >= len(net.Nodes) {
+		return fmt.Errorf("exit statistics: start node %d, but the network has %d nodes", p.Node, len(net.Nodes))
+	}
+	return nil
+}
+
+// inComponent reports whether edge e is in the component of p. It is called
+// only for the (rare) non-constant edges.
+func inComponent(net *Network, p Point, e int) bool {
+	comp, _ := net.Components()
+	v := p.Node
+	if p.Edge >= 0 {
+		v = net.Edges[p.Edge].From
+	}
+	return comp[net.Edges[e].From] == comp[v]
+}
+
+// steady fills Hit, Killed, Occupation and Mean from one adjoint solve.
+func (x *ExitStats) steady(sys *exitSystem) error {
+	ad, err := sys.steadyAdjoint()
+	if err != nil {
+		return err
+	}
+	var mean, hitSum float64
+	for k := range sys.el {
+		el := &sys.el[k]
+		occ := el.rho * ad.load(sys, el)
+		x.Occupation[el.orig] += occ
+		mean += occ
+		hf, ht := ad.hitInto(sys, el)
+		if hf != 0 {
+			x.Hit[sys.orig[el.from]] += hf
+		}
+		if ht != 0 {
+			x.Hit[sys.orig[el.to]] += ht
+		}
+		hitSum += hf + ht
+	}
+	for v, l := range sys.law {
+		if l.Kind == vertex.Balance {
+			mean += l.Capacity * ad.at(sys, v)
+		}
+	}
+	x.Mean = mean
+	x.Killed = math.Max(0, 1-hitSum)
+	return nil
+}
+
+// cauchyNodes is the number of points on the Cauchy circle (half of them
+// solved, by conjugate symmetry). The aliasing error of the n-th Taylor
+// coefficient is about (R/λ₁)^N ≤ 2^{−N} relative, λ₁ the smallest decay
+// rate: 2^{−32} ≈ 2e−10.
+const cauchyNodes = 32
+
+// momentAgreement is the relative agreement required between the first
+// moment from the Cauchy integral and the steady mean: the aliasing bound
+// 2e−10 with a margin for rounding.
+const momentAgreement = 1e-8
+
+// moments fills Moments and SD from Taylor coefficients of L at s = 0.
+func (x *ExitStats) moments(sup float64) error {
+	n := len(x.Moments)
+	N := cauchyNodes
+	if n > 8 {
+		N = 64
+	}
+	R := 0.5 / sup
+	var coef []float64
+	for try := 0; try < 6; try++ {
+		var err error
+		coef, err = x.law.taylor(R, N, n)
+		if err != nil {
+			return err
+		}
+		if math.Abs(-coef[1]-x.Mean) <= momentAgreement*x.Mean {
+			break
+		}
+		if try == 5 {
+			x.Notes = append(x.Notes, fmt.Sprintf("moments: the Cauchy integral did not reproduce the mean (%.10g vs %.10g); higher moments are unreliable", -coef[1], x.Mean))
+		}
+		R /= 4
+	}
+	fact := 1.0
+	for k := 1; k <= n; k++ {
+		fact *= float64(k)
+		m := fact * coef[k]
+		if k%2 == 1 {
+			m = -m
+		}
+		x.Moments[k-1] = m
+	}
+	x.Moments[0] = x.Mean
+	x.SD = math.Sqrt(math.Max(0, x.Moments[1]-x.Mean*x.Mean))
+	return nil
+}
+
+// fillDistribution fills Survival and Quantiles.
+func (x *ExitStats) fillDistribution(s *ExitSettings) error {
+	x.Survival = make([]TimeProb, len(s.Times))
+	for i, t := range s.Times {
+		p, _, err := x.law.survival(t)
+		if err != nil {
+			return err
+		}
+		x.Survival[i] = TimeProb{T: t, P: p}
+	}
+	x.Quantiles = make([]Quantile, len(s.Quantiles))
+	for i, p := range s.Quantiles {
+		t, err := x.law.quantile(p, x.Mean)
+		if err != nil {
+			return err
+		}
+		x.Quantiles[i] = Quantile{P: p, T: t}
+	}
+	return nil
+}
+
+// lifetimeLaw evaluates the law of τ from its Laplace transform. It caches
+// the survival values it has computed (quantile searches revisit them).
+type lifetimeLaw struct {
+	mu   sync.Mutex
+	zero bool // τ = 0 a.s. (start at a fixed node)
+	tr   *transformer
+	m    int
+	seen []survPoint // sorted by t
+}
+
+type survPoint struct{ t, s, f float64 }
+
+// taylor returns the Taylor coefficients c_0 … c_n of L at 0 from N points
+// on the circle |s| = R: c_k ≈ (1/N) Σ_j L(R ω^j) ω^{−jk} / R^k, ω = e^{2πi/N}.
+// L(conj s) = conj L(s) halves the solves.
+func (lw *lifetimeLaw) taylor(R float64, N, n int) ([]float64, error) {
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	vals := make([]complex128, N)
+	for j := 0; j <= N/2; j++ {
+		s := cmplx.Rect(R, 2*math.Pi*float64(j)/float64(N))
+		if j == 0 {
+			s = complex(R, 0)
+		} else if 2*j == N {
+			s = complex(-R, 0)
+		}
+		v, err := lw.tr.at(s)
+		if err != nil {
+			return nil, err
+		}
+		vals[j] = v
+		if j > 0 && 2*j < N {
+			vals[N-j] = cmplx.Conj(v)
+		}
+	}
+	coef := make([]float64, n+1)
+	for k := 0; k <= n; k++ {
+		var sum complex128
+		for j, v := range vals {
+			sum += v * cmplx.Rect(1, -2*math.Pi*float64(j*k%N)/float64(N))
+		}
+		coef[k] = real(sum) / float64(N) / math.Pow(R, float64(k))
+	}
+	return coef, nil
+}
+
+// survival returns P(τ > t), clamped to [0, 1], and the density of τ at t.
+func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
+	if lw.zero {
+		return 0, 0, nil
+	}
+	if t <= 0 {
+		return 1, 0, nil
+	}
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	i := sort.Search(len(lw.seen), func(i int) bool { return lw.seen[i].t >= t })
+	if i < len(lw.seen) && lw.seen[i].t == t {
+		return lw.seen[i].s, lw.seen[i].f, nil
+	}
+	c := laplace.TalbotContour(t, lw.m)
+	fs := make([]complex128, len(c.S))
+	fl := make([]complex128, len(c.S))
+	for k, s := range c.S {
+		L, err := lw.tr.at(s)
+		if err != nil {
+			return math.NaN(), math.NaN(), err
+		}
+		fl[k] = L
+		fs[k] = (1 - L) / s
+	}
+	S = math.Min(1, math.Max(0, c.Apply(fs)))
+	dens = c.Apply(fl)
+	lw.seen = append(lw.seen, survPoint{})
+	copy(lw.seen[i+1:], lw.seen[i:])
+	lw.seen[i] = survPoint{t, S, dens}
+	return S, dens, nil
+}
+
+// quantileTol is the accuracy of a quantile search in probability: below the
+// inversion error (about 1e−11) there is nothing left to gain.
+const quantileTol = 1e-10
+
+// quantile returns T with P(τ ≤ T) = p, 0 < p < 1, for a lifetime of the
+// given mean. The bracket starts from Markov's inequality, P(τ > t) ≤ E τ/t,
+// so S(E τ/(1−p)) ≤ 1 − p; the lower end is found by quartering. Inside the
+// bracket Newton steps with the density are taken when they stay inside,
+// bisection in log t otherwise.
+func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
+	if lw.zero {
+		return 0, nil
+	}
+	y := 1 - p
+	hi := mean / y * (1 + 1e-9)
+	shi, _, err := lw.survival(hi)
+	if err != nil {
+		return 0, err
+	}
+	for k := 0; shi > y && k < 20; k++ { // inversion error only
+		hi *= 2
+		if shi, _, err = lw.survival(hi); err != nil {
+			return 0, err
+		}
+	}
+	lo := hi
+	slo := shi
+	for k := 0; slo <= y; k++ {
+		if k == 60 {
+			return 0, fmt.Errorf("quantile %g: no time with P(τ > t) > %g down to t = %g", p, y, lo)
+		}
+		lo /= 4
+		if slo, _, err = lw.survival(lo); err != nil {
+			return 0, err
+		}
+	}
+	// Use any cached point inside the bracket.
+	lw.mu.Lock()
+	for _, q := range lw.seen {
+		if q.t > lo && q.t < hi {
+			if q.s > y {
+				lo, slo = q.t, q.s
+			} else {
+				hi, shi = q.t, q.s
+			}
+		}
+	}
+	lw.mu.Unlock()
+	// Start from linear interpolation in log t.
+	t := math.Exp(math.Log(lo) + (slo-y)/(slo-shi)*math.Log(hi/lo))
+	for it := 0; it < 100; it++ {
+		st, ft, err := lw.survival(t)
+		if err != nil {
+			return 0, err
+		}
+		if math.Abs(st-y) <= quantileTol {
+			return t, nil
+		}
+		if st > y {
+			lo = t
+		} else {
+			hi = t
+		}
+		if hi-lo <= 1e-13*hi {
+			return t, nil
+		}
+		next := t + (st-y)/ft
+		if !(ft > 0) || !(next > lo && next < hi) {
+			next = math.Sqrt(lo * hi)
+		}
+		t = next
+	}
+	return t, nil
+}

@@ -1,0 +1,323 @@
+package graphpde
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// exitSystem is the node system of the exit problems of one start point on
+// an exact-element network: the start's connected component only, with the
+// start made a node when it lies inside an edge. Splitting the edge there is
+// exact: inside an edge u and the flux a·u' are continuous, which is the
+// balance law of a node with weights α = a on both sides and no leak,
+// injection or capacity. The walker starting at the split point is then a
+// walker starting at a node, so every statistic is a value at one unknown.
+type exitSystem struct {
+	el    []exitEl
+	law   []vertex.Law // per system node
+	orig  []int        // system node → network node, −1 for the split point
+	unk   []int        // system node → unknown, −1 for fixed nodes
+	nUnk  int
+	start int // system node of the start point
+
+	// anchored reports whether the component can absorb or kill: a fixed
+	// node, a leak or a decay. Without one the node system is singular.
+	anchored bool
+}
+
+// exitEl is one exact element of the system: a network edge or half of the
+// edge that carries the start point.
+type exitEl struct {
+	from, to int // system nodes
+	a, b, c  float64
+	rho, L   float64
+	w0, w1   float64 // α at the from and to ends
+	orig     int     // network edge
+	d        [2][2]float64
+	g        [2]float64 // source terms of the element for f = 1 (s = 0)
+}
+
+// newExitSystem builds the system for start p on net, whose edges in the
+// start's component must all have constant coefficients (it panics
+// otherwise). Cost O(nodes + edges).
+func newExitSystem(net *Network, p Point) *exitSystem {
+	comp, _ := net.Components()
+	var c0 int
+	if p.Edge >= 0 {
+		c0 = comp[net.Edges[p.Edge].From]
+	} else {
+		c0 = comp[p.Node]
+	}
+	sys := &exitSystem{}
+	node := make([]int, len(net.Nodes)) // network node → system node
+	anchored := false
+	for v := range net.Nodes {
+		node[v] = -1
+		if comp[v] != c0 {
+			continue
+		}
+		node[v] = len(sys.law)
+		sys.law = append(sys.law, net.Nodes[v].Law)
+		sys.orig = append(sys.orig, v)
+		anchored = anchored || net.Nodes[v].Law.Anchors()
+	}
+	for i := range net.Edges {
+		e := &net.Edges[i]
+		if comp[e.From] != c0 {
+			continue
+		}
+		if !e.Constant() {
+			panic("graphpde: exit system on an edge with varying coefficients")
+		}
+		anchored = anchored || e.C > 0
+		base := exitEl{from: node[e.From], to: node[e.To], a: e.A, b: e.B, c: e.C, rho: e.Rho,
+			L: e.Length, w0: e.EndWeight(0), w1: e.EndWeight(1), orig: i}
+		if i != p.Edge {
+			sys.el = append(sys.el, base)
+			continue
+		}
+		mid := len(sys.law)
+		sys.law = append(sys.law, vertex.Law{Kind: vertex.Balance})
+		sys.orig = append(sys.orig, -1)
+		left, right := base, base
+		left.to, left.L, left.w1 = mid, p.X, e.A
+		right.from, right.L, right.w0 = mid, e.Length-p.X, e.A
+		sys.el = append(sys.el, left, right)
+	}
+	if p.Edge >= 0 {
+		sys.start = len(sys.law) - 1
+	} else {
+		sys.start = node[p.Node]
+	}
+	sys.anchored = anchored
+	sys.unk = make([]int, len(sys.law))
+	for v, l := range sys.law {
+		sys.unk[v] = -1
+		if l.Kind != vertex.Fixed {
+			sys.unk[v] = sys.nUnk
+			sys.nUnk++
+		}
+	}
+	for k := range sys.el {
+		el := &sys.el[k]
+		el.d, el.g = exactElement(el.a, el.b, el.c, 1.0, el.L)
+	}
+	return sys
+}
+
+// exitLoad says which problem to assemble: the shift s (decay c + sρ on
+// edges, leak β + sρ_v at nodes) and the data.
+type exitLoad[T scalar] struct {
+	s      T
+	edgeF  func(el *exitEl) T // source f on the element
+	nodeG  func(v int) T      // injection γ at a balance node
+	fixedG func(v int) T      // value at a fixed node
+}
+
+// assemble fills m (zeroed first) and rhs with the node system of ld:
+//
+//	Σ_e J_e(v) + (β_v + sρ_v) u(v) = γ_v,   J_e(v) = −α_e ∂_e u(v),
+//
+// with the fixed values moved to the right-hand side. With transpose it adds
+// every matrix entry at the transposed position (the right-hand side is then
+// meaningless and left as the forward one). Cost O(edges + nodes).
+func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitLoad[T], transpose bool) {
+	m.ZeroValues()
+	clear(rhs)
+	add := func(i, j int, v T) {
+		if transpose {
+			m.Add(j, i, v)
+		} else {
+			m.Add(i, j, v)
+		}
+	}
+	var zero T
+	for k := range sys.el {
+		el := &sys.el[k]
+		c := fromF[T](el.c) + ld.s*fromF[T](el.rho)
+		f := zero
+		if ld.edgeF != nil {
+			f = ld.edgeF(el)
+		}
+		d, g := exactElement(el.a, el.b, c, f, el.L)
+		i, j := sys.unk[el.from], sys.unk[el.to]
+		w0, w1 := fromF[T](el.w0), fromF[T](el.w1)
+		// From end: J = −α0 u'(0); to end: J = +α1 u'(L).
+		if i >= 0 {
+			add(i, i, -w0*d[0][0])
+			if j >= 0 {
+				add(i, j, -w0*d[0][1])
+			} else {
+				rhs[i] += w0 * d[0][1] * ld.fixedG(el.to)
+			}
+			rhs[i] += w0 * g[0]
+		}
+		if j >= 0 {
+			add(j, j, w1*d[1][1])
+			if i >= 0 {
+				add(j, i, w1*d[1][0])
+			} else {
+				rhs[j] -= w1 * d[1][0] * ld.fixedG(el.from)
+			}
+			rhs[j] -= w1 * g[1]
+		}
+	}
+	for v, l := range sys.law {
+		i := sys.unk[v]
+		if i < 0 {
+			continue
+		}
+		add(i, i, fromF[T](l.Leak)+ld.s*fromF[T](l.Capacity))
+		if ld.nodeG != nil {
+			rhs[i] += ld.nodeG(v)
+		}
+	}
+}
+
+// adjoint holds the solution w of Kᵀw = e_start at s = 0: w_v is the
+// derivative of u(start) with respect to the right-hand side of row v, so any
+// steady statistic of the walker is w·(its right-hand side). In walker terms
+// w_v is the expected local time at v (per unit injection).
+type adjoint struct {
+	w []float64 // per unknown
+}
+
+// steadyAdjoint factors the transposed s = 0 system and solves for w.
+func (sys *exitSystem) steadyAdjoint() (*adjoint, error) {
+	m := nodesys.NewMatrix[float64](sys.nUnk)
+	rhs := make([]float64, sys.nUnk)
+	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, true)
+	f := nodesys.NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		return nil, err
+	}
+	e := make([]float64, sys.nUnk)
+	e[sys.unk[sys.start]] = 1
+	w := make([]float64, sys.nUnk)
+	f.SolveTo(w, e)
+	return &adjoint{w: w}, nil
+}
+
+// at returns w at system node v, 0 for a fixed node.
+func (ad *adjoint) at(sys *exitSystem, v int) float64 {
+	if i := sys.unk[v]; i >= 0 {
+		return ad.w[i]
+	}
+	return 0
+}
+
+// load returns w·r for the source f = 1 on el alone (s = 0): the expected
+// reward collected on el before death when f = 1 there, i.e. the expected
+// occupation time of el divided by its ρ.
+func (ad *adjoint) load(sys *exitSystem, el *exitEl) float64 {
+	return ad.at(sys, el.from)*el.w0*el.g[0] - ad.at(sys, el.to)*el.w1*el.g[1]
+}
+
+// hitInto returns w·r for unit value at the fixed end(s) of el and zero
+// elsewhere: the contribution of el to the absorption probability at its
+// fixed end(s). It returns the from-end and to-end contributions.
+func (ad *adjoint) hitInto(sys *exitSystem, el *exitEl) (atFrom, atTo float64) {
+	i, j := sys.unk[el.from], sys.unk[el.to]
+	if i >= 0 && j < 0 {
+		atTo = ad.w[i] * el.w0 * el.d[0][1]
+	}
+	if j >= 0 && i < 0 {
+		atFrom = -ad.w[j] * el.w1 * el.d[1][0]
+	}
+	return atFrom, atTo
+}
+
+// steadyMean solves the forward mean-lifetime problem (f = ρ, γ = ρ_v, g = 0)
+// at every node and returns the values per system node (0 at fixed nodes).
+func (sys *exitSystem) steadyMean() ([]float64, error) {
+	m := nodesys.NewMatrix[float64](sys.nUnk)
+	rhs := make([]float64, sys.nUnk)
+	assemble(sys, m, rhs, exitLoad[float64]{
+		edgeF:  func(el *exitEl) float64 { return el.rho },
+		nodeG:  func(v int) float64 { return sys.law[v].Capacity },
+		fixedG: func(int) float64 { return 0 },
+	}, false)
+	f := nodesys.NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		return nil, err
+	}
+	u := make([]float64, sys.nUnk)
+	f.SolveTo(u, rhs)
+	out := make([]float64, len(sys.law))
+	for v, i := range sys.unk {
+		if i >= 0 {
+			out[v] = u[i]
+		}
+	}
+	return out, nil
+}
+
+// supMean returns an upper bound of the mean lifetime over the whole
+// component, edge interiors included: by the maximum principle the interior
+// of an edge exceeds the larger end value by at most the mean time of an
+// isolated edge with absorbing ends, ρL²/(8a) without drift and decay (decay
+// lowers it; drift lowers the maximum too, and the caller checks the
+// resulting contour radius anyway).
+func (sys *exitSystem) supMean(T1 []float64) float64 {
+	var sup float64
+	for k := range sys.el {
+		el := &sys.el[k]
+		bump := el.rho * el.L * el.L / (8 * el.a)
+		sup = math.Max(sup, math.Max(T1[el.from], T1[el.to])+bump)
+	}
+	return sup
+}
+
+// transform evaluates the Laplace transform of the lifetime,
+// L(s) = E[e^{−sτ}], at the start for each s in ss, writing dst. The
+// problem: decay c + sρ on edges and leak β + sρ_v at nodes discount by
+// e^{−sτ}; the value 1 at fixed nodes pays for absorption; a walker killed
+// by decay or leak at time ζ must also pay e^{−sζ}, and since killing happens
+// at rate κ = c/ρ on edges (and through the leak β at nodes), the expected
+// payment is E∫_0^{τ} e^{−st} κ(X_t) e^{−∫_0^t κ} dt, a Feynman–Kac reward
+// with rate κ: source f = c on edges and injection γ = β at nodes.
+//
+// The complex pattern is factored symbolically once; each s costs one
+// numeric re-factorisation, O(edges + nodes) on a tree.
+type transformer struct {
+	sys *exitSystem
+	m   *nodesys.Matrix[complex128]
+	f   *nodesys.Factor[complex128]
+	rhs []complex128
+	u   []complex128
+	ld  exitLoad[complex128]
+}
+
+func newTransformer(sys *exitSystem) *transformer {
+	tr := &transformer{
+		sys: sys,
+		m:   nodesys.NewMatrix[complex128](sys.nUnk),
+		f:   nodesys.NewFactor[complex128](nil),
+		rhs: make([]complex128, sys.nUnk),
+		u:   make([]complex128, sys.nUnk),
+	}
+	tr.ld = exitLoad[complex128]{
+		edgeF:  func(el *exitEl) complex128 { return complex(el.c, 0) },
+		nodeG:  func(v int) complex128 { return complex(sys.law[v].Leak, 0) },
+		fixedG: func(int) complex128 { return 1 },
+	}
+	return tr
+}
+
+// at returns L(s) at the start.
+func (tr *transformer) at(s complex128) (complex128, error) {
+	tr.ld.s = s
+	assemble(tr.sys, tr.m, tr.rhs, tr.ld, false)
+	if err := tr.f.Factorize(tr.m); err != nil {
+		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)
+	}
+	tr.f.SolveTo(tr.u, tr.rhs)
+	v := tr.u[tr.sys.unk[tr.sys.start]]
+	if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
+		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v is not finite", s)
+	}
+	return v, nil
+}
