@@ -153,7 +153,7 @@ func TestExitIntervalB1(t *testing.T) {
 }
 
 // exactIntervalMoments returns the polynomial coefficients of T_0 … T_nmax
-// on (0, 1) for a T_n'' = −n T_{n−1}, T_0 = 1, T_n(0) = T_n(1) = 0.
+// on (0, 1) for a T_n” = −n T_{n−1}, T_0 = 1, T_n(0) = T_n(1) = 0.
 func exactIntervalMoments(nmax int, a float64) [][]float64 {
 	T := [][]float64{{1}}
 	for n := 1; n <= nmax; n++ {
@@ -328,7 +328,7 @@ func TestExitEqualArms(t *testing.T) {
 // starEigen is the eigen expansion P(τ > t) = Σ A_k e^{−λ_k t} from the centre
 // of a star with arms L_i, centre weights p_i, generator ½d², absorbing ends.
 //
-// Derivation: on arm i, ½u'' = s u, u(L_i) = 1, u(0) = U gives with k = √(2s)
+// Derivation: on arm i, ½u” = s u, u(L_i) = 1, u(0) = U gives with k = √(2s)
 // u_i'(0) = k(1 − U cosh kL_i)/sinh kL_i, and Σ p_i u_i'(0) = 0 gives
 //
 //	L(s) = E e^{−sτ} = Σ p_i csch(kL_i) / Σ p_i coth(kL_i) = G/F
@@ -490,7 +490,7 @@ func TestExitCapacityLeak(t *testing.T) {
 }
 
 // TestExitDecayDrift: an interval with decay c and drift b (derived): with
-// μ = b/(2a), κ = √(μ² + c/a), the exit probabilities solve a u'' + b u' − c u
+// μ = b/(2a), κ = √(μ² + c/a), the exit probabilities solve a u” + b u' − c u
 // = 0, i.e. u = e^{−μx}(A cosh κx + B sinh κx):
 //
 //	P(hi) = e^{μ(L−x)} sinh κx / sinh κL,   P(lo) = e^{−μx} sinh κ(L−x)/sinh κL,
