@@ -153,7 +153,7 @@ func TestExitIntervalB1(t *testing.T) {
 }
 
 // exactIntervalMoments returns the polynomial coefficients of T_0 … T_nmax
-// on (0, 1) for a T_n” = −n T_{n−1}, T_0 = 1, T_n(0) = T_n(1) = 0.
+// on (0, 1) for a T_n″ = −n T_{n−1}, T_0 = 1, T_n(0) = T_n(1) = 0.
 func exactIntervalMoments(nmax int, a float64) [][]float64 {
 	T := [][]float64{{1}}
 	for n := 1; n <= nmax; n++ {
