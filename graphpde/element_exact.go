@@ -34,7 +34,7 @@ type scalar interface{ ~float64 | ~complex128 }
 // (c/a)/(κ ± μ) when they are small), and for |κL| < 1 from z coth z and
 // z/sinh z, which are smooth at z = 0 (c = 0, b = 0 included). The source
 // terms come from Green's identity with the adjoint operator
-// a v” − b v' − c v: a·u'(0) gets f·∫v₀ and a·u'(L) gets −f·∫v_L, where v₀,
+// a v_xx − b v_x − c v: a·u'(0) gets f·∫v₀ and a·u'(L) gets −f·∫v_L, where v₀,
 // v_L are the adjoint solutions that equal 1 at one end and 0 at the other.
 // These integrals are sums of positive terms for real data, so small c (no
 // f/c cancellation) and large Péclet numbers |b|L/a are handled stably; they

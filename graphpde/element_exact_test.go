@@ -7,7 +7,7 @@ import (
 	"testing"
 )
 
-// naiveSolution solves a u” + b u' − c u + f = 0 on [0, L] with u(0) = U0,
+// naiveSolution solves a u_xx + b u_x − c u + f = 0 on [0, L] with u(0) = U0,
 // u(L) = UL by the textbook route: a particular solution plus A e^{r₁x} + B e^{r₂x}
 // with the roots r = −μ ± κ of a r² + b r − c = 0, the 2×2 system for A, B
 // solved directly with unscaled exponentials. It is an independent reference

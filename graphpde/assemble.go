@@ -1,0 +1,482 @@
+package graphpde
+
+import (
+	"errors"
+	"fmt"
+	"math"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// system is the node system of a network for one choice of elements, built
+// once and re-assembled as often as needed. The intended use, also by the
+// transient, Newton and Laplace solvers of this package:
+//
+//	sys, err := newSystem(net, variant, settings) // classify edges, check anchoring,
+//	                                              // number unknowns, allocate (once)
+//	sys.assemble(shift)  // element maps with decay c+shift·ρ, leak β+shift·ρ_v,
+//	                     // the current sys.v sources; values into the SAME matrix pattern
+//	err = sys.factor()   // numeric factorisation; the ordering is computed on the
+//	                     // first call only (nodesys keeps it while the pattern is unchanged)
+//	sys.solve()          // node values into sys.u (fixed nodes included)
+//	sys.recover()        // grid interiors into sys.gval by back substitution
+//
+// Between calls a caller may change sys.v (sources, injections, fixed values;
+// not the kind of an edge: EdgeSource must stay nil or non-nil as at
+// construction) and call assemble again: nothing is re-allocated and nothing
+// is re-ordered. solve already calls recover.
+//
+// Unknown numbering: balance node v is unknown unk[v] ≥ 0, fixed nodes have
+// unk[v] = −1 and go to the right-hand side. Row of a balance node v:
+//
+//	Σ_ends J_e(v) + (β_v + shift·ρ_v) u(v) = γ_v,
+//	J = −α₀ u'(0) at a From end,  J = +α_L u'(L) at a To end,
+//
+// with u'(0), u'(L) the affine end maps of the elements (exactElement or the
+// condensed grid element, half cells included).
+type system struct {
+	net   *Network
+	v     Variant
+	cells int
+
+	exact []bool       // per edge: exact element?
+	grid  []gridEnds   // per edge (zero for exact edges)
+	maps  []edgeMap    // per edge: the end map of the last assembly
+	ecf   [][2]float64 // per exact edge: c (shift included) and f of the last assembly
+	st    []float64    // grid sweeps: 3 values per interior unknown
+	gval  []float64    // grid interiors, in the order of gridEnds.off
+	shift float64
+
+	unk   []int // node → unknown, −1 for fixed nodes
+	nodes []int // unknown → node
+	mat   *nodesys.Matrix[float64]
+	fac   *nodesys.Factor[float64]
+	rhs   []float64
+	x     []float64
+	u     []float64 // node values
+	stats Stats
+}
+
+// edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
+// u'(L) = d[1]·(U0,UL) + g[1].
+type edgeMap struct {
+	d [2][2]float64
+	g [2]float64
+}
+
+func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
+	s := &system{net: net, cells: DefaultCells}
+	if v != nil {
+		s.v = *v
+	}
+	method := MethodAuto
+	if set != nil {
+		method = set.Method
+		if set.Cells > 0 {
+			s.cells = set.Cells
+		} else if set.Cells < 0 {
+			return nil, fmt.Errorf("cells = %d must be ≥ 0", set.Cells)
+		}
+	}
+	ne, nn := len(net.Edges), len(net.Nodes)
+	checkLen := func(name string, got, want int) {
+		if got != 0 && got != want {
+			panic(fmt.Sprintf("graphpde: Variant.%s has length %d, want %d", name, got, want))
+		}
+	}
+	checkLen("ConstSource", len(s.v.ConstSource), ne)
+	checkLen("NodeInject", len(s.v.NodeInject), nn)
+	checkLen("FixedValue", len(s.v.FixedValue), nn)
+	if s.v.EdgeSource != nil && s.v.ConstSource != nil {
+		panic("graphpde: Variant.EdgeSource and Variant.ConstSource are both set")
+	}
+	if math.IsNaN(s.v.Shift) || math.IsInf(s.v.Shift, 0) {
+		return nil, fmt.Errorf("shift = %g must be a finite number", s.v.Shift)
+	}
+
+	// Classify edges.
+	s.exact = make([]bool, ne)
+	s.grid = make([]gridEnds, ne)
+	s.maps = make([]edgeMap, ne)
+	s.ecf = make([][2]float64, ne)
+	var interior int64
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		cons := s.constantEdge(ed)
+		switch method {
+		case MethodExact:
+			if !cons {
+				why := "has coefficients that vary along it"
+				if s.v.EdgeSource != nil {
+					why = "gets a source that varies along it"
+				}
+				return nil, &ModelError{Object: "edge", ID: ed.ID, Reason: why + ": method exact needs constant ones (use auto or grid)"}
+			}
+			s.exact[e] = true
+		case MethodAuto:
+			s.exact[e] = cons
+		case MethodGrid:
+		default:
+			return nil, fmt.Errorf("unknown method %v", method)
+		}
+		if s.exact[e] {
+			s.stats.ExactEdges++
+			continue
+		}
+		s.stats.GridEdges++
+		n := ed.Cells
+		if n == 0 {
+			n = s.cells
+		}
+		s.grid[e] = gridEnds{n: n, off: int(interior)}
+		interior += int64(n - 1)
+		if interior > MaxGridUnknowns {
+			// count the rest for the message
+			for _, rest := range net.Edges[e+1:] {
+				if m := rest.Cells; m > 0 {
+					interior += int64(m - 1)
+				} else {
+					interior += int64(s.cells - 1)
+				}
+			}
+			return nil, &GridSizeError{Unknowns: interior, Max: MaxGridUnknowns}
+		}
+	}
+	if err := s.checkAnchors(); err != nil {
+		return nil, err
+	}
+
+	// Number the unknowns.
+	s.unk = make([]int, nn)
+	for i := range net.Nodes {
+		if net.Nodes[i].Law.Kind == vertex.Fixed {
+			s.unk[i] = -1
+			continue
+		}
+		s.unk[i] = len(s.nodes)
+		s.nodes = append(s.nodes, i)
+	}
+	m := len(s.nodes)
+	s.mat = nodesys.NewMatrix[float64](m)
+	s.fac = nodesys.NewFactor[float64](nil)
+	s.rhs = make([]float64, m)
+	s.x = make([]float64, m)
+	s.u = make([]float64, nn)
+	s.st = make([]float64, 3*interior)
+	s.gval = make([]float64, interior)
+	s.stats.NodeUnknowns = m
+	s.stats.Unknowns = m + int(interior)
+	return s, nil
+}
+
+// constantEdge reports whether edge ed has constant coefficients for this
+// system (a varying capacity matters only with a shift; a varying source is
+// irrelevant when ConstSource replaces it).
+func (s *system) constantEdge(ed *Edge) bool {
+	if s.v.EdgeSource != nil {
+		return false
+	}
+	p := ed.Profile
+	if p == nil {
+		return true
+	}
+	if p.A != nil || p.B != nil || p.C != nil {
+		return false
+	}
+	if p.F != nil && s.v.ConstSource == nil {
+		return false
+	}
+	if p.Rho != nil && s.v.Shift != 0 {
+		return false
+	}
+	return true
+}
+
+// checkAnchors returns an *UnanchoredError if some connected component has no
+// fixed node, no node with a positive leak (shift·capacity included) and no
+// edge with positive decay (shift·ρ included). Cost O(nodes + edges), plus
+// the grid vertices of edges with a decay profile.
+func (s *system) checkAnchors() error {
+	net := s.net
+	comp, count := net.Components()
+	anchored := make([]bool, count)
+	for i := range net.Nodes {
+		l := net.Nodes[i].Law
+		if l.Anchors() || (l.Kind == vertex.Balance && s.v.Shift*l.Capacity > 0) {
+			anchored[comp[i]] = true
+		}
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		if anchored[comp[ed.From]] {
+			continue
+		}
+		if s.edgeDecays(e) {
+			anchored[comp[ed.From]] = true
+		}
+	}
+	var first = -1
+	bad := 0
+	for c, ok := range anchored {
+		if !ok {
+			if first < 0 {
+				first = c
+			}
+			bad++
+		}
+	}
+	if bad == 0 {
+		return nil
+	}
+	var ids []string
+	for i := range net.Nodes {
+		if comp[i] == first {
+			ids = append(ids, net.Nodes[i].ID)
+		}
+	}
+	return &UnanchoredError{Nodes: ids, Components: bad}
+}
+
+// edgeDecays reports whether the decay c + shift·ρ of edge e is positive
+// somewhere the element sees it (the constant, or a grid vertex).
+func (s *system) edgeDecays(e int) bool {
+	ed := &s.net.Edges[e]
+	p := ed.Profile
+	if p == nil || (p.C == nil && (p.Rho == nil || s.v.Shift == 0)) {
+		return ed.C+s.v.Shift*ed.Rho > 0
+	}
+	n := s.grid[e].n
+	if s.exact[e] || n == 0 {
+		n = 2
+	}
+	L := ed.Length
+	for i := 0; i <= n; i++ {
+		_, _, c, _, rho := ed.Coeffs(L * float64(i) / float64(n))
+		if c+s.v.Shift*rho > 0 {
+			return true
+		}
+	}
+	return false
+}
+
+// fixedValue returns g of fixed node i (Variant.FixedValue applied).
+func (s *system) fixedValue(i int) float64 {
+	if s.v.FixedValue != nil {
+		return s.v.FixedValue[i]
+	}
+	return s.net.Nodes[i].Law.Value
+}
+
+// edgeSource returns the constant source of edge e (Variant applied).
+func (s *system) edgeSource(e int) float64 {
+	if s.v.ConstSource != nil {
+		return s.v.ConstSource[e]
+	}
+	return s.net.Edges[e].F
+}
+
+// element computes the end map of edge e for the given shift (and, for a grid
+// edge, its sweep into s.st).
+func (s *system) element(e int, shift float64) {
+	ed := &s.net.Edges[e]
+	L := ed.Length
+	if s.exact[e] {
+		if shift != 0 && ed.Profile != nil && ed.Profile.Rho != nil {
+			panic("graphpde: shift on an exact edge with a capacity profile")
+		}
+		c := ed.C + shift*ed.Rho
+		f := s.edgeSource(e)
+		d, g := exactElement(ed.A, ed.B, c, f, L)
+		s.maps[e] = edgeMap{d, g}
+		s.ecf[e] = [2]float64{c, f}
+		return
+	}
+	ge := &s.grid[e]
+	n, off := ge.n, ge.off
+	st := s.st[3*off : 3*(off+n-1)]
+	var d [2][2]float64
+	var g [2]float64
+	var out gridEnds
+	if s.v.EdgeSource == nil && ed.Constant() {
+		d, g, out = condenseConst(st, n, L, ed.A, ed.B, ed.C+shift*ed.Rho, s.edgeSource(e))
+	} else {
+		src := s.v.EdgeSource
+		cs := s.v.ConstSource
+		d, g, out = condenseVar(st, n, L, func(x float64) (a, b, c, f float64) {
+			a, b, c, f, rho := ed.Coeffs(x)
+			switch {
+			case src != nil:
+				f = src(e, x)
+			case cs != nil:
+				f = cs[e]
+			}
+			return a, b, c + shift*rho, f
+		})
+	}
+	out.off = off
+	*ge = out
+	s.maps[e] = edgeMap{d, g}
+}
+
+// assemble computes every element map with decay c + shift·ρ and leak
+// β + shift·ρ_v and writes the node system into s.mat (same pattern on every
+// call after the first) and s.rhs. Cost O(grid unknowns + edges); it
+// allocates only on the first call (the pattern).
+func (s *system) assemble(shift float64) {
+	net := s.net
+	s.shift = shift
+	s.mat.ZeroValues()
+	clear(s.rhs)
+	for e := range net.Edges {
+		s.element(e, shift)
+		ed := &net.Edges[e]
+		m := &s.maps[e]
+		v0, v1 := ed.From, ed.To
+		if r := s.unk[v0]; r >= 0 {
+			a0 := ed.EndWeight(0)
+			s.add(r, v0, -a0*m.d[0][0])
+			s.add(r, v1, -a0*m.d[0][1])
+			s.rhs[r] += a0 * m.g[0]
+		}
+		if r := s.unk[v1]; r >= 0 {
+			aL := ed.EndWeight(1)
+			s.add(r, v0, aL*m.d[1][0])
+			s.add(r, v1, aL*m.d[1][1])
+			s.rhs[r] -= aL * m.g[1]
+		}
+	}
+	for r, i := range s.nodes {
+		diag, rhs := net.Nodes[i].Law.Row(shift)
+		if s.v.NodeInject != nil {
+			rhs = s.v.NodeInject[i]
+		}
+		s.mat.Add(r, r, diag)
+		s.rhs[r] += rhs
+	}
+}
+
+// add puts coefficient val of node col's value into row r.
+func (s *system) add(r, col int, val float64) {
+	if c := s.unk[col]; c >= 0 {
+		s.mat.Add(r, c, val)
+		return
+	}
+	s.rhs[r] -= val * s.fixedValue(col)
+}
+
+// factor factors the assembled node system.
+func (s *system) factor() error {
+	if err := s.fac.Factorize(s.mat); err != nil {
+		var se *nodesys.SingularError
+		if errors.As(err, &se) {
+			return &SingularNodeError{Node: s.net.Nodes[s.nodes[se.Index]].ID, Pivot: se.Pivot, Scale: se.Scale}
+		}
+		return err
+	}
+	s.stats.FillNNZ = s.fac.Stats().NNZL
+	return nil
+}
+
+// solve solves the factored system, fills s.u and recovers the grid
+// interiors. Cost O(nnz(L) + grid unknowns).
+func (s *system) solve() {
+	if len(s.rhs) > 0 {
+		s.fac.SolveTo(s.x, s.rhs)
+	}
+	for i := range s.net.Nodes {
+		if r := s.unk[i]; r >= 0 {
+			s.u[i] = s.x[r]
+		} else {
+			s.u[i] = s.fixedValue(i)
+		}
+	}
+	s.recover()
+}
+
+// recover writes the grid interiors into s.gval by back substitution.
+func (s *system) recover() {
+	for e := range s.net.Edges {
+		if s.exact[e] {
+			continue
+		}
+		ge := &s.grid[e]
+		ed := &s.net.Edges[e]
+		off, n := ge.off, ge.n
+		recoverGrid(s.gval[off:off+n-1], s.st[3*off:3*(off+n-1)], s.u[ed.From], s.u[ed.To])
+	}
+}
+
+// endDerivs returns u'(0) and u'(L) of edge e in the current solution.
+func (s *system) endDerivs(e int) (d0, dL float64) {
+	ed := &s.net.Edges[e]
+	U0, UL := s.u[ed.From], s.u[ed.To]
+	if s.exact[e] {
+		m := &s.maps[e]
+		return m.d[0][0]*U0 + m.d[0][1]*UL + m.g[0], m.d[1][0]*U0 + m.d[1][1]*UL + m.g[1]
+	}
+	ge := &s.grid[e]
+	first, last := UL, U0
+	if ge.n > 1 {
+		first, last = s.gval[ge.off], s.gval[ge.off+ge.n-2]
+	}
+	return ge.endDerivs(U0, UL, first, last)
+}
+
+// solution packages the current state (after solve) as a Solution: node
+// values, end fluxes and node residuals reconstructed from the elements, and
+// a finiteness check of everything.
+func (s *system) solution() (*Solution, error) {
+	net := s.net
+	sol := &Solution{
+		Net:      net,
+		U:        append([]float64(nil), s.u...),
+		Flux:     make([][2]float64, len(net.Edges)),
+		Residual: make([]float64, len(net.Nodes)),
+		Status:   Converged,
+		Stats:    s.stats,
+		exact:    s.exact,
+		grid:     s.grid,
+		gval:     s.gval,
+		ecf:      s.ecf,
+	}
+	for i, u := range sol.U {
+		if math.IsNaN(u) || math.IsInf(u, 0) {
+			return nil, &NonFiniteError{Object: "node", ID: net.Nodes[i].ID}
+		}
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		if !s.exact[e] {
+			ge := &s.grid[e]
+			z := 0.0
+			for _, x := range s.gval[ge.off : ge.off+ge.n-1] {
+				z += x * 0 // NaN iff some value is not finite
+			}
+			if z != 0 {
+				return nil, &NonFiniteError{Object: "edge", ID: ed.ID}
+			}
+		}
+		d0, dL := s.endDerivs(e)
+		a0, _, _, _, _ := ed.Coeffs(0)
+		aL, _, _, _, _ := ed.Coeffs(ed.Length)
+		sol.Flux[e] = [2]float64{-a0 * d0, -aL * dL}
+		if f := sol.Flux[e]; math.IsNaN(f[0]+f[1]) || math.IsInf(f[0]+f[1], 0) {
+			return nil, &NonFiniteError{Object: "edge", ID: ed.ID}
+		}
+		if r := s.unk[ed.From]; r >= 0 {
+			sol.Residual[ed.From] += -ed.EndWeight(0) * d0
+		}
+		if r := s.unk[ed.To]; r >= 0 {
+			sol.Residual[ed.To] += ed.EndWeight(1) * dL
+		}
+	}
+	for _, i := range s.nodes {
+		diag, rhs := net.Nodes[i].Law.Row(s.shift)
+		if s.v.NodeInject != nil {
+			rhs = s.v.NodeInject[i]
+		}
+		sol.Residual[i] += diag*s.u[i] - rhs
+	}
+	return sol, nil
+}

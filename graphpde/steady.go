@@ -1,0 +1,244 @@
+package graphpde
+
+import (
+	"fmt"
+	"strings"
+	"time"
+)
+
+// Method chooses the edge elements of a solve.
+type Method int
+
+const (
+	// MethodAuto uses exact elements on edges whose coefficients are
+	// constant and grid elements elsewhere. It is the zero value.
+	MethodAuto Method = iota
+	// MethodExact uses exact elements everywhere; an edge with varying
+	// coefficients is an error.
+	MethodExact
+	// MethodGrid uses grid elements everywhere.
+	MethodGrid
+)
+
+// ParseMethod reads "auto", "exact" or "grid".
+func ParseMethod(s string) (Method, error) {
+	switch s {
+	case "auto":
+		return MethodAuto, nil
+	case "exact":
+		return MethodExact, nil
+	case "grid":
+		return MethodGrid, nil
+	}
+	return 0, fmt.Errorf("unknown method %q (want auto, exact or grid)", s)
+}
+
+// String returns "auto", "exact" or "grid".
+func (m Method) String() string {
+	switch m {
+	case MethodAuto:
+		return "auto"
+	case MethodExact:
+		return "exact"
+	case MethodGrid:
+		return "grid"
+	}
+	return fmt.Sprintf("Method(%d)", int(m))
+}
+
+// DefaultCells is the number of grid cells of an edge when neither the edge
+// nor the settings say otherwise.
+const DefaultCells = 64
+
+// MaxGridUnknowns bounds the interior grid unknowns of one solve (about 32
+// bytes each); a larger request is refused before anything is allocated.
+const MaxGridUnknowns = 1 << 30
+
+// Settings controls a steady solve. A nil *Settings means the defaults.
+type Settings struct {
+	// Method chooses the edge elements; the zero value is MethodAuto.
+	Method Method
+	// Cells is the number of cells of a grid edge whose Edge.Cells is 0;
+	// 0 means DefaultCells.
+	Cells int
+}
+
+// Status describes how a solver ended. The linear steady solve either
+// succeeds (Converged) or returns an error; the other values are for the
+// iterative solvers of the package.
+type Status int
+
+const (
+	// NotSolved is the zero value: no solver has run.
+	NotSolved Status = iota
+	// Converged: the solve succeeded (for the linear solve: the node
+	// system was factored and solved and the result is finite).
+	Converged
+	// IterationLimit: an iterative solver stopped at its budget.
+	IterationLimit
+	// NotElliptic: the operator lost uniform ellipticity.
+	NotElliptic
+	// Singular: a linear system met a zero pivot.
+	Singular
+	// NoSolution: no solution in the continuation range.
+	NoSolution
+)
+
+// String returns the status in words.
+func (s Status) String() string {
+	switch s {
+	case NotSolved:
+		return "not solved"
+	case Converged:
+		return "converged"
+	case IterationLimit:
+		return "iteration limit"
+	case NotElliptic:
+		return "not elliptic"
+	case Singular:
+		return "singular"
+	case NoSolution:
+		return "no solution"
+	}
+	return fmt.Sprintf("Status(%d)", int(s))
+}
+
+// Stats gives the size and cost of a solve.
+type Stats struct {
+	Unknowns     int // node unknowns plus interior grid unknowns
+	NodeUnknowns int // balance nodes (rows of the node system)
+	ExactEdges   int
+	GridEdges    int
+	FillNNZ      int           // entries of the node system's factor L (diagonal included)
+	Elapsed      time.Duration // wall-clock time of the whole solve
+}
+
+// UnanchoredError reports a connected component that nothing anchors: no
+// fixed node, no node leak and no edge decay, so that constants solve its
+// homogeneous steady problem and the solution is not unique.
+type UnanchoredError struct {
+	Nodes      []string // node ids of the first such component
+	Components int      // number of such components
+}
+
+func (e *UnanchoredError) Error() string {
+	const show = 3
+	var b strings.Builder
+	b.WriteString("the component of node")
+	if len(e.Nodes) > 1 {
+		b.WriteString("s")
+	}
+	b.WriteString(" ")
+	for i, id := range e.Nodes {
+		if i == show {
+			fmt.Fprintf(&b, " and %d more", len(e.Nodes)-show)
+			break
+		}
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(id)
+	}
+	b.WriteString(" has no fixed node, leak or decay: its steady solution is not unique")
+	if e.Components > 1 {
+		fmt.Fprintf(&b, " (%d components are in this state)", e.Components)
+	}
+	return b.String()
+}
+
+// SingularNodeError reports a zero or tiny pivot of the node system at a node,
+// with the pivot and the scale of its row (as in a resonant Laplace shift or a
+// component anchored only by a decay lost in round-off).
+type SingularNodeError struct {
+	Node         string
+	Pivot, Scale float64
+}
+
+func (e *SingularNodeError) Error() string {
+	return fmt.Sprintf("the node system is singular at node %s (pivot %.3g, row scale %.3g)", e.Node, e.Pivot, e.Scale)
+}
+
+// NonFiniteError reports a NaN or infinite value in a result, naming where it
+// first appeared.
+type NonFiniteError struct {
+	Object string // "node" or "edge"
+	ID     string
+}
+
+func (e *NonFiniteError) Error() string {
+	return fmt.Sprintf("the solution is not finite at %s %s", e.Object, e.ID)
+}
+
+// GridSizeError reports a grid too large to allocate.
+type GridSizeError struct {
+	Unknowns int64 // interior grid unknowns requested
+	Max      int64
+}
+
+func (e *GridSizeError) Error() string {
+	return fmt.Sprintf("the grid would have %d interior unknowns (about %d MB); at most %d are allowed: lower cells", e.Unknowns, e.Unknowns*32>>20, e.Max)
+}
+
+// Variant overrides data of a network for one solve, so that related problems
+// (Laplace transforms, exit times, hitting probabilities, occupation times)
+// can be solved without copying the network. The zero value changes nothing;
+// a nil slice or function means "as in the network". Slices are indexed by
+// node or edge index and must have the length of Nodes or Edges (SolveVariant
+// panics otherwise).
+type Variant struct {
+	// Shift s adds s·ρ to the decay of every edge and s·ρ_v to the leak of
+	// every balance node (Laplace transform or implicit time step).
+	Shift float64
+	// EdgeSource(e, x), when non-nil, replaces the source f of every edge
+	// at distance x from its From node. Every edge then uses a grid
+	// element (MethodExact is an error). It must not be set together
+	// with ConstSource.
+	EdgeSource func(e int, x float64) float64
+	// ConstSource[e], when non-nil, replaces the source of edge e by a
+	// constant (exact elements remain usable).
+	ConstSource []float64
+	// NodeInject[v], when non-nil, replaces the injection γ of every
+	// balance node.
+	NodeInject []float64
+	// FixedValue[v], when non-nil, replaces the value g of every fixed node
+	// (entries of balance nodes are ignored).
+	FixedValue []float64
+}
+
+// Solve solves the steady problem of net: on every edge
+//
+//	∂_x(a ∂_x u) + b ∂_x u − c u + f = 0,
+//
+// u continuous at the nodes, and every node's condition (fixed value or flux
+// balance). Edges use exact or grid elements as set.Method says; grid
+// interiors are condensed, the node system (one unknown per balance node) is
+// factored with a minimum-degree order, and the interiors recovered.
+//
+// Errors: *UnanchoredError for a component with nothing to fix its level,
+// *ModelError naming an edge that MethodExact cannot handle,
+// *GridSizeError, *SingularNodeError, *NonFiniteError. net is not modified
+// (its incidence lists are built if needed). Cost: O(grid unknowns + edges)
+// plus the factorisation of the node system (O(nodes) on trees).
+func Solve(net *Network, set *Settings) (*Solution, error) {
+	return SolveVariant(net, nil, set)
+}
+
+// SolveVariant is Solve for the problem of net modified by v (nil for none).
+func SolveVariant(net *Network, v *Variant, set *Settings) (*Solution, error) {
+	t0 := time.Now()
+	sys, err := newSystem(net, v, set)
+	if err != nil {
+		return nil, err
+	}
+	sys.assemble(sys.v.Shift)
+	if err := sys.factor(); err != nil {
+		return nil, err
+	}
+	sys.solve()
+	sol, err := sys.solution()
+	if err != nil {
+		return nil, err
+	}
+	sol.Stats.Elapsed = time.Since(t0)
+	return sol, nil
+}
