@@ -14,7 +14,73 @@ const (
 	mdDense               // dense node, ordered last
 )
 
-// minimumDegree returns an approximate minimum-degree elimination order of
+// minimumDegree returns a minimum-degree elimination order of the symmetric
+// graph given in compressed form (neighbours of v are adj[ptr[v]:ptr[v+1]];
+// self loops are ignored): perm[k] is the node eliminated k-th.
+//
+// Nodes of degree at most one are peeled first, repeatedly, in O(n + nnz):
+// eliminating them is a minimum-degree choice and creates no fill, so trees
+// and the tree-like parts of any network (the whole graph outside its
+// 2-core) come out leaves first with no fill and in linear time, whatever
+// their degrees. The 2-core left over is ordered by amd.
+func minimumDegree(n int, ptr, adj []int) []int {
+	deg := make([]int, n)
+	for v := 0; v < n; v++ {
+		for _, u := range adj[ptr[v]:ptr[v+1]] {
+			if u != v {
+				deg[v]++
+			}
+		}
+	}
+	perm := make([]int, 0, n)
+	done := make([]bool, n)
+	for v := 0; v < n; v++ {
+		if deg[v] <= 1 {
+			done[v] = true
+			perm = append(perm, v)
+		}
+	}
+	for q := 0; q < len(perm); q++ {
+		for _, u := range adj[ptr[perm[q]]:ptr[perm[q]+1]] {
+			if !done[u] {
+				deg[u]--
+				if deg[u] <= 1 {
+					done[u] = true
+					perm = append(perm, u)
+				}
+			}
+		}
+	}
+	if len(perm) == n {
+		return perm
+	}
+
+	// The 2-core, renumbered.
+	loc := deg // reuse: local number of core nodes
+	core := make([]int, 0, n-len(perm))
+	for v := 0; v < n; v++ {
+		if !done[v] {
+			loc[v] = len(core)
+			core = append(core, v)
+		}
+	}
+	cptr := make([]int, len(core)+1)
+	cadj := make([]int, 0, len(adj))
+	for k, v := range core {
+		for _, u := range adj[ptr[v]:ptr[v+1]] {
+			if u != v && !done[u] {
+				cadj = append(cadj, loc[u])
+			}
+		}
+		cptr[k+1] = len(cadj)
+	}
+	for _, k := range amd(len(core), cptr, cadj) {
+		perm = append(perm, core[k])
+	}
+	return perm
+}
+
+// amd returns an approximate minimum-degree elimination order of
 // the symmetric graph given in compressed form (neighbours of v are
 // adj[ptr[v]:ptr[v+1]]; self loops are ignored): perm[k] is the node
 // eliminated k-th.
@@ -34,7 +100,7 @@ const (
 //
 // Cost: on a tree O(Σ_v deg(v)²), which is O(n) for bounded or slowly growing
 // degrees; in general O(nnz(L)) up to the (small) cost of degree updates.
-func minimumDegree(n int, ptr, adj []int) []int {
+func amd(n int, ptr, adj []int) []int {
 	if n == 0 {
 		return nil
 	}

@@ -133,7 +133,6 @@ type Factor[T Scalar] struct {
 	flag  []int
 	stack []int
 	work  []T
-	scale []float64
 
 	symmetric bool
 	stats     Stats
@@ -282,7 +281,6 @@ func (f *Factor[T]) analyze(m *Matrix[T]) {
 	f.flag = flag
 	f.stack = make([]int, n)
 	f.work = make([]T, n)
-	f.scale = make([]float64, n)
 
 	f.stats = Stats{
 		N:            n,
@@ -319,15 +317,6 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 		f.ux = make([]T, len(f.lx))
 	}
 
-	// Row scales in the permuted numbering.
-	for i := 0; i < n; i++ {
-		s := 0.0
-		for p := m.rowPtr[i]; p < m.rowPtr[i+1]; p++ {
-			s = math.Max(s, mag(val[p]))
-		}
-		f.scale[f.iperm[i]] = s
-	}
-
 	par, flag, stack := f.par, f.flag, f.stack
 	lp, li, lx, ux, d, lnz := f.lp, f.li, f.lx, f.ux, f.d, f.lnz
 	y, z := f.y, f.z
@@ -362,6 +351,11 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 			}
 		}
 		dk := val[f.adiag[k]]
+		scale := 0.0 // max_j |a_kj|, over row perm[k] of A: contiguous, and cache-hot after the scatter above
+		c := f.perm[k]
+		for _, v := range val[m.rowPtr[c]:m.rowPtr[c+1]] {
+			scale = math.Max(scale, mag(v))
+		}
 		if sym {
 			for _, i := range stack[top:n] {
 				yi := y[i]
@@ -396,8 +390,8 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 			}
 		}
 		a := mag(dk)
-		if !(a > tol*f.scale[k]) || math.IsInf(a, 0) {
-			return &SingularError{Index: f.perm[k], Pivot: a, Scale: f.scale[k]}
+		if !(a > tol*scale) || math.IsInf(a, 0) {
+			return &SingularError{Index: c, Pivot: a, Scale: scale}
 		}
 		d[k] = dk
 	}

@@ -195,6 +195,19 @@ func TestZeroFillTrees(t *testing.T) {
 		{"chain 100000", 100000, chain},
 		{"star 5000", 5000, func(n int, _ *rand.Rand) []edge { return star(n) }},
 		{"caterpillar 4001", 4001, func(n int, _ *rand.Rand) []edge { return caterpillar(n) }},
+		// A hub of degree 1000 (over the dense threshold 10·√n of the
+		// quotient-graph ordering) carrying paths of five nodes.
+		{"hub with paths", 5001, func(n int, _ *rand.Rand) []edge {
+			var es []edge
+			for v := 1; v < n; v++ {
+				if (v-1)%5 == 0 {
+					es = append(es, edge{0, v})
+				} else {
+					es = append(es, edge{v - 1, v})
+				}
+			}
+			return es
+		}},
 		{"forest of two trees", 3000, func(n int, rnd *rand.Rand) []edge {
 			a := randomTree(n/2, rnd)
 			for _, e := range randomTree(n-n/2, rnd) {

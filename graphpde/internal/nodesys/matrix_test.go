@@ -142,6 +142,7 @@ func TestOrderingIsPermutation(t *testing.T) {
 			checkPerm(t, "nested dissection", nestedDissection(c.n, m.rowPtr, m.col), c.n)
 			perm := minimumDegree(c.n, m.rowPtr, m.col)
 			checkPerm(t, "minimum degree", perm, c.n)
+			checkPerm(t, "amd", amd(c.n, m.rowPtr, m.col), c.n)
 			for k, v := range c.lastNodes {
 				found := false
 				for _, p := range perm[c.n-len(c.lastNodes):] {
@@ -173,5 +174,26 @@ func checkPerm(t *testing.T, name string, perm []int, n int) {
 			t.Fatalf("%s: not a permutation: %v repeated or out of range", name, v)
 		}
 		seen[v] = true
+	}
+}
+
+// TestAMDAloneOnTrees checks the quotient-graph ordering itself (without the
+// leaf peeling in front of it) on trees: it too must find a zero-fill order,
+// i.e. nnz(strict lower L) = number of edges.
+func TestAMDAloneOnTrees(t *testing.T) {
+	t.Parallel()
+	for seed := uint64(0); seed < 4; seed++ {
+		rnd := rand.New(rand.NewPCG(22, seed))
+		n := 3000
+		m := NewMatrix[float64](n)
+		for _, e := range randomTree(n, rnd) {
+			m.Add(e.u, e.v, 1)
+		}
+		m.freeze()
+		perm := amd(n, m.rowPtr, m.col)
+		checkPerm(t, "amd", perm, n)
+		if got := countL(n, m.rowPtr, m.col, perm); got != n-1 {
+			t.Errorf("seed %d: nnz(strict L) = %d, want %d (no fill)", seed, got, n-1)
+		}
 	}
 }
