@@ -3,6 +3,7 @@ package nodesys
 import (
 	"fmt"
 	"math"
+	"slices"
 	"time"
 )
 
@@ -100,14 +101,17 @@ func (e *SingularError) Error() string {
 // matrices, which is what node systems are; tiny pivots are reported.
 //
 // The ordering and the symbolic factorisation are kept and reused as long as
-// Factorize is called with the same matrix and its pattern is unchanged; a
+// Factorize is called with a matrix of the same frozen pattern (the same
+// matrix re-assembled, or another one with identical pattern); a
 // re-factorisation then allocates nothing.
 type Factor[T Scalar] struct {
 	set Settings
 
 	mat     *Matrix[T]
 	version uint64
-	ready   bool // numeric factorisation valid
+	// The pattern analysed (freeze never mutates these slices in place).
+	patPtr, patCol []int
+	ready          bool // numeric factorisation valid
 
 	n     int
 	perm  []int // perm[k]: original index of the k-th pivot
@@ -163,8 +167,12 @@ func (f *Factor[T]) Stats() Stats { return f.stats }
 // numeric factorisation O(Σ_k |L_k|²) over the columns L_k of L; a
 // re-factorisation on an unchanged pattern allocates nothing.
 func (f *Factor[T]) Factorize(m *Matrix[T]) error {
-	changed := m.freeze()
-	if changed || f.mat != m || f.version != m.version {
+	m.freeze()
+	switch {
+	case f.mat == m && f.version == m.version:
+	case f.patPtr != nil && f.samePattern(m):
+		f.mat, f.version = m, m.version
+	default:
 		f.analyze(m)
 	}
 	f.ready = false
@@ -178,10 +186,18 @@ func (f *Factor[T]) Factorize(m *Matrix[T]) error {
 	return nil
 }
 
+// samePattern reports whether m has the frozen pattern f was analysed for,
+// so that another matrix with the same pattern (one per value of s, say)
+// reuses the analysis. Cost O(nnz), no allocation.
+func (f *Factor[T]) samePattern(m *Matrix[T]) bool {
+	return slices.Equal(f.patPtr, m.rowPtr) && slices.Equal(f.patCol, m.col)
+}
+
 // analyze computes the ordering and the symbolic factorisation.
 func (f *Factor[T]) analyze(m *Matrix[T]) {
 	n := m.n
 	f.mat, f.version, f.n = m, m.version, n
+	f.patPtr, f.patCol = m.rowPtr, m.col
 	t0 := time.Now()
 	name := f.set.Ordering.String()
 	var perm []int

@@ -531,3 +531,64 @@ func TestNamedScalar(t *testing.T) {
 		t.Errorf("mag wrong")
 	}
 }
+
+// TestSharedAnalysis factors two matrices with the same pattern (two values
+// of s in a Laplace inversion) with one Factor, and then a matrix whose
+// pattern changed after the analysis: the analysis must be reused only when
+// the pattern is really the same.
+func TestSharedAnalysis(t *testing.T) {
+	t.Parallel()
+	rnd := rand.New(rand.NewPCG(9, 0))
+	n := 120
+	es := randomCyclic(n, 90, rnd)
+	a := laplacian(n, es, 1+5i, rnd)
+	b := laplacian(n, es, 2-3i, rnd)
+	f := NewFactor[complex128](nil)
+	rhs := make([]complex128, n)
+	for i := range rhs {
+		rhs[i] = complex(rnd.NormFloat64(), 1)
+	}
+	x := make([]complex128, n)
+	for _, m := range []*Matrix[complex128]{a, b, a} {
+		if err := f.Factorize(m); err != nil {
+			t.Fatal(err)
+		}
+		f.SolveTo(x, rhs)
+		if r := residual(m, x, rhs); r > backward {
+			t.Errorf("backward error %.3g > %.3g", r, backward)
+		}
+	}
+	if &f.patPtr[0] != &a.rowPtr[0] {
+		t.Errorf("analysis was redone for an identical pattern")
+	}
+	// a gets a new coupling; b is given the same one. b must not reuse the
+	// analysis of the old pattern, although it matches a's current one.
+	u, v := es[0].u, es[0].v
+	for a.find(u, v) >= 0 {
+		u, v = rnd.IntN(n), rnd.IntN(n)
+	}
+	a.Add(u, v, -0.5)
+	b.Add(u, v, -0.5)
+	a.freeze()
+	if err := f.Factorize(b); err != nil {
+		t.Fatal(err)
+	}
+	f.SolveTo(x, rhs)
+	if r := residual(b, x, rhs); r > backward {
+		t.Errorf("after pattern change: backward error %.3g > %.3g", r, backward)
+	}
+}
+
+// TestEmpty: a node system with no unknowns (every node fixed) is valid.
+func TestEmpty(t *testing.T) {
+	t.Parallel()
+	m := NewMatrix[float64](0)
+	f := NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		t.Fatal(err)
+	}
+	f.SolveTo(nil, nil)
+	if st := f.Stats(); st.N != 0 || st.NNZL != 0 || st.Fill != 0 {
+		t.Errorf("stats %+v, want zeros", st)
+	}
+}
