@@ -117,7 +117,7 @@ func TestFinAdiabaticTip(t *testing.T) {
 // TestCableSealedEnd: a passive cable clamped at x = 0 with a sealed end.
 // REFERENCES.md C2 (G_in = G∞ tanh(L/λ) confirmed in Ermentrout's course
 // notes; V(x)/V₀ = cosh((L−x)/λ)/cosh(L/λ)), values for L/λ = 0.5, 1, 2.
-// With a u” − c u = 0: λ = sqrt(a/c) and G∞ = sqrt(a c); C1's cable
+// With a u_xx − c u = 0: λ = sqrt(a/c) and G∞ = sqrt(a c); C1's cable
 // (λ = 0.1 cm, G∞ = π nS).
 func TestCableSealedEnd(t *testing.T) {
 	const (
@@ -267,7 +267,7 @@ func TestStarHitAndExitTime(t *testing.T) {
 // Gummel 1969, IEEE Trans. Electron Devices ED-16:64–77, from memory;
 // exactness derived there): J = −Dc' + vc = 1.5819767, 25.8197671, 1.0000227
 // for (D, v, h, c_i, c_{i+1}) = (1,1,1,1,0), (1,10,0.1,2,1), (0.01,1,0.1,1,0.5).
-// Our equation a u” + b u' = 0 is D c” − v c' = 0 with a = D, b = −v, and
+// Our equation a u_xx + b u_x = 0 is D c_xx − v c_x = 0 with a = D, b = −v, and
 // J(0) = −a u'(0) + v c_i. Tolerance tab = 5e-8 relative (7 digits).
 func TestScharfetterGummel(t *testing.T) {
 	const tab = 5e-8
@@ -294,7 +294,7 @@ func TestScharfetterGummel(t *testing.T) {
 	}
 }
 
-// driftProfile is the exact solution of a u” + b u' = −f (constant a, b > 0,
+// driftProfile is the exact solution of a u_xx + b u_x = −f (constant a, b > 0,
 // f) with u(0) = U0, u(L) = UL, in a form without overflow:
 // u = UL + f(L−x)/b + (U0 − UL − fL/b)·w(x), w = e^{−bx/a}(1 − e^{−b(L−x)/a})/(1 − e^{−bL/a}).
 func driftProfile(a, b, f, L, U0, UL, x float64) float64 {
