@@ -210,3 +210,33 @@ func BenchmarkMeshOrderings(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkComplexTree times re-factorisation and solve of a shifted tree
+// Laplacian L + s·D at s = 1+5i (one point of a Laplace-inversion contour),
+// against a real Thomas solve of the same n.
+func BenchmarkComplexTree(b *testing.B) {
+	n := 100_000
+	rnd := rand.New(rand.NewPCG(14, 0))
+	m := laplacian(n, randomTree(n, rnd), complex(1, 5), rnd)
+	th := thomasTime(n)
+	f := NewFactor[complex128](nil)
+	if err := f.Factorize(m); err != nil {
+		b.Fatal(err)
+	}
+	x := make([]complex128, n)
+	rhs := make([]complex128, n)
+	for i := range rhs {
+		rhs[i] = 1
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		if err := f.Factorize(m); err != nil {
+			b.Fatal(err)
+		}
+		f.SolveTo(x, rhs)
+	}
+	per := float64(b.Elapsed().Nanoseconds()) / float64(b.N)
+	b.ReportMetric(per/float64(n), "ns/unknown")
+	b.ReportMetric(per/float64(th.Nanoseconds()), "x-thomas")
+}

@@ -61,7 +61,8 @@ type Settings struct {
 	// not conjugate transpose) at every Factorize, at cost O(nnz).
 	Symmetric *bool
 	// PivotTol is the relative pivot tolerance: a pivot d_k with
-	// |d_k| ≤ PivotTol·max_j |a_kj| is reported as a *SingularError.
+	// |d_k| ≤ PivotTol·max_j |a_kj| is reported as a *SingularError (for
+	// complex values both sides in the norm max(|Re|, |Im|)).
 	// Zero means DefaultPivotTol.
 	PivotTol float64
 }
@@ -184,6 +185,15 @@ func (f *Factor[T]) Factorize(m *Matrix[T]) error {
 	}
 	f.ready = true
 	return nil
+}
+
+// rowScale returns max_j |a_ij| of row i of m.
+func (f *Factor[T]) rowScale(m *Matrix[T], i int) float64 {
+	s := 0.0
+	for _, v := range m.val[m.rowPtr[i]:m.rowPtr[i+1]] {
+		s = math.Max(s, mag(v))
+	}
+	return s
 }
 
 // samePattern reports whether m has the frozen pattern f was analysed for,
@@ -367,10 +377,12 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 			}
 		}
 		dk := val[f.adiag[k]]
-		scale := 0.0 // max_j |a_kj|, over row perm[k] of A: contiguous, and cache-hot after the scatter above
+		// Row scale max_j |a_kj| over row perm[k] of A: contiguous, and
+		// cache-hot after the scatter above.
+		scale := 0.0
 		c := f.perm[k]
 		for _, v := range val[m.rowPtr[c]:m.rowPtr[c+1]] {
-			scale = math.Max(scale, mag(v))
+			scale = math.Max(scale, magMax(v))
 		}
 		if sym {
 			for _, i := range stack[top:n] {
@@ -405,9 +417,8 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 				lnz[i]++
 			}
 		}
-		a := mag(dk)
-		if !(a > tol*scale) || math.IsInf(a, 0) {
-			return &SingularError{Index: c, Pivot: a, Scale: scale}
+		if a := magMax(dk); !(a > tol*scale) || math.IsInf(a, 0) {
+			return &SingularError{Index: c, Pivot: mag(dk), Scale: f.rowScale(m, c)}
 		}
 		d[k] = dk
 	}
@@ -450,6 +461,52 @@ func (f *Factor[T]) SolveTo(dst, b []T) {
 		s := w[j]
 		for p := lp[j]; p < lp[j+1]; p++ {
 			s -= ux[p] * w[li[p]]
+		}
+		w[j] = s
+	}
+	for k, v := range f.perm {
+		dst[v] = w[k]
+	}
+}
+
+// SolveTransTo solves Aᵀ·x = b (plain transpose, no conjugation) with the
+// last factorisation and stores x in dst, for adjoint problems. dst may alias
+// b. It panics like SolveTo. Cost O(nnz(L)); it allocates nothing.
+func (f *Factor[T]) SolveTransTo(dst, b []T) {
+	if !f.ready {
+		panic("nodesys: SolveTransTo without a successful Factorize")
+	}
+	n := f.n
+	if len(dst) != n || len(b) != n {
+		panic(fmt.Sprintf("nodesys: SolveTransTo length mismatch: dst %d, b %d, dimension %d", len(dst), len(b), n))
+	}
+	// P·Aᵀ·Pᵀ = Uᵀ·D·Lᵀ: forward with Uᵀ (column j of Uᵀ is row j of U),
+	// diagonal, backward with Lᵀ.
+	w := f.work
+	for k, v := range f.perm {
+		w[k] = b[v]
+	}
+	lp, li, lx, d := f.lp, f.li, f.lx, f.d
+	ux := lx
+	if !f.symmetric {
+		ux = f.ux
+	}
+	for j := 0; j < n; j++ {
+		wj := w[j]
+		if wj == 0 {
+			continue
+		}
+		for p := lp[j]; p < lp[j+1]; p++ {
+			w[li[p]] -= ux[p] * wj
+		}
+	}
+	for j := 0; j < n; j++ {
+		w[j] /= d[j]
+	}
+	for j := n - 1; j >= 0; j-- {
+		s := w[j]
+		for p := lp[j]; p < lp[j+1]; p++ {
+			s -= lx[p] * w[li[p]]
 		}
 		w[j] = s
 	}

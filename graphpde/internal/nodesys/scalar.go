@@ -30,3 +30,13 @@ func fromReal[T Scalar](x float64) T {
 	}
 	return v
 }
+
+// magMax returns max(|Re v|, |Im v|), within a factor √2 of |v| and cheaper
+// (no square root); the pivot test compares pivots and row scales in it.
+func magMax[T Scalar](v T) float64 {
+	if unsafe.Sizeof(v) == unsafe.Sizeof(complex128(0)) {
+		c := *(*complex128)(unsafe.Pointer(&v))
+		return math.Max(math.Abs(real(c)), math.Abs(imag(c)))
+	}
+	return math.Abs(*(*float64)(unsafe.Pointer(&v)))
+}
