@@ -178,3 +178,27 @@ func TestCheckJSON(t *testing.T) {
 		t.Errorf("undefined z should be null: %v", back.Checks[3])
 	}
 }
+
+func TestReportJSON(t *testing.T) {
+	// A Report marshals to {"checks": [...], "verdict": ...} even when a check
+	// has an infinite error bar or could not be evaluated.
+	r := Decide([]Check{
+		Proportion("hit:tip", 0.5, 0, 0),
+		Mean("value", math.NaN(), 1, 0.1),
+		Distribution("exit-time:distribution", []float64{0.2, 0.9}, 0, 0, expSurvival),
+	}, nil)
+	b, err := json.Marshal(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var back struct {
+		Checks  []map[string]any `json:"checks"`
+		Verdict string           `json:"verdict"`
+	}
+	if err := json.Unmarshal(b, &back); err != nil {
+		t.Fatalf("not valid JSON: %v\n%s", err, b)
+	}
+	if back.Verdict != "inconclusive" || len(back.Checks) != 3 {
+		t.Errorf("round trip: %s", b)
+	}
+}

@@ -88,20 +88,22 @@ func (s *Settings) values() (level, res float64) {
 	return level, res
 }
 
-// Report is the outcome of Decide.
+// Report is the outcome of Decide. It marshals to the cross-check contract's
+// JSON object {"checks": [...], "verdict": "...", ...}.
 type Report struct {
-	Checks  []Check // the checks, with Pass set against the family-wise threshold
-	Verdict Verdict
-	Worst   int    // index of the most significant discrepancy (smallest p), -1 if none
-	Explain string // one plain-language sentence about the outcome
+	Checks  []Check `json:"checks"` // the checks, with Pass set against the family-wise threshold
+	Verdict Verdict `json:"verdict"`
+	Worst   int     `json:"worst"`   // index of the most significant discrepancy (smallest p), -1 if none
+	Explain string  `json:"explain"` // one plain-language sentence about the outcome
 
 	// Threshold is the per-check p-value below which a check fails
 	// (Level/m), and Detectable[i] the smallest discrepancy check i could
 	// have detected at that threshold, in the units of its Kind (absolute,
-	// or relative to |PDE| for Value checks): z_{1−Level/(2m)}·StdErr for a
-	// z-test, the critical distance for a distribution check.
-	Threshold  float64
-	Detectable []float64
+	// or relative to |PDE| for KindValue checks): z_{1−Level/(2m)}·StdErr
+	// for a z-test, the critical distance for a distribution check; +Inf
+	// without data, NaN for a check that could not be evaluated.
+	Threshold  float64   `json:"threshold"`
+	Detectable []float64 `json:"-"`
 }
 
 // Decide runs the family-wise test over the checks and returns the verdict.
@@ -263,6 +265,10 @@ func sentence(c Check) string {
 			node, edge, 100*c.Walker, 100*c.StdErr, 100*c.PDE, zs)
 	case name == "hit":
 		return fmt.Sprintf("walkers end at %s with probability %.3f ± %.3f; the PDE gives %.3f%s", rest, c.Walker, c.StdErr, c.PDE, zs)
+	case name == "weight":
+		node, edge, _ := strings.Cut(rest, ":")
+		return fmt.Sprintf("at %s, the walker departures imply a weight of %.4g ± %.2g on %s; the network gives %.4g%s",
+			node, c.Walker, c.StdErr, edge, c.PDE, zs)
 	case name == "killed":
 		return fmt.Sprintf("walkers are killed with probability %.3f ± %.3f; the PDE gives %.3f%s", c.Walker, c.StdErr, c.PDE, zs)
 	case c.Kind == KindProbability:

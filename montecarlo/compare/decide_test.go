@@ -94,6 +94,7 @@ func TestExplainSentences(t *testing.T) {
 		{Mean("occupation:arm1", 2, 1.9, 0.01), "mean time spent on arm1: walkers 1.9 ± 0.01, PDE 2 (5% shorter)"},
 		{Mean("killed", 0.2, 0.25, 0.001), "walkers are killed with probability 0.250 ± 0.001; the PDE gives 0.200"},
 		{Mean("value", 1, 1.1, 0.01), "value: walkers 1.1 ± 0.01, PDE 1 (10% higher)"},
+		{Mean("weight:hub:arm1", 2, 1.5, 0.01), "at hub, the walker departures imply a weight of 1.5 ± 0.01 on arm1; the network gives 2"},
 	} {
 		if got := sentence(c.check); !strings.HasPrefix(got, c.want) {
 			t.Errorf("got  %q\nwant %q…", got, c.want)

@@ -248,9 +248,10 @@ func TestCriticalD(t *testing.T) {
 func expSurvival(t float64) float64 { return math.Exp(-t) }
 
 // rejectionRate runs reps Distribution checks of n draws from the unit
-// exponential (scaled by stretch, censored at tc if tc > 0) against the
-// unit exponential law and returns the fraction with p < level.
-func rejectionRate(reps, n int, stretch, tc, level float64, seed uint64) float64 {
+// exponential (scaled by stretch, then shifted by shift, censored at tc if
+// tc > 0) against the unit exponential law and returns the fraction with
+// p < level.
+func rejectionRate(reps, n int, stretch, shift, tc, level float64, seed uint64) float64 {
 	src := rand.New(rand.NewPCG(seed, 1))
 	law := distuv.Exponential{Rate: 1, Src: src}
 	times := make([]float64, 0, n)
@@ -259,7 +260,7 @@ func rejectionRate(reps, n int, stretch, tc, level float64, seed uint64) float64
 		times = times[:0]
 		cens := 0
 		for range n {
-			x := stretch * law.Rand()
+			x := stretch*law.Rand() + shift
 			if tc > 0 && x > tc {
 				cens++
 				continue
@@ -295,7 +296,7 @@ func TestDistributionSize(t *testing.T) {
 		{"censored 70% n=200", 200, -math.Log(0.7)},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			r := rejectionRate(reps, c.n, 1, c.tc, level, 11)
+			r := rejectionRate(reps, c.n, 1, 0, c.tc, level, 11)
 			if r < lo || r > hi {
 				t.Errorf("rejection rate at 5%% = %.4f, want in [%g, %g]", r, lo, hi)
 			}
@@ -311,13 +312,20 @@ func TestDistributionPower(t *testing.T) {
 	// test must reject in ≥ 99% of 200 replications (at 4 sd the power is
 	// above 0.9999; measured 200/200).
 	const reps, n, level = 200, 3000, 0.01
-	if r := rejectionRate(reps, n, 1.2, 0, level, 12); r < 0.99 {
+	if r := rejectionRate(reps, n, 1.2, 0, 0, level, 12); r < 0.99 {
 		t.Errorf("stretched law rejected in %.3f of samples, want ≥ 0.99", r)
 	}
 	// The same with censoring at t = 1 (37% censored): the gap now shows in
 	// the shape below the cap and in the censored fraction.
-	if r := rejectionRate(reps, n, 1.2, 1, level, 13); r < 0.99 {
+	if r := rejectionRate(reps, n, 1.2, 0, 1, level, 13); r < 0.99 {
 		t.Errorf("stretched censored law rejected in %.3f of samples, want ≥ 0.99", r)
+	}
+	// A law shifted by 0.05 (every walker 0.05 late): the gap is
+	// 1 − e^{−0.05} = 0.049 at t = 0.05, where the empirical CDF has sd
+	// sqrt(F(1−F)/n) = 0.004, so it exceeds the critical distance 0.030 by
+	// about 5 sd (measured 200/200).
+	if r := rejectionRate(reps, n, 1, 0.05, 0, level, 14); r < 0.99 {
+		t.Errorf("shifted law rejected in %.3f of samples, want ≥ 0.99", r)
 	}
 }
 
