@@ -136,7 +136,7 @@ func BenchmarkMesh(b *testing.B) {
 		b.Run("k="+itoa(k)+"/analyze", func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				f.analyze(m)
+				_ = f.analyze(m)
 			}
 			ratio(b)
 			st := f.Stats()
@@ -200,7 +200,7 @@ func BenchmarkMeshOrderings(b *testing.B) {
 				f := NewFactor[float64](&Settings{Ordering: o})
 				b.ReportAllocs()
 				for b.Loop() {
-					f.analyze(m)
+					_ = f.analyze(m)
 				}
 				st := f.Stats()
 				b.ReportMetric(float64(st.NNZL), "nnzL")

@@ -65,6 +65,11 @@ type Settings struct {
 	// complex values both sides in the norm max(|Re|, |Im|)).
 	// Zero means DefaultPivotTol.
 	PivotTol float64
+	// MaxNNZL bounds the entries of L (diagonal included) that Factorize may
+	// allocate; beyond it Factorize returns a *SizeError before allocating
+	// the factor. The memory is about (8 + size of T)·MaxNNZL bytes (twice
+	// the values on the nonsymmetric path). Zero means no limit.
+	MaxNNZL int
 }
 
 // Stats describes a factorisation.
@@ -93,6 +98,18 @@ type SingularError struct {
 // Error implements error.
 func (e *SingularError) Error() string {
 	return fmt.Sprintf("nodesys: singular node system at unknown %d (pivot %.3g, row scale %.3g)", e.Index, e.Pivot, e.Scale)
+}
+
+// SizeError reports that the factor would have more entries than
+// Settings.MaxNNZL allows.
+type SizeError struct {
+	NNZL int // entries of L the ordering leads to, diagonal included
+	Max  int // Settings.MaxNNZL
+}
+
+// Error implements error.
+func (e *SizeError) Error() string {
+	return fmt.Sprintf("nodesys: factor would hold %d entries, more than the limit %d", e.NNZL, e.Max)
 }
 
 // Factor is the factorisation P·A·Pᵀ = L·D·U of a node system with a
@@ -161,8 +178,9 @@ func (f *Factor[T]) Stats() Stats { return f.stats }
 
 // Factorize orders m (on first use, or when m or its pattern changed) and
 // factors it. It freezes m's pattern. On a zero, tiny or non-finite pivot it
-// returns a *SingularError and leaves f unusable for SolveTo until the next
-// successful Factorize.
+// returns a *SingularError, and if the factor would exceed Settings.MaxNNZL a
+// *SizeError; either leaves f unusable for SolveTo until the next successful
+// Factorize.
 //
 // Cost: ordering and symbolic analysis O(nnz(L)) (O(n) on trees and chains),
 // numeric factorisation O(Σ_k |L_k|²) over the columns L_k of L; a
@@ -174,7 +192,10 @@ func (f *Factor[T]) Factorize(m *Matrix[T]) error {
 	case f.patPtr != nil && f.samePattern(m):
 		f.mat, f.version = m, m.version
 	default:
-		f.analyze(m)
+		if err := f.analyze(m); err != nil {
+			f.ready = false
+			return err
+		}
 	}
 	f.ready = false
 	t0 := time.Now()
@@ -204,7 +225,7 @@ func (f *Factor[T]) samePattern(m *Matrix[T]) bool {
 }
 
 // analyze computes the ordering and the symbolic factorisation.
-func (f *Factor[T]) analyze(m *Matrix[T]) {
+func (f *Factor[T]) analyze(m *Matrix[T]) error {
 	n := m.n
 	f.mat, f.version, f.n = m, m.version, n
 	f.patPtr, f.patCol = m.rowPtr, m.col
@@ -292,11 +313,18 @@ func (f *Factor[T]) analyze(m *Matrix[T]) {
 			}
 		}
 	}
+	nnzL := 0
+	for _, c := range cnt {
+		nnzL += c
+	}
+	if f.set.MaxNNZL > 0 && nnzL+n > f.set.MaxNNZL {
+		f.mat, f.patPtr, f.patCol = nil, nil, nil
+		return &SizeError{NNZL: nnzL + n, Max: f.set.MaxNNZL}
+	}
 	f.lp = make([]int, n+1)
 	for j := 0; j < n; j++ {
 		f.lp[j+1] = f.lp[j] + cnt[j]
 	}
-	nnzL := f.lp[n]
 	f.li = make([]int, nnzL)
 	f.lx = make([]T, nnzL)
 	f.ux = nil
@@ -317,6 +345,7 @@ func (f *Factor[T]) analyze(m *Matrix[T]) {
 		OrderTime:    t1.Sub(t0),
 		SymbolicTime: time.Since(t1),
 	}
+	return nil
 }
 
 // numeric computes L, D and U by rows (up-looking): row k of L and column k

@@ -234,7 +234,9 @@ func TestZeroFillTrees(t *testing.T) {
 			if c.n <= 5000 {
 				// Best must keep the zero-fill order too.
 				fb := NewFactor[float64](&Settings{Ordering: Best})
-				fb.analyze(m)
+				if err := fb.analyze(m); err != nil {
+					t.Fatal(err)
+				}
 				if fb.Stats().Fill != 0 {
 					t.Errorf("best ordering (%s): fill %d, want 0", fb.Stats().Ordering, fb.Stats().Fill)
 				}
@@ -652,5 +654,26 @@ func TestSolveTrans(t *testing.T) {
 	fc.SolveTransTo(xc, bc)
 	if r := residual(ct, xc, bc); r > backward {
 		t.Errorf("complex: backward error of the transposed solve %.3g > %.3g", r, backward)
+	}
+}
+
+// TestSizeLimit: a factor larger than Settings.MaxNNZL is refused before it is
+// allocated, with the size it would have had; one entry more is accepted.
+func TestSizeLimit(t *testing.T) {
+	t.Parallel()
+	rnd := rand.New(rand.NewPCG(16, 0))
+	m := laplacian(900, mesh(30), 0.1, rnd)
+	f := NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		t.Fatal(err)
+	}
+	need := f.Stats().NNZL
+	g := NewFactor[float64](&Settings{MaxNNZL: need - 1})
+	var se *SizeError
+	if err := g.Factorize(m); !errors.As(err, &se) || se.NNZL != need || se.Max != need-1 {
+		t.Fatalf("got %v, want *SizeError{%d, %d}", err, need, need-1)
+	}
+	if err := NewFactor[float64](&Settings{MaxNNZL: need}).Factorize(m); err != nil {
+		t.Errorf("limit equal to the size: %v", err)
 	}
 }

@@ -154,7 +154,7 @@ func TestOrderingIsPermutation(t *testing.T) {
 			}
 			if c.wantNNZL > 0 {
 				f := NewFactor[float64](nil)
-				f.analyze(m)
+				_ = f.analyze(m)
 				if got := f.Stats().NNZL; got != c.wantNNZL {
 					t.Errorf("nnz(L) = %d, want %d", got, c.wantNNZL)
 				}
