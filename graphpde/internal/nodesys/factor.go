@@ -161,11 +161,18 @@ type Factor[T Scalar] struct {
 }
 
 // NewFactor returns an empty factorisation with the given settings (nil for
-// the defaults). The settings are copied.
+// the defaults). The settings are copied. It panics on an unknown Ordering or
+// a negative PivotTol or MaxNNZL (programmer mistakes).
 func NewFactor[T Scalar](set *Settings) *Factor[T] {
 	f := &Factor[T]{}
 	if set != nil {
 		f.set = *set
+	}
+	if f.set.Ordering < MinimumDegree || f.set.Ordering > Best {
+		panic("nodesys: unknown ordering " + f.set.Ordering.String())
+	}
+	if f.set.PivotTol < 0 || f.set.MaxNNZL < 0 {
+		panic("nodesys: negative PivotTol or MaxNNZL")
 	}
 	if f.set.PivotTol == 0 {
 		f.set.PivotTol = DefaultPivotTol

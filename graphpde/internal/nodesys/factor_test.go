@@ -506,6 +506,7 @@ func TestSolveAliasAndPanics(t *testing.T) {
 	panics("solve before factorize", func() { NewFactor[float64](nil).SolveTo(x, b) })
 	panics("index out of range", func() { m.Add(n, 0, 1) })
 	panics("negative index", func() { m.Add(0, -1, 1) })
+	panics("unknown ordering", func() { NewFactor[float64](&Settings{Ordering: Ordering(42)}) })
 }
 
 // volt is a named scalar type: the generic code must accept it.
