@@ -60,12 +60,16 @@ func PlotSurvival(path string, survival func(t float64) float64, times []float64
 // min(τ, t_c)). With more than 2000 walkers the step function is drawn on a
 // grid of 1000 times (finer than the figure can show). times is not
 // modified. It returns an error if level is outside (0, 1), there are no
-// walkers, a time is NaN, or the file cannot be written. Cost O(n log n).
+// walkers, a time is NaN, censored walkers come without a cap, or the file
+// cannot be written. Cost O(n log n).
 func PlotSurvivalCensored(path string, survival func(t float64) float64, times []float64, censoredAt float64, censored int, level float64) error {
 	if !(level > 0 && level < 1) {
 		return fmt.Errorf("survival plot: band level %g must lie strictly between 0 and 1", level)
 	}
 	capped := censoredAt > 0 && !math.IsInf(censoredAt, 1)
+	if censored < 0 || (censored > 0 && !capped) {
+		return fmt.Errorf("survival plot: %d censored walkers need a positive finite time cap, got %g", censored, censoredAt)
+	}
 	ys := make([]float64, 0, len(times))
 	for _, t := range times {
 		switch {

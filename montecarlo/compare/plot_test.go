@@ -97,6 +97,9 @@ func TestPlotSurvival(t *testing.T) {
 	if err := PlotSurvival(filepath.Join(dir, "x.svg"), surv, nil, 0.05); err == nil {
 		t.Error("no walkers: no error")
 	}
+	if err := PlotSurvivalCensored(filepath.Join(dir, "x.svg"), surv, []float64{1}, 0, 4, 0.05); err == nil {
+		t.Error("censored walkers without a cap: no error")
+	}
 	if err := PlotSurvival(filepath.Join(dir, "x.svg"), surv, []float64{1}, 1.5); err == nil {
 		t.Error("level 1.5: no error")
 	}
