@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
-	"sort"
 	"sync"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/laplace"
@@ -24,9 +23,10 @@ type ExitSettings struct {
 	// Moments is the number of moments E τ, E τ², … to compute. Zero (or 1)
 	// means 2, the least that gives the standard deviation.
 	Moments int
-	// InversionNodes is the number of fixed-Talbot nodes per time, each one
-	// complex node-system solve. Zero means laplace.DefaultM (24, about 1e−11
-	// relative to max S).
+	// InversionNodes is the number of Talbot nodes per octave of times
+	// (each one complex node-system solve); the transform values of an
+	// octave serve every time in it. Zero means laplace.DefaultWindowM (32,
+	// inversion error about 3e−10).
 	InversionNodes int
 }
 
@@ -64,16 +64,22 @@ type ExitStats struct {
 	HasDistribution bool
 	// Notes explain what is unavailable and why, and any accuracy warning.
 	Notes []string
+	// Transforms is the number of complex node-system solves (values of the
+	// Laplace transform) spent on moments, Survival and Quantiles; later
+	// SurvivalAt calls are not counted.
+	Transforms int
 
 	law *lifetimeLaw
 }
 
 // SurvivalAt returns P(τ > t) by numerical inversion of the Laplace
-// transform of τ (fixed Talbot, absolute error about 1e−11), clamped to
-// [0, 1]; it is 1 for t ≤ 0 when the start is not absorbing. Each call costs
-// InversionNodes complex node-system factorisations, O(edges) each on a
-// tree. It is safe for concurrent use (calls are serialised). It returns NaN
-// when HasDistribution is false or a transform evaluation fails.
+// transform of τ (Talbot contours, one per octave of t, absolute error about
+// 3e−10), clamped to [0, 1]; it is 1 for t ≤ 0 when the start is not
+// absorbing. The first call in an octave [M·2^k, M·2^{k+1}] (M the mean)
+// costs InversionNodes complex node-system factorisations, O(edges) each on
+// a tree; later calls in the same octave cost O(InversionNodes). It is safe
+// for concurrent use (calls are serialised). It returns NaN when
+// HasDistribution is false or a transform evaluation fails.
 func (x *ExitStats) SurvivalAt(t float64) float64 {
 	if x.law == nil {
 		return math.NaN()
@@ -124,9 +130,10 @@ func (e *ExitError) Unwrap() error { return e.Err }
 //     Cauchy integral on a circle |s| = R, R half a lower bound of the
 //     smallest decay rate (1/sup E τ), halved until the first moment agrees
 //     with the steady mean;
-//   - P(τ > t) by fixed-Talbot inversion of (1 − L(s))/s, and quantiles by a
-//     Newton iteration safeguarded by a bracket (the density comes from the
-//     same contour values).
+//   - P(τ > t) by Talbot inversion of (1 − L(s))/s, one contour per octave
+//     of times serving every t in it, and quantiles by a Newton iteration
+//     safeguarded by a bracket (the density comes from the same contour
+//     values).
 //
 // A complex factorisation reuses the symbolic analysis, so each s costs one
 // numeric factorisation, O(edges) on a tree.
@@ -172,7 +179,7 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		return nil, bad("number of moments %d: at most 20 are computed (the Cauchy integral loses all digits beyond)", s.Moments)
 	}
 	if s.InversionNodes == 0 {
-		s.InversionNodes = laplace.DefaultM
+		s.InversionNodes = laplace.DefaultWindowM
 	}
 	if s.InversionNodes < 4 {
 		return nil, bad("inversion nodes %d must be ≥ 4", s.InversionNodes)
@@ -217,7 +224,7 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		x.Notes = append(x.Notes, fmt.Sprintf("forward and adjoint mean differ by %.2g (relative): ill-conditioned node system", d/x.Mean))
 	}
 	x.Mean = T1[sys.start]
-	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes}
+	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes, base: x.Mean}
 	if err := x.moments(sys.supMean(T1)); err != nil {
 		return nil, fail("moments", err)
 	}
@@ -225,6 +232,7 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 	if err := x.fillDistribution(&s); err != nil {
 		return nil, fail("lifetime distribution", err)
 	}
+	x.Transforms = x.law.tr.n
 	return x, nil
 }
 
@@ -372,17 +380,60 @@ func (x *ExitStats) fillDistribution(s *ExitSettings) error {
 	return nil
 }
 
-// lifetimeLaw evaluates the law of τ from its Laplace transform. It caches
-// the survival values it has computed (quantile searches revisit them).
+// lifetimeLaw evaluates the law of τ from its Laplace transform. Times are
+// grouped in octaves [base·2^k, base·2^{k+1}]; each octave gets one Talbot
+// window contour whose transform values are computed once (m complex
+// solves) and reused for every t in it, so the survival function and its
+// density are cheap after the first call in an octave and do not depend on
+// the order of calls.
 type lifetimeLaw struct {
 	mu   sync.Mutex
 	zero bool // τ = 0 a.s. (start at a fixed node)
 	tr   *transformer
-	m    int
-	seen []survPoint // sorted by t
+	m    int     // nodes per window
+	base float64 // octave origin (the mean lifetime)
+	win  map[int]*lawWindow
 }
 
-type survPoint struct{ t, s, f float64 }
+// lawWindow holds one octave's contour and the values of L(s) and
+// (1 − L(s))/s at its nodes.
+type lawWindow struct {
+	c      laplace.Contour
+	fl, fs []complex128
+}
+
+// window returns the octave window that contains t > 0, computing it if
+// needed. The caller holds lw.mu.
+func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
+	k := int(math.Floor(math.Log2(t / lw.base)))
+	t0 := lw.base * math.Exp2(float64(k))
+	for t < t0 {
+		k--
+		t0 = lw.base * math.Exp2(float64(k))
+	}
+	for t > 2*t0 {
+		k++
+		t0 = lw.base * math.Exp2(float64(k))
+	}
+	if w, ok := lw.win[k]; ok {
+		return w, nil
+	}
+	c := laplace.TalbotWindow(t0, 2*t0, lw.m)
+	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
+	for j, s := range c.S {
+		L, err := lw.tr.at(s)
+		if err != nil {
+			return nil, err
+		}
+		w.fl[j] = L
+		w.fs[j] = (1 - L) / s
+	}
+	if lw.win == nil {
+		lw.win = make(map[int]*lawWindow)
+	}
+	lw.win[k] = w
+	return w, nil
+}
 
 // taylor returns the Taylor coefficients c_0 … c_n of L at 0 from N points
 // on the circle |s| = R: c_k ≈ (1/N) Σ_j L(R ω^j) ω^{−jk} / R^k, ω = e^{2πi/N}.
@@ -428,32 +479,18 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	}
 	lw.mu.Lock()
 	defer lw.mu.Unlock()
-	i := sort.Search(len(lw.seen), func(i int) bool { return lw.seen[i].t >= t })
-	if i < len(lw.seen) && lw.seen[i].t == t {
-		return lw.seen[i].s, lw.seen[i].f, nil
+	w, err := lw.window(t)
+	if err != nil {
+		return math.NaN(), math.NaN(), err
 	}
-	c := laplace.TalbotContour(t, lw.m)
-	fs := make([]complex128, len(c.S))
-	fl := make([]complex128, len(c.S))
-	for k, s := range c.S {
-		L, err := lw.tr.at(s)
-		if err != nil {
-			return math.NaN(), math.NaN(), err
-		}
-		fl[k] = L
-		fs[k] = (1 - L) / s
-	}
-	S = math.Min(1, math.Max(0, c.Apply(fs)))
-	dens = c.Apply(fl)
-	lw.seen = append(lw.seen, survPoint{})
-	copy(lw.seen[i+1:], lw.seen[i:])
-	lw.seen[i] = survPoint{t, S, dens}
-	return S, dens, nil
+	S = math.Min(1, math.Max(0, w.c.Apply(t, w.fs)))
+	return S, w.c.Apply(t, w.fl), nil
 }
 
-// quantileTol is the accuracy of a quantile search in probability: below the
-// inversion error (about 1e−11) there is nothing left to gain.
-const quantileTol = 1e-10
+// quantileTol is the accuracy of a quantile search in probability: three
+// times the inversion error of a window contour (3e−10); below it there is
+// nothing left to gain.
+const quantileTol = 1e-9
 
 // quantile returns T with P(τ ≤ T) = p, 0 < p < 1, for a lifetime of the
 // given mean. The bracket starts from Markov's inequality, P(τ > t) ≤ E τ/t,
@@ -487,18 +524,6 @@ func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
 			return 0, err
 		}
 	}
-	// Use any cached point inside the bracket.
-	lw.mu.Lock()
-	for _, q := range lw.seen {
-		if q.t > lo && q.t < hi {
-			if q.s > y {
-				lo, slo = q.t, q.s
-			} else {
-				hi, shi = q.t, q.s
-			}
-		}
-	}
-	lw.mu.Unlock()
 	// Start from linear interpolation in log t.
 	t := math.Exp(math.Log(lo) + (slo-y)/(slo-shi)*math.Log(hi/lo))
 	for it := 0; it < 100; it++ {

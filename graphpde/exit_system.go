@@ -142,7 +142,7 @@ func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitL
 		if ld.edgeF != nil {
 			f = ld.edgeF(el)
 		}
-		d, g := exactElement(el.a, el.b, c, f, el.L)
+		d, g := exitElementT(el.a, el.b, c, f, el.L)
 		i, j := sys.unk[el.from], sys.unk[el.to]
 		w0, w1 := fromF[T](el.w0), fromF[T](el.w1)
 		// From end: J = −α0 u'(0); to end: J = +α1 u'(L).
@@ -289,6 +289,7 @@ type transformer struct {
 	rhs []complex128
 	u   []complex128
 	ld  exitLoad[complex128]
+	n   int // evaluations so far
 }
 
 func newTransformer(sys *exitSystem) *transformer {
@@ -310,6 +311,7 @@ func newTransformer(sys *exitSystem) *transformer {
 // at returns L(s) at the start.
 func (tr *transformer) at(s complex128) (complex128, error) {
 	tr.ld.s = s
+	tr.n++
 	assemble(tr.sys, tr.m, tr.rhs, tr.ld, false)
 	if err := tr.f.Factorize(tr.m); err != nil {
 		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)
