@@ -215,6 +215,32 @@ func (f *Factor[T]) Factorize(m *Matrix[T]) error {
 	return nil
 }
 
+// Clone returns a Factor with the same settings that shares f's ordering and
+// symbolic analysis (read-only) and has its own numeric storage, so that
+// several goroutines can factor matrices of one pattern (one value of s each)
+// without repeating the analysis. The clone has no numeric factorisation until
+// its own Factorize; f and its clones may be used concurrently, each by one
+// goroutine. If f has not been analysed, Clone returns an empty Factor. Cost:
+// O(nnz(L)) allocation.
+func (f *Factor[T]) Clone() *Factor[T] {
+	if f.patPtr == nil {
+		return NewFactor[T](&f.set)
+	}
+	g := *f
+	n, nnzL := f.n, len(f.li)
+	g.ready = false
+	g.lx = make([]T, nnzL)
+	g.ux = nil
+	g.d = make([]T, n)
+	g.lnz = make([]int, n)
+	g.y = make([]T, n)
+	g.z = make([]T, n)
+	g.flag = make([]int, n)
+	g.stack = make([]int, n)
+	g.work = make([]T, n)
+	return &g
+}
+
 // rowScale returns max_j |a_ij| of row i of m.
 func (f *Factor[T]) rowScale(m *Matrix[T], i int) float64 {
 	s := 0.0
@@ -332,7 +358,23 @@ func (f *Factor[T]) analyze(m *Matrix[T]) error {
 	for j := 0; j < n; j++ {
 		f.lp[j+1] = f.lp[j] + cnt[j]
 	}
+	// Row indices of L, column by column in increasing row order: the same
+	// walk again, now recording k in every column it reaches.
 	f.li = make([]int, nnzL)
+	copy(cnt, f.lp[:n])
+	for k := range flag {
+		flag[k] = -1
+	}
+	for k := 0; k < n; k++ {
+		flag[k] = k
+		for p := f.acp[k]; p < f.acp[k+1]; p++ {
+			for i := f.arow[p]; flag[i] != k; i = par[i] {
+				flag[i] = k
+				f.li[cnt[i]] = k
+				cnt[i]++
+			}
+		}
+	}
 	f.lx = make([]T, nnzL)
 	f.ux = nil
 	f.d = make([]T, n)
@@ -430,7 +472,6 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 				}
 				l := yi / d[i]
 				dk -= l * yi
-				li[p1] = k
 				lx[p1] = l
 				lnz[i]++
 			}
@@ -447,7 +488,6 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 				di := d[i]
 				l := zi / di
 				dk -= l * yi
-				li[p1] = k
 				lx[p1] = l
 				ux[p1] = yi / di
 				lnz[i]++

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"sync"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -676,5 +677,56 @@ func TestSizeLimit(t *testing.T) {
 	}
 	if err := NewFactor[float64](&Settings{MaxNNZL: need}).Factorize(m); err != nil {
 		t.Errorf("limit equal to the size: %v", err)
+	}
+}
+
+// TestCloneConcurrent factors shifted Laplacians at several s on clones of
+// one analysed Factor, concurrently (run with -race to check the sharing).
+func TestCloneConcurrent(t *testing.T) {
+	t.Parallel()
+	rnd := rand.New(rand.NewPCG(17, 0))
+	n := 400
+	es := randomCyclic(n, 300, rnd)
+	shifts := []complex128{1 + 5i, 2 - 3i, 0.5 + 20i, 4}
+	ms := make([]*Matrix[complex128], len(shifts))
+	for w, s := range shifts {
+		ms[w] = laplacian(n, es, s, rand.New(rand.NewPCG(17, uint64(w+1))))
+	}
+	f := NewFactor[complex128](nil)
+	if err := f.Factorize(ms[0]); err != nil {
+		t.Fatal(err)
+	}
+	rhs := make([]complex128, n)
+	for i := range rhs {
+		rhs[i] = complex(rnd.NormFloat64(), 0)
+	}
+	res := make([]float64, len(shifts))
+	errs := make([]error, len(shifts))
+	var wg sync.WaitGroup
+	for w := range shifts {
+		g := f.Clone()
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			x := make([]complex128, n)
+			for rep := 0; rep < 3; rep++ {
+				if errs[w] = g.Factorize(ms[w]); errs[w] != nil {
+					return
+				}
+				g.SolveTo(x, rhs)
+			}
+			res[w] = residual(ms[w], x, rhs)
+			if &g.li[0] != &f.li[0] {
+				errs[w] = errors.New("clone re-analysed an identical pattern")
+			}
+		}()
+	}
+	wg.Wait()
+	for w := range shifts {
+		if errs[w] != nil {
+			t.Errorf("s=%v: %v", shifts[w], errs[w])
+		} else if res[w] > backward {
+			t.Errorf("s=%v: backward error %.3g > %.3g", shifts[w], res[w], backward)
+		}
 	}
 }
