@@ -1,0 +1,268 @@
+package montecarlo
+
+import (
+	"fmt"
+	"time"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// Network is what the walkers need to know about a network. Node and edge
+// indices run from 0 to NumNodes()−1 and NumEdges()−1; x is the distance from
+// an edge's From node. *graphpde.Network satisfies it.
+type Network interface {
+	NumNodes() int
+	NumEdges() int
+	NodeID(v int) string
+	EdgeID(e int) string
+	NodeLaw(v int) vertex.Law
+	NodeIncident(v int) []vertex.End // ends at v, aligned with NodeSplit
+	NodeSplit(v int) []float64       // walker-only split per end, or nil
+	EdgeNodes(e int) (from, to int)
+	EdgeLength(e int) float64
+	EdgeConstant(e int) bool
+	EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64)
+	EdgeWeight(e, side int) float64 // α at From (0) / To (1)
+}
+
+// Start is where every walker starts: node Node when Node ≥ 0, otherwise the
+// point at distance X (length units) from the From node of edge Edge.
+type Start struct {
+	Node int
+	Edge int
+	X    float64
+}
+
+// Recorder receives progress reports: done walkers out of total. Run calls it
+// from one goroutine at a time, after each completed block.
+type Recorder interface {
+	Progress(done, total int64)
+}
+
+// Settings control a run. A nil *Settings means all defaults; each field's
+// zero value selects the default named in its comment.
+type Settings struct {
+	// Particles is the number of walkers; 0 means 100000.
+	Particles int64
+	// Seed selects the random streams: block k of BlockSize walkers draws
+	// from rand.NewPCG(Seed, k).
+	Seed uint64
+	// Workers is the number of goroutines; 0 means runtime.GOMAXPROCS(0).
+	// The result does not depend on it.
+	Workers int
+	// TimeCap is the largest lifetime followed per walker (time units of ρ);
+	// a walker still out at TimeCap is censored. 0 means 1000 times the
+	// network's time scale (see DefaultTimeCap).
+	TimeCap float64
+	// Step is the Euler–Maruyama time step on time-stepping edges; 0 means a
+	// step per edge of 1e−3 of its diffusive time L²ρ/(2a) (and at most
+	// 1e−2 of its drift time Lρ/|b|).
+	Step float64
+	// StarFraction is the star radius at nodes whose visit is exact only in
+	// mean (leak, capacity, decay on an arm at a different rate), as a
+	// fraction of the largest star that fits; 0 means 1/8.
+	StarFraction float64
+	// KeepSamples keeps every walker's lifetime and fate in Result.Samples
+	// (16 bytes per walker; refused above MaxSampleBytes).
+	KeepSamples bool
+	// Quantiles are the probabilities at which the exit-time quantiles are
+	// reported; nil means 0.1, 0.25, 0.5, 0.75, 0.9.
+	Quantiles []float64
+	// Recorder, if not nil, receives progress reports.
+	Recorder Recorder
+}
+
+// BlockSize is the number of walkers per block: the unit of work, of random
+// streams and of the summation order.
+const BlockSize = 4096
+
+// MaxSampleBytes is the largest memory KeepSamples may ask for.
+const MaxSampleBytes = 4 << 30
+
+// maxInternalTimes is the number of walkers whose lifetimes are kept
+// internally for the quantiles when KeepSamples is off (32 MiB).
+const maxInternalTimes = 1 << 22
+
+// Estimate is a Monte Carlo mean over N walkers with its standard error
+// sqrt(s²/N), s² the sample variance.
+type Estimate struct {
+	Mean, StdErr float64
+	N            int64
+}
+
+// Quantile is the empirical P-quantile T of the exit time.
+type Quantile struct {
+	P, T float64
+}
+
+// Fates of a walker in Sample.Node besides a node index.
+const (
+	Killed   = -1 // killed by decay on an edge or leak at a node
+	Censored = -2 // still out at TimeCap
+)
+
+// Sample is one walker's lifetime and fate: the fixed node that absorbed it,
+// Killed or Censored. For a censored walker Time is the time reached (≥
+// TimeCap).
+type Sample struct {
+	Time float64
+	Node int
+}
+
+// Status says how a run ended.
+type Status uint8
+
+const (
+	// Complete: every walker was followed to its end or to TimeCap.
+	Complete Status = iota
+	// Cancelled: the context was cancelled; the estimates cover the
+	// completed prefix of blocks.
+	Cancelled
+)
+
+func (s Status) String() string {
+	switch s {
+	case Complete:
+		return "complete"
+	case Cancelled:
+		return "cancelled"
+	}
+	return fmt.Sprintf("Status(%d)", uint8(s))
+}
+
+// Stats describe the cost of a run.
+type Stats struct {
+	Steps   int64 // walker steps: edge steps and node visits
+	Elapsed time.Duration
+	// Exact reports that no edge needed time stepping: values, hitting
+	// probabilities, occupations and mean exit times carry no
+	// discretisation bias.
+	Exact bool
+	// LawExact reports that, in addition, every node visit is exact in law,
+	// so the exit-time distribution is exact too (no leak, no node capacity,
+	// equal decay rates on the arms of every balance node).
+	LawExact bool
+}
+
+// Result holds the estimates of a run. Means over "walkers" are over the
+// Finished walkers, censored ones included (with what they had collected at
+// TimeCap).
+type Result struct {
+	Particles, Finished int64
+	Partial             bool
+	Status              Status
+	Seed                uint64
+
+	Value    Estimate // Feynman–Kac value u(start)
+	ExitTime Estimate // lifetime over walkers absorbed or killed
+	ExitSD   float64  // sample standard deviation of those lifetimes
+	// Quantiles of the lifetime of walkers absorbed or killed, from the
+	// first min(Finished, 2²²) walkers (all of them with KeepSamples).
+	Quantiles []Quantile
+	Hit       []Estimate // per node: P(absorbed there); zero for balance nodes
+	Killed    Estimate   // P(killed by decay or leak)
+	Censored  int64      // walkers still out at TimeCap, never counted as exits
+	// Occupation is per edge the expected time spent on the edge.
+	Occupation []Estimate
+	// Visits is per node the expected number of node steps (arrivals at a
+	// fixed node count one). At balance nodes it depends on the star radius
+	// and is a diagnostic, not a property of the diffusion.
+	Visits []Estimate
+	// Departures[v][k] counts the walkers that left node v along its k-th
+	// incident end (NodeIncident order); nil for nodes never visited.
+	Departures [][]int64
+	Samples    []Sample // with KeepSamples: per walker, in walker order
+	Stats      Stats
+}
+
+// CensoredFraction returns Censored/Finished (0 when nothing finished).
+func (r *Result) CensoredFraction() float64 {
+	if r.Finished == 0 {
+		return 0
+	}
+	return float64(r.Censored) / float64(r.Finished)
+}
+
+// StartError reports a start point that is not on the network.
+type StartError struct {
+	Start  Start
+	Reason string
+}
+
+func (e *StartError) Error() string {
+	if e.Start.Node >= 0 {
+		return fmt.Sprintf("walker start node %d: %s", e.Start.Node, e.Reason)
+	}
+	return fmt.Sprintf("walker start on edge %d at x = %g: %s", e.Start.Edge, e.Start.X, e.Reason)
+}
+
+// WeightError reports an edge weight α or a split entry that is not a finite
+// number > 0.
+type WeightError struct {
+	Node, Edge string
+	Field      string // "weight" or "split"
+	Value      float64
+}
+
+func (e *WeightError) Error() string {
+	return fmt.Sprintf("node %q, edge %q: %s = %g must be a finite number > 0", e.Node, e.Edge, e.Field, e.Value)
+}
+
+// CoefficientError reports an edge coefficient the walker cannot use.
+type CoefficientError struct {
+	Edge   string
+	Field  string // "diffusivity", "capacity", "decay", "drift", "source", "length"
+	X      float64
+	Value  float64
+	Reason string
+}
+
+func (e *CoefficientError) Error() string {
+	return fmt.Sprintf("edge %q: %s = %g at x = %g %s", e.Edge, e.Field, e.Value, e.X, e.Reason)
+}
+
+// NodeError reports a node law the walker cannot use.
+type NodeError struct {
+	Node   string
+	Field  string
+	Value  float64
+	Reason string
+}
+
+func (e *NodeError) Error() string {
+	return fmt.Sprintf("node %q: %s = %g %s", e.Node, e.Field, e.Value, e.Reason)
+}
+
+// MemoryError reports a run whose kept samples would not fit in memory; it
+// is returned before anything is allocated.
+type MemoryError struct {
+	Particles int64
+	Bytes     int64 // what KeepSamples would need
+	Limit     int64
+}
+
+func (e *MemoryError) Error() string {
+	return fmt.Sprintf("keeping samples of %d walkers needs %d bytes, above the limit %d: lower the particle count or drop KeepSamples", e.Particles, e.Bytes, e.Limit)
+}
+
+// SettingsError reports an inadmissible setting.
+type SettingsError struct {
+	Field  string
+	Value  float64
+	Reason string
+}
+
+func (e *SettingsError) Error() string {
+	return fmt.Sprintf("setting %s = %g: %s", e.Field, e.Value, e.Reason)
+}
+
+// CensoredError reports that no walker exited within TimeCap. Run returns it
+// together with the result.
+type CensoredError struct {
+	Censored, Finished int64
+	TimeCap            float64
+}
+
+func (e *CensoredError) Error() string {
+	return fmt.Sprintf("all %d walkers still out at the time cap %g (censored fraction %d/%d): nothing anchors the walk, or raise the time cap", e.Censored, e.TimeCap, e.Censored, e.Finished)
+}

@@ -1,0 +1,415 @@
+package montecarlo
+
+import (
+	"math"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// Node visit modes.
+const (
+	modeFixed    = iota // absorbing
+	modeLaw             // walk on stars, exact in law
+	modeMean            // one visit exact in mean, time drawn independently
+	modeIsolated        // balance node without edges
+)
+
+// profileSamples is the number of points at which a varying edge's
+// coefficients are checked and its scales taken.
+const profileSamples = 33
+
+type edgeInfo struct {
+	from, to int
+	L        float64
+	exact    bool // constant coefficients and no drift: walk on intervals
+	// Exact edges: constant coefficients.
+	a, c, f, rho float64
+	kill         float64 // c/ρ, killing rate per unit time
+	rate         float64 // f/ρ, reward per unit time
+	tfac         float64 // ρ/(2a): a step of radius r lasts r²·tfac·τ₁
+	// Time-stepping edges.
+	dt, hz  float64 // Euler step and near-node zone width
+	aVaries bool    // a depends on x: the SDE drift includes a'
+}
+
+type arm struct {
+	edge, side int
+	toNode     int     // ≥ 0: the step lands on this node
+	x          float64 // landing position on edge otherwise
+	cum        float64 // cumulative move probability up to this arm
+	occ        float64 // modeMean: expected time on this arm per visit
+}
+
+type nodeInfo struct {
+	mode   int
+	value  float64 // fixed value
+	arms   []arm
+	depOff int // offset of the node's ends in the departure counts
+	r      float64
+	// modeLaw
+	dscale float64 // r²/2: the visit lasts dscale·τ₁
+	kill   float64 // common killing rate c/ρ on the arms
+	fbar   float64 // Σ p_e f_e/ρ_e, expected reward rate during a visit
+	// modeMean
+	killP, reward, dmean, hold float64
+}
+
+type model struct {
+	net      Network
+	edges    []edgeInfo
+	nodes    []nodeInfo
+	nDep     int
+	timeCap  float64
+	exact    bool
+	lawExact bool
+}
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// prepare validates the network and builds the per-edge and per-node step
+// rules. Cost O(nodes + edges·profileSamples).
+func prepare(net Network, set *Settings) (*model, error) {
+	m := &model{net: net, exact: true, lawExact: true}
+	ne, nn := net.NumEdges(), net.NumNodes()
+	m.edges = make([]edgeInfo, ne)
+	var capTot, resTot, lossTot float64
+	for e := range ne {
+		ed := &m.edges[e]
+		ed.from, ed.to = net.EdgeNodes(e)
+		ed.L = net.EdgeLength(e)
+		if !finite(ed.L) || ed.L <= 0 {
+			return nil, &CoefficientError{Edge: net.EdgeID(e), Field: "length", Value: ed.L, Reason: "must be a finite number > 0"}
+		}
+		var a0 float64
+		var aMin, aoMax, rhoMean, cMean, tDiff, tDrift = math.Inf(1), 0.0, 0.0, 0.0, math.Inf(1), math.Inf(1)
+		for i := range profileSamples {
+			x := ed.L * float64(i) / (profileSamples - 1)
+			a, b, c, f, rho := net.EdgeCoeffs(e, x)
+			if err := checkCoeffs(net.EdgeID(e), x, a, b, c, f, rho); err != nil {
+				return nil, err
+			}
+			if i == 0 {
+				a0 = a
+				ed.a, ed.c, ed.f, ed.rho = a, c, f, rho
+				ed.exact = b == 0
+			}
+			if a != a0 {
+				ed.aVaries = true
+			}
+			aMin = math.Min(aMin, a)
+			aoMax = math.Max(aoMax, a/rho)
+			rhoMean += rho / profileSamples
+			cMean += c / profileSamples
+			tDiff = math.Min(tDiff, ed.L*ed.L*rho/(2*a))
+			if b != 0 {
+				tDrift = math.Min(tDrift, ed.L*rho/math.Abs(b))
+			}
+			if net.EdgeConstant(e) {
+				break
+			}
+		}
+		if !net.EdgeConstant(e) {
+			ed.exact = false
+		}
+		capTot += rhoMean * ed.L
+		resTot += ed.L / aMin
+		lossTot += cMean * ed.L
+		if ed.exact {
+			ed.kill = ed.c / ed.rho
+			ed.rate = ed.f / ed.rho
+			ed.tfac = ed.rho / (2 * ed.a)
+			continue
+		}
+		m.exact, m.lawExact = false, false
+		ed.dt = set.Step
+		if ed.dt == 0 {
+			ed.dt = math.Min(1e-3*tDiff, 1e-2*tDrift)
+		}
+		ed.hz = math.Min(4*math.Sqrt(2*aoMax*ed.dt), ed.L/8)
+	}
+
+	m.nodes = make([]nodeInfo, nn)
+	anyFixed := false
+	for v := range nn {
+		law := net.NodeLaw(v)
+		if err := law.Validate(); err != nil {
+			le := err.(*vertex.LawError)
+			return nil, &NodeError{Node: net.NodeID(v), Field: le.Field, Value: le.Value, Reason: le.Reason}
+		}
+		nd := &m.nodes[v]
+		switch law.Kind {
+		case vertex.Fixed:
+			nd.mode = modeFixed
+			nd.value = law.Value
+			anyFixed = true
+			continue
+		case vertex.Balance:
+			capTot += law.Capacity
+			lossTot += law.Leak
+			if err := m.prepareBalance(v, law, set); err != nil {
+				return nil, err
+			}
+		default:
+			panic("montecarlo: unknown node kind")
+		}
+	}
+	m.timeCap = set.TimeCap
+	if m.timeCap == 0 {
+		m.timeCap = DefaultTimeCap(capTot, resTot, lossTot, anyFixed)
+	}
+	return m, nil
+}
+
+// DefaultTimeCap returns the default per-walker time cap: 1000 times the
+// network's RC time C·R, with C = Σ ρ_e L_e + Σ ρ_v its total capacity and
+// R = Σ L_e/min a_e the sum of the edge resistances (an upper bound on the
+// resistance between any two points for conservative weights, so C·R bounds
+// the mean exit time when a fixed node exists), plus 1000·C/K when no node
+// is fixed, K = Σ β_v + Σ c_e L_e the total loss.
+func DefaultTimeCap(capTot, resTot, lossTot float64, anyFixed bool) float64 {
+	t := capTot * resTot
+	if !anyFixed && lossTot > 0 {
+		t += capTot / lossTot
+	}
+	return 1000 * t
+}
+
+func checkCoeffs(id string, x, a, b, c, f, rho float64) error {
+	bad := func(field string, v float64, reason string) error {
+		return &CoefficientError{Edge: id, Field: field, X: x, Value: v, Reason: reason}
+	}
+	switch {
+	case !finite(a) || a <= 0:
+		return bad("diffusivity", a, "must be a finite number > 0")
+	case !finite(rho) || rho <= 0:
+		return bad("capacity", rho, "must be a finite number > 0")
+	case !finite(c) || c < 0:
+		return bad("decay", c, "must be a finite number ≥ 0")
+	case !finite(b):
+		return bad("drift", b, "must be a finite number")
+	case !finite(f):
+		return bad("source", f, "must be a finite number")
+	}
+	return nil
+}
+
+// armCoeffs returns the coefficients of edge e at the node end side, with the
+// drift (a' + b for a varying edge) oriented away from the node.
+func (m *model) armCoeffs(e, side int) (a, bAway, c, f, rho float64) {
+	ed := &m.edges[e]
+	x := 0.0
+	if side == 1 {
+		x = ed.L
+	}
+	a, b, c, f, rho := m.net.EdgeCoeffs(e, x)
+	if ed.aVaries {
+		b += m.aPrime(e, x)
+	}
+	if side == 1 {
+		b = -b
+	}
+	return a, b, c, f, rho
+}
+
+// aPrime returns da/dx on edge e at x by a difference quotient of width
+// 2e−6·L (one-sided at the ends).
+func (m *model) aPrime(e int, x float64) float64 {
+	ed := &m.edges[e]
+	d := 1e-6 * ed.L
+	lo, hi := math.Max(0, x-d), math.Min(ed.L, x+d)
+	al, _, _, _, _ := m.net.EdgeCoeffs(e, lo)
+	ah, _, _, _, _ := m.net.EdgeCoeffs(e, hi)
+	return (ah - al) / (hi - lo)
+}
+
+func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
+	net := m.net
+	nd := &m.nodes[v]
+	ends := net.NodeIncident(v)
+	n := len(ends)
+	nd.depOff = m.nDep
+	m.nDep += n
+	if n == 0 {
+		nd.mode = modeIsolated
+		if law.Leak > 0 {
+			nd.killP = 1
+			nd.reward = law.Inject / law.Leak
+			nd.hold = law.Capacity / law.Leak
+		}
+		return nil
+	}
+	alpha := make([]float64, n)
+	for k, end := range ends {
+		alpha[k] = net.EdgeWeight(end.Edge, end.Side)
+		if !finite(alpha[k]) || alpha[k] <= 0 {
+			return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(end.Edge), Field: "weight", Value: alpha[k]}
+		}
+	}
+	if split := net.NodeSplit(v); split != nil {
+		if len(split) != n {
+			panic("montecarlo: NodeSplit not aligned with NodeIncident")
+		}
+		for k, p := range split {
+			if !finite(p) || p <= 0 {
+				return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(ends[k].Edge), Field: "split", Value: p}
+			}
+		}
+		vertex.ApplySplit(alpha, alpha, split)
+	}
+
+	type armCo struct{ a, b, c, f, rho, s, w, max float64 }
+	co := make([]armCo, n)
+	plain := true   // no drift, decay or source on any arm
+	allExact := true
+	sameKill := true
+	for k, end := range ends {
+		ed := &m.edges[end.Edge]
+		a, b, c, f, rho := m.armCoeffs(end.Edge, end.Side)
+		s := math.Sqrt(rho / a)
+		ac := armCo{a: a, b: b, c: c, f: f, rho: rho, s: s, w: alpha[k] * s}
+		self := ed.from == ed.to
+		switch {
+		case !ed.exact:
+			allExact = false
+			ac.max = ed.hz * s
+		case self:
+			ac.max = ed.L * s / 2
+		default:
+			ac.max = ed.L * s
+		}
+		if b != 0 || c != 0 || f != 0 {
+			plain = false
+		}
+		if k > 0 && math.Abs(c/rho-co[0].c/co[0].rho) > 1e-12*(c/rho) {
+			sameKill = false
+		}
+		co[k] = ac
+	}
+	free := math.Inf(1)
+	for _, ac := range co {
+		free = math.Min(free, ac.max)
+	}
+
+	nd.arms = make([]arm, n)
+	w := make([]float64, n)
+	for k := range co {
+		w[k] = co[k].w
+	}
+	var visit vertex.Visit
+	if law.Leak == 0 && law.Capacity == 0 && allExact && sameKill {
+		// Walk on stars: the y-star of radius r is a Walsh diffusion with
+		// generator d²/dy² on every arm; it leaves along arm k with
+		// probability w_k/Σw, independently of its exit time r²τ₁/2; a
+		// decay rate common to all arms is an independent clock.
+		nd.mode = modeLaw
+		nd.r = free
+		law.Star(&visit, w, nd.r)
+		nd.dscale = nd.r * nd.r / 2
+		nd.kill = co[0].c / co[0].rho
+		for k := range co {
+			nd.fbar += visit.Move[k] * co[k].f / co[k].rho
+		}
+		// Injection is collected per unit local time at the node; its
+		// mean per visit is γ/Σ α_e A_e with the arm elements of
+		// armElement, A_e = κ_e coth(κ_e ε_e). With a common rate
+		// k = c_e/ρ_e, κ_e ε_e = r sqrt(k) and α_e κ_e = sqrt(k) w_e, so
+		// the mean is γ tanh(r sqrt(k))/(sqrt(k) Σw), and rγ/Σw
+		// (vertex.Law.Star's Reward) when k = 0.
+		nd.reward = visit.Reward
+		if nd.kill > 0 {
+			var sw float64
+			for _, x := range w {
+				sw += x
+			}
+			sk := math.Sqrt(nd.kill)
+			nd.reward = law.Inject * math.Tanh(nd.r*sk) / (sk * sw)
+		}
+	} else {
+		m.lawExact = false
+		nd.mode = modeMean
+		frac := set.StarFraction
+		r := math.Inf(1)
+		for k, ac := range co {
+			if m.edges[ends[k].Edge].exact {
+				r = math.Min(r, frac*ac.max)
+			} else {
+				r = math.Min(r, ac.max)
+			}
+		}
+		nd.r = r
+		if plain {
+			law.Star(&visit, w, r)
+			nd.killP = visit.Kill
+			nd.reward = visit.Reward
+			nd.hold = visit.HoldScale
+			nd.dmean = law.MeanVisitTime(w, r) - visit.HoldScale
+			var sw float64
+			for _, x := range w {
+				sw += x
+			}
+			for k := range co {
+				// Expected time on arm k: the arm's share r²w_k/2 of
+				// the diffusive part r²Σw/2, over Σw + rβ.
+				nd.arms[k].occ = r * r * w[k] / 2 / (sw + r*law.Leak)
+			}
+		} else {
+			// DESIGN.md §4 exact star rule from the arm elements on
+			// [0, ε_k], ε_k = r/s_k (equal radius r in y).
+			visit.Move = make([]float64, n)
+			amb := make([]float64, n)
+			bb := make([]float64, n)
+			den, rew, kill := law.Leak, law.Inject, law.Leak
+			var dm float64
+			for k, ac := range co {
+				eps := r / ac.s
+				var ff, frho float64
+				amb[k], bb[k], ff = armElement(ac.a, ac.b, ac.c, ac.f, eps)
+				_, _, frho = armElement(ac.a, ac.b, ac.c, ac.rho, eps)
+				den += alpha[k] * (amb[k] + bb[k])
+				kill += alpha[k] * amb[k]
+				rew += alpha[k] * ff
+				dm += alpha[k] * frho
+				nd.arms[k].occ = alpha[k] * frho
+			}
+			for k := range co {
+				visit.Move[k] = alpha[k] * bb[k] / den
+				nd.arms[k].occ /= den
+			}
+			nd.killP = kill / den
+			nd.reward = rew / den
+			nd.dmean = dm / den
+			nd.hold = law.Capacity / den
+		}
+	}
+	var cum float64
+	for k, end := range ends {
+		ed := &m.edges[end.Edge]
+		a := &nd.arms[k]
+		a.edge, a.side = end.Edge, end.Side
+		cum += visit.Move[k]
+		a.cum = cum
+		eps := nd.r / co[k].s
+		a.toNode = -1
+		if ed.from != ed.to && eps >= ed.L*(1-1e-12) {
+			a.toNode = ed.to
+			if end.Side == 1 {
+				a.toNode = ed.from
+			}
+			continue
+		}
+		if ed.from == ed.to {
+			eps = math.Min(eps, ed.L/2)
+		}
+		eps = math.Min(eps, ed.L)
+		if end.Side == 0 {
+			a.x = eps
+		} else {
+			a.x = ed.L - eps
+		}
+	}
+	if nd.mode == modeLaw {
+		// Σ Move = 1 up to round-off: make the last arm catch it.
+		nd.arms[n-1].cum = math.Inf(1)
+	}
+	return nil
+}

@@ -1,0 +1,357 @@
+package montecarlo
+
+import (
+	"context"
+	"math"
+	"runtime"
+	"slices"
+	"strconv"
+	"sync"
+	"sync/atomic"
+	"time"
+)
+
+// moments accumulates a count, mean and sum of squared deviations, merged
+// block by block (Chan, Golub & LeVeque's pairwise update), in block order.
+type moments struct {
+	n       int64
+	mean, q float64
+}
+
+// addBlock merges a block of nb values with sum s and sum of squares s2.
+func (m *moments) addBlock(nb int64, s, s2 float64) {
+	if nb == 0 {
+		return
+	}
+	fb := float64(nb)
+	mb := s / fb
+	qb := math.Max(0, s2-s*mb)
+	if m.n == 0 {
+		*m = moments{n: nb, mean: mb, q: qb}
+		return
+	}
+	n := m.n + nb
+	delta := mb - m.mean
+	m.q += qb + delta*delta*float64(m.n)*fb/float64(n)
+	m.mean += delta * fb / float64(n)
+	m.n = n
+}
+
+// estimate returns the mean and its standard error over total walkers, the
+// values not in m counting as zeros.
+func (m moments) estimate(total int64) Estimate {
+	if total == 0 {
+		return Estimate{}
+	}
+	full := m
+	if pad := total - m.n; pad > 0 {
+		full.addBlock(pad, 0, 0)
+	}
+	var se float64
+	if total > 1 {
+		se = math.Sqrt(full.q / float64(total-1) / float64(total))
+	}
+	return Estimate{Mean: full.mean, StdErr: se, N: total}
+}
+
+func proportion(count, total int64) Estimate {
+	if total == 0 {
+		return Estimate{}
+	}
+	p := float64(count) / float64(total)
+	var se float64
+	if total > 1 {
+		se = math.Sqrt(p * (1 - p) / float64(total-1))
+	}
+	return Estimate{Mean: p, StdErr: se, N: total}
+}
+
+func defaults(set *Settings) Settings {
+	var s Settings
+	if set != nil {
+		s = *set
+	}
+	if s.Particles == 0 {
+		s.Particles = 100000
+	}
+	if s.Workers <= 0 {
+		s.Workers = runtime.GOMAXPROCS(0)
+	}
+	if s.StarFraction == 0 {
+		s.StarFraction = 1.0 / 8
+	}
+	if s.Quantiles == nil {
+		s.Quantiles = []float64{0.1, 0.25, 0.5, 0.75, 0.9}
+	}
+	return s
+}
+
+func checkSettings(s *Settings) error {
+	bad := func(field string, v float64, reason string) error {
+		return &SettingsError{Field: field, Value: v, Reason: reason}
+	}
+	switch {
+	case s.Particles < 0:
+		return bad("particles", float64(s.Particles), "must be ≥ 0")
+	case !finite(s.TimeCap) || s.TimeCap < 0:
+		return bad("time cap", s.TimeCap, "must be a finite number ≥ 0")
+	case !finite(s.Step) || s.Step < 0:
+		return bad("step", s.Step, "must be a finite number ≥ 0")
+	case !finite(s.StarFraction) || s.StarFraction <= 0 || s.StarFraction > 1:
+		return bad("star fraction", s.StarFraction, "must be in (0, 1]")
+	}
+	for _, p := range s.Quantiles {
+		if !(p >= 0 && p <= 1) {
+			return bad("quantile", p, "must be in [0, 1]")
+		}
+	}
+	if s.KeepSamples {
+		const sampleBytes = 16
+		if s.Particles > MaxSampleBytes/sampleBytes {
+			return &MemoryError{Particles: s.Particles, Bytes: s.Particles * sampleBytes, Limit: MaxSampleBytes}
+		}
+	}
+	return nil
+}
+
+func (m *model) startPlace(s Start) (place, error) {
+	nn, ne := len(m.nodes), len(m.edges)
+	if s.Node >= 0 {
+		if s.Node >= nn {
+			return place{}, &StartError{Start: s, Reason: "no such node"}
+		}
+		return place{node: s.Node, edge: -1}, nil
+	}
+	if s.Edge < 0 || s.Edge >= ne {
+		return place{}, &StartError{Start: s, Reason: "no such edge"}
+	}
+	ed := &m.edges[s.Edge]
+	switch {
+	case !finite(s.X) || s.X < 0 || s.X > ed.L:
+		return place{}, &StartError{Start: s, Reason: "x is off the edge (length " + formatG(ed.L) + ")"}
+	case s.X == 0:
+		return place{node: ed.from, edge: -1}, nil
+	case s.X == ed.L:
+		return place{node: ed.to, edge: -1}, nil
+	}
+	return place{node: -1, edge: s.Edge, x: s.X}, nil
+}
+
+// Run releases set.Particles walkers at start and returns their estimates.
+//
+// Walkers are split into blocks of BlockSize; block k draws from
+// rand.NewPCG(Seed, k); workers take blocks in order and the block sums are
+// merged in block order, so a given Seed gives bit-identical results for any
+// Workers (Stats.Elapsed aside). When ctx is cancelled, Run stops within one
+// walker per worker and returns the estimates of the completed prefix of
+// blocks with Partial set and no error.
+//
+// Errors: *StartError, *WeightError, *CoefficientError, *NodeError,
+// *SettingsError, *MemoryError (before any allocation), and *CensoredError,
+// returned with the result, when walkers finished but none exited. Run does
+// not modify net or set. Cost: O(steps) time, O(nodes + edges) memory per
+// worker, plus 16 bytes per walker with KeepSamples and 8 bytes per walker
+// (at most 2²² walkers) for the quantiles.
+func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result, error) {
+	t0 := time.Now()
+	s := defaults(set)
+	if err := checkSettings(&s); err != nil {
+		return nil, err
+	}
+	m, err := prepare(net, &s)
+	if err != nil {
+		return nil, err
+	}
+	p, err := m.startPlace(start)
+	if err != nil {
+		return nil, err
+	}
+	N := s.Particles
+	nblocks := int((N + BlockSize - 1) / BlockSize)
+
+	var samples []Sample
+	var times []float64
+	if s.KeepSamples {
+		samples = make([]Sample, N)
+	} else {
+		times = make([]float64, min(N, maxInternalTimes))
+	}
+
+	workers := min(s.Workers, max(nblocks, 1))
+	results := make(chan *blockAcc, workers)
+	free := make(chan *blockAcc, 2*workers+1)
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for range workers {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			w := newWalker(m)
+			for {
+				k := int(next.Add(1) - 1)
+				if k >= nblocks || ctx.Err() != nil {
+					return
+				}
+				var acc *blockAcc
+				select {
+				case acc = <-free:
+				default:
+					acc = newBlockAcc(m)
+				}
+				acc.reset(k)
+				w.pcg.Seed(s.Seed, uint64(k))
+				lo := int64(k) * BlockSize
+				hi := min(lo+BlockSize, N)
+				ok := true
+				for i := lo; i < hi; i++ {
+					if i&255 == 0 && ctx.Err() != nil {
+						ok = false
+						break
+					}
+					t, fate := w.walk(p, acc)
+					if samples != nil {
+						samples[i] = Sample{Time: t, Node: fate}
+					} else if i < int64(len(times)) {
+						if fate == Censored {
+							t = math.NaN()
+						}
+						times[i] = t
+					}
+				}
+				if !ok {
+					return
+				}
+				results <- acc
+			}
+		}()
+	}
+	go func() {
+		wg.Wait()
+		close(results)
+	}()
+
+	nn, ne := len(m.nodes), len(m.edges)
+	var val, tim moments
+	occ := make([]moments, ne)
+	vis := make([]moments, nn)
+	hits := make([]int64, nn)
+	dep := make([]int64, m.nDep)
+	var killed, censored, exited, steps, done int64
+	pending := make(map[int]*blockAcc)
+	nextFold := 0
+	for acc := range results {
+		pending[acc.k] = acc
+		for {
+			b, ok := pending[nextFold]
+			if !ok {
+				break
+			}
+			delete(pending, nextFold)
+			nextFold++
+			val.addBlock(b.n, b.valS, b.valQ)
+			tim.addBlock(b.exited, b.tS, b.tQ)
+			for e := range occ {
+				occ[e].addBlock(b.n, b.occS[e], b.occQ[e])
+			}
+			for v := range vis {
+				vis[v].addBlock(b.n, b.visS[v], b.visQ[v])
+			}
+			for v, h := range b.hits {
+				hits[v] += h
+			}
+			for i, d := range b.dep {
+				dep[i] += d
+			}
+			killed += b.killed
+			censored += b.censored
+			exited += b.exited
+			steps += b.steps
+			done += b.n
+			select {
+			case free <- b:
+			default:
+			}
+			if s.Recorder != nil {
+				s.Recorder.Progress(done, N)
+			}
+		}
+	}
+
+	res := &Result{
+		Particles: N,
+		Finished:  done,
+		Seed:      s.Seed,
+		Value:     val.estimate(done),
+		ExitTime:  tim.estimate(exited),
+		Killed:    proportion(killed, done),
+		Censored:  censored,
+	}
+	if nextFold < nblocks {
+		res.Partial = true
+		res.Status = Cancelled
+	}
+	if exited > 1 {
+		res.ExitSD = math.Sqrt(tim.q / float64(exited-1))
+	}
+	res.Hit = make([]Estimate, nn)
+	res.Visits = make([]Estimate, nn)
+	res.Departures = make([][]int64, nn)
+	for v := range nn {
+		if m.nodes[v].mode == modeFixed {
+			res.Hit[v] = proportion(hits[v], done)
+		}
+		res.Visits[v] = vis[v].estimate(done)
+		if vis[v].n > 0 && vis[v].mean != 0 && len(m.nodes[v].arms) > 0 {
+			off := m.nodes[v].depOff
+			res.Departures[v] = slices.Clone(dep[off : off+len(m.nodes[v].arms)])
+		}
+	}
+	res.Occupation = make([]Estimate, ne)
+	for e := range ne {
+		res.Occupation[e] = occ[e].estimate(done)
+	}
+	if samples != nil {
+		res.Samples = samples[:done]
+		ts := make([]float64, 0, exited)
+		for _, sm := range res.Samples {
+			if sm.Node != Censored {
+				ts = append(ts, sm.Time)
+			}
+		}
+		res.Quantiles = quantiles(ts, s.Quantiles)
+	} else {
+		ts := times[:min(done, int64(len(times)))]
+		kept := ts[:0]
+		for _, t := range ts {
+			if !math.IsNaN(t) {
+				kept = append(kept, t)
+			}
+		}
+		res.Quantiles = quantiles(kept, s.Quantiles)
+	}
+	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact, LawExact: m.lawExact}
+	if done > 0 && exited == 0 {
+		return res, &CensoredError{Censored: censored, Finished: done, TimeCap: m.timeCap}
+	}
+	return res, nil
+}
+
+// quantiles sorts ts in place and returns the empirical quantiles with
+// linear interpolation between order statistics (Hyndman and Fan's type 7).
+func quantiles(ts []float64, ps []float64) []Quantile {
+	if len(ts) == 0 {
+		return nil
+	}
+	slices.Sort(ts)
+	out := make([]Quantile, len(ps))
+	n := float64(len(ts))
+	for i, p := range ps {
+		h := (n - 1) * p
+		lo := int(math.Floor(h))
+		hi := min(lo+1, len(ts)-1)
+		out[i] = Quantile{P: p, T: ts[lo] + (h-float64(lo))*(ts[hi]-ts[lo])}
+	}
+	return out
+}
+
+func formatG(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }

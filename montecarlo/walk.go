@@ -1,0 +1,348 @@
+package montecarlo
+
+import (
+	"math"
+	"math/rand/v2"
+
+	"github.com/ramify-dev/ramify/montecarlo/internal/exitlaw"
+)
+
+// blockAcc holds the sums of one block of walkers.
+type blockAcc struct {
+	k                int
+	n                int64
+	valS, valQ       float64
+	exited           int64
+	tS, tQ           float64
+	killed, censored int64
+	steps            int64
+	hits             []int64   // per node
+	occS, occQ       []float64 // per edge
+	visS, visQ       []float64 // per node
+	dep              []int64   // per node end
+}
+
+func newBlockAcc(m *model) *blockAcc {
+	ne, nn := len(m.edges), len(m.nodes)
+	return &blockAcc{
+		hits: make([]int64, nn),
+		occS: make([]float64, ne), occQ: make([]float64, ne),
+		visS: make([]float64, nn), visQ: make([]float64, nn),
+		dep: make([]int64, m.nDep),
+	}
+}
+
+func (b *blockAcc) reset(k int) {
+	hits, occS, occQ, visS, visQ, dep := b.hits, b.occS, b.occQ, b.visS, b.visQ, b.dep
+	clear(hits)
+	clear(occS)
+	clear(occQ)
+	clear(visS)
+	clear(visQ)
+	clear(dep)
+	*b = blockAcc{k: k, hits: hits, occS: occS, occQ: occQ, visS: visS, visQ: visQ, dep: dep}
+}
+
+// walker is one worker's state: its generator and per-walker scratch. Nothing
+// in the step loop allocates.
+type walker struct {
+	m        *model
+	pcg      *rand.PCG
+	rng      *rand.Rand
+	tb       *exitlaw.Table
+	occ      []float64
+	touchedE []int32
+	vis      []float64
+	touchedV []int32
+}
+
+func newWalker(m *model) *walker {
+	pcg := rand.NewPCG(0, 0)
+	return &walker{
+		m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(),
+		occ: make([]float64, len(m.edges)), vis: make([]float64, len(m.nodes)),
+	}
+}
+
+func (w *walker) addOcc(e int, t float64) {
+	if w.occ[e] == 0 {
+		w.touchedE = append(w.touchedE, int32(e))
+	}
+	w.occ[e] += t
+}
+
+func (w *walker) addVisit(v int) {
+	if w.vis[v] == 0 {
+		w.touchedV = append(w.touchedV, int32(v))
+	}
+	w.vis[v]++
+}
+
+// place is a walker position: node ≥ 0, or edge e at x.
+type place struct {
+	node, edge int
+	x          float64
+}
+
+// walk follows one walker from p until it is absorbed, killed or passes the
+// time cap, and adds its contributions to acc. It returns its lifetime and
+// fate (node index, Killed or Censored).
+func (w *walker) walk(p place, acc *blockAcc) (float64, int) {
+	m, rng, tb := w.m, w.rng, w.tb
+	tcap := m.timeCap
+	node, e, x := p.node, p.edge, p.x
+	var val, t float64
+	var steps int64
+	fate := Censored
+loop:
+	for {
+		steps++
+		if node >= 0 {
+			nd := &m.nodes[node]
+			w.addVisit(node)
+			switch nd.mode {
+			case modeFixed:
+				val += nd.value
+				fate = node
+				acc.hits[node]++
+				break loop
+			case modeLaw:
+				d := nd.dscale * tb.Draw(rng)
+				u := rng.Float64()
+				j := 0
+				for u >= nd.arms[j].cum {
+					j++
+				}
+				T, killed := d, false
+				if nd.kill > 0 {
+					if z := rng.ExpFloat64() / nd.kill; z < d {
+						T, killed = z, true
+					}
+				}
+				if t+T > tcap {
+					t += T
+					break loop
+				}
+				t += T
+				val += nd.fbar*T + nd.reward
+				a := &nd.arms[j]
+				w.addOcc(a.edge, T)
+				if killed {
+					fate = Killed
+					break loop
+				}
+				acc.dep[nd.depOff+j]++
+				if a.toNode >= 0 {
+					node = a.toNode
+				} else {
+					node, e, x = -1, a.edge, a.x
+				}
+			case modeMean:
+				u := rng.Float64()
+				j := 0
+				for j < len(nd.arms) && u >= nd.arms[j].cum {
+					j++
+				}
+				T := nd.dmean * tb.Draw(rng)
+				if nd.hold > 0 {
+					T += nd.hold * rng.ExpFloat64()
+				}
+				if t+T > tcap {
+					t += T
+					break loop
+				}
+				t += T
+				val += nd.reward
+				for k := range nd.arms {
+					if o := nd.arms[k].occ; o > 0 {
+						w.addOcc(nd.arms[k].edge, o)
+					}
+				}
+				if j == len(nd.arms) {
+					fate = Killed
+					break loop
+				}
+				a := &nd.arms[j]
+				acc.dep[nd.depOff+j]++
+				if a.toNode >= 0 {
+					node = a.toNode
+				} else {
+					node, e, x = -1, a.edge, a.x
+				}
+			case modeIsolated:
+				if nd.killP == 0 {
+					t = math.Inf(1)
+					break loop
+				}
+				T := nd.hold * rng.ExpFloat64()
+				if t+T > tcap {
+					t += T
+					break loop
+				}
+				t += T
+				val += nd.reward
+				fate = Killed
+				break loop
+			}
+			continue
+		}
+		ed := &m.edges[e]
+		if !ed.exact {
+			var done bool
+			var how int
+			node, x, t, val, done, how = w.tsStep(e, x, t, val)
+			if done {
+				fate = how
+				break loop
+			}
+			continue
+		}
+		// Walk on intervals: the largest interval centred at x.
+		L := ed.L
+		r, left := x, true
+		if L-x < x {
+			r, left = L-x, false
+		}
+		d := ed.tfac * r * r * tb.Draw(rng)
+		T, killed := d, false
+		if ed.kill > 0 {
+			if z := rng.ExpFloat64() / ed.kill; z < d {
+				T, killed = z, true
+			}
+		}
+		if t+T > tcap {
+			t += T
+			break
+		}
+		t += T
+		val += ed.rate * T
+		w.addOcc(e, T)
+		if killed {
+			fate = Killed
+			break
+		}
+		if rng.Uint64()&1 == 0 {
+			if left {
+				node = ed.from
+			} else {
+				node = ed.to
+			}
+			continue
+		}
+		if left {
+			x += r
+			if x >= L {
+				node = ed.to
+			}
+		} else {
+			x -= r
+			if x <= 0 {
+				node = ed.from
+			}
+		}
+	}
+	// Per-walker sums into the block.
+	acc.n++
+	acc.steps += steps
+	acc.valS += val
+	acc.valQ += val * val
+	switch fate {
+	case Censored:
+		acc.censored++
+	case Killed:
+		acc.killed++
+	}
+	if fate != Censored {
+		acc.exited++
+		acc.tS += t
+		acc.tQ += t * t
+	}
+	for _, e := range w.touchedE {
+		o := w.occ[e]
+		acc.occS[e] += o
+		acc.occQ[e] += o * o
+		w.occ[e] = 0
+	}
+	w.touchedE = w.touchedE[:0]
+	for _, v := range w.touchedV {
+		o := w.vis[v]
+		acc.visS[v] += o
+		acc.visQ[v] += o * o
+		w.vis[v] = 0
+	}
+	w.touchedV = w.touchedV[:0]
+	return t, fate
+}
+
+// tsStep makes one step on a time-stepping edge: an Euler–Maruyama step of
+// dt away from the nodes, or, within hz of a node, a step on the interval
+// (x − d, x + d) reaching the node, with the coefficients frozen at x (exit
+// side from the scale function, mean duration from the frozen backward
+// equation, law of the duration that of the driftless step). It returns the
+// new node (−1 if still on the edge), position, time, value, whether the walk
+// ended, and the fate if it did.
+func (w *walker) tsStep(e int, x, t, val float64) (int, float64, float64, float64, bool, int) {
+	m, rng := w.m, w.rng
+	ed := &m.edges[e]
+	a, b, c, f, rho := m.net.EdgeCoeffs(e, x)
+	if ed.aVaries {
+		b += m.aPrime(e, x)
+	}
+	L := ed.L
+	d, left := x, true
+	if L-x < x {
+		d, left = L-x, false
+	}
+	var T float64
+	near := d < ed.hz
+	if near {
+		// Mean exit time of (a/ρ)u'' + (b/ρ)u' from the centre of
+		// (−d, d): (d²ρ/2a)·tanh(μ)/μ, μ = bd/(2a).
+		mu := b * d / (2 * a)
+		g := 1.0
+		if math.Abs(mu) > 1e-8 {
+			g = math.Tanh(mu) / mu
+		}
+		T = d * d * rho / (2 * a) * g * w.tb.Draw(rng)
+	} else {
+		T = ed.dt
+	}
+	killed := false
+	if c > 0 {
+		if z := rng.ExpFloat64() * rho / c; z < T {
+			T, killed = z, true
+		}
+	}
+	if t+T > m.timeCap {
+		return -1, x, t + T, val, true, Censored
+	}
+	t += T
+	val += f / rho * T
+	w.addOcc(e, T)
+	if killed {
+		return -1, x, t, val, true, Killed
+	}
+	if near {
+		// P(exit at x + d) = 1/(1 + e^{−bd/a}) from the scale function.
+		up := rng.Float64()*(1+math.Exp(-b*d/a)) < 1
+		if up == left {
+			// Away from the near node, to distance 2d from it.
+			if left {
+				return -1, x + d, t, val, false, 0
+			}
+			return -1, x - d, t, val, false, 0
+		}
+		if left {
+			return ed.from, 0, t, val, false, 0
+		}
+		return ed.to, 0, t, val, false, 0
+	}
+	x += b/rho*ed.dt + math.Sqrt(2*a/rho*ed.dt)*rng.NormFloat64()
+	switch {
+	case x <= 0:
+		return ed.from, 0, t, val, false, 0
+	case x >= L:
+		return ed.to, 0, t, val, false, 0
+	}
+	return -1, x, t, val, false, 0
+}
