@@ -3,7 +3,7 @@ package montecarlo
 import "math"
 
 // armElement returns the edge element on [0, ε] of an arm leaving a node,
-// for a u'' + b u' − c u + f = 0 with b pointing away from the node: the
+// for a u” + b u' − c u + f = 0 with b pointing away from the node: the
 // derivative leaving the node is
 //
 //	u'(0) = −A u(0) + B u(ε) + F,

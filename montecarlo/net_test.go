@@ -65,9 +65,9 @@ func (n *tNet) NodeIncident(v int) []vertex.End {
 	}
 	return n.inc[v]
 }
-func (n *tNet) EdgeNodes(e int) (int, int)  { return n.edges[e].from, n.edges[e].to }
-func (n *tNet) EdgeLength(e int) float64    { return n.edges[e].L }
-func (n *tNet) EdgeConstant(e int) bool     { return !n.edges[e].varying && n.edges[e].prof == nil }
+func (n *tNet) EdgeNodes(e int) (int, int) { return n.edges[e].from, n.edges[e].to }
+func (n *tNet) EdgeLength(e int) float64   { return n.edges[e].L }
+func (n *tNet) EdgeConstant(e int) bool    { return !n.edges[e].varying && n.edges[e].prof == nil }
 func (n *tNet) EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64) {
 	ed := n.edges[e]
 	if ed.prof != nil {
@@ -110,7 +110,7 @@ func star(centre vertex.Law, arms []starArm) *tNet {
 }
 
 // starCentre returns the exact value at the centre of a star with constant
-// coefficient arms, from the ODE a u'' − c u + f = 0 on each arm with
+// coefficient arms, from the ODE a u” − c u + f = 0 on each arm with
 // u(L) = g, and the balance law Σ α_e(−u_e'(0)) + β u0 = γ at the centre
 // (DESIGN.md §3). On an arm, with κ = sqrt(c/a) and v = f/c,
 //

@@ -259,7 +259,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 
 	type armCo struct{ a, b, c, f, rho, s, w, max float64 }
 	co := make([]armCo, n)
-	plain := true   // no drift, decay or source on any arm
+	plain := true // no drift, decay or source on any arm
 	allExact := true
 	sameKill := true
 	for k, end := range ends {
