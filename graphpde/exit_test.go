@@ -627,7 +627,8 @@ func TestExitErrors(t *testing.T) {
 		{"negative time", iv, Point{Node: -1, Edge: 0, X: 0.5}, &ExitSettings{Times: []float64{-1}}},
 		{"quantile 1", iv, Point{Node: -1, Edge: 0, X: 0.5}, &ExitSettings{Quantiles: []float64{1}}},
 		{"never dies", closed, Point{Node: 0, Edge: -1}, nil},
-		{"varying", varying, Point{Node: -1, Edge: 0, X: 0.5}, nil},
+		{"varying with method exact", varying, Point{Node: -1, Edge: 0, X: 0.5}, &ExitSettings{Method: MethodExact}},
+		{"negative cells", varying, Point{Node: -1, Edge: 0, X: 0.5}, &ExitSettings{Cells: -1}},
 	} {
 		if _, err := ExitStatistics(c.net, c.p, c.set); err == nil {
 			t.Errorf("%s: no error", c.name)
