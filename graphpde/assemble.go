@@ -20,7 +20,8 @@ import (
 //	err = sys.factor()   // numeric factorisation; the ordering is computed on the
 //	                     // first call only (nodesys keeps it while the pattern is unchanged)
 //	sys.solve()          // node values into sys.u (fixed nodes included)
-//	sys.recover()        // grid interiors into sys.gval by back substitution
+//	sys.recover()        // grid interiors by back substitution (interior value k,
+//	                     // counted from gridEnds.off, is sys.st[3k])
 //
 // Between calls a caller may change sys.v (sources, injections, fixed values;
 // not the kind of an edge: EdgeSource must stay nil or non-nil as at
@@ -44,8 +45,9 @@ type system struct {
 	grid  []gridEnds   // per edge (zero for exact edges)
 	maps  []edgeMap    // per edge: the end map of the last assembly
 	ecf   [][2]float64 // per exact edge: c (shift included) and f of the last assembly
-	st    []float64    // grid sweeps: 3 values per interior unknown
-	gval  []float64    // grid interiors, in the order of gridEnds.off
+	st    []float64    // grid sweeps: a triple per interior unknown, the first
+	//                    entry overwritten by the interior value by recover
+	bad   int // first grid edge with a non-finite interior after recover, or −1
 	shift float64
 
 	unk   []int // node → unknown, −1 for fixed nodes
@@ -164,7 +166,6 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.x = make([]float64, m)
 	s.u = make([]float64, nn)
 	s.st = make([]float64, 3*interior)
-	s.gval = make([]float64, interior)
 	s.stats.NodeUnknowns = m
 	s.stats.Unknowns = m + int(interior)
 	return s, nil
@@ -374,7 +375,9 @@ func (s *system) factor() error {
 		}
 		return err
 	}
-	s.stats.FillNNZ = s.fac.Stats().NNZL
+	fs := s.fac.Stats()
+	s.stats.FillNNZ = fs.NNZL
+	s.stats.FactorTime = fs.OrderTime + fs.SymbolicTime + fs.NumericTime
 	return nil
 }
 
@@ -394,8 +397,10 @@ func (s *system) solve() {
 	s.recover()
 }
 
-// recover writes the grid interiors into s.gval by back substitution.
+// recover writes the grid interiors over the sweeps in s.st by back
+// substitution and notes the first edge with a non-finite value in s.bad.
 func (s *system) recover() {
+	s.bad = -1
 	for e := range s.net.Edges {
 		if s.exact[e] {
 			continue
@@ -403,7 +408,9 @@ func (s *system) recover() {
 		ge := &s.grid[e]
 		ed := &s.net.Edges[e]
 		off, n := ge.off, ge.n
-		recoverGrid(s.gval[off:off+n-1], s.st[3*off:3*(off+n-1)], s.u[ed.From], s.u[ed.To])
+		if !recoverGrid(s.st[3*off:3*(off+n-1)], s.u[ed.From], s.u[ed.To]) && s.bad < 0 {
+			s.bad = e
+		}
 	}
 }
 
@@ -418,7 +425,7 @@ func (s *system) endDerivs(e int) (d0, dL float64) {
 	ge := &s.grid[e]
 	first, last := UL, U0
 	if ge.n > 1 {
-		first, last = s.gval[ge.off], s.gval[ge.off+ge.n-2]
+		first, last = s.st[3*ge.off], s.st[3*(ge.off+ge.n-2)]
 	}
 	return ge.endDerivs(U0, UL, first, last)
 }
@@ -437,7 +444,7 @@ func (s *system) solution() (*Solution, error) {
 		Stats:    s.stats,
 		exact:    s.exact,
 		grid:     s.grid,
-		gval:     s.gval,
+		gval:     s.st,
 		ecf:      s.ecf,
 	}
 	for i, u := range sol.U {
@@ -445,18 +452,11 @@ func (s *system) solution() (*Solution, error) {
 			return nil, &NonFiniteError{Object: "node", ID: net.Nodes[i].ID}
 		}
 	}
+	if s.bad >= 0 {
+		return nil, &NonFiniteError{Object: "edge", ID: net.Edges[s.bad].ID}
+	}
 	for e := range net.Edges {
 		ed := &net.Edges[e]
-		if !s.exact[e] {
-			ge := &s.grid[e]
-			z := 0.0
-			for _, x := range s.gval[ge.off : ge.off+ge.n-1] {
-				z += x * 0 // NaN iff some value is not finite
-			}
-			if z != 0 {
-				return nil, &NonFiniteError{Object: "edge", ID: ed.ID}
-			}
-		}
 		d0, dL := s.endDerivs(e)
 		a0, _, _, _, _ := ed.Coeffs(0)
 		aL, _, _, _, _ := ed.Coeffs(ed.Length)

@@ -31,6 +31,7 @@ import "math"
 //	a(L) u'(L) = L_{n−1}(UL − u_{n−1}) − m_n (f_n − c_n UL),   m_n = (h/2) ω(−P_{n−1}).
 //
 // Condensation: one forward Thomas sweep writes, for each interior vertex,
+// into a triple of the flat storage (α_i, β⁰_i, βˢ_i) with
 //
 //	u_i = α_i u_{i+1} + β⁰_i U0 + βˢ_i,
 //
@@ -38,7 +39,8 @@ import "math"
 // way u_1 = Π α · UL + Σ_j (Π_{i<j} α_i)(β⁰_j U0 + βˢ_j) (the second sweep,
 // fused into the first). Together with the end derivatives this is the same
 // affine 2×2 end map as the exact element. After the node solve, back
-// substitution with the stored (α, β⁰, βˢ) recovers the interior.
+// substitution with the stored (α, β⁰, βˢ) recovers the interior, writing u_i
+// over α_i: the storage is 24 bytes per interior unknown in all.
 
 // gridEnds holds what the node balance and the flux reconstruction need of a
 // grid edge: its cells, its place in the flat storage, and the end half-cell
@@ -161,16 +163,19 @@ func condenseVar(st []float64, n int, L float64, coef func(x float64) (a, b, c, 
 	return d, g, ge
 }
 
-// recoverGrid writes the interior values u_1 … u_{n−1} into u from the end
-// values and the stored sweep (back substitution). Cost O(n).
-func recoverGrid(u, st []float64, U0, UL float64) {
-	st = st[:3*len(u)]
+// recoverGrid recovers the interior values u_1 … u_{n−1} from the end values
+// and the stored sweep (back substitution), writing u_i over α_i, the first of
+// its triple in st (3(n−1) values). It reports whether all values are finite.
+// Cost O(n).
+func recoverGrid(st []float64, U0, UL float64) bool {
 	x := UL
-	for i := len(u) - 1; i >= 0; i-- {
-		j := 3 * i
+	z := 0.0
+	for j := len(st) - 3; j >= 0; j -= 3 {
 		x = st[j]*x + st[j+1]*U0 + st[j+2]
-		u[i] = x
+		st[j] = x
+		z += x * 0 // becomes NaN at the first NaN or ±Inf
 	}
+	return z == 0
 }
 
 // endDerivs reconstructs u'(0) and u'(L) of a grid edge from its end values

@@ -110,6 +110,7 @@ type Stats struct {
 	ExactEdges   int
 	GridEdges    int
 	FillNNZ      int           // entries of the node system's factor L (diagonal included)
+	FactorTime   time.Duration // ordering, symbolic and numeric factorisation of the node system
 	Elapsed      time.Duration // wall-clock time of the whole solve
 }
 
