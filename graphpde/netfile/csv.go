@@ -62,6 +62,8 @@ type csvReader struct {
 	edgeRow []int // line of each edge's row
 	nodeRow []int // line of each node's own row, 0 if created by an edge
 	cells   int64
+	rowKind string // "edge" or "node": the current row, for errors
+	rowID   string // its id once checked, else ""
 }
 
 // ReadCSV reads a network from an edge list in CSV (RFC 4180, comma
@@ -103,7 +105,8 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 		case "node":
 			err = c.node()
 		default:
-			err = c.fail(colKind, "", fmt.Sprintf("kind %q must be edge or node", kind))
+			c.rowID = ""
+			err = c.fail(colKind, fmt.Sprintf("kind %q must be edge or node", kind))
 		}
 		if err != nil {
 			return nil, err
@@ -177,69 +180,76 @@ func (c *csvReader) field(k int) string {
 }
 
 // fail reports an error in column k of the current row.
-func (c *csvReader) fail(k int, obj, msg string) *Error {
+func (c *csvReader) fail(k int, msg string) *Error {
 	i := c.col[k]
 	if i < 0 {
 		i = 0
 	}
 	line, _ := c.cr.FieldPos(i)
+	var obj string
+	if c.rowID != "" {
+		obj = c.rowKind + " " + strconv.Quote(c.rowID)
+	}
 	return &Error{File: c.file, Line: line, Object: obj, Msg: msg}
 }
 
 // number parses column k; ok is false for an empty field.
-func (c *csvReader) number(k int, obj string, r rule) (v float64, ok bool, err error) {
+func (c *csvReader) number(k int, r rule) (v float64, ok bool, err error) {
 	s := c.field(k)
 	if s == "" {
 		return 0, false, nil
 	}
 	v, perr := strconv.ParseFloat(s, 64)
 	if perr != nil && !errors.Is(perr, strconv.ErrRange) {
-		return 0, false, c.fail(k, obj, fmt.Sprintf("%s = %q is not a number", csvNames[k], s))
+		return 0, false, c.fail(k, fmt.Sprintf("%s = %q is not a number", csvNames[k], s))
 	}
 	if reason := check(v, r); reason != "" {
-		return 0, false, c.fail(k, obj, csvNames[k]+" "+reason)
+		return 0, false, c.fail(k, csvNames[k]+" "+reason)
 	}
 	return v, true, nil
 }
 
 // unused reports a non-empty field in one of cols, which this kind of row
 // does not use.
-func (c *csvReader) unused(cols []int, obj, kind string) error {
+func (c *csvReader) unused(cols []int, kind string) error {
 	for _, k := range cols {
 		if c.field(k) != "" {
-			return c.fail(k, obj, fmt.Sprintf("column %s is not used on %s rows; leave it empty", csvNames[k], kind))
+			return c.fail(k, fmt.Sprintf("column %s is not used on %s rows; leave it empty", csvNames[k], kind))
 		}
 	}
 	return nil
 }
 
-// rowID reads and checks the id column.
-func (c *csvReader) rowID(kind string) (string, string, error) {
+// readID reads and checks the id column, and names the row's object for
+// errors.
+func (c *csvReader) readID(kind string) (string, error) {
+	c.rowKind, c.rowID = kind, ""
 	id := c.field(colID)
 	if id == "" {
-		return "", "", c.fail(colID, "", kind+" row without an id")
+		return "", c.fail(colID, kind+" row without an id")
 	}
 	if !graphpde.ValidID(id) {
-		return "", "", c.fail(colID, "", fmt.Sprintf("%s id %q must be letters, digits, '_', '-' or '.'", kind, id))
+		return "", c.fail(colID, fmt.Sprintf("%s id %q must be letters, digits, '_', '-' or '.'", kind, id))
 	}
-	return id, fmt.Sprintf("%s %q", kind, id), nil
+	c.rowID = id
+	return id, nil
 }
 
 // nodeFor returns the index of node id, creating a balance node if needed.
-func (c *csvReader) nodeFor(k int, obj string) (int, error) {
+func (c *csvReader) nodeFor(k int) (int, error) {
 	id := c.field(k)
 	if id == "" {
-		return 0, c.fail(k, obj, fmt.Sprintf("missing %s", csvNames[k]))
+		return 0, c.fail(k, fmt.Sprintf("missing %s", csvNames[k]))
 	}
 	if v, ok := c.net.NodeIndex(id); ok {
 		return v, nil
 	}
 	if !graphpde.ValidID(id) {
-		return 0, c.fail(k, obj, fmt.Sprintf("%s: node id %q must be letters, digits, '_', '-' or '.'", csvNames[k], id))
+		return 0, c.fail(k, fmt.Sprintf("%s: node id %q must be letters, digits, '_', '-' or '.'", csvNames[k], id))
 	}
 	v, err := c.net.AddNode(graphpde.Node{ID: strings.Clone(id)})
 	if err != nil {
-		e := c.fail(k, obj, err.Error())
+		e := c.fail(k, err.Error())
 		e.Err = err
 		return 0, e
 	}
@@ -248,22 +258,22 @@ func (c *csvReader) nodeFor(k int, obj string) (int, error) {
 }
 
 func (c *csvReader) edge() error {
-	id, obj, err := c.rowID("edge")
+	id, err := c.readID("edge")
 	if err != nil {
 		return err
 	}
 	line, _ := c.cr.FieldPos(0)
 	if e, dup := c.net.EdgeIndex(id); dup {
-		return c.fail(colID, obj, fmt.Sprintf("duplicate id (first used at line %d)", c.edgeRow[e]))
+		return c.fail(colID, fmt.Sprintf("duplicate id (first used at line %d)", c.edgeRow[e]))
 	}
-	if err := c.unused(csvNodeOnly, obj, "edge"); err != nil {
+	if err := c.unused(csvNodeOnly, "edge"); err != nil {
 		return err
 	}
 	e := graphpde.Edge{ID: strings.Clone(id)}
-	if e.From, err = c.nodeFor(colFrom, obj); err != nil {
+	if e.From, err = c.nodeFor(colFrom); err != nil {
 		return err
 	}
-	if e.To, err = c.nodeFor(colTo, obj); err != nil {
+	if e.To, err = c.nodeFor(colTo); err != nil {
 		return err
 	}
 	for _, f := range []struct {
@@ -279,27 +289,27 @@ func (c *csvReader) edge() error {
 		{colSource, &e.F, finite, false},
 		{colCapacity, &e.Rho, positive, false},
 	} {
-		v, ok, err := c.number(f.col, obj, f.r)
+		v, ok, err := c.number(f.col, f.r)
 		if err != nil {
 			return err
 		}
 		if !ok && f.req {
-			return c.fail(f.col, obj, fmt.Sprintf("missing %s", csvNames[f.col]))
+			return c.fail(f.col, fmt.Sprintf("missing %s", csvNames[f.col]))
 		}
 		*f.dst = v
 	}
-	if w, ok, err := c.number(colWeight, obj, positive); err != nil {
+	if w, ok, err := c.number(colWeight, positive); err != nil {
 		return err
 	} else if ok {
 		for _, k := range []int{colWeightFrom, colWeightTo} {
 			if c.field(k) != "" {
-				return c.fail(k, obj, "give weight (both ends) or weight_from and weight_to, not both")
+				return c.fail(k, "give weight (both ends) or weight_from and weight_to, not both")
 			}
 		}
 		e.Weight = [2]float64{w, w}
 	}
 	for s, k := range []int{colWeightFrom, colWeightTo} {
-		if w, ok, err := c.number(k, obj, positive); err != nil {
+		if w, ok, err := c.number(k, positive); err != nil {
 			return err
 		} else if ok {
 			e.Weight[s] = w
@@ -308,19 +318,19 @@ func (c *csvReader) edge() error {
 	if s := c.field(colCells); s != "" {
 		n, perr := strconv.ParseInt(s, 10, 64)
 		if perr != nil && !errors.Is(perr, strconv.ErrRange) {
-			return c.fail(colCells, obj, fmt.Sprintf("cells = %q is not an integer", s))
+			return c.fail(colCells, fmt.Sprintf("cells = %q is not an integer", s))
 		}
 		if reason := cellCount(n); reason != "" {
-			return c.fail(colCells, obj, "cells "+reason)
+			return c.fail(colCells, "cells "+reason)
 		}
 		c.cells += n
 		if c.cells > MemoryLimit/BytesPerCell {
-			return c.fail(colCells, obj, tooManyCells(c.cells))
+			return c.fail(colCells, tooManyCells(c.cells))
 		}
 		e.Cells = int(n)
 	}
 	if _, err := c.net.AddEdge(e); err != nil {
-		fe := c.fail(colID, obj, err.Error())
+		fe := c.fail(colID, err.Error())
 		var me *graphpde.ModelError
 		if errors.As(err, &me) {
 			fe.Msg = strings.TrimSpace(me.Field + " " + me.Reason)
@@ -333,22 +343,22 @@ func (c *csvReader) edge() error {
 }
 
 func (c *csvReader) node() error {
-	id, obj, err := c.rowID("node")
+	id, err := c.readID("node")
 	if err != nil {
 		return err
 	}
 	line, _ := c.cr.FieldPos(0)
-	if err := c.unused(csvEdgeOnly, obj, "node"); err != nil {
+	if err := c.unused(csvEdgeOnly, "node"); err != nil {
 		return err
 	}
 	nd := graphpde.Node{ID: id}
-	if g, ok, err := c.number(colFixed, obj, finite); err != nil {
+	if g, ok, err := c.number(colFixed, finite); err != nil {
 		return err
 	} else if ok {
 		nd.Law = vertex.Law{Kind: vertex.Fixed, Value: g}
 		for _, k := range []int{colLeak, colInject, colCapacity} {
 			if c.field(k) != "" {
-				return c.fail(k, obj, fmt.Sprintf("%s is not allowed on a fixed node (it has no balance law); leave it empty", csvNames[k]))
+				return c.fail(k, fmt.Sprintf("%s is not allowed on a fixed node (it has no balance law); leave it empty", csvNames[k]))
 			}
 		}
 	}
@@ -357,17 +367,17 @@ func (c *csvReader) node() error {
 		dst *float64
 		r   rule
 	}{{colLeak, &nd.Law.Leak, nonNeg}, {colInject, &nd.Law.Inject, finite}, {colCapacity, &nd.Law.Capacity, nonNeg}} {
-		v, _, err := c.number(f.col, obj, f.r)
+		v, _, err := c.number(f.col, f.r)
 		if err != nil {
 			return err
 		}
 		*f.dst = v
 	}
-	x, hasX, err := c.number(colX, obj, finite)
+	x, hasX, err := c.number(colX, finite)
 	if err != nil {
 		return err
 	}
-	y, hasY, err := c.number(colY, obj, finite)
+	y, hasY, err := c.number(colY, finite)
 	if err != nil {
 		return err
 	}
@@ -375,16 +385,16 @@ func (c *csvReader) node() error {
 	case hasX && hasY:
 		nd.XY = &[2]float64{x, y}
 	case hasX != hasY:
-		return c.fail(colX, obj, "give both x and y, or neither")
+		return c.fail(colX, "give both x and y, or neither")
 	}
 	if err := nd.Law.Validate(); err != nil {
-		fe := c.fail(colID, obj, err.Error())
+		fe := c.fail(colID, err.Error())
 		fe.Err = err
 		return fe
 	}
 	if v, ok := c.net.NodeIndex(id); ok {
 		if first := c.nodeRow[v]; first > 0 {
-			return c.fail(colID, obj, fmt.Sprintf("duplicate node row (first at line %d)", first))
+			return c.fail(colID, fmt.Sprintf("duplicate node row (first at line %d)", first))
 		}
 		nd.ID = c.net.Nodes[v].ID
 		c.net.Nodes[v] = nd
@@ -393,7 +403,7 @@ func (c *csvReader) node() error {
 	}
 	nd.ID = strings.Clone(id)
 	if _, err := c.net.AddNode(nd); err != nil {
-		fe := c.fail(colID, obj, err.Error())
+		fe := c.fail(colID, err.Error())
 		fe.Err = err
 		return fe
 	}

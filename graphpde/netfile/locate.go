@@ -98,7 +98,7 @@ func (l *locator) skipLine() {
 }
 
 func (l *locator) scan() {
-	var prefix []string
+	var prefix string // pathKey of the current table
 	for {
 		l.skipBlank(true)
 		if l.eof() {
@@ -112,9 +112,9 @@ func (l *locator) scan() {
 			if arr {
 				l.pos++
 			}
-			keys := l.key()
-			prefix = l.resolve(keys, arr)
-			l.record(prefix, 0, line)
+			p := l.resolve(l.key(), arr)
+			l.record(p, 0, line)
+			prefix = pathKey(p)
 			l.skipLine()
 			continue
 		}
@@ -122,8 +122,7 @@ func (l *locator) scan() {
 		l.skipBlank(false)
 		if len(keys) > 0 && l.peek(0) == '=' {
 			l.pos++
-			full := append(append([]string(nil), prefix...), keys...)
-			l.record(full, len(prefix), line)
+			full := l.recordKey(prefix, keys, line)
 			l.skipBlank(false)
 			l.value(full)
 		}
@@ -132,6 +131,27 @@ func (l *locator) scan() {
 			l.next()
 		}
 	}
+}
+
+// join appends path elements to a path key.
+func join(prefix string, keys ...string) string {
+	if prefix == "" {
+		return pathKey(keys)
+	}
+	return prefix + "\x00" + pathKey(keys)
+}
+
+// recordKey records the (possibly dotted) key keys under the table or
+// value whose path key is prefix, with its parents, and returns its path key.
+func (l *locator) recordKey(prefix string, keys []string, line int) string {
+	full := prefix
+	for _, k := range keys {
+		full = join(full, k)
+		if _, ok := l.lines[full]; !ok {
+			l.lines[full] = line
+		}
+	}
+	return full
 }
 
 // resolve turns a header's key into a path: components that name an array of
@@ -197,8 +217,8 @@ func isBare(c byte) bool {
 }
 
 // value skips one value, recording the keys of inline tables and the start
-// lines of array elements under path.
-func (l *locator) value(path []string) {
+// lines of array elements under the path key pk.
+func (l *locator) value(pk string) {
 	if l.eof() {
 		return
 	}
@@ -219,9 +239,7 @@ func (l *locator) value(path []string) {
 				return
 			}
 			start := l.pos
-			elem := append(append([]string(nil), path...), index(i))
-			l.record(elem, len(path), l.line)
-			l.value(elem)
+			l.value(l.recordKey(pk, []string{index(i)}, l.line))
 			l.skipBlank(true)
 			if l.peek(0) == ',' {
 				l.pos++
@@ -246,8 +264,7 @@ func (l *locator) value(path []string) {
 			l.skipBlank(false)
 			if len(keys) > 0 && l.peek(0) == '=' {
 				l.pos++
-				full := append(append([]string(nil), path...), keys...)
-				l.record(full, len(path), line)
+				full := l.recordKey(pk, keys, line)
 				l.skipBlank(false)
 				l.value(full)
 			}

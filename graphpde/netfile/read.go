@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -105,9 +104,22 @@ type tbl struct {
 	id   string   // the object's id, once known
 	path []string // locator path of the table
 	m    map[string]any
+
+	pk    string   // pathKey(path), set by line
+	order []string // keys in file order, set by keys
 }
 
+// line returns the line of key (a path below the table) or, failing that,
+// of its nearest recorded parent; line() is the table's own line.
 func (t *tbl) line(key ...string) int {
+	if t.pk == "" && len(t.path) > 0 {
+		t.pk = pathKey(t.path)
+	}
+	if len(key) > 0 {
+		if ln, ok := t.rd.loc.lines[join(t.pk, key...)]; ok {
+			return ln
+		}
+	}
 	return t.rd.loc.lineOf(append(slices.Clip(t.path), key...)...)
 }
 
@@ -132,20 +144,31 @@ func (t *tbl) bad(key, field, reason string) *Error {
 	return e
 }
 
-// keys returns the table's keys in file order (by line, then name).
+// keys returns the table's keys in file order (by line, then name). The
+// result is computed once and shared.
 func (t *tbl) keys() []string {
-	ks := slices.Collect(maps.Keys(t.m))
-	lines := make(map[string]int, len(ks))
-	for _, k := range ks {
-		lines[k] = t.line(k)
+	if t.order != nil || len(t.m) == 0 {
+		return t.order
 	}
-	slices.SortFunc(ks, func(a, b string) int {
-		if lines[a] != lines[b] {
-			return lines[a] - lines[b]
+	type kl struct {
+		k    string
+		line int
+	}
+	ks := make([]kl, 0, len(t.m))
+	for k := range t.m {
+		ks = append(ks, kl{k, t.line(k)})
+	}
+	slices.SortFunc(ks, func(a, b kl) int {
+		if a.line != b.line {
+			return a.line - b.line
 		}
-		return strings.Compare(a, b)
+		return strings.Compare(a.k, b.k)
 	})
-	return ks
+	t.order = make([]string, len(ks))
+	for i, x := range ks {
+		t.order[i] = x.k
+	}
+	return t.order
 }
 
 // checkKeys reports the first key (in file order) not in known.
@@ -330,7 +353,16 @@ type edgeVals struct {
 	length, a, b, c, f, rho float64
 	w                       [2]float64 // 0: default weight
 	cells                   int
-	line                    map[string]int // key → line it was given on
+	line                    [9]int  // line each of defaultsKeys was given on
+	given                   [9]bool // whether each of defaultsKeys was given
+}
+
+// lineOf returns the line edge key k was given on, 0 if not given.
+func (ev *edgeVals) lineOf(k string) int {
+	if i := slices.Index(defaultsKeys, k); i >= 0 {
+		return ev.line[i]
+	}
+	return 0
 }
 
 // edgeValue reads one edge key other than id, from and to into ev.
@@ -353,10 +385,10 @@ func (t *tbl) edgeValue(k string, ev *edgeVals) error {
 		var w float64
 		w, err = t.ruled(k, positive)
 		ev.w = [2]float64{w, w}
-		delete(ev.line, "weights")
+		ev.given[slices.Index(defaultsKeys, "weights")] = false
 	case "weights":
 		ev.w, err = t.pair(k, positive, "[from, to]")
-		delete(ev.line, "weight")
+		ev.given[slices.Index(defaultsKeys, "weight")] = false
 	case "cells":
 		ev.cells, err = t.cells(k)
 	default:
@@ -365,7 +397,8 @@ func (t *tbl) edgeValue(k string, ev *edgeVals) error {
 	if err != nil {
 		return err
 	}
-	ev.line[k] = t.line(k)
+	i := slices.Index(defaultsKeys, k)
+	ev.line[i], ev.given[i] = t.line(k), true
 	return nil
 }
 
@@ -432,7 +465,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			}
 		}
 	}
-	def := edgeVals{rho: 1, line: map[string]int{}}
+	def := edgeVals{rho: 1}
 	if v, ok := root["defaults"]; ok {
 		m, isTable := v.(map[string]any)
 		if !isTable {
@@ -595,7 +628,6 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 		return err
 	}
 	ev := *def
-	ev.line = maps.Clone(def.line)
 	var ends [2]int
 	for s, k := range []string{"from", "to"} {
 		if _, ok := t.m[k]; !ok {
@@ -615,23 +647,23 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 		return err
 	}
 	for _, k := range []string{"length", "diffusivity"} {
-		if _, ok := ev.line[k]; !ok {
+		if !ev.given[slices.Index(defaultsKeys, k)] {
 			return t.fail("", fmt.Sprintf("missing key %q (give it here or in [defaults])", k))
 		}
 	}
 	if ev.cells > 0 {
 		rd.cells += int64(ev.cells)
 		if rd.cells > MemoryLimit/BytesPerCell {
-			return &Error{File: rd.file, Line: ev.line["cells"], Object: t.obj, Msg: tooManyCells(rd.cells)}
+			return &Error{File: rd.file, Line: ev.lineOf("cells"), Object: t.obj, Msg: tooManyCells(rd.cells)}
 		}
 	}
 	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
 	if _, err := net.AddEdge(e); err != nil {
 		return rd.modelError(t, err, func(field string) int {
-			if field == "weight" && ev.line["weights"] > 0 {
-				return ev.line["weights"]
+			if field == "weight" && ev.given[slices.Index(defaultsKeys, "weights")] {
+				return ev.lineOf("weights")
 			}
-			return ev.line[field]
+			return ev.lineOf(field)
 		})
 	}
 	return nil

@@ -1,0 +1,83 @@
+package netfile
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"strconv"
+	"testing"
+)
+
+// chainBytes is chainCSV(n) held in memory, for benchmarks.
+func chainBytes(b *testing.B, n int) []byte {
+	data, err := io.ReadAll(chainCSV(n))
+	if err != nil {
+		b.Fatal(err)
+	}
+	return data
+}
+
+// BenchmarkReadCSV reads chains of n edges. The reference, csv-only, is a
+// bare encoding/csv pass over the same bytes (with ReuseRecord, parsing the
+// length column), so the ratio is the cost of building the network.
+func BenchmarkReadCSV(b *testing.B) {
+	for _, n := range []int{1_000, 100_000, 1_000_000} {
+		data := chainBytes(b, n)
+		b.Run(fmt.Sprintf("netfile/rows=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				if _, err := ReadCSV(bytes.NewReader(data), "chain.csv"); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("csv-only/rows=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				cr := csv.NewReader(bytes.NewReader(data))
+				cr.ReuseRecord = true
+				cr.FieldsPerRecord = -1
+				var sum float64
+				for {
+					rec, err := cr.Read()
+					if err == io.EOF {
+						break
+					}
+					if len(rec) > 4 {
+						v, _ := strconv.ParseFloat(rec[4], 64)
+						sum += v
+					}
+				}
+				_ = sum
+			}
+		})
+	}
+}
+
+// BenchmarkRead reads the same chains as network files (written by Write),
+// to compare the two formats per edge.
+func BenchmarkRead(b *testing.B) {
+	for _, n := range []int{1_000, 100_000} {
+		net, err := ReadCSV(bytes.NewReader(chainBytes(b, n)), "chain.csv")
+		if err != nil {
+			b.Fatal(err)
+		}
+		var buf bytes.Buffer
+		if err := Write(&buf, net); err != nil {
+			b.Fatal(err)
+		}
+		data := buf.Bytes()
+		b.Run(fmt.Sprintf("edges=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				if _, err := Read(bytes.NewReader(data), "chain.toml"); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
