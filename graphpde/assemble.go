@@ -73,8 +73,12 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		s.v = *v
 	}
 	method := MethodAuto
+	maxGrid := int64(DefaultMaxGridUnknowns)
 	if set != nil {
 		method = set.Method
+		if set.MaxGridUnknowns > 0 {
+			maxGrid = int64(set.MaxGridUnknowns)
+		}
 		if set.Cells > 0 {
 			s.cells = set.Cells
 		} else if set.Cells < 0 {
@@ -133,7 +137,7 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		}
 		s.grid[e] = gridEnds{n: n, off: int(interior)}
 		interior += int64(n - 1)
-		if interior > MaxGridUnknowns {
+		if interior > maxGrid {
 			// count the rest for the message
 			for _, rest := range net.Edges[e+1:] {
 				if m := rest.Cells; m > 0 {
@@ -142,7 +146,7 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 					interior += int64(s.cells - 1)
 				}
 			}
-			return nil, &GridSizeError{Unknowns: interior, Max: MaxGridUnknowns}
+			return nil, &GridSizeError{Unknowns: interior, Max: maxGrid}
 		}
 	}
 	if err := s.checkAnchors(); err != nil {
@@ -432,7 +436,8 @@ func (s *system) endDerivs(e int) (d0, dL float64) {
 
 // solution packages the current state (after solve) as a Solution: node
 // values, end fluxes and node residuals reconstructed from the elements, and
-// a finiteness check of everything.
+// a finiteness check of everything. The Solution shares the grid storage and
+// the element data with s: a later assemble changes it.
 func (s *system) solution() (*Solution, error) {
 	net := s.net
 	sol := &Solution{

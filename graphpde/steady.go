@@ -50,9 +50,9 @@ func (m Method) String() string {
 // nor the settings say otherwise.
 const DefaultCells = 64
 
-// MaxGridUnknowns bounds the interior grid unknowns of one solve (about 32
-// bytes each); a larger request is refused before anything is allocated.
-const MaxGridUnknowns = 1 << 30
+// DefaultMaxGridUnknowns is the default bound on the interior grid unknowns
+// of one solve (24 bytes each, so about 6 GB).
+const DefaultMaxGridUnknowns = 1 << 28
 
 // Settings controls a steady solve. A nil *Settings means the defaults.
 type Settings struct {
@@ -61,6 +61,10 @@ type Settings struct {
 	// Cells is the number of cells of a grid edge whose Edge.Cells is 0;
 	// 0 means DefaultCells.
 	Cells int
+	// MaxGridUnknowns bounds the interior grid unknowns; a larger grid is
+	// refused with a *GridSizeError before anything is allocated. 0 means
+	// DefaultMaxGridUnknowns.
+	MaxGridUnknowns int
 }
 
 // Status describes how a solver ended. The linear steady solve either
@@ -177,7 +181,7 @@ type GridSizeError struct {
 }
 
 func (e *GridSizeError) Error() string {
-	return fmt.Sprintf("the grid would have %d interior unknowns (about %d MB); at most %d are allowed: lower cells", e.Unknowns, e.Unknowns*32>>20, e.Max)
+	return fmt.Sprintf("the grid would have %d interior unknowns (about %d MB); at most %d are allowed: use fewer cells", e.Unknowns, e.Unknowns*24>>20, e.Max)
 }
 
 // Variant overrides data of a network for one solve, so that related problems

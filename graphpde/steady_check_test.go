@@ -1,9 +1,9 @@
 package graphpde
 
 import (
+	"errors"
 	"fmt"
 	"math"
-	"math/cmplx"
 	"math/rand/v2"
 	"testing"
 
@@ -207,7 +207,6 @@ func TestExactNetworkClosedForm(t *testing.T) {
 			}
 		}
 	}
-	_ = cmplx.Abs
 }
 
 // TestNodeSystemAgainstDense solves random networks with cycles, self-loops
@@ -563,5 +562,84 @@ func TestVariant(t *testing.T) {
 	}
 	if _, err := SolveVariant(net, ev, &Settings{Method: MethodExact}); err == nil {
 		t.Error("EdgeSource with MethodExact: no error")
+	}
+}
+
+// TestSystemReuse: the unexported system re-assembled with another shift and
+// other injections, re-factored on the same pattern and solved, agrees with a
+// fresh SolveVariant, and that cycle allocates nothing (no re-ordering, no
+// per-edge allocation). Tolerance roundoff = 1e-12.
+func TestSystemReuse(t *testing.T) {
+	const roundoff = 1e-12
+	rnd := rand.New(rand.NewPCG(31, 5))
+	net := randomCyclicNet(t, 25, 15, rnd)
+	for v := range net.Nodes {
+		net.Nodes[v].Law.Capacity = 0.5
+	}
+	for _, m := range []Method{MethodExact, MethodGrid} {
+		set := &Settings{Method: m, Cells: 12}
+		sys, err := newSystem(net, nil, set)
+		if err != nil {
+			t.Fatal(err)
+		}
+		sys.assemble(0)
+		if err := sys.factor(); err != nil {
+			t.Fatal(err)
+		}
+		sys.solve()
+		inj := make([]float64, len(net.Nodes))
+		for v := range inj {
+			inj[v] = rnd.NormFloat64()
+		}
+		sys.v.NodeInject = inj
+		const s = 0.25
+		allocs := testing.AllocsPerRun(3, func() {
+			sys.assemble(s)
+			if err := sys.factor(); err != nil {
+				t.Fatal(err)
+			}
+			sys.solve()
+		})
+		if allocs != 0 {
+			t.Errorf("%v: %g allocations per re-assemble, factor, solve", m, allocs)
+		}
+		got, err := sys.solution()
+		if err != nil {
+			t.Fatal(err)
+		}
+		want, err := SolveVariant(net, &Variant{Shift: s, NodeInject: inj}, set)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for v := range got.U {
+			if math.Abs(got.U[v]-want.U[v]) > roundoff*(1+math.Abs(want.U[v])) {
+				t.Errorf("%v node %d: reused %.15g, fresh %.15g", m, v, got.U[v], want.U[v])
+			}
+		}
+	}
+}
+
+// TestGridSizeRefused: a grid beyond Settings.MaxGridUnknowns is refused
+// before allocation with a *GridSizeError.
+func TestGridSizeRefused(t *testing.T) {
+	b := newNetBuilder(t)
+	x := b.fixed("x", 0)
+	y := b.fixed("y", 1)
+	b.edge(Edge{ID: "long", From: x, To: y, Length: 1, A: 1, Cells: 1 << 40})
+	_, err := Solve(b.net, &Settings{Method: MethodGrid})
+	var ge *GridSizeError
+	if !errors.As(err, &ge) || ge.Unknowns != 1<<40-1 {
+		t.Fatalf("error %v, want *GridSizeError", err)
+	}
+	// Edge.Cells wins over Settings.Cells
+	if _, err := Solve(b.net, &Settings{Method: MethodGrid, Cells: 3, MaxGridUnknowns: 5}); !errors.As(err, &ge) {
+		t.Errorf("error %v, want *GridSizeError", err)
+	}
+	b.net.Edges[0].Cells = 0
+	if _, err := Solve(b.net, &Settings{Method: MethodGrid, Cells: 10, MaxGridUnknowns: 5}); !errors.As(err, &ge) || ge.Unknowns != 9 {
+		t.Errorf("error %v, want 9 unknowns refused", err)
+	}
+	if _, err := Solve(b.net, &Settings{Method: MethodGrid, Cells: 6, MaxGridUnknowns: 5}); err != nil {
+		t.Errorf("5 unknowns: %v", err)
 	}
 }
