@@ -477,3 +477,56 @@ func TestErrors(t *testing.T) {
 		}
 	})
 }
+
+// TestSelfLoop checks a node carrying a self-loop (both ends count in the
+// star, each arm at most half the loop): node b joins a fixed node a (edge
+// L = 1, a = 1) and a loop (L = 0.9, a = 2, α = a). On the loop
+// T = T0 + ρx(Ls − x)/(2a_s), leaving T0 unchanged at both ends, so the
+// balance law gives T0 = (ρ_v + α₁ρL₁/(2a₁) + α_sρL_s/a_s)/(β + α₁/L₁) and
+// u(b) = (α₁g/L₁ + γ)/(β + α₁/L₁) (derived here from DESIGN.md §3).
+func TestSelfLoop(t *testing.T) {
+	for _, law := range []vertex.Law{kirchhoff, {Kind: vertex.Balance, Leak: 0.5, Capacity: 0.3}} {
+		n := &tNet{}
+		a, b := n.node(fixed(1)), n.node(law)
+		n.edge(tEdge{from: a, to: b, L: 1, a: 1})
+		n.edge(tEdge{from: b, to: b, L: 0.9, a: 2})
+		res := run(t, n, montecarlo.Start{Node: b}, montecarlo.Settings{Particles: 40000, Seed: 17})
+		den := law.Leak + 1
+		near(t, "E tau", res.ExitTime, (law.Capacity+0.5+2*0.9/2)/den)
+		near(t, "value", res.Value, 1/den)
+		// Occupation of the loop: the same problem with the source
+		// restricted to the loop (DESIGN.md §7): α_sρL_s/a_s/den.
+		near(t, "loop occupation", res.Occupation[1], 0.9/den)
+	}
+}
+
+// TestQuantiles checks the reported exit-time quantiles of the equal-arm
+// star (REFERENCES.md B2 law, see TestExitLawKS) against the exact ones; a
+// sample p-quantile has standard error sqrt(p(1−p)/n)/f(q_p).
+func TestQuantiles(t *testing.T) {
+	eq := star(kirchhoff, []starArm{{L: 1, a: 0.5, rho: 1, alpha: 0.2}, {L: 1, a: 0.5, rho: 1, alpha: 0.8}})
+	const n = 100000
+	res := run(t, eq, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: n, Seed: 19})
+	if len(res.Quantiles) != 5 {
+		t.Fatalf("got %d quantiles, want the 5 defaults", len(res.Quantiles))
+	}
+	for _, q := range res.Quantiles {
+		lo, hi := 0.0, 10.0
+		for range 100 {
+			mid := (lo + hi) / 2
+			if exitlaw.CDF(mid) < q.P {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		se := math.Sqrt(q.P*(1-q.P)/n) / exitlaw.Density(lo)
+		if math.Abs(q.T-lo) > bonf*se {
+			t.Errorf("quantile %g: %.5g, exact %.5g ± %.2g", q.P, q.T, lo, se)
+		}
+	}
+	// The spread of the law: sd of τ₁ is sqrt(2/3) (REFERENCES.md B2).
+	if sd := math.Sqrt(2.0 / 3); math.Abs(res.ExitSD-sd) > bonf*math.Sqrt(6.1/n)/(2*sd) {
+		t.Errorf("ExitSD = %g, want %g", res.ExitSD, sd)
+	}
+}
