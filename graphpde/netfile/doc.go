@@ -124,7 +124,8 @@
 // node row; a node row, before or after the edges that use the node, sets
 // its condition, at most once per node. Splits, [defaults] and the network
 // name have no CSV form. Errors carry the line of the row. The reader
-// streams: it holds one record at a time, so 10^6 rows take about a second.
+// streams: it holds one record at a time besides the network it builds, and
+// its cost is linear in the number of rows.
 //
 // The TOML format is specified by T. Preston-Werner et al., TOML v1.0.0
 // (2021), and parsed by github.com/BurntSushi/toml; CSV by RFC 4180 (2005)

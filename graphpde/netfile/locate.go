@@ -26,6 +26,9 @@ type locator struct {
 // locate scans src and returns the line index of its keys and headers.
 func locate(src string) *locator {
 	l := &locator{src: src, line: 1, lines: make(map[string]int), arrays: make(map[string]int)}
+	if strings.HasPrefix(src, "\uFEFF") {
+		l.pos = len("\uFEFF") // a byte-order mark, which the library skips too
+	}
 	l.scan()
 	return l
 }

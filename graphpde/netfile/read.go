@@ -171,11 +171,16 @@ func (t *tbl) keys() []string {
 	return t.order
 }
 
-// checkKeys reports the first key (in file order) not in known.
-func (t *tbl) checkKeys(known []string, hint string) error {
+// checkKeys reports the first key (in file order) not in known, adding
+// hint(key) to the message when hint is not nil.
+func (t *tbl) checkKeys(known []string, hint func(string) string) error {
 	for _, k := range t.keys() {
 		if !slices.Contains(known, k) {
-			return t.fail(k, unknownKey(k, known)+hint)
+			msg := unknownKey(k, known)
+			if hint != nil {
+				msg += hint(k)
+			}
+			return t.fail(k, msg)
 		}
 	}
 	return nil
@@ -450,7 +455,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			return nil, top.fail("network", "network must be a table [network], not "+typeName(v))
 		}
 		t := &tbl{rd: rd, obj: "[network]", path: []string{"network"}, m: m}
-		if err := t.checkKeys(networkKeys, ""); err != nil {
+		if err := t.checkKeys(networkKeys, nil); err != nil {
 			return nil, err
 		}
 		var err error
@@ -472,11 +477,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			return nil, top.fail("defaults", "defaults must be a table [defaults], not "+typeName(v))
 		}
 		t := &tbl{rd: rd, obj: "[defaults]", path: []string{"defaults"}, m: m}
-		hint := ""
-		for k := range m {
-			if slices.Contains(nodeKeys, k) || k == "id" || k == "from" || k == "to" {
-				hint = " ([defaults] holds edge values other than id, from and to)"
+		hint := func(k string) string {
+			if slices.Contains(nodeKeys, k) || slices.Contains(edgeKeys, k) {
+				return " ([defaults] holds edge values other than id, from and to)"
 			}
+			return ""
 		}
 		if err := t.checkKeys(defaultsKeys, hint); err != nil {
 			return nil, err
@@ -576,7 +581,7 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 		return nd, nil, err
 	}
 	nd.ID = t.id
-	if err := t.checkKeys(nodeKeys, ""); err != nil {
+	if err := t.checkKeys(nodeKeys, nil); err != nil {
 		return nd, nil, err
 	}
 	_, fixed := t.m["fixed"]
@@ -624,7 +629,7 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	if err := rd.id(t, rd.edgeLine); err != nil {
 		return err
 	}
-	if err := t.checkKeys(edgeKeys, ""); err != nil {
+	if err := t.checkKeys(edgeKeys, nil); err != nil {
 		return err
 	}
 	ev := *def

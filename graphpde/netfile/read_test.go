@@ -46,6 +46,8 @@ func TestReadErrors(t *testing.T) {
 		{"syntax later line", twoNodes + "[[edge]]\nid = \"e\"\nlength = 1 2\n", 9, "", "invalid TOML"},
 		{"duplicate key is TOML's", "[[node]]\nid = \"a\"\nid = \"b\"\n", 3, "", "invalid TOML"},
 		{"unknown node key", "[[node]]\nid = \"hub\"\nlek = 0.5\n", 3, `node "hub"`, `unknown key "lek" (did you mean "leak"?)`},
+		{"after byte-order mark", "\uFEFF[[node]]\nid = \"hub\"\nlek = 0.5\n", 3, `node "hub"`, `unknown key "lek"`},
+		{"CRLF line ends", "[[node]]\r\nid = \"hub\"\r\n\r\nlek = 0.5\r\n", 4, `node "hub"`, `unknown key "lek"`},
 		{"unknown edge key", twoNodes + "[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1\ndrfit = 2\n", 13, `edge "e"`, `unknown key "drfit"`},
 		{"unknown table", "[network]\nname = \"x\"\n\n[solver]\nsteps = 3\n", 4, "", "unknown table [solver]"},
 		{"unknown top key", "# comment\nlength = 1\n", 2, "", `unknown key "length" at the top level`},
