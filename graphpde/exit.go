@@ -34,7 +34,10 @@ type ExitSettings struct {
 	// InversionNodes is the number of Talbot nodes per octave of times
 	// (each one complex node-system solve); the transform values of an
 	// octave serve every time in it. Zero means laplace.DefaultWindowM (32,
-	// inversion error about 3e−10).
+	// inversion error about 1e−11). A non-reversible walker (drift or
+	// skewed weights around a cycle) costs at least twice that: every
+	// octave is checked on a second contour (and taller contours of 48 and
+	// 64 nodes are tried while the two disagree).
 	InversionNodes int
 }
 
@@ -85,7 +88,7 @@ type ExitStats struct {
 
 // SurvivalAt returns P(τ > t) by numerical inversion of the Laplace
 // transform of τ (Talbot contours, one per octave of t, absolute error about
-// 3e−10), clamped to [0, 1]; it is 1 for t ≤ 0 when the start is not
+// 1e−11), clamped to [0, 1]; it is 1 for t ≤ 0 when the start is not
 // absorbing. The first call in an octave [M·2^k, M·2^{k+1}] (M the mean)
 // costs InversionNodes complex node-system factorisations, O(edges) each on
 // a tree; later calls in the same octave cost O(InversionNodes). It is safe
@@ -144,7 +147,11 @@ func (e *ExitError) Unwrap() error { return e.Err }
 //   - P(τ > t) by Talbot inversion of (1 − L(s))/s, one contour per octave
 //     of times serving every t in it, and quantiles by a Newton iteration
 //     safeguarded by a bracket (the density comes from the same contour
-//     values).
+//     values). When the walker is not reversible (drift or skewed weights
+//     around a cycle) the decay rates may be complex; every octave is then
+//     also inverted on a second contour, on taller and finer ones (48 and
+//     64 nodes) while the two disagree, and a disagreement that remains is
+//     reported in Notes.
 //
 // A complex factorisation reuses the symbolic analysis, so each s costs one
 // numeric factorisation, O(edges) on a tree.
@@ -264,7 +271,7 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		x.Notes = append(x.Notes, fmt.Sprintf("forward and adjoint mean differ by %.2g (relative): ill-conditioned node system", d/x.Mean))
 	}
 	x.Mean = T1[sys.start]
-	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes, base: x.Mean}
+	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes, base: x.Mean, check: !sys.reversible}
 	if err := x.moments(sys.supMean(T1)); err != nil {
 		return nil, fail("moments", err)
 	}
@@ -273,6 +280,9 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		return nil, fail("lifetime distribution", err)
 	}
 	x.Transforms = x.law.tr.n
+	if len(x.law.suspects) > 0 {
+		x.Notes = append(x.Notes, fmt.Sprintf("the law of τ is unreliable for t in %v: drift or skewed weights around a cycle give complex decay rates that the Talbot contours do not enclose (contours disagree by up to %.2g)", x.law.suspects, x.law.worst))
+	}
 	return x, nil
 }
 
@@ -440,7 +450,19 @@ type lifetimeLaw struct {
 	real     func(s float64) (float64, error)
 	stehfest []float64
 	cache    map[float64][2]float64
+
+	// check: evaluate every window also on a check contour, climbing the
+	// levels of laplace.TalbotWindowLevel until the two agree, and record
+	// where they never do (non-reversible problems only).
+	check    bool
+	suspects [][2]float64 // windows [t0, 2t0] whose contours disagree
+	worst    float64      // largest disagreement seen
 }
+
+// contourAgreement is the largest difference between the window and check
+// contours accepted as agreement: the check contours' own errors (at most
+// 4e−8, laplace.TalbotWindowLevel) with a margin.
+const contourAgreement = 2e-7
 
 // lawWindow holds one octave's contour and the values of L(s) and
 // (1 − L(s))/s at its nodes.
@@ -465,7 +487,47 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 	if w, ok := lw.win[k]; ok {
 		return w, nil
 	}
-	c := laplace.TalbotWindow(t0, 2*t0, lw.m)
+	if !lw.check {
+		w, err := lw.evalWindow(laplace.TalbotWindow(t0, 2*t0, lw.m))
+		if err != nil {
+			return nil, err
+		}
+		lw.store(k, w)
+		return w, nil
+	}
+	// Non-reversible: climb the levels until the window and check contours
+	// agree.
+	var w *lawWindow
+	var d float64
+	for level := range laplace.WindowLevels {
+		c, cc := laplace.TalbotWindowLevel(t0, 2*t0, level)
+		var err error
+		if w, err = lw.evalWindow(c); err != nil {
+			return nil, err
+		}
+		wc, err := lw.evalWindow(cc)
+		if err != nil {
+			return nil, err
+		}
+		d = 0
+		for _, tt := range []float64{t0, t0 * math.Sqrt2, 2 * t0} {
+			d = math.Max(d, math.Abs(w.c.Apply(tt, w.fs)-wc.c.Apply(tt, wc.fs)))
+		}
+		if d <= contourAgreement {
+			break
+		}
+	}
+	lw.worst = math.Max(lw.worst, d)
+	if d > contourAgreement {
+		lw.suspects = append(lw.suspects, [2]float64{t0, 2 * t0})
+	}
+	lw.store(k, w)
+	return w, nil
+}
+
+// evalWindow evaluates the transform at the nodes of c. The caller holds
+// lw.mu.
+func (lw *lifetimeLaw) evalWindow(c laplace.Contour) (*lawWindow, error) {
 	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
 	for j, s := range c.S {
 		L, err := lw.tr.at(s)
@@ -475,11 +537,14 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 		w.fl[j] = L
 		w.fs[j] = (1 - L) / s
 	}
+	return w, nil
+}
+
+func (lw *lifetimeLaw) store(k int, w *lawWindow) {
 	if lw.win == nil {
 		lw.win = make(map[int]*lawWindow)
 	}
 	lw.win[k] = w
-	return w, nil
 }
 
 // taylor returns the Taylor coefficients c_0 … c_n of L at 0 from N points
@@ -537,9 +602,9 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	return S, w.c.Apply(t, w.fl), nil
 }
 
-// quantileTol is the accuracy of a quantile search in probability: three
-// times the inversion error of a window contour (3e−10); below it there is
-// nothing left to gain.
+// quantileTol is the accuracy of a quantile search in probability: a
+// hundred times the inversion error of a window contour (1e−11); below it
+// there is nothing left to gain.
 const quantileTol = 1e-9
 
 // quantile returns T with P(τ ≤ T) = p, 0 < p < 1, for a lifetime of the

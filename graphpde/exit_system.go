@@ -26,6 +26,11 @@ type exitSystem struct {
 	// anchored reports whether the component can absorb or kill: a fixed
 	// node, a leak or a decay. Without one the node system is singular.
 	anchored bool
+	// reversible reports that the walker is reversible, so that the decay
+	// rates (singularities of the transforms) are real: the component is a
+	// tree, or it has neither drift nor skewed weights (α ≠ a). Otherwise
+	// they may be complex.
+	reversible bool
 }
 
 // exitEl is one exact element of the system: a network edge or half of the
@@ -93,6 +98,12 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 		sys.start = node[p.Node]
 	}
 	sys.anchored = anchored
+	skew := false
+	for k := range sys.el {
+		el := &sys.el[k]
+		skew = skew || el.b != 0 || el.w0 != el.a || el.w1 != el.a
+	}
+	sys.reversible = len(sys.el) < len(sys.law) || !skew
 	sys.unk = make([]int, len(sys.law))
 	for v, l := range sys.law {
 		sys.unk[v] = -1

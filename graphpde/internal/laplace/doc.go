@@ -19,12 +19,18 @@
 // while the rounding error grows like ε·e^{2M/5}; M around 20–30 gives about
 // 1e−11 relative to max|f| on smooth problems (measured in the tests).
 //
-// The same contour with its scale r fitted to a window of times
-// [t0, 2t0] instead of one t (TalbotWindow, 32 nodes, r = 0.9·2M/(5·2t0),
-// chosen by measurement) serves a whole octave of times with one set of
-// transform values, at an error of about 3e−10 of max|f|: survival
-// functions, densities and quantile searches then cost a few transform
-// evaluations per octave instead of M per time.
+// The same contour family, s(θ) = rθ(cot θ + iν), with its scale r fitted
+// to a window of times [t0, 2t0] instead of one t and twice the height
+// (TalbotWindow: 32 nodes, r = 0.6·2M/(5·2t0), ν = 2, chosen by
+// measurement) serves a whole octave of times with one set of transform
+// values, at an error of about 1e−11 of max|f|: survival functions,
+// densities and quantile searches then cost a few transform evaluations per
+// octave instead of M per time. The height ν > 1 goes back to Talbot's
+// original parametrised contour (A. Talbot, "The accurate numerical
+// inversion of Laplace transforms", J. Inst. Math. Appl. 23 (1979) 97–120,
+// from memory); it encloses singularities off the real axis, which
+// non-reversible diffusions (drift around a cycle) have. A second, taller
+// contour (TalbotWindowCheck) detects singularities that the first misses.
 //
 // The Gaver–Stehfest formula uses N real points s_k = k ln2/t with
 // alternating weights V_k; in float64 N = 16–18 is about the best, with some

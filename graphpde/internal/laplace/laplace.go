@@ -26,19 +26,22 @@ type Contour struct {
 	S, D       []complex128
 }
 
-// talbot returns the Talbot contour s(θ) = rθ(cot θ + i) with m trapezoidal
-// nodes θ_k = kπ/m and D_k = (r/m)(1 + iσ_k), σ = θ + (θ cot θ − 1) cot θ
-// (so that ds/dθ = i r (1 + iσ)), halved at θ = 0.
-func talbot(r float64, m int) (S, D []complex128) {
+// talbot returns the Talbot contour s(θ) = rθ(cot θ + iν) with m
+// trapezoidal nodes θ_k = kπ/m and D_k = (r/m)(ν + iσ_k),
+// σ = θ + (θ cot θ − 1) cot θ (so that ds/dθ = i r (ν + iσ)), halved at
+// θ = 0. ν = 1 is the fixed Talbot contour; ν > 1 makes it taller (it
+// reaches Im s = rνπ), which encloses complex singularities further from
+// the real axis.
+func talbot(r, nu float64, m int) (S, D []complex128) {
 	S, D = make([]complex128, m), make([]complex128, m)
 	scale := r / float64(m)
 	S[0] = complex(r, 0)
-	D[0] = complex(0.5*scale, 0)
+	D[0] = complex(0.5*scale*nu, 0)
 	for k := 1; k < m; k++ {
 		th := float64(k) * math.Pi / float64(m)
 		cot := math.Cos(th) / math.Sin(th)
-		S[k] = complex(r*th*cot, r*th)
-		D[k] = complex(scale, scale*(th+(th*cot-1)*cot))
+		S[k] = complex(r*th*cot, r*th*nu)
+		D[k] = complex(scale*nu, scale*(th+(th*cot-1)*cot))
 	}
 	return S, D
 }
@@ -57,7 +60,7 @@ func checkTM(t float64, m int) {
 // finite, or m < 2. Cost O(m), allocates two slices of length m.
 func TalbotContour(t float64, m int) Contour {
 	checkTM(t, m)
-	S, D := talbot(2*float64(m)/(5*t), m)
+	S, D := talbot(2*float64(m)/(5*t), 1, m)
 	return Contour{Tmin: t, Tmax: t, S: S, D: D}
 }
 
@@ -65,25 +68,76 @@ func TalbotContour(t float64, m int) Contour {
 const WindowRatio = 2
 
 // DefaultWindowM is the number of nodes of a TalbotWindow that gives about
-// 3e−10 of max|f| over the window (measured in the tests).
+// 1e−11 of max|f| over the window (measured in the tests).
 const DefaultWindowM = 32
 
-// windowScale is the contour scale of a window: r = windowScale·2m/(5·Tmax).
-// Chosen by measurement (see TestTalbotWindow): with m = 32 and a window of
-// ratio 2 the worst error over the test pairs is flat at 3e−10 for scales
-// 0.8–1.0 and grows on both sides (truncation below, rounding e^{rt} above).
-const windowScale = 0.9
+// Window contour shapes, chosen by measurement over the test pairs with
+// m = 32 and a window of ratio 2 (see TestTalbotWindow): r = scale·2m/(5·Tmax)
+// and height ν. The window contour (scale 0.6, ν = 2) has a worst error of
+// 1e−12…1e−11, flat for scales 0.5–0.7; for ν = 1 (the fixed Talbot shape)
+// the best is 1e−10, for ν = 3 it is 3e−7. The check contour (scale 0.8,
+// ν = 2.5, worst error 3e−9) is taller and differently placed: agreement of
+// the two shows that no singularity lies between them.
+const (
+	windowScale, windowHeight = 0.6, 2.0
+	checkScale, checkHeight   = 0.8, 2.5
+)
 
 // TalbotWindow returns a Talbot contour with m nodes that serves every time
-// t in [t0, t1], t1 ≤ WindowRatio·t0: the same contour family as the fixed
-// Talbot rule with its scale r fitted to the window instead of one t. It
-// panics if 0 < t0 ≤ t1 ≤ 2t0 fails or m < 2. Cost O(m).
+// t in [t0, t1], t1 ≤ WindowRatio·t0: the Talbot contour family with its
+// scale r fitted to the window instead of one t and twice the height of the
+// fixed Talbot contour. It panics if 0 < t0 ≤ t1 ≤ 2t0 fails or m < 2.
+// Cost O(m).
 func TalbotWindow(t0, t1 float64, m int) Contour {
+	return talbotWindow(t0, t1, m, windowScale, windowHeight)
+}
+
+// TalbotWindowCheck returns a second, taller contour for the same window
+// (error about 3e−9 on smooth transforms). Where TalbotWindow and
+// TalbotWindowCheck disagree by more than that, singularities of F lie off
+// the negative real axis between the two contours (complex decay rates of
+// non-reversible problems) and neither result is reliable.
+func TalbotWindowCheck(t0, t1 float64, m int) Contour {
+	return talbotWindow(t0, t1, m, checkScale, checkHeight)
+}
+
+// WindowLevels is the number of levels of TalbotWindowLevel.
+const WindowLevels = 3
+
+// windowLevels are (nodes, scale, height) of the window and of the check
+// contour at each level: the contours grow taller (height scale·ν·m: 38, 58,
+// 77) at a constant leftward reach (scale·m), for transforms with complex
+// singularities far from the real axis. Measured worst errors over the test
+// pairs (TestTalbotWindowLevels): window 1e−12, 1e−11, 1e−11; check 3e−9,
+// 5e−8, 1e−8.
+var windowLevels = [WindowLevels][2]struct {
+	m         int
+	scale, nu float64
+}{
+	{{DefaultWindowM, windowScale, windowHeight}, {DefaultWindowM, checkScale, checkHeight}},
+	{{48, 0.4, 3}, {48, 0.4, 4}},
+	{{64, 0.3, 4}, {64, 0.4, 5}},
+}
+
+// TalbotWindowLevel returns the window and check contours of the given level
+// (0 ≤ level < WindowLevels) for [t0, t1], t1 ≤ WindowRatio·t0. Level 0 is
+// TalbotWindow and TalbotWindowCheck with DefaultWindowM nodes; levels 1 and
+// 2 have 48 and 64 nodes and reach 1.5 and 2 times as far from the real
+// axis. It panics on a bad window or level. Cost O(nodes).
+func TalbotWindowLevel(t0, t1 float64, level int) (c, check Contour) {
+	if level < 0 || level >= WindowLevels {
+		panic(fmt.Sprintf("laplace: window level %d out of [0, %d)", level, WindowLevels))
+	}
+	w, k := windowLevels[level][0], windowLevels[level][1]
+	return talbotWindow(t0, t1, w.m, w.scale, w.nu), talbotWindow(t0, t1, k.m, k.scale, k.nu)
+}
+
+func talbotWindow(t0, t1 float64, m int, scale, nu float64) Contour {
 	checkTM(t0, m)
 	if !(t1 >= t0) || t1 > WindowRatio*t0*(1+1e-12) {
 		panic(fmt.Sprintf("laplace: Talbot window [%g, %g] wider than a ratio of %d", t0, t1, WindowRatio))
 	}
-	S, D := talbot(windowScale*2*float64(m)/(5*t1), m)
+	S, D := talbot(scale*2*float64(m)/(5*t1), nu, m)
 	return Contour{Tmin: t0, Tmax: t1, S: S, D: D}
 }
 

@@ -1,6 +1,7 @@
 package laplace
 
 import (
+	"fmt"
 	"math"
 	"math/cmplx"
 	"testing"
@@ -167,16 +168,26 @@ func TestContourApply(t *testing.T) {
 }
 
 // TestTalbotWindow: one window contour serves a whole octave of times. The
-// error is measured over 41 times in each window at three window positions,
-// relative to max|f| over the window. Measured worst over all pairs: 3e−10
-// (the near-singular 1/√s pair at t ≈ 0.01); 1e−9 is that with a margin.
+// error is measured over 41 times in each window at four window positions,
+// relative to max|f| over the window. Measured worst over all pairs: 1e−11
+// for the window contour, 3e−9 for the check contour; the bounds are ten
+// times that.
 func TestTalbotWindow(t *testing.T) {
-	const tol = 1e-9
+	for _, c := range []struct {
+		name    string
+		contour func(t0, t1 float64, m int) Contour
+		tol     float64
+	}{{"window", TalbotWindow, 1e-10}, {"check", TalbotWindowCheck, 3e-8}} {
+		testWindow(t, c.name, c.contour, c.tol)
+	}
+}
+
+func testWindow(t *testing.T, name string, contour func(t0, t1 float64, m int) Contour, tol float64) {
 	var worst float64
 	for _, p := range pairs {
-		for _, t0 := range []float64{0.01, 0.3, 3} {
+		for _, t0 := range []float64{0.01, 0.1, 0.3, 3} {
 			t1 := WindowRatio * t0
-			c := TalbotWindow(t0, t1, DefaultWindowM)
+			c := contour(t0, t1, DefaultWindowM)
 			fs := make([]complex128, len(c.S))
 			for k, s := range c.S {
 				fs[k] = p.F(s)
@@ -191,10 +202,28 @@ func TestTalbotWindow(t *testing.T) {
 				err := math.Abs(c.Apply(tt, fs)-p.f(tt)) / scale
 				worst = math.Max(worst, err)
 				if err > tol {
-					t.Errorf("%s window [%g, %g] t=%g: error %.2g of max|f|", p.name, t0, t1, tt, err)
+					t.Errorf("%s: %s window [%g, %g] t=%g: error %.2g of max|f|", name, p.name, t0, t1, tt, err)
 				}
 			}
 		}
 	}
-	t.Logf("worst window error %.2g of max|f|", worst)
+	t.Logf("%s: worst error %.2g of max|f|", name, worst)
+}
+
+// TestTalbotWindowLevels measures the taller contours of levels 1 and 2
+// like TestTalbotWindow (bounds ten times the measured worst errors).
+func TestTalbotWindowLevels(t *testing.T) {
+	tol := [WindowLevels][2]float64{{1e-10, 3e-8}, {1e-10, 5e-7}, {1e-10, 1e-7}}
+	for level := range WindowLevels {
+		for which, name := range []string{"window", "check"} {
+			contour := func(t0, t1 float64, _ int) Contour {
+				c, k := TalbotWindowLevel(t0, t1, level)
+				if which == 0 {
+					return c
+				}
+				return k
+			}
+			testWindow(t, fmt.Sprintf("level %d %s", level, name), contour, tol[level][which])
+		}
+	}
 }
