@@ -225,7 +225,7 @@ func TestNodeLaws(t *testing.T) {
 			}
 			net := star(c.law, base)
 			net.nodes[0].split = c.split
-			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 100000, Seed: 9})
+			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 50000, Seed: 9})
 			beta, gamma, cap := c.law.Leak, c.law.Inject, c.law.Capacity
 			near(t, "value", res.Value, starCentre(beta, gamma, arms))
 			near(t, "E tau", res.ExitTime, starCentre(beta, cap, timeArms(arms)))
@@ -236,7 +236,7 @@ func TestNodeLaws(t *testing.T) {
 			near(t, "P(killed)", res.Killed, 1-starCentre(beta, 0, ones))
 			// From a point on arm 2 the walker first reaches the centre or
 			// the end: value through armValue.
-			res = run(t, net, onEdge(1, 0.8), montecarlo.Settings{Particles: 100000, Seed: 10})
+			res = run(t, net, onEdge(1, 0.8), montecarlo.Settings{Particles: 50000, Seed: 10})
 			u0 := starCentre(beta, gamma, arms)
 			near(t, "value on arm", res.Value, armValue(arms[1], u0, 0.8))
 			if res.Stats.LawExact != c.lawExact {
@@ -359,7 +359,7 @@ func TestReproducible(t *testing.T) {
 	net := mixedNet()
 	var ref *montecarlo.Result
 	for _, w := range []int{1, 2, 3} {
-		res := run(t, net, montecarlo.Start{Node: 1}, montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w})
+		res := run(t, net, montecarlo.Start{Node: 1}, montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w, Step: 0.005})
 		res.Stats.Elapsed = 0
 		if ref == nil {
 			ref = res

@@ -80,7 +80,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 		if !finite(ed.L) || ed.L <= 0 {
 			return nil, &CoefficientError{Edge: net.EdgeID(e), Field: "length", Value: ed.L, Reason: "must be a finite number > 0"}
 		}
-		var a0 float64
+		var a0, taken float64
 		var aMin, aoMax, rhoMean, cMean, tDiff, tDrift = math.Inf(1), 0.0, 0.0, 0.0, math.Inf(1), math.Inf(1)
 		for i := range profileSamples {
 			x := ed.L * float64(i) / (profileSamples - 1)
@@ -98,8 +98,9 @@ func prepare(net Network, set *Settings) (*model, error) {
 			}
 			aMin = math.Min(aMin, a)
 			aoMax = math.Max(aoMax, a/rho)
-			rhoMean += rho / profileSamples
-			cMean += c / profileSamples
+			rhoMean += rho
+			cMean += c
+			taken++
 			tDiff = math.Min(tDiff, ed.L*ed.L*rho/(2*a))
 			if b != 0 {
 				tDrift = math.Min(tDrift, ed.L*rho/math.Abs(b))
@@ -111,6 +112,8 @@ func prepare(net Network, set *Settings) (*model, error) {
 		if !net.EdgeConstant(e) {
 			ed.exact = false
 		}
+		rhoMean /= taken
+		cMean /= taken
 		capTot += rhoMean * ed.L
 		resTot += ed.L / aMin
 		lossTot += cMean * ed.L

@@ -22,7 +22,7 @@ func nearTS(t *testing.T, what string, e montecarlo.Estimate, want float64) {
 // TestTimeStepping checks the Euler–Maruyama walker against closed forms:
 // the S1 star forced onto time stepping (REFERENCES.md S1, derived there);
 // an interval with drift, where P(exit at L) = (1 − e^{−bx/a})/(1 − e^{−bL/a})
-// and E τ solves (a u'' + b u')/ρ = −1 (scale function; standard, derived
+// and E τ solves (a u” + b u')/ρ = −1 (scale function; standard, derived
 // here: E τ = (L P(x) − x)ρ/b); and an edge whose diffusivity varies,
 // a = 1 + x, where (a u')' = 0 gives P(exit at 1) = ln(1+x)/ln 2.
 func TestTimeStepping(t *testing.T) {
