@@ -5,6 +5,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"os"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -86,7 +88,11 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 	if err := c.header(); err != nil {
 		return nil, err
 	}
-	for {
+	size := inputSize(r)
+	for rows := 0; ; rows++ {
+		if rows == presizeAfter && size > 0 {
+			c.presize(size)
+		}
 		rec, err := cr.Read()
 		if err == io.EOF {
 			break
@@ -113,6 +119,43 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 		}
 	}
 	return c.net, nil
+}
+
+// presizeAfter is the number of rows after which ReadCSV, when it knows the
+// input's size, estimates the number of rows and grows its slices once
+// instead of by repeated doubling.
+const presizeAfter = 256
+
+// inputSize returns the size in bytes of r when it is known, else -1.
+func inputSize(r io.Reader) int64 {
+	switch x := r.(type) {
+	case interface{ Size() int64 }: // *bytes.Reader, *strings.Reader, *io.SectionReader
+		return x.Size()
+	case *os.File:
+		if fi, err := x.Stat(); err == nil && fi.Mode().IsRegular() {
+			return fi.Size()
+		}
+	}
+	return -1
+}
+
+// presize grows the edge and node slices to the counts extrapolated from
+// the rows read so far to an input of size bytes (plus 1/16 for variation).
+func (c *csvReader) presize(size int64) {
+	read := c.cr.InputOffset()
+	if read <= 0 || size <= read {
+		return
+	}
+	scale := float64(size) / float64(read) * (1 + 1.0/16)
+	grow := func(n int) int { return int(min(float64(n)*scale, 1e9)) - n }
+	if g := grow(len(c.net.Edges)); g > 0 {
+		c.net.Edges = slices.Grow(c.net.Edges, g)
+		c.edgeRow = slices.Grow(c.edgeRow, g)
+	}
+	if g := grow(len(c.net.Nodes)); g > 0 {
+		c.net.Nodes = slices.Grow(c.net.Nodes, g)
+		c.nodeRow = slices.Grow(c.nodeRow, g)
+	}
 }
 
 func (c *csvReader) csvError(err error) error {

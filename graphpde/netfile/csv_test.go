@@ -1,6 +1,7 @@
 package netfile
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -175,6 +176,24 @@ func TestCSVLarge(t *testing.T) {
 	}
 	if net.Nodes[0].Law.Kind != vertex.Fixed || net.Nodes[n].Law.Leak != 1 {
 		t.Errorf("end nodes %+v, %+v", net.Nodes[0].Law, net.Nodes[n].Law)
+	}
+	// From a reader of known size ReadCSV presizes its slices after
+	// presizeAfter rows; the network must be the same.
+	data, err := io.ReadAll(chainCSV(n))
+	if err != nil {
+		t.Fatal(err)
+	}
+	sized, err := ReadCSV(bytes.NewReader(data), "chain.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d := diffNetworks(sized, net, 0); d != "" {
+		t.Errorf("presized read differs: %s", d)
+	}
+	// The early rows of the chain are shorter (fewer digits), so the
+	// extrapolation overshoots, by about 15% here; doubling would reach 2n.
+	if c := cap(sized.Edges); c < n || c > n+n/4 {
+		t.Errorf("presized capacity %d for %d edges, want within 1/4 above", c, n)
 	}
 }
 
