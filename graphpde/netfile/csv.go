@@ -78,7 +78,9 @@ type csvReader struct {
 // errors, which are *Error values carrying the row's line.
 //
 // ReadCSV streams the input: it holds one record at a time, and its cost is
-// linear in the number of rows.
+// linear in the number of rows. When the size of r is known (a *bytes.Reader,
+// *strings.Reader or regular *os.File) it extrapolates the number of rows
+// from the first ones and allocates the network's slices once.
 func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 	cr := csv.NewReader(r)
 	cr.Comment = '#'
