@@ -39,7 +39,7 @@ type scalar interface{ ~float64 | ~complex128 }
 // These integrals are sums of positive terms for real data, so small c (no
 // f/c cancellation) and large Péclet numbers |b|L/a are handled stably; they
 // are evaluated in closed form (expm1 type) for |κL| ≥ 1 and by Gauss–Legendre
-// quadrature of an entire integrand for |κL| < 1. Cost O(1).
+// quadrature or a double series (adjointSeries) for |κL| < 1. Cost O(1).
 func exactElement[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T) {
 	mu := b / (2 * a)
 	muT := fromF[T](mu)
@@ -69,7 +69,11 @@ func exactElement[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T)
 		d[1][1] = -muT + zcoth/LT
 		d[0][1] = fromF[T](math.Exp(mu*L)) * zcsch / LT
 		d[1][0] = -fromF[T](math.Exp(-mu*L)) * zcsch / LT
-		i0, iL = adjointIntegrals(mu, kappa, L)
+		if math.Abs(mu*L) <= 1 {
+			i0, iL = adjointSeries(mu*L, z*z, shz, L)
+		} else {
+			i0, iL = adjointIntegrals(mu, kappa, L)
+		}
 	} else {
 		e2 := expT(-2 * z)
 		q := -expm1T(-2 * z)   // 1 − e^{−2κL}
@@ -116,6 +120,61 @@ func expIntegral[T scalar](r T, L float64) T {
 		return fromF[T](L)
 	}
 	return -expm1T(-r*fromF[T](L)) / r
+}
+
+// adjointSeries returns ∫₀ᴸ v₀ and ∫₀ᴸ v_L (see adjointIntegrals) for
+// |z| = |κL| < 1 and |m| = |μL| ≤ 1 from the double series
+//
+//	∫₀ᴸ v₀ = L e^{m} Σ_k z^{2k}/(2k+1)! · T_k(m) / shc(z),
+//	∫₀ᴸ v_L = L e^{−m} Σ_k z^{2k}/(2k+1)! · T_k(−m) / shc(z),
+//	T_k(m) = ∫₀¹ t^{2k+1} e^{−mt} dt = Σ_j (−m)^j / (j! (2k+j+2)),
+//
+// (expand sinh(κs) and e^{−μs} in s = L − y), with shz = shc(z) given. For
+// |m| ≤ 1 the alternating sums lose at most a factor e² to cancellation and
+// at most 10 terms in k, 24 in j reach round-off (fewer for small |z|, |m|);
+// T_k is real, so the cost is at most about 250 real and 10 complex
+// operations and no transcendental call beyond e^m.
+func adjointSeries[T scalar](m float64, z2, shz T, L float64) (i0, iL T) {
+	const K, J = 10, 24
+	// number of k terms: |z|^{2k}/(2k+1)! below 1e-18 (|z| < 1)
+	az2 := absT(z2)
+	nk, ck := 1, 1.0
+	for nk < K {
+		ck *= az2 / float64((2*nk)*(2*nk+1))
+		if ck < 1e-18 {
+			break
+		}
+		nk++
+	}
+	var t0, t1 [K]float64
+	if m == 0 {
+		for k := range nk {
+			t0[k] = 1 / float64(2*k+2)
+			t1[k] = t0[k]
+		}
+	} else {
+		p := 1.0 // (−m)^j / j!; T_k ≥ e^{−1}/(2k+2), so |p| < 1e-18 is negligible
+		for j := 0; j < J && math.Abs(p) >= 1e-18; j++ {
+			sg := 1.0
+			if j%2 == 1 {
+				sg = -1
+			}
+			for k := range nk {
+				w := p / float64(2*k+j+2)
+				t0[k] += w
+				t1[k] += sg * w
+			}
+			p *= -m / float64(j+1)
+		}
+	}
+	var s0, s1 T
+	c := T(1) // z^{2k}/(2k+1)!
+	for k := range nk {
+		s0 += c * fromF[T](t0[k])
+		s1 += c * fromF[T](t1[k])
+		c = c * z2 / fromF[T](float64((2*k+2)*(2*k+3)))
+	}
+	return fromF[T](L*math.Exp(m)) * s0 / shz, fromF[T](L*math.Exp(-m)) * s1 / shz
 }
 
 // adjointIntegrals returns ∫₀ᴸ v₀ and ∫₀ᴸ v_L for |κL| < 1, with
