@@ -8,12 +8,15 @@ import (
 )
 
 // tsBias is the allowance for the time-stepping bias at the default step,
-// on top of the statistical bound: measured at most 0.6% in these cases
-// (BenchmarkTimeSteppingBias reports it at several steps).
+// on top of the statistical bound: in these cases the measured relative
+// errors at the default step were within their own statistical error
+// (largest 0.9 ± 0.55%); BenchmarkCostToAccuracy measures the bias at
+// larger steps, where it is resolved (−1.45·dt on the S1 star).
 const tsBias = 0.01
 
 func nearTS(t *testing.T, what string, e montecarlo.Estimate, want float64) {
 	t.Helper()
+	t.Logf("%s rel %.4f ± %.4f", what, (e.Mean-want)/want, e.StdErr/want)
 	if math.Abs(e.Mean-want) > bonf*e.StdErr+tsBias*math.Abs(want) {
 		t.Errorf("%s = %.5g ± %.2g, want %.5g (rel. error %.2g)", what, e.Mean, e.StdErr, want, (e.Mean-want)/want)
 	}
@@ -49,6 +52,19 @@ func TestTimeStepping(t *testing.T) {
 		p := -math.Expm1(-b*x/a) / -math.Expm1(-b*L/a)
 		nearTS(t, "P(exit at L)", res.Hit[1], p)
 		nearTS(t, "E tau", res.ExitTime, (L*p-x)*rho/b)
+	})
+	t.Run("junction with a drift arm", func(t *testing.T) {
+		// On an arm with drift b away from the centre, a u'' + b u' = 0
+		// gives u'(0) = (g − u0)/φ(L), φ(L) = a(1 − e^{−bL/a})/b, so the
+		// balance law Σ α(u0 − g)/φ = 0 gives u0 = Σ(αg/φ)/Σ(α/φ)
+		// (DESIGN.md §4's drift-corrected split, here for the whole arm).
+		net := &tNet{}
+		c, e1, e2 := net.node(kirchhoff), net.node(fixed(1)), net.node(fixed(0))
+		net.edge(tEdge{from: c, to: e1, L: 1, a: 0.5, b: 1})
+		net.edge(tEdge{from: e2, to: c, L: 1, a: 0.5})
+		phi := 0.5 * -math.Expm1(-2) / 1
+		res := run(t, net, montecarlo.Start{Node: c}, montecarlo.Settings{Particles: 20000, Seed: 24})
+		nearTS(t, "P(drift end)", res.Hit[e1], (1/phi)/(1/phi+1))
 	})
 	t.Run("varying diffusivity", func(t *testing.T) {
 		net := interval(tEdge{L: 1, prof: func(x float64) (a, b, c, f, rho float64) { return 1 + x, 0, 0, 0, 1 }}, 0, 1)
