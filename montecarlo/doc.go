@@ -128,6 +128,6 @@
 //
 // Exact stepping ran at 1.06e7 steps per second per worker on the S1 star
 // (BenchmarkExactSteps, 3.4 steps per walker). Two workers against one gave
-// a speed-up of only 1.05 when measured, on a 2-core machine shared with
+// a speed-up of only 1.01–1.05 when measured, on a 2-core machine shared with
 // other jobs; blocks are independent, so the speed-up follows the free cores.
 package montecarlo
