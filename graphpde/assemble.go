@@ -281,6 +281,26 @@ func (s *system) edgeSource(e int) float64 {
 	return s.net.Edges[e].F
 }
 
+// constGrid reports whether edge e is a grid edge with constant
+// coefficients and source (the fast, pairable path).
+func (s *system) constGrid(e int) bool {
+	return !s.exact[e] && s.v.EdgeSource == nil && s.net.Edges[e].Constant()
+}
+
+// constCellOf returns the cell coefficients of constant grid edge e.
+func (s *system) constCellOf(e int, shift float64) constCell {
+	ed := &s.net.Edges[e]
+	k := newConstCell(s.grid[e].n, ed.Length, ed.A, ed.B, ed.C+shift*ed.Rho, s.edgeSource(e))
+	k.ends.off = s.grid[e].off
+	return k
+}
+
+// gridStore returns the sweep storage of grid edge e.
+func (s *system) gridStore(e int) []float64 {
+	ge := &s.grid[e]
+	return s.st[3*ge.off : 3*(ge.off+ge.n-1)]
+}
+
 // element computes the end map of edge e for the given shift (and, for a grid
 // edge, its sweep into s.st).
 func (s *system) element(e int, shift float64) {
@@ -297,28 +317,27 @@ func (s *system) element(e int, shift float64) {
 		s.ecf[e] = [2]float64{c, f}
 		return
 	}
+	if s.constGrid(e) {
+		k := s.constCellOf(e, shift)
+		d, g := condenseConst(s.gridStore(e), &k)
+		s.grid[e] = k.ends
+		s.maps[e] = edgeMap{d, g}
+		return
+	}
 	ge := &s.grid[e]
 	n, off := ge.n, ge.off
-	st := s.st[3*off : 3*(off+n-1)]
-	var d [2][2]float64
-	var g [2]float64
-	var out gridEnds
-	if s.v.EdgeSource == nil && ed.Constant() {
-		d, g, out = condenseConst(st, n, L, ed.A, ed.B, ed.C+shift*ed.Rho, s.edgeSource(e))
-	} else {
-		src := s.v.EdgeSource
-		cs := s.v.ConstSource
-		d, g, out = condenseVar(st, n, L, func(x float64) (a, b, c, f float64) {
-			a, b, c, f, rho := ed.Coeffs(x)
-			switch {
-			case src != nil:
-				f = src(e, x)
-			case cs != nil:
-				f = cs[e]
-			}
-			return a, b, c + shift*rho, f
-		})
-	}
+	src := s.v.EdgeSource
+	cs := s.v.ConstSource
+	d, g, out := condenseVar(s.gridStore(e), n, L, func(x float64) (a, b, c, f float64) {
+		a, b, c, f, rho := ed.Coeffs(x)
+		switch {
+		case src != nil:
+			f = src(e, x)
+		case cs != nil:
+			f = cs[e]
+		}
+		return a, b, c + shift*rho, f
+	})
 	out.off = off
 	*ge = out
 	s.maps[e] = edgeMap{d, g}
@@ -326,30 +345,41 @@ func (s *system) element(e int, shift float64) {
 
 // assemble computes every element map with decay c + shift·ρ and leak
 // β + shift·ρ_v and writes the node system into s.mat (same pattern on every
-// call after the first) and s.rhs. Cost O(grid unknowns + edges); it
+// call after the first) and s.rhs. Constant grid edges with equal cells are
+// condensed in pairs (condenseConstPair). Cost O(grid unknowns + edges); it
 // allocates only on the first call (the pattern).
 func (s *system) assemble(shift float64) {
 	net := s.net
 	s.shift = shift
 	s.mat.ZeroValues()
 	clear(s.rhs)
+	pend := -1 // a constant grid edge waiting for a partner
+	var pk constCell
 	for e := range net.Edges {
-		s.element(e, shift)
-		ed := &net.Edges[e]
-		m := &s.maps[e]
-		v0, v1 := ed.From, ed.To
-		if r := s.unk[v0]; r >= 0 {
-			a0 := ed.EndWeight(0)
-			s.add(r, v0, -a0*m.d[0][0])
-			s.add(r, v1, -a0*m.d[0][1])
-			s.rhs[r] += a0 * m.g[0]
+		if !s.constGrid(e) {
+			s.element(e, shift)
+			s.addEdge(e)
+			continue
 		}
-		if r := s.unk[v1]; r >= 0 {
-			aL := ed.EndWeight(1)
-			s.add(r, v0, aL*m.d[1][0])
-			s.add(r, v1, aL*m.d[1][1])
-			s.rhs[r] -= aL * m.g[1]
+		k := s.constCellOf(e, shift)
+		if pend < 0 || s.grid[pend].n != k.ends.n {
+			if pend >= 0 {
+				s.element(pend, shift)
+				s.addEdge(pend)
+			}
+			pend, pk = e, k
+			continue
 		}
+		da, db, ga, gb := condenseConstPair(s.gridStore(pend), s.gridStore(e), &pk, &k)
+		s.grid[pend], s.grid[e] = pk.ends, k.ends
+		s.maps[pend], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
+		s.addEdge(pend)
+		s.addEdge(e)
+		pend = -1
+	}
+	if pend >= 0 {
+		s.element(pend, shift)
+		s.addEdge(pend)
 	}
 	for r, i := range s.nodes {
 		diag, rhs := net.Nodes[i].Law.Row(shift)
@@ -358,6 +388,25 @@ func (s *system) assemble(shift float64) {
 		}
 		s.mat.Add(r, r, diag)
 		s.rhs[r] += rhs
+	}
+}
+
+// addEdge adds the rows of edge e's end map (s.maps[e]) to the node system.
+func (s *system) addEdge(e int) {
+	ed := &s.net.Edges[e]
+	m := &s.maps[e]
+	v0, v1 := ed.From, ed.To
+	if r := s.unk[v0]; r >= 0 {
+		a0 := ed.EndWeight(0)
+		s.add(r, v0, -a0*m.d[0][0])
+		s.add(r, v1, -a0*m.d[0][1])
+		s.rhs[r] += a0 * m.g[0]
+	}
+	if r := s.unk[v1]; r >= 0 {
+		aL := ed.EndWeight(1)
+		s.add(r, v0, aL*m.d[1][0])
+		s.add(r, v1, aL*m.d[1][1])
+		s.rhs[r] -= aL * m.g[1]
 	}
 }
 

@@ -74,18 +74,34 @@ func sgOmega(p float64) float64 {
 	return 2 * (sgB(-p) - 1) / p
 }
 
-// condenseConst condenses a grid edge whose coefficients a, b, c (shift
-// included) and f are constant, writing (α, β⁰, βˢ) triples into st
-// (3(n−1) values) and returning the end map for u' and the end terms.
-// Cost O(n), no allocation.
-func condenseConst(st []float64, n int, L, a, b, c, f float64) (d [2][2]float64, g [2]float64, ge gridEnds) {
+// constCell holds the cell coefficients of a grid edge whose a, b, c, f are
+// constant: R, L of every cell, the diagonal and source of every interior
+// vertex, and the end terms.
+type constCell struct {
+	r, lf, diag, mf float64
+	ends            gridEnds
+}
+
+func newConstCell(n int, L, a, b, c, f float64) constCell {
 	h := L / float64(n)
 	p := b * h / a
 	r := a / h * sgB(-p)
 	lf := a / h * sgB(p)
-	mh := 0.5 * h
-	diag := lf + r + h*c
-	mf := h * f
+	m0 := 0.5 * h * sgOmega(p)
+	mL := 0.5 * h * sgOmega(-p)
+	return constCell{r: r, lf: lf, diag: lf + r + h*c, mf: h * f,
+		ends: gridEnds{n: n,
+			r0: r, mf0: m0 * f, mc0: m0 * c, a0: a,
+			lL: lf, mfL: mL * f, mcL: mL * c, aL: a}}
+}
+
+// condenseConst condenses a grid edge whose coefficients a, b, c (shift
+// included) and f are constant (k from newConstCell), writing (α, β⁰, βˢ)
+// triples into st (3(n−1) values) and returning the end map for u'.
+// Cost O(n), no allocation.
+func condenseConst(st []float64, k *constCell) (d [2][2]float64, g [2]float64) {
+	n := k.ends.n
+	r, lf, diag, mf := k.r, k.lf, k.diag, k.mf
 	st = st[:3*(n-1)]
 	alpha, b0, bs := 0.0, 1.0, 0.0
 	pi, p0, ps := 1.0, 0.0, 0.0
@@ -99,13 +115,43 @@ func condenseConst(st []float64, n int, L, a, b, c, f float64) (d [2][2]float64,
 		ps += pi * bs
 		pi *= alpha
 	}
-	m0 := mh * sgOmega(p)
-	mL := mh * sgOmega(-p)
-	ge = gridEnds{n: n,
-		r0: r, mf0: m0 * f, mc0: m0 * c, a0: a,
-		lL: lf, mfL: mL * f, mcL: mL * c, aL: a}
-	d, g = gridMap(&ge, p0, pi, ps, alpha, b0, bs)
-	return d, g, ge
+	return gridMap(&k.ends, p0, pi, ps, alpha, b0, bs)
+}
+
+// condenseConstPair is condenseConst for two edges with the same number of
+// cells at once (sa, sb their storage, ka, kb their coefficients). The two
+// sweeps are independent chains, so interleaving them hides the latency of
+// the division that bounds a single sweep. Results equal two condenseConst
+// calls bit for bit.
+func condenseConstPair(sa, sb []float64, ka, kb *constCell) (da, db [2][2]float64, ga, gb [2]float64) {
+	n := ka.ends.n
+	sa = sa[:3*(n-1)]
+	sb = sb[:3*(n-1)]
+	ra, lfa, diaga, mfa := ka.r, ka.lf, ka.diag, ka.mf
+	rb, lfb, diagb, mfb := kb.r, kb.lf, kb.diag, kb.mf
+	alpa, b0a, bsa, pia, p0a, psa := 0.0, 1.0, 0.0, 1.0, 0.0, 0.0
+	alpb, b0b, bsb, pib, p0b, psb := 0.0, 1.0, 0.0, 1.0, 0.0, 0.0
+	for j := 0; j+2 < len(sa) && j+2 < len(sb); j += 3 {
+		inva := 1 / (diaga - lfa*alpa)
+		invb := 1 / (diagb - lfb*alpb)
+		alpa = ra * inva
+		alpb = rb * invb
+		b0a = lfa * b0a * inva
+		b0b = lfb * b0b * invb
+		bsa = (mfa + lfa*bsa) * inva
+		bsb = (mfb + lfb*bsb) * invb
+		sa[j], sa[j+1], sa[j+2] = alpa, b0a, bsa
+		sb[j], sb[j+1], sb[j+2] = alpb, b0b, bsb
+		p0a += pia * b0a
+		p0b += pib * b0b
+		psa += pia * bsa
+		psb += pib * bsb
+		pia *= alpa
+		pib *= alpb
+	}
+	da, ga = gridMap(&ka.ends, p0a, pia, psa, alpa, b0a, bsa)
+	db, gb = gridMap(&kb.ends, p0b, pib, psb, alpb, b0b, bsb)
+	return da, db, ga, gb
 }
 
 // gridMap turns the sweep results into the end map for u': u_1 = p0·U0 +
