@@ -73,13 +73,14 @@ type ExitStats struct {
 	// HasDistribution reports whether the law of τ (Survival, Quantiles,
 	// SurvivalAt) is available. It is true on both paths; on the grid path
 	// the law comes from Gaver–Stehfest inversion with real shifts (about
-	// 1e−5, plus the grid error) instead of Talbot contours (3e−10), and
+	// 1e−5, plus the grid error) instead of Talbot contours (1e−11), and
 	// Notes says so.
 	HasDistribution bool
 	// Notes explain what is unavailable and why, and any accuracy warning.
 	Notes []string
-	// Transforms is the number of complex node-system solves (values of the
-	// Laplace transform) spent on moments, Survival and Quantiles; later
+	// Transforms is the number of values of the Laplace transform of τ
+	// spent on moments, Survival and Quantiles (complex node-system solves
+	// on the exact path, real grid solves on the grid path); later
 	// SurvivalAt calls are not counted.
 	Transforms int
 
@@ -87,13 +88,15 @@ type ExitStats struct {
 }
 
 // SurvivalAt returns P(τ > t) by numerical inversion of the Laplace
-// transform of τ (Talbot contours, one per octave of t, absolute error about
-// 1e−11), clamped to [0, 1]; it is 1 for t ≤ 0 when the start is not
-// absorbing. The first call in an octave [M·2^k, M·2^{k+1}] (M the mean)
-// costs InversionNodes complex node-system factorisations, O(edges) each on
-// a tree; later calls in the same octave cost O(InversionNodes). It is safe
-// for concurrent use (calls are serialised). It returns NaN when
-// HasDistribution is false or a transform evaluation fails.
+// transform of τ, clamped to [0, 1]; it is 1 for t ≤ 0 when the start is
+// not absorbing. On the exact path the inversion uses Talbot contours, one
+// per octave of t (absolute error about 1e−11): the first call in an octave
+// [M·2^k, M·2^{k+1}] (M the mean) costs InversionNodes complex node-system
+// factorisations, O(edges) each on a tree, later calls in the same octave
+// O(InversionNodes). On the grid path each new t costs 16 grid solves
+// (Gaver–Stehfest, about 1e−5). It is safe for concurrent use (calls are
+// serialised). It returns NaN when HasDistribution is false or a transform
+// evaluation fails.
 func (x *ExitStats) SurvivalAt(t float64) float64 {
 	if x.law == nil {
 		return math.NaN()
@@ -106,8 +109,8 @@ func (x *ExitStats) SurvivalAt(t float64) float64 {
 }
 
 // ExitError reports exit statistics that cannot be computed for this data.
-// A failure of the node system (for example a *nodesys.SingularError) is
-// kept in Err.
+// A failure of a solve (a *SingularNodeError, *UnanchoredError,
+// *NonFiniteError, …) is kept in Err.
 type ExitError struct {
 	Start  string // the start point in network-file syntax
 	Reason string
@@ -602,41 +605,64 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	return S, w.c.Apply(t, w.fl), nil
 }
 
-// quantileTol is the accuracy of a quantile search in probability: a
-// hundred times the inversion error of a window contour (1e−11); below it
-// there is nothing left to gain.
-const quantileTol = 1e-9
+// quantileTol is the accuracy of a quantile search in probability with
+// Talbot inversion: a hundred times its error (1e−11); below it there is
+// nothing left to gain. stehfestQuantileTol is the same for the grid path,
+// whose Gaver–Stehfest inversion is good to about 1e−5 and whose values
+// carry rounding noise of about 1e−5 (the grid transform's rounding, 1e−13,
+// times weights of up to 1e8; measured), so that a finer search only
+// bisects noise. quantileWidth is the relative width of the bracket at which
+// the search stops in any case.
+const (
+	quantileTol         = 1e-9
+	stehfestQuantileTol = 2e-5
+	quantileWidth       = 1e-12
+	stehfestWidth       = 1e-7
+)
 
 // quantile returns T with P(τ ≤ T) = p, 0 < p < 1, for a lifetime of the
-// given mean. The bracket starts from Markov's inequality, P(τ > t) ≤ E τ/t,
-// so S(E τ/(1−p)) ≤ 1 − p; the lower end is found by quartering. Inside the
-// bracket Newton steps with the density are taken when they stay inside,
-// bisection in log t otherwise.
+// given mean. The root is bracketed on the lattice mean·2^k (whose values
+// are shared among quantiles: the Talbot windows are the octaves of the same
+// lattice, and the Gaver–Stehfest values are cached), then found by Newton
+// steps with the density where they stay inside the bracket and bisection
+// in log t otherwise.
 func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
 	if lw.zero {
 		return 0, nil
 	}
+	tol, width := quantileTol, quantileWidth
+	if lw.real != nil {
+		tol, width = stehfestQuantileTol, stehfestWidth
+	}
 	y := 1 - p
-	hi := mean / y * (1 + 1e-9)
-	shi, _, err := lw.survival(hi)
+	lo, hi := mean, mean
+	slo, _, err := lw.survival(mean)
 	if err != nil {
 		return 0, err
 	}
-	for k := 0; shi > y && k < 20; k++ { // inversion error only
-		hi *= 2
-		if shi, _, err = lw.survival(hi); err != nil {
-			return 0, err
+	shi := slo
+	const maxOctaves = 200 // t from mean·2^−200 to mean·2^200
+	if slo > y {
+		for k := 1; shi > y; k++ {
+			if k > maxOctaves {
+				return 0, fmt.Errorf("quantile %g: P(τ > t) stays above %g up to t = %g", p, y, hi)
+			}
+			lo, slo = hi, shi
+			hi = mean * math.Exp2(float64(k))
+			if shi, _, err = lw.survival(hi); err != nil {
+				return 0, err
+			}
 		}
-	}
-	lo := hi
-	slo := shi
-	for k := 0; slo <= y; k++ {
-		if k == 60 {
-			return 0, fmt.Errorf("quantile %g: no time with P(τ > t) > %g down to t = %g", p, y, lo)
-		}
-		lo /= 4
-		if slo, _, err = lw.survival(lo); err != nil {
-			return 0, err
+	} else {
+		for k := 1; slo <= y; k++ {
+			if k > maxOctaves {
+				return 0, fmt.Errorf("quantile %g: P(τ > t) stays below %g down to t = %g", p, y, lo)
+			}
+			hi, shi = lo, slo
+			lo = mean * math.Exp2(-float64(k))
+			if slo, _, err = lw.survival(lo); err != nil {
+				return 0, err
+			}
 		}
 	}
 	// Start from linear interpolation in log t.
@@ -646,7 +672,7 @@ func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
 		if err != nil {
 			return 0, err
 		}
-		if math.Abs(st-y) <= quantileTol {
+		if math.Abs(st-y) <= tol {
 			return t, nil
 		}
 		if st > y {
@@ -654,7 +680,7 @@ func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
 		} else {
 			hi = t
 		}
-		if hi-lo <= 1e-13*hi {
+		if hi-lo <= width*hi {
 			return t, nil
 		}
 		next := t + (st-y)/ft

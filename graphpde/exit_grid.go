@@ -60,16 +60,24 @@ func componentNetwork(net *Network, p Point) (sub *Network, nodeOf, edgeOf []int
 	return sub, nodeOf, edgeOf, sp, nil
 }
 
-// gridExit holds the grid node system of the start's component, re-used by
-// every problem of the grid path: the system is built once with a source
-// function (so every edge is a grid edge) and only its data change between
-// solves.
+// gridExit holds the grid node systems of the start's component, re-used
+// by every problem of the grid path; only their data change between solves.
+// vsys takes the edge source as a function of x (needed for the moment
+// hierarchy and for sources that follow a capacity or decay profile); csys
+// takes one constant source per edge, which lets constant-coefficient edges
+// use the faster constant grid condensation. Each system keeps its ordering
+// and symbolic factorisation across solves.
 type gridExit struct {
 	net   *Network // the component
 	start Point    // in its numbering
-	sys   *system
-	v     *Variant // shares its slices with sys.v
-	src   func(e int, x float64) float64
+	set   Settings
+
+	vsys *system
+	vv   *Variant // shares its slices with vsys.v
+	src  func(e int, x float64) float64
+
+	csys *system
+	cv   *Variant // shares its slices with csys.v
 }
 
 func newGridExit(net *Network, p Point, set *Settings) (*gridExit, []int, []int, error) {
@@ -77,35 +85,58 @@ func newGridExit(net *Network, p Point, set *Settings) (*gridExit, []int, []int,
 	if err != nil {
 		return nil, nil, nil, err
 	}
-	g := &gridExit{net: sub, start: sp}
-	g.v = &Variant{
+	g := &gridExit{net: sub, start: sp, set: Settings{Method: MethodGrid, Cells: set.Cells}}
+	g.src = func(int, float64) float64 { return 0 }
+	g.vv = &Variant{
 		EdgeSource: func(e int, x float64) float64 { return g.src(e, x) },
 		NodeInject: make([]float64, len(sub.Nodes)),
 		FixedValue: make([]float64, len(sub.Nodes)),
 	}
-	g.src = func(int, float64) float64 { return 0 }
-	gs := Settings{Method: MethodGrid}
-	if set != nil {
-		gs.Cells = set.Cells
+	g.cv = &Variant{
+		ConstSource: make([]float64, len(sub.Edges)),
+		NodeInject:  make([]float64, len(sub.Nodes)),
+		FixedValue:  make([]float64, len(sub.Nodes)),
 	}
-	if g.sys, err = newSystem(sub, g.v, &gs); err != nil {
+	if g.csys, err = newSystem(sub, g.cv, &g.set); err != nil {
 		return nil, nil, nil, err
 	}
 	return g, nodeOf, edgeOf, nil
 }
 
-// solve assembles with the current data and shift, factors (re-using the
-// ordering) and solves. The Solution shares the system's grid storage: it
-// is valid until the next solve.
-func (g *gridExit) solve(shift float64) (*Solution, error) {
-	s := g.sys
-	s.v.Shift = shift
-	s.assemble(shift)
-	if err := s.factor(); err != nil {
+// solve assembles sys with its current data and the shift, factors
+// (re-using the ordering) and solves. The Solution shares the system's grid
+// storage: it is valid until the next solve of the same system.
+func (g *gridExit) solve(sys *system, shift float64) (*Solution, error) {
+	sys.v.Shift = shift
+	sys.assemble(shift)
+	if err := sys.factor(); err != nil {
 		return nil, err
 	}
-	s.solve()
-	return s.solution()
+	sys.solve()
+	return sys.solution()
+}
+
+// solveVar solves the function-source system, building it on first use.
+func (g *gridExit) solveVar(shift float64) (*Solution, error) {
+	if g.vsys == nil {
+		var err error
+		if g.vsys, err = newSystem(g.net, g.vv, &g.set); err != nil {
+			return nil, err
+		}
+	}
+	return g.solve(g.vsys, shift)
+}
+
+// constProfile reports whether no edge of the component has a profile for
+// the coefficient picked by which (so a constant source per edge can
+// stand for it).
+func (g *gridExit) constProfile(which func(p *Profile) bool) bool {
+	for e := range g.net.Edges {
+		if p := g.net.Edges[e].Profile; p != nil && which(p) {
+			return false
+		}
+	}
+	return true
 }
 
 // snapshot copies the grid values of sol so that it survives later solves.
@@ -132,18 +163,15 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		return err
 	}
 	sub := g.net
-	nv := g.v
-	clear(nv.NodeInject)
-	clear(nv.FixedValue)
-	g.src = func(int, float64) float64 { return 0 }
+	cv, nv := g.cv, g.vv
 	var hitSum float64
 	for v := range sub.Nodes {
 		if sub.Nodes[v].Law.Kind != vertex.Fixed {
 			continue
 		}
-		nv.FixedValue[v] = 1
-		sol, err := g.solve(0)
-		nv.FixedValue[v] = 0
+		cv.FixedValue[v] = 1
+		sol, err := g.solve(g.csys, 0)
+		cv.FixedValue[v] = 0
 		if err != nil {
 			return err
 		}
@@ -175,7 +203,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 				nv.NodeInject[v] = nf * l.Capacity * T
 			}
 		}
-		sol, err := g.solve(0)
+		sol, err := g.solveVar(0)
 		if err != nil {
 			return err
 		}
@@ -187,20 +215,29 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 
 	// Occupations: the mean problem with the source on one edge only.
 	clear(nv.NodeInject)
-	if float64(len(sub.Edges))*float64(g.sys.stats.Unknowns) > gridOccupationBudget {
+	constRho := g.constProfile(func(p *Profile) bool { return p.Rho != nil })
+	if float64(len(sub.Edges))*float64(g.csys.stats.Unknowns) > gridOccupationBudget {
 		for _, e := range edgeOf {
 			x.Occupation[e] = math.NaN()
 		}
-		x.Notes = append(x.Notes, fmt.Sprintf("occupation times not computed: %d edges × %d grid unknowns is above the budget of %g solves×unknowns (one grid solve per edge)", len(sub.Edges), g.sys.stats.Unknowns, gridOccupationBudget))
+		x.Notes = append(x.Notes, fmt.Sprintf("occupation times not computed: %d edges × %d grid unknowns is above the budget of %g solves×unknowns (one grid solve per edge)", len(sub.Edges), g.csys.stats.Unknowns, gridOccupationBudget))
 	} else {
 		for k := range sub.Edges {
-			g.src = func(e int, xx float64) float64 {
-				if e != k {
-					return 0
+			var sol *Solution
+			var err error
+			if constRho {
+				clear(cv.ConstSource)
+				cv.ConstSource[k] = sub.Edges[k].Rho
+				sol, err = g.solve(g.csys, 0)
+			} else {
+				g.src = func(e int, xx float64) float64 {
+					if e != k {
+						return 0
+					}
+					return g.rho(e, xx)
 				}
-				return g.rho(e, xx)
+				sol, err = g.solveVar(0)
 			}
-			sol, err := g.solve(0)
 			if err != nil {
 				return err
 			}
@@ -210,22 +247,34 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 
 	// The law of τ: L(s) at real s ≥ 0 with decay c + sρ, leak β + sρ_v,
 	// value 1 at fixed nodes and the killing paid as a reward.
-	g.src = func(e int, xx float64) float64 {
-		_, _, c, _, _ := g.net.Edges[e].Coeffs(xx)
-		return c
+	sys, v := g.csys, cv
+	if g.constProfile(func(p *Profile) bool { return p.C != nil }) {
+		for e := range sub.Edges {
+			cv.ConstSource[e] = sub.Edges[e].C
+		}
+	} else {
+		g.src = func(e int, xx float64) float64 {
+			_, _, c, _, _ := g.net.Edges[e].Coeffs(xx)
+			return c
+		}
+		if _, err := g.solveVar(0); err != nil { // builds vsys
+			return err
+		}
+		sys, v = g.vsys, nv
 	}
-	for v := range sub.Nodes {
-		l := sub.Nodes[v].Law
-		nv.NodeInject[v], nv.FixedValue[v] = 0, 0
+	for i := range sub.Nodes {
+		l := sub.Nodes[i].Law
+		v.NodeInject[i], v.FixedValue[i] = 0, 0
 		switch l.Kind {
 		case vertex.Balance:
-			nv.NodeInject[v] = l.Leak
+			v.NodeInject[i] = l.Leak
 		case vertex.Fixed:
-			nv.FixedValue[v] = 1
+			v.FixedValue[i] = 1
 		}
 	}
 	x.law = &lifetimeLaw{real: func(sh float64) (float64, error) {
-		sol, err := g.solve(sh)
+		x.Transforms++
+		sol, err := g.solve(sys, sh)
 		if err != nil {
 			return 0, err
 		}

@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -18,6 +19,7 @@ import (
 type exitSystem struct {
 	el    []exitEl
 	law   []vertex.Law // per system node
+	ids   []string     // per system node: node id or EDGE@X for the split point
 	orig  []int        // system node → network node, −1 for the split point
 	unk   []int        // system node → unknown, −1 for fixed nodes
 	nUnk  int
@@ -66,6 +68,7 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 		}
 		node[v] = len(sys.law)
 		sys.law = append(sys.law, net.Nodes[v].Law)
+		sys.ids = append(sys.ids, net.Nodes[v].ID)
 		sys.orig = append(sys.orig, v)
 		anchored = anchored || net.Nodes[v].Law.Anchors()
 	}
@@ -86,6 +89,7 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 		}
 		mid := len(sys.law)
 		sys.law = append(sys.law, vertex.Law{Kind: vertex.Balance})
+		sys.ids = append(sys.ids, net.PointString(p))
 		sys.orig = append(sys.orig, -1)
 		left, right := base, base
 		left.to, left.L, left.w1 = mid, p.X, e.A
@@ -188,6 +192,21 @@ func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitL
 	}
 }
 
+// factor factors m and turns a singular pivot into a *SingularNodeError
+// naming the node.
+func factor[T scalar](sys *exitSystem, f *nodesys.Factor[T], m *nodesys.Matrix[T]) error {
+	err := f.Factorize(m)
+	var se *nodesys.SingularError
+	if errors.As(err, &se) {
+		for v, i := range sys.unk {
+			if i == se.Index {
+				return &SingularNodeError{Node: sys.ids[v], Pivot: se.Pivot, Scale: se.Scale}
+			}
+		}
+	}
+	return err
+}
+
 // adjoint holds the solution w of Kᵀw = e_start at s = 0: w_v is the
 // derivative of u(start) with respect to the right-hand side of row v, so any
 // steady statistic of the walker is w·(its right-hand side). In walker terms
@@ -202,7 +221,7 @@ func (sys *exitSystem) steadyAdjoint() (*adjoint, error) {
 	rhs := make([]float64, sys.nUnk)
 	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, true)
 	f := nodesys.NewFactor[float64](nil)
-	if err := f.Factorize(m); err != nil {
+	if err := factor(sys, f, m); err != nil {
 		return nil, err
 	}
 	e := make([]float64, sys.nUnk)
@@ -252,7 +271,7 @@ func (sys *exitSystem) steadyMean() ([]float64, error) {
 		fixedG: func(int) float64 { return 0 },
 	}, false)
 	f := nodesys.NewFactor[float64](nil)
-	if err := f.Factorize(m); err != nil {
+	if err := factor(sys, f, m); err != nil {
 		return nil, err
 	}
 	u := make([]float64, sys.nUnk)
@@ -324,7 +343,7 @@ func (tr *transformer) at(s complex128) (complex128, error) {
 	tr.ld.s = s
 	tr.n++
 	assemble(tr.sys, tr.m, tr.rhs, tr.ld, false)
-	if err := tr.f.Factorize(tr.m); err != nil {
+	if err := factor(tr.sys, tr.f, tr.m); err != nil {
 		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)
 	}
 	tr.f.SolveTo(tr.u, tr.rhs)

@@ -731,8 +731,9 @@ func TestExitRandomTreeConsistency(t *testing.T) {
 }
 
 // BenchmarkExitStatistics times the full statistics (5 quantiles, 4 times,
-// 2 moments) on random trees against one steady solve (the forward mean
-// problem: assembly, ordering, factorisation, solve) on the same tree.
+// 2 moments) on random trees against one steady solve of the same network
+// (Solve: classification, assembly, ordering, factorisation, solve), one
+// complex transform value, and the grid path (64 cells per edge).
 func BenchmarkExitStatistics(b *testing.B) {
 	for _, n := range []int{200, 2000} {
 		net := randomTree(b, n, rand.New(rand.NewPCG(1, uint64(n))))
@@ -749,11 +750,10 @@ func BenchmarkExitStatistics(b *testing.B) {
 				}
 			}
 		})
-		b.Run("steady/edges="+strconv.Itoa(n), func(b *testing.B) {
+		b.Run("solve/edges="+strconv.Itoa(n), func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {
-				sys := newExitSystem(net, start)
-				if _, err := sys.steadyMean(); err != nil {
+				if _, err := Solve(net, nil); err != nil {
 					b.Fatal(err)
 				}
 			}
@@ -763,6 +763,26 @@ func BenchmarkExitStatistics(b *testing.B) {
 			tr := newTransformer(newExitSystem(net, start))
 			for b.Loop() {
 				if _, err := tr.at(complex(3, 4)); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		if n > 200 {
+			continue
+		}
+		gset := &ExitSettings{Method: MethodGrid, Times: []float64{0.1, 0.5, 1, 2}}
+		b.Run("grid-exit/edges="+strconv.Itoa(n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := ExitStatistics(net, start, gset); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run("grid-solve/edges="+strconv.Itoa(n), func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if _, err := Solve(net, &Settings{Method: MethodGrid}); err != nil {
 					b.Fatal(err)
 				}
 			}
