@@ -45,7 +45,12 @@ func exactElement[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T)
 	muT := fromF[T](mu)
 	LT := fromF[T](L)
 	lam := c / fromF[T](a)
-	kappa := sqrtT(muT*muT + lam)
+	var kappa T
+	if math.Abs(mu) < 1e150 {
+		kappa = sqrtT(muT*muT + lam)
+	} else { // μ² would overflow
+		kappa = fromF[T](math.Abs(mu)) * sqrtT(1+lam/muT/muT)
+	}
 	z := kappa * LT
 	// κ − μ and κ + μ without cancellation.
 	var kmm, kpm T

@@ -282,6 +282,12 @@ func TestExactElementExtreme(t *testing.T) {
 			t.Errorf("Pe %g with decay: g = %v", pe, g)
 		}
 	}
+	// drift so strong that μ² overflows: still the drift asymptotics
+	d, g = exactElement(1, 1e300, 1.0, 1.0, 1)
+	near("huge drift d00/b", d[0][0]/1e300, -1)
+	near("huge drift d01/b", d[0][1]/1e300, 1)
+	near("huge drift d11", d[1][1], 0)
+	near("huge drift g0", g[0], 1)
 }
 
 // TestAdjointSeriesQuadrature compares the two evaluations of the adjoint
