@@ -274,6 +274,14 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		x.Notes = append(x.Notes, fmt.Sprintf("forward and adjoint mean differ by %.2g (relative): ill-conditioned node system", d/x.Mean))
 	}
 	x.Mean = T1[sys.start]
+	if x.Mean == 0 {
+		// Only an isolated node with a leak and no capacity: killed at once.
+		x.Killed = 1
+		x.HasDistribution = true
+		x.law = &lifetimeLaw{zero: true}
+		x.fillDistribution(&s)
+		return x, nil
+	}
 	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes, base: x.Mean, check: !sys.reversible}
 	if err := x.moments(sys.supMean(T1)); err != nil {
 		return nil, fail("moments", err)

@@ -293,6 +293,9 @@ func (sys *exitSystem) steadyMean() ([]float64, error) {
 // resulting contour radius anyway).
 func (sys *exitSystem) supMean(T1 []float64) float64 {
 	var sup float64
+	for _, t := range T1 {
+		sup = math.Max(sup, t)
+	}
 	for k := range sys.el {
 		el := &sys.el[k]
 		bump := el.rho * el.L * el.L / (8 * el.a)

@@ -947,3 +947,35 @@ func bromwichDensity(t *testing.T, L func(complex128) (complex128, error), ts []
 	}
 	return sums
 }
+
+// TestExitIsolatedNode: a node with no edges, capacity ρ_v and leak β holds
+// the walker for an exponential time of rate β/ρ_v (the balance law
+// ρ_v u' = −β u): S(t) = e^{−βt/ρ_v}, E τⁿ = n!(ρ_v/β)ⁿ, killed with
+// probability 1. With no capacity the walker dies at once.
+func TestExitIsolatedNode(t *testing.T) {
+	const rhoV, beta = 2.0, 0.5
+	net := mustNet(t, []Node{{ID: "cell", Law: vertex.Law{Kind: vertex.Balance, Capacity: rhoV, Leak: beta}}, {ID: "gone", Law: vertex.Law{Kind: vertex.Balance, Leak: 1}}}, nil)
+	x, err := ExitStatistics(net, Point{Node: 0, Edge: -1}, &ExitSettings{Times: []float64{0.5, 4, 20}, Moments: 3, Quantiles: []float64{0.5}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	m := rhoV / beta
+	if !near(x.Killed, 1, exitRoundoff) || !near(x.Mean, m, exitRoundoff) || !near(x.Moments[2], 6*m*m*m, cauchyMoments*6*m*m*m) {
+		t.Errorf("killed %g, moments %v; want 1, %g, %g, %g", x.Killed, x.Moments, m, 2*m*m, 6*m*m*m)
+	}
+	for _, sp := range x.Survival {
+		if want := math.Exp(-sp.T / m); !near(sp.P, want, inversion) {
+			t.Errorf("P(τ > %g) = %.12g, want %.12g", sp.T, sp.P, want)
+		}
+	}
+	if q := x.Quantiles[0].T; !near(q, m*math.Ln2, 1e-8) {
+		t.Errorf("median %.12g, want %.12g", q, m*math.Ln2)
+	}
+	y, err := ExitStatistics(net, Point{Node: 1, Edge: -1}, &ExitSettings{Times: []float64{1}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if y.Mean != 0 || y.Killed != 1 || y.Survival[0].P != 0 {
+		t.Errorf("zero capacity: mean %g killed %g S(1) %g", y.Mean, y.Killed, y.Survival[0].P)
+	}
+}
