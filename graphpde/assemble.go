@@ -25,8 +25,11 @@ import (
 //
 // Between calls a caller may change sys.v (sources, injections, fixed values;
 // not the kind of an edge: EdgeSource must stay nil or non-nil as at
-// construction) and call assemble again: nothing is re-allocated and nothing
-// is re-ordered. solve already calls recover.
+// construction, and an edge with a capacity profile is exact when built with
+// v.Shift = 0, so a later non-zero shift panics there — build with the shift
+// set) and call assemble again: nothing is re-allocated and nothing is
+// re-ordered. solve already calls recover. solution() shares the grid
+// storage with the system: copy it (gval) to keep it across assemblies.
 //
 // Unknown numbering: balance node v is unknown unk[v] ≥ 0, fixed nodes have
 // unk[v] = −1 and go to the right-hand side. Row of a balance node v:
