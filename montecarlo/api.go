@@ -162,6 +162,7 @@ type Result struct {
 	Hit       []Estimate // per node: P(absorbed there); zero for balance nodes
 	Killed    Estimate   // P(killed by decay or leak)
 	Censored  int64      // walkers still out at TimeCap, never counted as exits
+	TimeCap   float64    // the per-walker time cap in force (Settings.TimeCap or the default)
 	// Occupation is per edge the expected time spent on the edge.
 	Occupation []Estimate
 	// Visits is per node the expected number of node steps (arrivals at a
@@ -205,6 +206,9 @@ type WeightError struct {
 }
 
 func (e *WeightError) Error() string {
+	if e.Field == "split" {
+		return fmt.Sprintf("node %q, edge %q: split = %g must be a finite number ≥ 0, and the node's split must not be all zero", e.Node, e.Edge, e.Value)
+	}
 	return fmt.Sprintf("node %q, edge %q: %s = %g must be a finite number > 0", e.Node, e.Edge, e.Field, e.Value)
 }
 

@@ -433,7 +433,7 @@ func TestErrors(t *testing.T) {
 	badW.nodes[0].law = kirchhoff
 	badW.edges[0].w = [2]float64{-1, 0}
 	badSplit := star(kirchhoff, []starArm{{L: 1, a: 1, rho: 1, alpha: 1}, {L: 1, a: 1, rho: 1, alpha: 1}})
-	badSplit.nodes[0].split = []float64{1, 0}
+	badSplit.nodes[0].split = []float64{0, 0}
 	badA := interval(tEdge{L: 1, a: 0}, 0, 1)
 	var startErr *montecarlo.StartError
 	var weightErr *montecarlo.WeightError
@@ -451,7 +451,7 @@ func TestErrors(t *testing.T) {
 		{"off the edge", good, onEdge(0, 1.5), montecarlo.Settings{}, &startErr},
 		{"NaN position", good, onEdge(0, math.NaN()), montecarlo.Settings{}, &startErr},
 		{"negative weight", badW, onEdge(0, 0.5), montecarlo.Settings{}, &weightErr},
-		{"zero split", badSplit, montecarlo.Start{Node: 0}, montecarlo.Settings{}, &weightErr},
+		{"all-zero split", badSplit, montecarlo.Start{Node: 0}, montecarlo.Settings{}, &weightErr},
 		{"zero diffusivity", badA, onEdge(0, 0.5), montecarlo.Settings{}, &coefErr},
 		{"samples too big", good, onEdge(0, 0.5), montecarlo.Settings{Particles: 1 << 40, KeepSamples: true}, &memErr},
 	} {
@@ -527,5 +527,24 @@ func TestQuantiles(t *testing.T) {
 	// The spread of the law: sd of τ₁ is sqrt(2/3) (REFERENCES.md B2).
 	if sd := math.Sqrt(2.0 / 3); math.Abs(res.ExitSD-sd) > bonf*math.Sqrt(6.1/n)/(2*sd) {
 		t.Errorf("ExitSD = %g, want %g", res.ExitSD, sd)
+	}
+}
+
+// TestOneWaySplit checks that a zero entry in a split override is legal and
+// means what it says: from the centre of a two-arm star whose split sends
+// every walker along arm 0, every walker ends at that arm's end, whatever the
+// weights, and none ever leaves along arm 1.
+func TestOneWaySplit(t *testing.T) {
+	net := star(kirchhoff, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, g: 1}, {L: 0.5, a: 1, rho: 1, alpha: 3}})
+	net.nodes[0].split = []float64{1, 0}
+	res, err := montecarlo.Run(context.Background(), net, montecarlo.Start{Node: 0}, &montecarlo.Settings{Particles: 5000, Seed: 3})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Hit[1].Mean != 1 || res.Hit[2].Mean != 0 {
+		t.Errorf("hits %v, %v: want 1 and 0", res.Hit[1].Mean, res.Hit[2].Mean)
+	}
+	if d := res.Departures[0]; d[1] != 0 || d[0] == 0 {
+		t.Errorf("departures %v: want none along arm 1", d)
 	}
 }

@@ -252,10 +252,17 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		if len(split) != n {
 			panic("montecarlo: NodeSplit not aligned with NodeIncident")
 		}
+		// A zero entry is legal: walkers never leave along that end. The
+		// entries must not all be zero.
+		var sum float64
 		for k, p := range split {
-			if !finite(p) || p <= 0 {
+			if !finite(p) || p < 0 {
 				return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(ends[k].Edge), Field: "split", Value: p}
 			}
+			sum += p
+		}
+		if !(sum > 0) {
+			return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(ends[0].Edge), Field: "split", Value: sum}
 		}
 		vertex.ApplySplit(alpha, alpha, split)
 	}

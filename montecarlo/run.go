@@ -330,6 +330,7 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		res.Quantiles = quantiles(kept, s.Quantiles)
 	}
 	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact, LawExact: m.lawExact}
+	res.TimeCap = m.timeCap
 	if done > 0 && exited == 0 {
 		return res, &CensoredError{Censored: censored, Finished: done, TimeCap: m.timeCap}
 	}
