@@ -979,3 +979,51 @@ func TestExitIsolatedNode(t *testing.T) {
 		t.Errorf("zero capacity: mean %g killed %g S(1) %g", y.Mean, y.Killed, y.Survival[0].P)
 	}
 }
+
+// TestExitSelfLoop: a loop of length 2ℓ at the centre of a star is, by
+// symmetry about its midpoint, two reflecting arms of length ℓ (derived: the
+// solution is even about the midpoint, so its derivative vanishes there,
+// which is the balance law of a free leaf). Both networks must give the same
+// statistics, from the centre and from a point on the loop.
+func TestExitSelfLoop(t *testing.T) {
+	const ell = 0.7
+	loop := mustNet(t, []Node{{ID: "o", Law: vertex.Law{Kind: vertex.Balance, Capacity: 0.2}}, {ID: "end", Law: fixedAt(0)}},
+		[]edgeSpec{
+			{Edge{ID: "arm", Length: 1.3, A: 0.5, Weight: [2]float64{0.8, 0}}, "o", "end"},
+			{Edge{ID: "loop", Length: 2 * ell, A: 0.5, C: 0.3, Weight: [2]float64{0.6, 0.6}}, "o", "o"},
+		})
+	arms := mustNet(t, []Node{{ID: "o", Law: vertex.Law{Kind: vertex.Balance, Capacity: 0.2}}, {ID: "end", Law: fixedAt(0)}, {ID: "l1", Law: free}, {ID: "l2", Law: free}},
+		[]edgeSpec{
+			{Edge{ID: "arm", Length: 1.3, A: 0.5, Weight: [2]float64{0.8, 0}}, "o", "end"},
+			{Edge{ID: "h1", Length: ell, A: 0.5, C: 0.3, Weight: [2]float64{0.6, 0}}, "o", "l1"},
+			{Edge{ID: "h2", Length: ell, A: 0.5, C: 0.3, Weight: [2]float64{0.6, 0}}, "o", "l2"},
+		})
+	set := &ExitSettings{Times: []float64{0.3, 1, 4}, Moments: 3}
+	for _, st := range []struct{ a, b Point }{
+		{Point{Node: 0, Edge: -1}, Point{Node: 0, Edge: -1}},
+		{Point{Node: -1, Edge: 1, X: 0.4}, Point{Node: -1, Edge: 1, X: 0.4}},
+	} {
+		x, err := ExitStatistics(loop, st.a, set)
+		if err != nil {
+			t.Fatal(err)
+		}
+		y, err := ExitStatistics(arms, st.b, set)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !near(x.Hit[1], y.Hit[1], exitRoundoff) || !near(x.Killed, y.Killed, exitRoundoff) ||
+			!near(x.Occupation[1], y.Occupation[1]+y.Occupation[2], exitRoundoff) {
+			t.Errorf("%v: hit %g/%g killed %g/%g loop occupation %g/%g", st.a, x.Hit[1], y.Hit[1], x.Killed, y.Killed, x.Occupation[1], y.Occupation[1]+y.Occupation[2])
+		}
+		for n := range x.Moments {
+			if !near(x.Moments[n], y.Moments[n], cauchyMoments*y.Moments[n]) {
+				t.Errorf("%v: E τ^%d %.12g vs %.12g", st.a, n+1, x.Moments[n], y.Moments[n])
+			}
+		}
+		for i := range x.Survival {
+			if !near(x.Survival[i].P, y.Survival[i].P, inversion) {
+				t.Errorf("%v: S(%g) %.12g vs %.12g", st.a, x.Survival[i].T, x.Survival[i].P, y.Survival[i].P)
+			}
+		}
+	}
+}
