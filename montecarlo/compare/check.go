@@ -64,9 +64,14 @@ type Check struct {
 	Pass     bool    `json:"pass"`
 	Note     string  `json:"note,omitempty"`
 
-	Kind Kind    `json:"-"`  // how Decide judges the error bar; see Kind
-	N    int64   `json:"n"`  // sample size behind the walker estimate; 0 if unknown
-	At   float64 `json:"at"` // distribution checks: time of the largest CDF gap
+	Kind Kind `json:"-"` // how Decide judges the error bar; see Kind
+	// Scale, for KindValue, is the magnitude against which Resolution is
+	// read; 0 means |PDE|. A value whose natural scale is not its own size
+	// (a Feynman–Kac value of payoffs between 0 and 1 that happens to be
+	// small) sets it to that scale.
+	Scale float64 `json:"-"`
+	N     int64   `json:"n"`  // sample size behind the walker estimate; 0 if unknown
+	At    float64 `json:"at"` // distribution checks: time of the largest CDF gap
 	// Censored is the fraction of walkers still out at the time cap
 	// (distribution checks only); CensorAt is F(cap) under the PDE law (1 when
 	// nothing was censored), which sets the null law of D.

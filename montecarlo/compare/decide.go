@@ -179,7 +179,7 @@ func Decide(checks []Check, set *Settings) Report {
 		det := r.Detectable[wide]
 		what := fmt.Sprintf("%.2g", det)
 		tol := fmt.Sprintf("%.2g", res)
-		if c.Kind == KindValue && c.PDE != 0 {
+		if c.Kind == KindValue && (c.Scale > 0 || c.PDE != 0) {
 			what, tol = percent(det), percent(res)
 		}
 		if math.IsInf(det, 1) {
@@ -232,8 +232,13 @@ func (c *Check) detectable(zc, threshold float64) float64 {
 		return CriticalD(threshold, int(c.N), c.CensorAt)
 	}
 	h := zc * c.StdErr
-	if c.Kind == KindValue && c.PDE != 0 {
-		h /= math.Abs(c.PDE)
+	if c.Kind == KindValue {
+		switch {
+		case c.Scale > 0:
+			h /= c.Scale
+		case c.PDE != 0:
+			h /= math.Abs(c.PDE)
+		}
 	}
 	return h
 }

@@ -232,3 +232,18 @@ func TestForkPower(t *testing.T) {
 		t.Errorf("10^3 walkers: %s: %s", r.Verdict, r.Explain)
 	}
 }
+
+// TestDecideScale checks that a value check's Scale replaces |PDE| as the
+// magnitude the resolution is read against: a value of 0.1 with stderr 0.002
+// cannot resolve 2% of itself (3.3·0.002/0.1 ≈ 6.6%) but can resolve 2% of a
+// payoff scale of 1.
+func TestDecideScale(t *testing.T) {
+	c := Mean("value", 0.1, 0.1, 0.002)
+	if r := Decide([]Check{c}, nil); r.Verdict != Inconclusive {
+		t.Errorf("without scale: %s, want inconclusive", r.Verdict)
+	}
+	c.Scale = 1
+	if r := Decide([]Check{c}, nil); r.Verdict != Agree {
+		t.Errorf("with scale 1: %s, want agree (%s)", r.Verdict, r.Explain)
+	}
+}

@@ -1,0 +1,69 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"runtime"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/gen"
+	"github.com/ramify-dev/ramify/montecarlo"
+)
+
+const benchExamples = `  ramify bench                 # small sizes, about half a minute
+  ramify bench --size large    # the issue's sizes: 10^7 grid unknowns, 300x300 mesh
+`
+
+func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("bench", "bench [flags]", benchExamples, stderr)
+	size := fs.String("size", "small", "small or large")
+	walkers := fs.Int64("particles", 200000, "walkers in the walker measurements")
+	if _, code, ok := parseFlags(fs, args, stderr, false); !ok {
+		return code
+	}
+	if *walkers <= 0 {
+		return fail(stderr, "bench", fmt.Errorf("--particles %d: must be > 0", *walkers))
+	}
+	w := stdout
+	fmt.Fprintf(w, "ramify bench (%s), %d cores; every figure is a ratio to a reference measured in this run\n\n", *size, runtime.NumCPU())
+	fig, err := gen.Measure(*size)
+	if err != nil {
+		return fail(stderr, "bench", err)
+	}
+	t := fig.Tree
+	fmt.Fprintf(w, "random tree, %d edges × %d grid cells (%d unknowns), method grid:\n", t.Edges, t.Cells, t.Unknowns)
+	fmt.Fprintf(w, "  solve %.3g s, %.1f ns/unknown; one plain Thomas solve of as many unknowns %.3g s\n", t.Solve.Seconds(), t.NsPerUnknown, t.Thomas.Seconds())
+	fmt.Fprintf(w, "  solve / Thomas = %.2f (target ≤ 1.5); first solve on fresh memory / allocating Thomas = %.2f\n", t.Ratio, t.RatioCold)
+	fmt.Fprintf(w, "  memory allocated %.0f bytes/unknown (target < 200)\n\n", t.BytesPerUnknown)
+	m := fig.Mesh
+	fmt.Fprintf(w, "square mesh %d×%d of unit conductors, exact elements (%d node unknowns):\n", m.Side, m.Side, m.Unknowns)
+	fmt.Fprintf(w, "  solve %.3g s, of which ordering and factorisation %.3g s\n", m.Solve.Seconds(), m.Factor.Seconds())
+	fmt.Fprintf(w, "  nonzeros of the factor %d = %.2f × (31/8)·n·log2(n), the nested-dissection leading term\n\n", m.NNZL, m.FillRatio)
+
+	// Walkers on the biased star of REFERENCES.md S1 (exact stepping).
+	star := gen.Star([]float64{1, 2, 3}, []float64{0.5, 0.3, 0.2})
+	c, _ := star.NodeIndex("c")
+	rate := func(workers int) (float64, error) {
+		r, err := montecarlo.Run(ctx, star, montecarlo.Start{Node: c, Edge: -1}, &montecarlo.Settings{Particles: *walkers, Seed: 1, Workers: workers})
+		if err != nil {
+			return 0, err
+		}
+		return float64(r.Stats.Steps) / r.Stats.Elapsed.Seconds(), nil
+	}
+	r1, err := rate(1)
+	if err != nil {
+		return fail(stderr, "bench", err)
+	}
+	r2, err := rate(2)
+	if err != nil {
+		return fail(stderr, "bench", err)
+	}
+	fmt.Fprintf(w, "walkers, exact stepping on a three-arm star (%d walkers):\n", *walkers)
+	fmt.Fprintf(w, "  %.3g steps/s with one worker (target ≥ 1e7); two workers / one = %.2f\n", r1, r2/r1)
+	sol, err := graphpde.Solve(star, nil)
+	if err == nil {
+		fmt.Fprintf(w, "  (PDE check of the same star: P(end1) = %.6f, closed form 30/43 = %.6f)\n", sol.U[c], 30.0/43)
+	}
+	return 0
+}

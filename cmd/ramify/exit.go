@@ -1,0 +1,162 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"text/tabwriter"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+const exitExamples = `  ramify exit examples/fork.toml --from fork
+  ramify exit net.toml --from arm1@0.25 --times 0.1,0.5,1 --json
+`
+
+func runExit(_ context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("exit", "exit [flags] FILE --from POINT", exitExamples, stderr)
+	from := fs.String("from", "", "start point: NODE or EDGE@X (required)")
+	times := fs.Float64Slice("times", nil, "also give the survival probability P(τ > t) at these times (comma-separated)")
+	quants := fs.Float64Slice("quantiles", nil, "exit-time quantiles to report (default 0.1,0.25,0.5,0.75,0.9)")
+	method := fs.String("method", "auto", "edge elements: exact, grid, or auto")
+	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
+	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	file, code, ok := parseFlags(fs, args, stderr, true)
+	if !ok {
+		return code
+	}
+	if *from == "" {
+		return fail(stderr, "exit", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
+	}
+	m, err := graphpde.ParseMethod(*method)
+	if err != nil {
+		return fail(stderr, "exit", err)
+	}
+	for _, t := range *times {
+		if !(t >= 0) {
+			return fail(stderr, "exit", fmt.Errorf("--times: %g is not a time ≥ 0", t))
+		}
+	}
+	for _, q := range *quants {
+		if !(q > 0 && q < 1) {
+			return fail(stderr, "exit", fmt.Errorf("--quantiles: %g is not a probability strictly between 0 and 1", q))
+		}
+	}
+	net, err := load(file)
+	if err != nil {
+		return fail(stderr, "exit", err)
+	}
+	p, err := net.ParsePoint(*from)
+	if err != nil {
+		return fail(stderr, "exit", err)
+	}
+	x, err := graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants})
+	if err != nil {
+		return fail(stderr, "exit", err)
+	}
+	if *asJSON {
+		if err := writeJSON(stdout, exitJSON(net, *from, x)); err != nil {
+			return fail(stderr, "exit", err)
+		}
+		return 0
+	}
+	printExit(stdout, net, *from, x)
+	return 0
+}
+
+type survOut struct {
+	T num `json:"t"`
+	P num `json:"p"`
+}
+
+type exitTimeOut struct {
+	Mean      num            `json:"mean"`
+	SD        num            `json:"sd"`
+	Moments   []num          `json:"moments"`
+	Quantiles map[string]num `json:"quantiles"`
+}
+
+type exitStatsOut struct {
+	Start        string         `json:"start"`
+	Hit          map[string]num `json:"hit"`
+	Killed       num            `json:"killed"`
+	Time         exitTimeOut    `json:"time"`
+	Survival     []survOut      `json:"survival"`
+	Occupation   map[string]num `json:"occupation"`
+	Distribution bool           `json:"distribution_available"`
+	Notes        []string       `json:"notes,omitempty"`
+}
+
+func exitJSON(net *graphpde.Network, from string, x *graphpde.ExitStats) exitStatsOut {
+	out := exitStatsOut{
+		Start:  from,
+		Hit:    map[string]num{},
+		Killed: num(x.Killed),
+		Time: exitTimeOut{Mean: num(x.Mean), SD: num(x.SD), Quantiles: map[string]num{},
+			Moments: make([]num, len(x.Moments))},
+		Survival:     make([]survOut, len(x.Survival)),
+		Occupation:   map[string]num{},
+		Distribution: x.HasDistribution,
+		Notes:        x.Notes,
+	}
+	for i, m := range x.Moments {
+		out.Time.Moments[i] = num(m)
+	}
+	for _, q := range x.Quantiles {
+		out.Time.Quantiles[quantKey(q.P)] = num(q.T)
+	}
+	for i, s := range x.Survival {
+		out.Survival[i] = survOut{num(s.T), num(s.P)}
+	}
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			out.Hit[nd.ID] = num(x.Hit[v])
+		}
+	}
+	for e, ed := range net.Edges {
+		if e < len(x.Occupation) {
+			out.Occupation[ed.ID] = num(x.Occupation[e])
+		}
+	}
+	return out
+}
+
+func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.ExitStats) {
+	fmt.Fprintf(w, "first passage from %s (PDE)\n\n", from)
+	fmt.Fprintf(w, "exit time: mean %.6g, sd %.6g\n", x.Mean, x.SD)
+	if len(x.Quantiles) > 0 {
+		fmt.Fprint(w, "quantiles:")
+		for _, q := range x.Quantiles {
+			fmt.Fprintf(w, "  %g: %.5g", q.P, q.T)
+		}
+		fmt.Fprintln(w)
+	}
+	for _, s := range x.Survival {
+		fmt.Fprintf(w, "P(τ > %g) = %.6g\n", s.T, s.P)
+	}
+	fmt.Fprintln(w)
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "exit at\tprobability")
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			fmt.Fprintf(tw, "%s\t%.6f\n", nd.ID, x.Hit[v])
+		}
+	}
+	if x.Killed > 1e-12 {
+		fmt.Fprintf(tw, "(killed by decay or leak)\t%.6f\n", x.Killed)
+	}
+	tw.Flush()
+	if len(x.Occupation) > 0 {
+		fmt.Fprintln(w)
+		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+		fmt.Fprintln(tw, "edge\tmean time spent")
+		for e, ed := range net.Edges {
+			fmt.Fprintf(tw, "%s\t%.5g\n", ed.ID, x.Occupation[e])
+		}
+		tw.Flush()
+	}
+	for _, n := range x.Notes {
+		fmt.Fprintln(w, "note:", n)
+	}
+}

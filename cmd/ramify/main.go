@@ -1,0 +1,85 @@
+// Command ramify solves diffusion problems on networks of thin conductors and
+// cross-checks the junction conditions with random walkers.
+//
+// Run `ramify help` for the commands, `ramify COMMAND --help` for their flags.
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"strings"
+)
+
+func main() {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
+	stop()
+	os.Exit(code)
+}
+
+// command is one subcommand of ramify.
+type command struct {
+	name    string
+	summary string
+	run     func(ctx context.Context, args []string, stdout, stderr io.Writer) int
+}
+
+func commands() []command {
+	return []command{
+		{"solve", "steady field, node values, end fluxes and balance residuals", runSolve},
+		{"walk", "random walkers: value, hitting probabilities, exit times", runWalk},
+		{"exit", "first-passage statistics from the PDE", runExit},
+		{"crosscheck", "PDE and walkers side by side, with a verdict", runCrosscheck},
+		{"demo", "the built-in example network, end to end", runDemo},
+		{"bench", "performance figures of the solvers on generated networks", runBench},
+	}
+}
+
+// run is the whole program: it returns the exit status. Tests call it
+// in-process.
+func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 || args[0] == "help" || args[0] == "--help" || args[0] == "-h" {
+		usage(stdout)
+		if len(args) == 0 {
+			return 2
+		}
+		return 0
+	}
+	if args[0] == "version" || args[0] == "--version" {
+		fmt.Fprintln(stdout, "ramify", version)
+		return 0
+	}
+	for _, c := range commands() {
+		if c.name == args[0] {
+			return c.run(ctx, args[1:], stdout, stderr)
+		}
+	}
+	fmt.Fprintf(stderr, "ramify: unknown command %q (commands: %s)\n", args[0], names())
+	return 2
+}
+
+const version = "0.1.0"
+
+func names() string {
+	var s []string
+	for _, c := range commands() {
+		s = append(s, c.name)
+	}
+	return strings.Join(s, ", ")
+}
+
+func usage(w io.Writer) {
+	fmt.Fprintln(w, "ramify — diffusion on networks of thin conductors, checked by random walkers")
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "usage: ramify COMMAND [flags] FILE")
+	fmt.Fprintln(w)
+	for _, c := range commands() {
+		fmt.Fprintf(w, "  %-11s %s\n", c.name, c.summary)
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, "Run 'ramify COMMAND --help' for the flags of a command.")
+	fmt.Fprintln(w, "Start with 'ramify demo'.")
+}

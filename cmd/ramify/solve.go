@@ -1,0 +1,212 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"text/tabwriter"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+const solveExamples = `  ramify solve examples/handrail.toml
+  ramify solve net.toml --probe arm1@0.25 --probe hub --json
+  ramify solve net.toml --method grid --cells 200 --field field.csv
+`
+
+func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("solve", "solve [flags] FILE", solveExamples, stderr)
+	method := fs.String("method", "auto", "edge elements: exact, grid, or auto (exact where coefficients are constant)")
+	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
+	probes := fs.StringArray("probe", nil, "report the value at POINT (NODE or EDGE@X); repeatable")
+	field := fs.String("field", "", "write the field sampled along every edge to this CSV file")
+	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	file, code, ok := parseFlags(fs, args, stderr, true)
+	if !ok {
+		return code
+	}
+	m, err := graphpde.ParseMethod(*method)
+	if err != nil {
+		return fail(stderr, "solve", err)
+	}
+	if *cells < 0 {
+		return fail(stderr, "solve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
+	}
+	net, err := load(file)
+	if err != nil {
+		return fail(stderr, "solve", err)
+	}
+	pts, err := parsePoints(net, *probes)
+	if err != nil {
+		return fail(stderr, "solve", err)
+	}
+	sol, err := graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: *cells})
+	if err != nil {
+		return fail(stderr, "solve", err)
+	}
+	if *field != "" {
+		if err := writeField(*field, sol); err != nil {
+			return fail(stderr, "solve", err)
+		}
+	}
+	if *asJSON {
+		if err := writeJSON(stdout, solveJSON(net, sol, *probes, pts)); err != nil {
+			return fail(stderr, "solve", err)
+		}
+		return 0
+	}
+	printSolve(stdout, net, sol, *probes, pts, m)
+	return 0
+}
+
+type nodeOut struct {
+	ID       string `json:"id"`
+	Kind     string `json:"kind"`
+	U        num    `json:"u"`
+	Residual num    `json:"residual"`
+}
+
+type edgeOut struct {
+	ID   string `json:"id"`
+	From string `json:"from"`
+	To   string `json:"to"`
+	Flux [2]num `json:"flux"`
+}
+
+type probeOut struct {
+	At string `json:"at"`
+	U  num    `json:"u"`
+}
+
+type solveOut struct {
+	Network string     `json:"network"`
+	Status  string     `json:"status"`
+	Method  string     `json:"method"`
+	Nodes   []nodeOut  `json:"nodes"`
+	Edges   []edgeOut  `json:"edges"`
+	Probes  []probeOut `json:"probes"`
+	Stats   statsOut   `json:"stats"`
+	Caution string     `json:"caution"`
+}
+
+type statsOut struct {
+	Unknowns     int     `json:"unknowns"`
+	NodeUnknowns int     `json:"node_unknowns"`
+	ExactEdges   int     `json:"exact_edges"`
+	GridEdges    int     `json:"grid_edges"`
+	Fill         int     `json:"factor_nonzeros"`
+	Seconds      float64 `json:"seconds"`
+}
+
+func solveJSON(net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point) solveOut {
+	out := solveOut{
+		Network: net.Name,
+		Status:  sol.Status.String(),
+		Nodes:   make([]nodeOut, len(net.Nodes)),
+		Edges:   make([]edgeOut, len(net.Edges)),
+		Probes:  make([]probeOut, len(pts)),
+		Stats: statsOut{
+			Unknowns: sol.Stats.Unknowns, NodeUnknowns: sol.Stats.NodeUnknowns,
+			ExactEdges: sol.Stats.ExactEdges, GridEdges: sol.Stats.GridEdges,
+			Fill: sol.Stats.FillNNZ, Seconds: sol.Stats.Elapsed.Seconds(),
+		},
+		Caution: caution,
+	}
+	out.Method = methodSummary(sol)
+	for v, nd := range net.Nodes {
+		out.Nodes[v] = nodeOut{ID: nd.ID, Kind: nd.Law.Kind.String(), U: num(sol.U[v]), Residual: num(sol.Residual[v])}
+	}
+	for i, e := range net.Edges {
+		out.Edges[i] = edgeOut{ID: e.ID, From: net.Nodes[e.From].ID, To: net.Nodes[e.To].ID,
+			Flux: [2]num{num(sol.Flux[i][0]), num(sol.Flux[i][1])}}
+	}
+	for i, p := range pts {
+		out.Probes[i] = probeOut{At: specs[i], U: num(sol.At(p))}
+	}
+	return out
+}
+
+func methodSummary(sol *graphpde.Solution) string {
+	switch {
+	case sol.Stats.GridEdges == 0:
+		return "exact"
+	case sol.Stats.ExactEdges == 0:
+		return "grid"
+	}
+	return "mixed"
+}
+
+func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point, m graphpde.Method) {
+	name := net.Name
+	if name == "" {
+		name = "(unnamed network)"
+	}
+	fmt.Fprintf(w, "%s: %d nodes, %d edges; %s\n", name, len(net.Nodes), len(net.Edges), sol.Status)
+	fmt.Fprintf(w, "method %s: %d exact and %d grid edges, %d unknowns (%d at nodes), %.3g s\n\n",
+		m, sol.Stats.ExactEdges, sol.Stats.GridEdges, sol.Stats.Unknowns, sol.Stats.NodeUnknowns, sol.Stats.Elapsed.Seconds())
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "node\tcondition\tu\tbalance residual")
+	for v, nd := range net.Nodes {
+		res := "—"
+		cond := "fixed"
+		if nd.Law.Kind == vertex.Balance {
+			res = fmt.Sprintf("%.2e", sol.Residual[v])
+			cond = "balance"
+			if nd.Law.Leak > 0 {
+				cond += fmt.Sprintf(", leak %g", nd.Law.Leak)
+			}
+			if nd.Law.Inject != 0 {
+				cond += fmt.Sprintf(", inject %g", nd.Law.Inject)
+			}
+		}
+		fmt.Fprintf(tw, "%s\t%s\t%.6g\t%s\n", nd.ID, cond, sol.U[v], res)
+	}
+	tw.Flush()
+	fmt.Fprintln(w)
+	tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "edge\tfrom → to\tflux at from\tflux at to")
+	for i, e := range net.Edges {
+		fmt.Fprintf(tw, "%s\t%s → %s\t%.6g\t%.6g\n", e.ID, net.Nodes[e.From].ID, net.Nodes[e.To].ID, sol.Flux[i][0], sol.Flux[i][1])
+	}
+	tw.Flush()
+	fmt.Fprintln(w, "(flux: diffusive flux −a·u' along the edge's from → to direction)")
+	if len(pts) > 0 {
+		fmt.Fprintln(w)
+		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+		fmt.Fprintln(tw, "probe\tu")
+		for i, p := range pts {
+			fmt.Fprintf(tw, "%s\t%.6g\n", specs[i], sol.At(p))
+		}
+		tw.Flush()
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, caution)
+}
+
+// writeField writes edge,x,u rows for every edge to path.
+func writeField(path string, sol *graphpde.Solution) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	cw := csv.NewWriter(f)
+	cw.Write([]string{"edge", "x", "u"})
+	var pts []graphpde.FieldPoint
+	for e := range sol.Net.Edges {
+		pts = sol.Sample(pts[:0], e)
+		id := sol.Net.Edges[e].ID
+		for _, p := range pts {
+			cw.Write([]string{id, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
+		}
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}

@@ -1,0 +1,259 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"text/tabwriter"
+
+	"github.com/spf13/pflag"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/montecarlo"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+const walkExamples = `  ramify walk examples/fork.toml --from fork
+  ramify walk net.toml --from arm1@0.25 --particles 1000000 --seed 7 --json
+  ramify walk net.toml --from hub --samples exits.csv --time-cap 50
+`
+
+// walkFlags are the walker flags shared by walk and crosscheck.
+type walkFlags struct {
+	from      *string
+	particles *int64
+	seed      *uint64
+	workers   *int
+	timeCap   *float64
+	step      *float64
+	star      *float64
+	samples   *string
+}
+
+func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
+	return &walkFlags{
+		from:      fs.String("from", "", "start point of the walkers: NODE or EDGE@X (required)"),
+		particles: fs.Int64("particles", 100000, "number of walkers"),
+		seed:      fs.Uint64("seed", 1, "random seed; the same seed gives the same numbers for any --workers"),
+		workers:   fs.Int("workers", 0, "parallel workers (0: all cores)"),
+		timeCap:   fs.Float64("time-cap", 0, "time after which a walker still out is reported as censored (0: automatic)"),
+		step:      fs.Float64("step", 0, "time step on edges that need time stepping (0: automatic)"),
+		star:      fs.Float64("star-fraction", 0, "star radius fraction at nodes with leak or capacity (0: default)"),
+		samples:   fs.String("samples", "", "write every walker's exit time and exit node to this CSV file"),
+	}
+}
+
+func (f *walkFlags) settings(stderr io.Writer) (*montecarlo.Settings, error) {
+	if *f.particles <= 0 {
+		return nil, fmt.Errorf("--particles %d: must be > 0", *f.particles)
+	}
+	if *f.workers < 0 {
+		return nil, fmt.Errorf("--workers %d: must be ≥ 0", *f.workers)
+	}
+	set := &montecarlo.Settings{
+		Particles:    *f.particles,
+		Seed:         *f.seed,
+		Workers:      *f.workers,
+		TimeCap:      *f.timeCap,
+		Step:         *f.step,
+		StarFraction: *f.star,
+		KeepSamples:  *f.samples != "",
+	}
+	if isTerminal(stderr) {
+		set.Recorder = newProgressBar(stderr, "walkers")
+	}
+	return set, nil
+}
+
+func startOf(p graphpde.Point) montecarlo.Start {
+	return montecarlo.Start{Node: p.Node, Edge: p.Edge, X: p.X}
+}
+
+func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("walk", "walk [flags] FILE --from POINT", walkExamples, stderr)
+	wf := addWalkFlags(fs)
+	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	file, code, ok := parseFlags(fs, args, stderr, true)
+	if !ok {
+		return code
+	}
+	if *wf.from == "" {
+		return fail(stderr, "walk", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
+	}
+	set, err := wf.settings(stderr)
+	if err != nil {
+		return fail(stderr, "walk", err)
+	}
+	net, err := load(file)
+	if err != nil {
+		return fail(stderr, "walk", err)
+	}
+	p, err := net.ParsePoint(*wf.from)
+	if err != nil {
+		return fail(stderr, "walk", err)
+	}
+	res, err := montecarlo.Run(ctx, net, startOf(p), set)
+	if bar, ok := set.Recorder.(*progressBar); ok {
+		bar.Done()
+	}
+	if err != nil {
+		return fail(stderr, "walk", err)
+	}
+	if *wf.samples != "" {
+		if err := writeSamples(*wf.samples, net, res); err != nil {
+			return fail(stderr, "walk", err)
+		}
+	}
+	if res.Partial {
+		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
+	}
+	if *asJSON {
+		if err := writeJSON(stdout, walkJSON(net, *wf.from, res)); err != nil {
+			return fail(stderr, "walk", err)
+		}
+		return 0
+	}
+	printWalk(stdout, net, *wf.from, res)
+	return 0
+}
+
+type estOut struct {
+	Mean   num `json:"mean"`
+	StdErr num `json:"stderr"`
+}
+
+type probOut struct {
+	P      num `json:"p"`
+	StdErr num `json:"stderr"`
+}
+
+type timeOut struct {
+	Mean      num            `json:"mean"`
+	StdErr    num            `json:"stderr"`
+	SD        num            `json:"sd"`
+	Quantiles map[string]num `json:"quantiles"`
+}
+
+type exitOut struct {
+	Time     timeOut            `json:"time"`
+	Hit      map[string]probOut `json:"hit"`
+	Killed   probOut            `json:"killed"`
+	Censored int64              `json:"censored"`
+}
+
+type walkOut struct {
+	Particles  int64             `json:"particles"`
+	Finished   int64             `json:"finished"`
+	Partial    bool              `json:"partial"`
+	Seed       uint64            `json:"seed"`
+	Start      string            `json:"start"`
+	Value      estOut            `json:"value"`
+	Exit       exitOut           `json:"exit"`
+	Occupation map[string]estOut `json:"occupation"`
+	Visits     map[string]estOut `json:"visits"`
+	Steps      int64             `json:"steps"`
+	Seconds    float64           `json:"seconds"`
+}
+
+func quantKey(p float64) string { return strconv.FormatFloat(p, 'g', -1, 64) }
+
+func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result) walkOut {
+	out := walkOut{
+		Particles: r.Particles, Finished: r.Finished, Partial: r.Partial, Seed: r.Seed, Start: from,
+		Value: estOut{num(r.Value.Mean), num(r.Value.StdErr)},
+		Exit: exitOut{
+			Time: timeOut{Mean: num(r.ExitTime.Mean), StdErr: num(r.ExitTime.StdErr), SD: num(r.ExitSD),
+				Quantiles: map[string]num{}},
+			Hit:      map[string]probOut{},
+			Killed:   probOut{num(r.Killed.Mean), num(r.Killed.StdErr)},
+			Censored: r.Censored,
+		},
+		Occupation: map[string]estOut{},
+		Visits:     map[string]estOut{},
+		Steps:      r.Stats.Steps,
+		Seconds:    r.Stats.Elapsed.Seconds(),
+	}
+	for _, q := range r.Quantiles {
+		out.Exit.Time.Quantiles[quantKey(q.P)] = num(q.T)
+	}
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			out.Exit.Hit[nd.ID] = probOut{num(r.Hit[v].Mean), num(r.Hit[v].StdErr)}
+		} else if v < len(r.Visits) {
+			out.Visits[nd.ID] = estOut{num(r.Visits[v].Mean), num(r.Visits[v].StdErr)}
+		}
+	}
+	for e, ed := range net.Edges {
+		if e < len(r.Occupation) {
+			out.Occupation[ed.ID] = estOut{num(r.Occupation[e].Mean), num(r.Occupation[e].StdErr)}
+		}
+	}
+	return out
+}
+
+func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Result) {
+	mode := "exact stepping"
+	if !r.Stats.Exact {
+		mode = "time stepping on some edges"
+	}
+	fmt.Fprintf(w, "%d walkers from %s (seed %d, %s), %d steps in %.3g s\n", r.Finished, from, r.Seed, mode, r.Stats.Steps, r.Stats.Elapsed.Seconds())
+	if r.Partial {
+		fmt.Fprintf(w, "PARTIAL: interrupted after %d of %d walkers\n", r.Finished, r.Particles)
+	}
+	fmt.Fprintf(w, "\nvalue u(%s) = %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
+	fmt.Fprintf(w, "exit time    = %.6g ± %.2g (sd %.4g)", r.ExitTime.Mean, r.ExitTime.StdErr, r.ExitSD)
+	if r.Censored > 0 {
+		fmt.Fprintf(w, "  — %d walkers (%.2g%%) still out at the time cap, excluded", r.Censored, 100*float64(r.Censored)/float64(max(r.Finished, 1)))
+	}
+	fmt.Fprintln(w)
+	if len(r.Quantiles) > 0 {
+		fmt.Fprint(w, "quantiles   ")
+		for _, q := range r.Quantiles {
+			fmt.Fprintf(w, "  %g: %.4g", q.P, q.T)
+		}
+		fmt.Fprintln(w)
+	}
+	fmt.Fprintln(w)
+	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	fmt.Fprintln(tw, "exit at\tprobability\t± stderr")
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			fmt.Fprintf(tw, "%s\t%.5f\t%.2g\n", nd.ID, r.Hit[v].Mean, r.Hit[v].StdErr)
+		}
+	}
+	if r.Killed.Mean > 0 {
+		fmt.Fprintf(tw, "(killed by decay or leak)\t%.5f\t%.2g\n", r.Killed.Mean, r.Killed.StdErr)
+	}
+	tw.Flush()
+	fmt.Fprintln(w, "(± one standard error)")
+}
+
+func writeSamples(path string, net *graphpde.Network, r *montecarlo.Result) error {
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	cw := csv.NewWriter(f)
+	cw.Write([]string{"time", "exit"})
+	for _, s := range r.Samples {
+		var at string
+		switch {
+		case s.Node >= 0:
+			at = net.Nodes[s.Node].ID
+		case s.Node == -1:
+			at = "killed"
+		default:
+			at = "censored"
+		}
+		cw.Write([]string{strconv.FormatFloat(s.Time, 'g', 12, 64), at})
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
+}
