@@ -408,6 +408,13 @@ func TestRefactorize(t *testing.T) {
 		if m.version != v0 {
 			t.Fatalf("re-assembly changed the pattern")
 		}
+		// The numeric phase must fill exactly the columns the symbolic
+		// phase laid out.
+		for j := 0; j < n; j++ {
+			if f.lnz[j] != f.lp[j+1]-f.lp[j] {
+				t.Fatalf("column %d: numeric filled %d of %d entries", j, f.lnz[j], f.lp[j+1]-f.lp[j])
+			}
+		}
 		f.SolveTo(x, b)
 		if r := residual(m, x, b); r > backward {
 			t.Errorf("step %d: backward error %.3g > %.3g", step, r, backward)
