@@ -11,8 +11,9 @@ import (
 type Ordering int
 
 const (
-	// MinimumDegree is approximate minimum degree on the quotient graph
-	// (the default). On a tree it eliminates leaves first and gives no fill.
+	// MinimumDegree (the default) peels nodes of degree at most one, then
+	// orders the rest by approximate minimum degree on the quotient graph.
+	// On a tree it eliminates leaves first and gives no fill.
 	MinimumDegree Ordering = iota
 	// Natural eliminates the nodes in their given order (for tests and for
 	// systems already ordered by the caller, e.g. a chain numbered along it).
@@ -108,7 +109,7 @@ type SingularError struct {
 
 // Error implements error.
 func (e *SingularError) Error() string {
-	return fmt.Sprintf("nodesys: singular node system at unknown %d (pivot %.3g, row scale %.3g)", e.Index, e.Pivot, e.Scale)
+	return fmt.Sprintf("nodesys: singular node system at unknown %d (pivot %.3g against scale %.3g)", e.Index, e.Pivot, e.Scale)
 }
 
 // SizeError reports that the factor would have more entries than
@@ -133,6 +134,9 @@ func (e *SizeError) Error() string {
 // Factorize is called with a matrix of the same frozen pattern (the same
 // matrix re-assembled, or another one with identical pattern); a
 // re-factorisation then allocates nothing.
+//
+// A Factor is used by one goroutine at a time (SolveTo uses its workspace);
+// Clone gives further Factors that share the analysis.
 type Factor[T Scalar] struct {
 	set Settings
 
