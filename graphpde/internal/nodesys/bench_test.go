@@ -157,6 +157,22 @@ func BenchmarkMesh(b *testing.B) {
 				}
 			}
 			ratio(b)
+			b.ReportMetric(float64(f.Stats().Supernodes), "supernodes")
+		})
+		b.Run("k="+itoa(k)+"/factor-uplooking", func(b *testing.B) {
+			g := NewFactor[float64](nil)
+			g.kernel = kernelUp
+			if err := g.Factorize(m); err != nil {
+				b.Fatal(err)
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for b.Loop() {
+				if err := g.Factorize(m); err != nil {
+					b.Fatal(err)
+				}
+			}
+			ratio(b)
 		})
 		b.Run("k="+itoa(k)+"/solve", func(b *testing.B) {
 			b.ReportAllocs()

@@ -92,6 +92,10 @@ type Stats struct {
 	Fill      int    // NNZL − entries of the lower triangle of A (diagonal included)
 	Ordering  string // ordering used
 	Symmetric bool   // whether the last numeric factorisation took the LDLᵀ path
+	// Supernodes is the number of supernodes when the supernodal kernel
+	// is used (most of the work in supernodes of width ≥ 4, as on meshes),
+	// 0 when the up-looking kernel is (trees, sparse networks).
+	Supernodes int
 
 	// Wall-clock times of the last analysis (ordering and symbolic
 	// factorisation) and of the last numeric factorisation.
@@ -173,6 +177,10 @@ type Factor[T Scalar] struct {
 
 	symmetric bool
 	stats     Stats
+
+	kernel int     // kernelAuto unless a test forces one
+	sn     *snodes // supernodes, nil for the up-looking kernel
+	snw    *snWork[T]
 }
 
 // NewFactor returns an empty factorisation with the given settings (nil for
@@ -253,6 +261,9 @@ func (f *Factor[T]) Clone() *Factor[T] {
 	g.flag = make([]int, n)
 	g.stack = make([]int, n)
 	g.work = make([]T, n)
+	if f.sn != nil {
+		g.snw = newSNWork[T](n, len(f.sn.start)-1, f.sn.maxW)
+	}
 	return &g
 }
 
@@ -391,7 +402,13 @@ func (f *Factor[T]) analyze(m *Matrix[T]) error {
 	f.stack = make([]int, n)
 	f.work = make([]T, n)
 
+	f.buildSupernodes()
+	nsn := 0
+	if f.sn != nil {
+		nsn = len(f.sn.start) - 1
+	}
 	f.stats = Stats{
+		Supernodes:   nsn,
 		N:            n,
 		NNZA:         nnzA,
 		NNZL:         nnzL + n,
@@ -425,6 +442,9 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 	f.stats.Symmetric = sym
 	if !sym && len(f.ux) != len(f.lx) {
 		f.ux = make([]T, len(f.lx))
+	}
+	if f.sn != nil {
+		return f.numericSN(m, sym)
 	}
 
 	par, flag, stack := f.par, f.flag, f.stack

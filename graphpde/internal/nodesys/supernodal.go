@@ -1,0 +1,327 @@
+package nodesys
+
+import "math"
+
+// Numeric kernels.
+const (
+	kernelAuto  = iota // supernodal when most of the work lies in wide supernodes
+	kernelUp           // up-looking, row by row
+	kernelSuper        // left-looking supernodal
+)
+
+// snodes is the supernode partition of L: columns start[s] ≤ j < start[s+1]
+// form supernode s when each column's pattern is the next column plus that
+// column itself, so the columns are dense columns of one trapezoid: column j
+// holds rows j+1 … start[s+1]−1, then the rows R_s shared by the whole
+// supernode (the pattern of its last column). Shared read-only by clones.
+type snodes struct {
+	start []int
+	of    []int // supernode of each column
+	// Strictly lower part of P·A·Pᵀ by columns: column j has rows
+	// brow[bcp[j]:bcp[j+1]] (> j), with slots of A(row,j) in blo and of
+	// A(j,row) in bup.
+	bcp, brow, blo, bup []int
+	maxW                int // size of the update buffer
+}
+
+// snWork is the per-Factor workspace of the supernodal kernel.
+type snWork[T Scalar] struct {
+	rel              []int // position of a row in the first column of the current supernode
+	head, next, npos []int // descendants waiting to update a supernode, and their next row
+	wl, wu           []T   // dense update buffers
+	cs               []float64
+}
+
+func newSNWork[T Scalar](n, nsup, maxW int) *snWork[T] {
+	return &snWork[T]{
+		rel:  make([]int, n),
+		head: make([]int, nsup),
+		next: make([]int, nsup),
+		npos: make([]int, nsup),
+		wl:   make([]T, maxW),
+		wu:   make([]T, maxW),
+		cs:   make([]float64, n),
+	}
+}
+
+// buildSupernodes finds the supernodes and decides whether the supernodal
+// kernel pays: when at least half of the work Σ_j |L_j|² lies in supernodes
+// of width four or more. Cost O(n + nnz(A)).
+func (f *Factor[T]) buildSupernodes() {
+	n := f.n
+	lp, par := f.lp, f.par
+	sn := &snodes{of: make([]int, n)}
+	sn.start = append(sn.start, 0)
+	for j := 1; j < n; j++ {
+		if !(par[j-1] == j && lp[j]-lp[j-1] == lp[j+1]-lp[j]+1) {
+			sn.start = append(sn.start, j)
+		}
+	}
+	if n > 0 {
+		sn.start = append(sn.start, n)
+	}
+	nsup := len(sn.start) - 1
+	var work, wide float64
+	maxR, maxWidth := 0, 0
+	for s := 0; s < nsup; s++ {
+		f0, e := sn.start[s], sn.start[s+1]
+		for j := f0; j < e; j++ {
+			sn.of[j] = s
+			c := float64(lp[j+1] - lp[j])
+			work += c * c
+			if e-f0 >= 4 {
+				wide += c * c
+			}
+		}
+		maxR = max(maxR, lp[e]-lp[e-1])
+		maxWidth = max(maxWidth, e-f0)
+	}
+	use := f.kernel == kernelSuper || (f.kernel == kernelAuto && wide >= 0.5*work && work > 0)
+	if !use {
+		f.sn, f.snw = nil, nil
+		return
+	}
+	// An update block has at most |R_K| rows and at most min(|R_K|, width
+	// of the target) columns.
+	sn.maxW = maxR * min(maxR, maxWidth)
+
+	// Strictly lower part by columns: transpose of the upper part.
+	sn.bcp = make([]int, n+1)
+	for _, i := range f.arow {
+		sn.bcp[i+1]++
+	}
+	for j := 0; j < n; j++ {
+		sn.bcp[j+1] += sn.bcp[j]
+	}
+	m := len(f.arow)
+	sn.brow, sn.blo, sn.bup = make([]int, m), make([]int, m), make([]int, m)
+	pos := make([]int, n)
+	copy(pos, sn.bcp[:n])
+	for k := 0; k < n; k++ {
+		for p := f.acp[k]; p < f.acp[k+1]; p++ {
+			i := f.arow[p] // entry (i,k), i < k: column i of the lower part has row k
+			q := pos[i]
+			sn.brow[q] = k
+			sn.blo[q] = f.alo[p] // A(k,i)
+			sn.bup[q] = f.aup[p] // A(i,k)
+			pos[i]++
+		}
+	}
+	f.sn = sn
+	f.snw = newSNWork[T](n, nsup, sn.maxW)
+}
+
+// numericSN is the left-looking supernodal factorisation: each supernode
+// gathers its columns of A, subtracts the dense updates of the supernodes
+// below it in the elimination tree (one dense block product per descendant,
+// scattered once), and factors its dense trapezoid.
+func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
+	sn, w := f.sn, f.snw
+	val := m.val
+	lp, li, lx, ux, d := f.lp, f.li, f.lx, f.ux, f.d
+	rel, head, next, npos, cs := w.rel, w.head, w.next, w.npos, w.cs
+	nsup := len(sn.start) - 1
+	for s := range head {
+		head[s] = -1
+	}
+	tol := f.set.PivotTol
+	for s := 0; s < nsup; s++ {
+		f0, e := sn.start[s], sn.start[s+1]
+		wd := e - f0
+		rs := li[lp[e-1]:lp[e]] // shared rows R_s
+		for t := 1; t < wd; t++ {
+			rel[f0+t] = t - 1
+		}
+		for q, r := range rs {
+			rel[r] = wd - 1 + q
+		}
+
+		// Gather A.
+		for j := f0; j < e; j++ {
+			base := lp[j] - (j - f0)
+			clear(lx[lp[j]:lp[j+1]])
+			if !sym {
+				clear(ux[lp[j]:lp[j+1]])
+			}
+			d[j] = val[f.adiag[j]]
+			cs[j] = magMax(d[j])
+			for p := sn.bcp[j]; p < sn.bcp[j+1]; p++ {
+				q := base + rel[sn.brow[p]]
+				lx[q] = val[sn.blo[p]]
+				if !sym {
+					ux[q] = val[sn.bup[p]]
+				}
+			}
+		}
+
+		// Updates from descendants.
+		for k := head[s]; k >= 0; {
+			nk := next[k]
+			fk, ek := sn.start[k], sn.start[k+1]
+			rk := li[lp[ek-1]:lp[ek]]
+			q0 := npos[k]
+			q1 := q0
+			for q1 < len(rk) && rk[q1] < e {
+				q1++
+			}
+			mr, nc := len(rk)-q0, q1-q0
+			wl := w.wl[:mr*nc]
+			clear(wl)
+			var wu []T
+			if !sym {
+				wu = w.wu[:mr*nc]
+				clear(wu)
+			}
+			// W_L[q,jj] = Σ_t L(r_q,t)·d_t·U(t,j_jj) and W_U[q,jj] = Σ_t
+			// U(t,r_q)·d_t·L(j_jj,t) for rows q ≥ jj, two columns t at a
+			// time to halve the traffic on W.
+			off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
+			t := fk
+			for ; t+1 < ek; t += 2 {
+				o1, o2 := off(t), off(t+1)
+				d1, d2 := d[t], d[t+1]
+				for jj := 0; jj < nc; jj++ {
+					dst := wl[jj*mr+jj : (jj+1)*mr]
+					a := lx[o1+jj : o1+mr]
+					b := lx[o2+jj : o2+mr]
+					if sym {
+						axpy2(dst, a, b, a[0]*d1, b[0]*d2)
+					} else {
+						au := ux[o1+jj : o1+mr]
+						bu := ux[o2+jj : o2+mr]
+						axpy2(dst, a, b, au[0]*d1, bu[0]*d2)
+						axpy2(wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
+					}
+				}
+			}
+			if t < ek {
+				o1, d1 := off(t), d[t]
+				for jj := 0; jj < nc; jj++ {
+					dst := wl[jj*mr+jj : (jj+1)*mr]
+					a := lx[o1+jj : o1+mr]
+					if sym {
+						axpy1(dst, a, a[0]*d1)
+					} else {
+						au := ux[o1+jj : o1+mr]
+						axpy1(dst, a, au[0]*d1)
+						axpy1(wu[jj*mr+jj:(jj+1)*mr], au, a[0]*d1)
+					}
+				}
+			}
+			for jj := 0; jj < nc; jj++ {
+				j := rk[q0+jj]
+				base := lp[j] - (j - f0)
+				col := wl[jj*mr : (jj+1)*mr]
+				d[j] -= col[jj]
+				cs[j] += magMax(col[jj])
+				for q := jj + 1; q < mr; q++ {
+					lx[base+rel[rk[q0+q]]] -= col[q]
+				}
+				if !sym {
+					col := wu[jj*mr : (jj+1)*mr]
+					for q := jj + 1; q < mr; q++ {
+						ux[base+rel[rk[q0+q]]] -= col[q]
+					}
+				}
+			}
+			npos[k] = q1
+			if q1 < len(rk) {
+				tg := sn.of[rk[q1]]
+				next[k] = head[tg]
+				head[tg] = k
+			}
+			k = nk
+		}
+		head[s] = -1
+
+		// Dense factorisation of the trapezoid.
+		for j := f0; j < e; j++ {
+			dj := d[j]
+			c := f.perm[j]
+			scale := 0.0
+			for _, v := range val[m.rowPtr[c]:m.rowPtr[c+1]] {
+				scale = math.Max(scale, magMax(v))
+			}
+			if a := magMax(dj); !(a > tol*math.Max(scale, cs[j])) || math.IsInf(a, 0) {
+				return &SingularError{Index: c, Pivot: mag(dj), Scale: math.Max(scale, cs[j])}
+			}
+			colL := lx[lp[j]:lp[j+1]] // unscaled: L(r,j)·d_j
+			if sym {
+				for j2 := j + 1; j2 < e; j2++ {
+					a := colL[j2-j-1]
+					if a == 0 {
+						continue
+					}
+					c := a / dj
+					d[j2] -= c * a
+					cs[j2] += magMax(c * a)
+					dst := lx[lp[j2]:lp[j2+1]]
+					src := colL[j2-j:]
+					src = src[:len(dst)]
+					for q := range dst {
+						dst[q] -= src[q] * c
+					}
+				}
+				inv := 1 / dj
+				for q := range colL {
+					colL[q] *= inv
+				}
+			} else {
+				colU := ux[lp[j]:lp[j+1]] // unscaled: d_j·U(j,r)
+				for j2 := j + 1; j2 < e; j2++ {
+					aL, aU := colL[j2-j-1], colU[j2-j-1]
+					cl := aU / dj // U(j,j2)
+					cu := aL / dj // L(j2,j)
+					d[j2] -= cu * aU
+					cs[j2] += magMax(cu * aU)
+					dstL := lx[lp[j2]:lp[j2+1]]
+					dstU := ux[lp[j2]:lp[j2+1]]
+					srcL := colL[j2-j:]
+					srcU := colU[j2-j:]
+					srcL, srcU = srcL[:len(dstL)], srcU[:len(dstU)]
+					if cl != 0 {
+						for q := range dstL {
+							dstL[q] -= srcL[q] * cl
+						}
+					}
+					if cu != 0 {
+						for q := range dstU {
+							dstU[q] -= srcU[q] * cu
+						}
+					}
+				}
+				inv := 1 / dj
+				for q := range colL {
+					colL[q] *= inv
+					colU[q] *= inv
+				}
+			}
+		}
+		if len(rs) > 0 {
+			npos[s] = 0
+			tg := sn.of[rs[0]]
+			next[s] = head[tg]
+			head[tg] = s
+		}
+	}
+	return nil
+}
+
+// axpy1 sets dst += c·a. len(a) ≥ len(dst).
+func axpy1[T Scalar](dst, a []T, c T) {
+	if c == 0 {
+		return
+	}
+	a = a[:len(dst)]
+	for q := range dst {
+		dst[q] += a[q] * c
+	}
+}
+
+// axpy2 sets dst += ca·a + cb·b. len(a), len(b) ≥ len(dst).
+func axpy2[T Scalar](dst, a, b []T, ca, cb T) {
+	a, b = a[:len(dst)], b[:len(dst)]
+	for q := range dst {
+		dst[q] += a[q]*ca + b[q]*cb
+	}
+}
