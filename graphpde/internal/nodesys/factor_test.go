@@ -2,6 +2,7 @@ package nodesys
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"sync"
@@ -306,8 +307,13 @@ func TestMeshFill(t *testing.T) {
 // unknown of the unanchored component in the caller's numbering.
 func TestSingular(t *testing.T) {
 	t.Parallel()
-	for _, o := range []Ordering{MinimumDegree, Natural} {
-		t.Run(o.String(), func(t *testing.T) {
+	type variant struct {
+		o      Ordering
+		kernel int
+	}
+	for _, vr := range []variant{{MinimumDegree, kernelUp}, {Natural, kernelUp}, {MinimumDegree, kernelSuper}, {Natural, kernelSuper}} {
+		o := vr.o
+		t.Run(fmt.Sprintf("%v, %s", o, map[int]string{kernelUp: "up-looking", kernelSuper: "supernodal"}[vr.kernel]), func(t *testing.T) {
 			rnd := rand.New(rand.NewPCG(5, uint64(o)))
 			n := 60
 			m := NewMatrix[float64](n)
@@ -333,6 +339,7 @@ func TestSingular(t *testing.T) {
 				m.Add(v, v, 0.1)
 			}
 			f := NewFactor[float64](&Settings{Ordering: o})
+			f.kernel = vr.kernel
 			err := f.Factorize(m)
 			var se *SingularError
 			if !errors.As(err, &se) {
