@@ -19,7 +19,8 @@
 //     absorption, aggressive absorption, supervariables found by hashing, mass
 //     elimination and the approximate external degree bound of P. R. Amestoy,
 //     T. A. Davis and I. S. Duff, An approximate minimum degree ordering
-//     algorithm, SIAM J. Matrix Anal. Appl. 17 (1996) 886–905. The quotient
+//     algorithm, SIAM J. Matrix Anal. Appl. 17 (1996) 886–905 (from
+//     memory). The quotient
 //     graph and the minimum-degree idea: A. George and J. W. H. Liu, The
 //     evolution of the minimum degree ordering algorithm, SIAM Review 31 (1989)
 //     1–19 (from memory). Nodes of degree at most one are peeled off first
@@ -39,15 +40,22 @@
 //     entries of column k of the upper triangle by climbing the tree); A.
 //     George and J. W. H. Liu, Computer Solution of Large Sparse Positive
 //     Definite Systems, Prentice-Hall, 1981 (from memory, no page).
-//   - Numeric factorisation: up-looking, one row of L and one column of U per
-//     step, each a sparse triangular solve whose pattern is that row subtree,
-//     as in T. A. Davis, Direct Methods for Sparse Linear Systems, SIAM, 2006,
-//     ch. 4 (from memory). Without pivoting this is stable for symmetric
-//     positive definite and for diagonally dominant matrices (growth factor at
-//     most 2 for the latter; G. H. Golub and C. F. Van Loan, Matrix
-//     Computations, 3rd ed., §3.4.10, from memory), which covers node systems;
-//     complex symmetric systems (A = Aᵀ, not Hermitian) take the LDLᵀ path
-//     with the plain transpose.
+//   - Numeric factorisation, two kernels computing the same factors. Up-looking,
+//     one row of L and one column of U per step, each a sparse triangular
+//     solve whose pattern is that row subtree, as in T. A. Davis, Direct
+//     Methods for Sparse Linear Systems, SIAM, 2006, ch. 4 (from memory): used
+//     for trees and sparse networks. Left-looking supernodal (columns with
+//     nested patterns form dense trapezoids; each supernode receives one dense
+//     block update per descendant, scattered once through relative indices),
+//     after E. Ng and B. W. Peyton, Block sparse Cholesky algorithms on
+//     advanced uniprocessor computers, SIAM J. Sci. Comput. 14 (1993)
+//     1034–1056 (from memory): used when at least half of the work lies in
+//     supernodes of width four or more, as on meshes. Without pivoting this is
+//     stable for symmetric positive definite and for diagonally dominant
+//     matrices (growth factor at most 2 for the latter; G. H. Golub and C. F.
+//     Van Loan, Matrix Computations, 3rd ed., §3.4, from memory), which covers
+//     node systems; complex symmetric systems (A = Aᵀ, not Hermitian) take the
+//     LDLᵀ path with the plain transpose.
 //
 // Nested dissection of the k×k five-point grid gives nnz(L) ≈ 31/8·n·log₂n to
 // leading order (A. George, Nested dissection of a regular finite element
