@@ -50,7 +50,7 @@
 // With a leak, a node capacity, arms decaying at different rates, or an arm
 // that needs time stepping, the fate of a visit and its duration are
 // correlated. There the visit uses DESIGN.md §4's exact rule from the edge
-// element on [0, ε_e], ε_e = r/s_e (armElement; vertex.Law.Star for arms
+// element on [0, ε_e], ε_e = r/s_e (vertex.NewArm and Law.StarArms; vertex.Law.Star for arms
 // without decay, drift or source): move along e with probability α_eB_e/den,
 // killed otherwise, reward (Σα_eF_e + γ)/den, den = β + Σα_eA_e; the duration
 // is drawn independently of the fate, as m_d·τ₁ + (ρ_v/den)·Exp(1) with

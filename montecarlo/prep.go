@@ -321,7 +321,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		}
 		// Injection is collected per unit local time at the node; its
 		// mean per visit is γ/Σ α_e A_e with the arm elements of
-		// armElement, A_e = κ_e coth(κ_e ε_e). With a common rate
+		// vertex.NewArm, A_e = κ_e coth(κ_e ε_e). With a common rate
 		// k = c_e/ρ_e, κ_e ε_e = r sqrt(k) and α_e κ_e = sqrt(k) w_e, so
 		// the mean is γ tanh(r sqrt(k))/(sqrt(k) Σw), and rγ/Σw
 		// (vertex.Law.Star's Reward) when k = 0.
@@ -365,30 +365,27 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		} else {
 			// DESIGN.md §4 exact star rule from the arm elements on
 			// [0, ε_k], ε_k = r/s_k (equal radius r in y).
-			visit.Move = make([]float64, n)
-			amb := make([]float64, n)
-			bb := make([]float64, n)
-			den, rew, kill := law.Leak, law.Inject, law.Leak
-			var dm float64
+			arms := make([]vertex.Arm, n)
+			var den, dm float64
 			for k, ac := range co {
 				eps := r / ac.s
-				var ff, frho float64
-				amb[k], bb[k], ff = armElement(ac.a, ac.b, ac.c, ac.f, eps)
-				_, _, frho = armElement(ac.a, ac.b, ac.c, ac.rho, eps)
-				den += alpha[k] * (amb[k] + bb[k])
-				kill += alpha[k] * amb[k]
-				rew += alpha[k] * ff
+				arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, eps)
+				// The same element with source ρ gives the mean time
+				// spent on the arm during a visit.
+				frho := vertex.NewArm(ac.a, ac.b, ac.c, ac.rho, eps).F
+				den += alpha[k] * (arms[k].AmB + arms[k].B)
 				dm += alpha[k] * frho
 				nd.arms[k].occ = alpha[k] * frho
 			}
+			law.StarArms(&visit, alpha, arms)
+			den += law.Leak
 			for k := range co {
-				visit.Move[k] = alpha[k] * bb[k] / den
 				nd.arms[k].occ /= den
 			}
-			nd.killP = kill / den
-			nd.reward = rew / den
+			nd.killP = visit.Kill
+			nd.reward = visit.Reward
 			nd.dmean = dm / den
-			nd.hold = law.Capacity / den
+			nd.hold = visit.HoldScale
 		}
 	}
 	var cum float64
