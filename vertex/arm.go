@@ -3,7 +3,7 @@ package vertex
 import "math"
 
 // Arm is the edge element on [0, ε] of one arm leaving a node, for
-// a u'' + b u' − c u + f = 0 with constant coefficients and b pointing away
+// a u” + b u' − c u + f = 0 with constant coefficients and b pointing away
 // from the node: the derivative leaving the node is
 //
 //	u'(0) = −(AmB + B)·u(0) + B·u(ε) + F.

@@ -56,7 +56,7 @@ func (l Law) Star(dst *Visit, w []float64, r float64) {
 //	(r ρ_v + r² Σw/2) / (Σw + rβ),
 //
 // the diffusive part r²/2 weighted by the survival of the visit plus the
-// expected hold. Derived by solving T'' = −1 on the arms with T(r) = 0 and the
+// expected hold. Derived by solving T” = −1 on the arms with T(r) = 0 and the
 // balance law with source ρ_v at the node.
 func (l Law) MeanVisitTime(w []float64, r float64) float64 {
 	var sum float64
