@@ -5,6 +5,7 @@ import (
 	"math"
 	"runtime"
 	"slices"
+	"sort"
 	"strconv"
 	"sync"
 	"sync/atomic"
@@ -221,6 +222,18 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 				if !ok {
 					return
 				}
+				if lo < int64(len(times)) {
+					// Sort this block's lifetimes here, in parallel, so
+					// that the quantiles need no serial sort at the end
+					// (censored walkers, NaN, are put last as +Inf).
+					seg := times[lo:min(hi, int64(len(times)))]
+					for j, t := range seg {
+						if math.IsNaN(t) {
+							seg[j] = math.Inf(1)
+						}
+					}
+					slices.Sort(seg)
+				}
 				results <- acc
 			}
 		}()
@@ -320,14 +333,7 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		}
 		res.Quantiles = quantiles(ts, s.Quantiles)
 	} else {
-		ts := times[:min(done, int64(len(times)))]
-		kept := ts[:0]
-		for _, t := range ts {
-			if !math.IsNaN(t) {
-				kept = append(kept, t)
-			}
-		}
-		res.Quantiles = quantiles(kept, s.Quantiles)
+		res.Quantiles = blockQuantiles(times[:min(done, int64(len(times)))], BlockSize, s.Quantiles)
 	}
 	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact, LawExact: m.lawExact}
 	res.TimeCap = m.timeCap
@@ -343,9 +349,24 @@ func quantiles(ts []float64, ps []float64) []Quantile {
 	if len(ts) == 0 {
 		return nil
 	}
-	slices.Sort(ts)
-	out := make([]Quantile, len(ps))
+	// The order statistics needed, ascending; each is found by selection in
+	// the part of ts above the previous one, so the whole costs O(n) per
+	// quantile at most instead of a full O(n log n) sort, which would be the
+	// serial bottleneck of a parallel run.
+	need := make([]int, 0, 2*len(ps))
 	n := float64(len(ts))
+	for _, p := range ps {
+		lo := int(math.Floor((n - 1) * p))
+		need = append(need, lo, min(lo+1, len(ts)-1))
+	}
+	slices.Sort(need)
+	need = slices.Compact(need)
+	from := 0
+	for _, k := range need {
+		selectKth(ts[from:], k-from)
+		from = k
+	}
+	out := make([]Quantile, len(ps))
 	for i, p := range ps {
 		h := (n - 1) * p
 		lo := int(math.Floor(h))
@@ -353,6 +374,105 @@ func quantiles(ts []float64, ps []float64) []Quantile {
 		out[i] = Quantile{P: p, T: ts[lo] + (h-float64(lo))*(ts[hi]-ts[lo])}
 	}
 	return out
+}
+
+// blockQuantiles returns the same quantiles as quantiles of the finite
+// elements of ts, for ts made of consecutive sorted blocks of length block
+// (the last may be shorter) with +Inf for censored walkers. Each order
+// statistic is found by bisection on the values' bit patterns (non-negative
+// float64s order like their bits), counting with a binary search in every
+// block: O(64·(len(ts)/block)·log block) per order statistic and no serial
+// sort of the whole sample.
+func blockQuantiles(ts []float64, block int, ps []float64) []Quantile {
+	var blocks [][]float64
+	n := 0
+	for lo := 0; lo < len(ts); lo += block {
+		b := ts[lo:min(lo+block, len(ts))]
+		blocks = append(blocks, b)
+		n += sort.SearchFloat64s(b, math.Inf(1))
+	}
+	if n == 0 {
+		return nil
+	}
+	// countLE returns the number of finite elements ≤ x.
+	countLE := func(x float64) int {
+		c := 0
+		for _, b := range blocks {
+			c += sort.Search(len(b), func(i int) bool { return b[i] > x })
+		}
+		return c
+	}
+	// kth returns the k-th smallest finite element (0-based): the least x
+	// with countLE(x) > k.
+	kth := func(k int) float64 {
+		lo, hi := uint64(0), math.Float64bits(math.MaxFloat64)
+		for lo < hi {
+			mid := lo + (hi-lo)/2
+			if countLE(math.Float64frombits(mid)) > k {
+				hi = mid
+			} else {
+				lo = mid + 1
+			}
+		}
+		return math.Float64frombits(lo)
+	}
+	out := make([]Quantile, len(ps))
+	for i, p := range ps {
+		h := float64(n-1) * p
+		lo := int(math.Floor(h))
+		hi := min(lo+1, n-1)
+		tl := kth(lo)
+		th := tl
+		if hi != lo {
+			th = kth(hi)
+		}
+		out[i] = Quantile{P: p, T: tl + (h-float64(lo))*(th-tl)}
+	}
+	return out
+}
+
+// selectKth reorders a so that a[k] is the element a sorted copy would hold
+// there, every element before it is ≤ a[k] and every one after is ≥ a[k]
+// (Hoare's selection with a median-of-three pivot; expected O(len(a))). a
+// must hold no NaN.
+func selectKth(a []float64, k int) {
+	lo, hi := 0, len(a)-1
+	for hi-lo > 16 {
+		mid := lo + (hi-lo)/2
+		if a[mid] < a[lo] {
+			a[mid], a[lo] = a[lo], a[mid]
+		}
+		if a[hi] < a[lo] {
+			a[hi], a[lo] = a[lo], a[hi]
+		}
+		if a[hi] < a[mid] {
+			a[hi], a[mid] = a[mid], a[hi]
+		}
+		pivot := a[mid]
+		i, j := lo, hi
+		for i <= j {
+			for a[i] < pivot {
+				i++
+			}
+			for a[j] > pivot {
+				j--
+			}
+			if i <= j {
+				a[i], a[j] = a[j], a[i]
+				i++
+				j--
+			}
+		}
+		switch {
+		case k <= j:
+			hi = j
+		case k >= i:
+			lo = i
+		default:
+			return
+		}
+	}
+	slices.Sort(a[lo : hi+1])
 }
 
 func formatG(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
