@@ -5,12 +5,16 @@ import (
 	"fmt"
 	"image/color"
 	"math"
+	"os"
+	"path/filepath"
 	"slices"
+	"strings"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
 )
 
 // Colours of the cross-check figures: the PDE in deep blue-green, the
@@ -201,7 +205,7 @@ func PlotSurvivalCensored(path string, survival func(t float64) float64, times [
 	}
 	p.Legend.YOffs = -vg.Points(6)
 
-	if err := p.Save(figWidth, figHeight, path); err != nil {
+	if err := save(p, path); err != nil {
 		return fmt.Errorf("survival plot: %w", err)
 	}
 	return nil
@@ -271,7 +275,7 @@ func PlotHits(path string, names []string, pde, walker, stderr []float64) error 
 	p.Legend.Add("walkers ± 2 s.e.", walkMarks)
 	p.Legend.Top = true
 
-	if err := p.Save(figWidth, figHeight, path); err != nil {
+	if err := save(p, path); err != nil {
 		return fmt.Errorf("hit plot: %w", err)
 	}
 	return nil
@@ -291,4 +295,24 @@ func (diamondGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) 
 	path.Line(vg.Point{X: pt.X - r, Y: pt.Y})
 	path.Close()
 	c.Stroke(path)
+}
+
+// save writes p to path in the format of its extension. SVG files embed the
+// fonts the layout was measured with, so that a viewer without those fonts
+// does not substitute wider ones and push legends off the page.
+func save(p *plot.Plot, path string) error {
+	if !strings.EqualFold(filepath.Ext(path), ".svg") {
+		return p.Save(figWidth, figHeight, path)
+	}
+	c := vgsvg.NewWith(vgsvg.UseWH(figWidth, figHeight), vgsvg.EmbedFonts(true))
+	p.Draw(draw.New(c))
+	f, err := os.Create(path)
+	if err != nil {
+		return err
+	}
+	if _, err := c.WriteTo(f); err != nil {
+		f.Close()
+		return err
+	}
+	return f.Close()
 }
