@@ -85,10 +85,10 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		if err := writeJSON(stdout, cc.json()); err != nil {
 			return fail(stderr, "crosscheck", err)
 		}
-		return 0
+	} else {
+		cc.print(stdout)
 	}
-	cc.print(stdout)
-	return 0
+	return partialCode(cc.walk.Partial)
 }
 
 // crossResult holds both engines' answers and their comparison.

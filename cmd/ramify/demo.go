@@ -112,7 +112,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fmt.Fprintf(w, "   verdict: %s — %s\n", cc.report.Verdict, cc.report.Explain)
 	fmt.Fprintln(w, "\nNext: ramify solve examples/karst.toml --probe east-a@15")
 	fmt.Fprintln(w, "      ramify crosscheck examples/fork.toml --from fork --plot figures")
-	return 0
+	return partialCode(r.Partial)
 }
 
 // demoNetwork reads an embedded example (used by tests and the bench command).

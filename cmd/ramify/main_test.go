@@ -133,12 +133,12 @@ func TestWalkReproducible(t *testing.T) {
 }
 
 // TestWalkInterrupted checks that a cancelled run still prints its estimates,
-// marked partial.
+// marked partial, and exits with the status of an interrupted program.
 func TestWalkInterrupted(t *testing.T) {
 	ctx, cancel := context.WithCancel(context.Background())
 	cancel()
 	code, out, errs := runCLI(t, ctx, "walk", "../../examples/fork.toml", "--from", "fork", "--particles", "1000000", "--json")
-	if code != 0 {
+	if code != exitInterrupted {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
 	var got struct{ Partial bool }

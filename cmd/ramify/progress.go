@@ -48,7 +48,7 @@ func (p *progressBar) Progress(done, total int64) {
 	if rate > 0 {
 		left = (time.Duration(float64(total-done) / rate * float64(time.Second))).Round(time.Second).String()
 	}
-	fmt.Fprintf(p.w, "\r%s [%s] %3.0f%%  %.3g/s  %s left ", p.label, bar, 100*frac, rate, left)
+	fmt.Fprintf(p.w, "\r%s [%s] %3.0f%%  %.3g walkers/s  %s left ", p.label, bar, 100*frac, rate, left)
 	p.drawn = true
 }
 

@@ -114,9 +114,23 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		if err := writeJSON(stdout, walkJSON(net, *wf.from, res)); err != nil {
 			return fail(stderr, "walk", err)
 		}
-		return 0
+	} else {
+		printWalk(stdout, net, *wf.from, res)
 	}
-	printWalk(stdout, net, *wf.from, res)
+	return partialCode(res.Partial)
+}
+
+// exitInterrupted is the exit status of a run stopped by Ctrl-C after it
+// printed the estimates of the walkers that finished (128 + SIGINT, as
+// shells report an interrupted program).
+const exitInterrupted = 130
+
+// partialCode returns the exit status of a run that printed its results:
+// 0, or exitInterrupted when they are partial.
+func partialCode(partial bool) int {
+	if partial {
+		return exitInterrupted
+	}
 	return 0
 }
 
