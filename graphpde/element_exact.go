@@ -246,23 +246,7 @@ func gaussLegendre(n int) [][2]float64 {
 // Type-dispatching helpers. They handle float64 and complex128 with a type
 // switch and any other type of the constraint (named types) by reflection.
 
-func fromF[T scalar](x float64) T {
-	var r T
-	switch p := any(&r).(type) {
-	case *float64:
-		*p = x
-	case *complex128:
-		*p = complex(x, 0)
-	default:
-		v := reflect.ValueOf(&r).Elem()
-		if v.Kind() == reflect.Float64 {
-			v.SetFloat(x)
-		} else {
-			v.SetComplex(complex(x, 0))
-		}
-	}
-	return r
-}
+func fromF[T scalar](x float64) T { return fromC[T](complex(x, 0)) }
 
 func toC[T scalar](x T) complex128 {
 	switch v := any(x).(type) {

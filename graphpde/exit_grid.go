@@ -19,12 +19,7 @@ const gridOccupationBudget = 2e7
 // in its numbering. Cost O(nodes + edges).
 func componentNetwork(net *Network, p Point) (sub *Network, nodeOf, edgeOf []int, sp Point, err error) {
 	comp, _ := net.Components()
-	var c0 int
-	if p.Edge >= 0 {
-		c0 = comp[net.Edges[p.Edge].From]
-	} else {
-		c0 = comp[p.Node]
-	}
+	c0 := pointComponent(net, comp, p)
 	sub = &Network{Name: net.Name}
 	local := make([]int, len(net.Nodes))
 	for v := range net.Nodes {

@@ -52,12 +52,7 @@ type exitEl struct {
 // otherwise). Cost O(nodes + edges).
 func newExitSystem(net *Network, p Point) *exitSystem {
 	comp, _ := net.Components()
-	var c0 int
-	if p.Edge >= 0 {
-		c0 = comp[net.Edges[p.Edge].From]
-	} else {
-		c0 = comp[p.Node]
-	}
+	c0 := pointComponent(net, comp, p)
 	sys := &exitSystem{}
 	node := make([]int, len(net.Nodes)) // network node → system node
 	anchored := false
@@ -355,4 +350,13 @@ func (tr *transformer) at(s complex128) (complex128, error) {
 		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v is not finite", s)
 	}
 	return v, nil
+}
+
+// pointComponent returns the component, in the labelling comp of
+// Network.Components, of the point p.
+func pointComponent(net *Network, comp []int, p Point) int {
+	if p.Edge >= 0 {
+		return comp[net.Edges[p.Edge].From]
+	}
+	return comp[p.Node]
 }

@@ -5,42 +5,6 @@ import (
 	"testing"
 )
 
-// TestArmElementPlain checks that the arm elements reproduce Law.Star
-// for arms without drift, decay or source (both are DESIGN.md §4's rule; the
-// star is in y = x·sqrt(ρ/a) with ε_e = r/s_e).
-func TestArmElementPlain(t *testing.T) {
-	const roundoff = 1e-14
-	law := Law{Kind: Balance, Leak: 0.7, Inject: 0.3, Capacity: 0.4}
-	a := []float64{1, 4, 0.25}
-	rho := []float64{1, 0.5, 2}
-	alpha := []float64{1, 3, 0.5}
-	const r = 0.3
-	w := make([]float64, 3)
-	den, rew := law.Leak, law.Inject
-	bs := make([]float64, 3)
-	for k := range a {
-		s := math.Sqrt(rho[k] / a[k])
-		w[k] = alpha[k] * s
-		amb, b, f := unpack(NewArm(a[k], 0, 0, 0, r/s))
-		den += alpha[k] * (amb + b)
-		rew += alpha[k] * f
-		bs[k] = b
-	}
-	var v Visit
-	law.Star(&v, w, r)
-	for k := range a {
-		if d := math.Abs(alpha[k]*bs[k]/den - v.Move[k]); d > roundoff {
-			t.Errorf("arm %d: move %g, Star %g", k, alpha[k]*bs[k]/den, v.Move[k])
-		}
-	}
-	if d := math.Abs(rew/den - v.Reward); d > roundoff {
-		t.Errorf("reward %g, Star %g", rew/den, v.Reward)
-	}
-	if d := math.Abs(law.Capacity/den - v.HoldScale); d > roundoff {
-		t.Errorf("hold %g, Star %g", law.Capacity/den, v.HoldScale)
-	}
-}
-
 // TestArmElementODE checks the elements against a fine finite-difference
 // solution of a u” + b u' − c u + f = 0 on [0, ε]: u'(0) = −A u(0) +
 // B u(ε) + F. Exact cases (b = 0, or c = 0) must agree to the difference
