@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
 	"github.com/ramify-dev/ramify/vertex"
@@ -53,9 +54,11 @@ type system struct {
 	bad   int // first grid edge with a non-finite interior after recover, or −1
 	shift float64
 
-	unk   []int // node → unknown, −1 for fixed nodes
-	nodes []int // unknown → node
-	mat   *nodesys.Matrix[float64]
+	unk   []int                    // node → unknown, −1 for fixed nodes
+	nodes []int                    // unknown → node
+	mat   *nodesys.Matrix[float64] // pattern from s.pattern, fixed
+	dslot []int                    // unknown → slot of its diagonal entry in mat
+	eslot [][2]int                 // edge → slots of (From,To) and (To,From), −1 at a fixed end
 	fac   *nodesys.Factor[float64]
 	rhs   []float64
 	x     []float64
@@ -167,7 +170,8 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		s.nodes = append(s.nodes, i)
 	}
 	m := len(s.nodes)
-	s.mat = nodesys.NewMatrix[float64](m)
+	rowPtr, col := s.pattern()
+	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
 	s.fac = nodesys.NewFactor[float64](nil)
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
@@ -176,6 +180,90 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.stats.NodeUnknowns = m
 	s.stats.Unknowns = m + int(interior)
 	return s, nil
+}
+
+// pattern returns the pattern of the node system in compressed rows: row r
+// holds the diagonal and the unknowns joined to r by an edge, sorted and
+// without repeats. It records where the entries go: s.dslot[r] is the slot
+// of (r,r), s.eslot[e] the slots of edge e's entries (From row, To column)
+// and (To row, From column), −1 where an end is fixed. Cost O(nodes + edges),
+// plus sorting the rows of nodes of high degree.
+func (s *system) pattern() (rowPtr, col []int) {
+	m := len(s.nodes)
+	edges := s.net.Edges
+	s.dslot = make([]int, m)
+	s.eslot = make([][2]int, len(edges))
+	rowPtr = make([]int, m+1)
+	for r := 0; r < m; r++ {
+		rowPtr[r+1] = 1
+	}
+	for e := range edges {
+		ed := &edges[e]
+		if r0, r1 := s.unk[ed.From], s.unk[ed.To]; r0 >= 0 && r1 >= 0 && r0 != r1 {
+			rowPtr[r0+1]++
+			rowPtr[r1+1]++
+		}
+	}
+	for r := 0; r < m; r++ {
+		rowPtr[r+1] += rowPtr[r]
+	}
+	// Entries tagged with their origin: −1 the diagonal, 2e and 2e+1 the
+	// From and To rows of edge e.
+	type entry struct{ col, tag int }
+	ent := make([]entry, rowPtr[m])
+	fill := make([]int, m)
+	for r := 0; r < m; r++ {
+		ent[rowPtr[r]] = entry{r, -1}
+		fill[r] = rowPtr[r] + 1
+	}
+	for e := range edges {
+		ed := &edges[e]
+		r0, r1 := s.unk[ed.From], s.unk[ed.To]
+		s.eslot[e] = [2]int{-1, -1}
+		if r0 >= 0 && r1 >= 0 && r0 != r1 {
+			ent[fill[r0]] = entry{r1, 2 * e}
+			fill[r0]++
+			ent[fill[r1]] = entry{r0, 2*e + 1}
+			fill[r1]++
+		}
+	}
+	// Sort every row, merge repeats (parallel edges) and note the slots.
+	col = make([]int, len(ent))
+	w := 0
+	start := 0
+	for r := 0; r < m; r++ {
+		c := ent[start:rowPtr[r+1]]
+		start = rowPtr[r+1]
+		if len(c) <= 16 {
+			for a := 1; a < len(c); a++ {
+				for b := a; b > 0 && c[b].col < c[b-1].col; b-- {
+					c[b], c[b-1] = c[b-1], c[b]
+				}
+			}
+		} else {
+			slices.SortFunc(c, func(x, y entry) int { return x.col - y.col })
+		}
+		for a, x := range c {
+			if a == 0 || x.col != c[a-1].col {
+				col[w] = x.col
+				w++
+			}
+			if x.tag < 0 {
+				s.dslot[r] = w - 1
+			} else {
+				s.eslot[x.tag/2][x.tag%2] = w - 1
+			}
+		}
+		rowPtr[r+1] = w
+	}
+	// A loop edge's entries are diagonal ones.
+	for e := range edges {
+		ed := &edges[e]
+		if r := s.unk[ed.From]; r >= 0 && ed.From == ed.To {
+			s.eslot[e] = [2]int{s.dslot[r], s.dslot[r]}
+		}
+	}
+	return rowPtr, col[:w:w]
 }
 
 // constantEdge reports whether edge ed has constant coefficients for this
@@ -356,19 +444,19 @@ func (s *system) assemble(shift float64) {
 	s.shift = shift
 	s.mat.ZeroValues()
 	clear(s.rhs)
+	// The elements first, then the node rows: the sweeps stream through
+	// the grid storage, which would evict the node system between edges.
 	pend := -1 // a constant grid edge waiting for a partner
 	var pk constCell
 	for e := range net.Edges {
 		if !s.constGrid(e) {
 			s.element(e, shift)
-			s.addEdge(e)
 			continue
 		}
 		k := s.constCellOf(e, shift)
 		if pend < 0 || s.grid[pend].n != k.ends.n {
 			if pend >= 0 {
 				s.element(pend, shift)
-				s.addEdge(pend)
 			}
 			pend, pk = e, k
 			continue
@@ -376,50 +464,60 @@ func (s *system) assemble(shift float64) {
 		da, db, ga, gb := condenseConstPair(s.gridStore(pend), s.gridStore(e), &pk, &k)
 		s.grid[pend], s.grid[e] = pk.ends, k.ends
 		s.maps[pend], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
-		s.addEdge(pend)
-		s.addEdge(e)
 		pend = -1
 	}
 	if pend >= 0 {
 		s.element(pend, shift)
-		s.addEdge(pend)
+	}
+	val := s.mat.Values()
+	for e := range net.Edges {
+		s.addEdge(val, e)
 	}
 	for r, i := range s.nodes {
 		diag, rhs := net.Nodes[i].Law.Row(shift)
 		if s.v.NodeInject != nil {
 			rhs = s.v.NodeInject[i]
 		}
-		s.mat.Add(r, r, diag)
+		val[s.dslot[r]] += diag
 		s.rhs[r] += rhs
 	}
 }
 
-// addEdge adds the rows of edge e's end map (s.maps[e]) to the node system.
-func (s *system) addEdge(e int) {
+// addEdge adds the rows of edge e's end map (s.maps[e]) to the node system,
+// whose values (in the pattern of s.pattern) are val.
+func (s *system) addEdge(val []float64, e int) {
 	ed := &s.net.Edges[e]
 	m := &s.maps[e]
 	v0, v1 := ed.From, ed.To
-	if r := s.unk[v0]; r >= 0 {
+	r0, r1 := s.unk[v0], s.unk[v1]
+	var g0, g1 float64 // fixed end values
+	if r0 < 0 {
+		g0 = s.fixedValue(v0)
+	}
+	if r1 < 0 {
+		g1 = s.fixedValue(v1)
+	}
+	sl := s.eslot[e]
+	if r0 >= 0 {
 		a0 := ed.EndWeight(0)
-		s.add(r, v0, -a0*m.d[0][0])
-		s.add(r, v1, -a0*m.d[0][1])
-		s.rhs[r] += a0 * m.g[0]
+		val[s.dslot[r0]] += -a0 * m.d[0][0]
+		if r1 >= 0 {
+			val[sl[0]] += -a0 * m.d[0][1]
+		} else {
+			s.rhs[r0] -= -a0 * m.d[0][1] * g1
+		}
+		s.rhs[r0] += a0 * m.g[0]
 	}
-	if r := s.unk[v1]; r >= 0 {
+	if r1 >= 0 {
 		aL := ed.EndWeight(1)
-		s.add(r, v0, aL*m.d[1][0])
-		s.add(r, v1, aL*m.d[1][1])
-		s.rhs[r] -= aL * m.g[1]
+		if r0 >= 0 {
+			val[sl[1]] += aL * m.d[1][0]
+		} else {
+			s.rhs[r1] -= aL * m.d[1][0] * g0
+		}
+		val[s.dslot[r1]] += aL * m.d[1][1]
+		s.rhs[r1] -= aL * m.g[1]
 	}
-}
-
-// add puts coefficient val of node col's value into row r.
-func (s *system) add(r, col int, val float64) {
-	if c := s.unk[col]; c >= 0 {
-		s.mat.Add(r, c, val)
-		return
-	}
-	s.rhs[r] -= val * s.fixedValue(col)
 }
 
 // factor factors the assembled node system.

@@ -279,6 +279,11 @@ func (f *Factor[T]) analyze(m *Matrix[T]) error {
 	n := m.n
 	f.mat, f.version, f.n = m, m.version, n
 	f.patPtr, f.patCol = m.rowPtr, m.col
+	if f.set.Ordering == MinimumDegree && f.kernel == kernelAuto {
+		if ok, err := f.analyzeTree(m); ok {
+			return err
+		}
+	}
 	t0 := time.Now()
 	name := f.set.Ordering.String()
 	var perm []int

@@ -40,6 +40,46 @@ func NewMatrix[T Scalar](n int) *Matrix[T] {
 	return &Matrix[T]{n: n}
 }
 
+// NewMatrixPattern returns an n×n matrix with all values zero whose pattern
+// is already frozen to the compressed rows rowPtr (n+1 offsets) and col: the
+// columns of row i are col[rowPtr[i]:rowPtr[i+1]], strictly increasing, the
+// diagonal among them, and the pattern symmetric. Adds into the pattern then
+// cost O(log deg) and allocate nothing from the first assembly on, which
+// spares a caller that knows its pattern (a network's incidence) the pending
+// list and the sort of the first Factorize. The slices are kept, not copied,
+// and must not be modified afterwards. It panics if the pattern is not of
+// that form. Cost O(n + nnz).
+func NewMatrixPattern[T Scalar](n int, rowPtr, col []int) *Matrix[T] {
+	if n < 0 || len(rowPtr) != n+1 || rowPtr[0] != 0 || rowPtr[n] != len(col) {
+		panic("nodesys: NewMatrixPattern: bad row offsets")
+	}
+	tr := make([]int, len(col))
+	cur := make([]int, n)
+	copy(cur, rowPtr[:n])
+	for i := 0; i < n; i++ {
+		diag := false
+		for p := rowPtr[i]; p < rowPtr[i+1]; p++ {
+			j := col[p]
+			if uint(j) >= uint(n) || (p > rowPtr[i] && j <= col[p-1]) {
+				panic("nodesys: NewMatrixPattern: columns not increasing or out of range")
+			}
+			diag = diag || j == i
+			// Rows are visited in increasing order, so the entries (·,j)
+			// come in increasing row order: that of row j's columns.
+			q := cur[j]
+			if q >= rowPtr[j+1] || col[q] != i {
+				panic("nodesys: NewMatrixPattern: pattern not symmetric")
+			}
+			tr[p] = q
+			cur[j]++
+		}
+		if !diag {
+			panic("nodesys: NewMatrixPattern: diagonal missing")
+		}
+	}
+	return &Matrix[T]{n: n, rowPtr: rowPtr, col: col, val: make([]T, len(col)), tr: tr, version: 1}
+}
+
 // Dim returns the dimension n of the matrix.
 func (m *Matrix[T]) Dim() int { return m.n }
 
@@ -89,6 +129,13 @@ func (m *Matrix[T]) Add(i, j int, v T) {
 		m.pv = append(m.pv, 0)
 	}
 }
+
+// Values returns the values of the frozen pattern in the order of its
+// compressed rows (for NewMatrixPattern, the order of its col argument), or
+// nil before the first freeze. A caller that knows the slot of an entry may
+// accumulate into it directly; the slice stays valid until the pattern
+// changes (an Add outside it followed by Factorize). Cost O(1).
+func (m *Matrix[T]) Values() []T { return m.val }
 
 // ZeroValues sets every stored value to zero and keeps the pattern, for
 // re-assembly with the same pattern. Cost O(nnz).
