@@ -49,9 +49,14 @@ type system struct {
 	grid  []gridEnds   // per edge (zero for exact edges)
 	maps  []edgeMap    // per edge: the end map of the last assembly
 	ecf   [][2]float64 // per exact edge: c (shift included) and f of the last assembly
-	st    []float64    // grid sweeps: a triple per interior unknown, the first
-	//                    entry overwritten by the interior value by recover
-	bad   int // first grid edge with a non-finite interior after recover, or −1
+	st    []float64    // grid interiors, one value per interior unknown (from
+	//                    gridEnds.off); after assemble, for constant grid edges,
+	//                    the inv_i of condenseConst, overwritten by recover
+	vst   []float64   // sweep triples of the grid edges with varying coefficients
+	voff  []int       // per such edge: index of its first triple in vst (nil if none)
+	kc    []sweepCoef // per constant grid edge: its cells at the last assembly
+	scr   []float64   // recovery scratch, 2·(most cells of an edge)
+	bad   int         // first grid edge with a non-finite interior after recover, or −1
 	shift float64
 
 	unk   []int                    // node → unknown, −1 for fixed nodes
@@ -112,7 +117,8 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.grid = make([]gridEnds, ne)
 	s.maps = make([]edgeMap, ne)
 	s.ecf = make([][2]float64, ne)
-	var interior int64
+	var interior, varInterior int64
+	maxCells := 0
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		cons := s.constantEdge(ed)
@@ -143,6 +149,14 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		}
 		s.grid[e] = gridEnds{n: n, off: int(interior)}
 		interior += int64(n - 1)
+		maxCells = max(maxCells, n)
+		if !s.constGrid(e) {
+			if s.voff == nil {
+				s.voff = make([]int, ne)
+			}
+			s.voff[e] = int(varInterior)
+			varInterior += int64(n - 1)
+		}
 		if interior > maxGrid {
 			// count the rest for the message
 			for _, rest := range net.Edges[e+1:] {
@@ -176,7 +190,10 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
 	s.u = make([]float64, nn)
-	s.st = make([]float64, 3*interior)
+	s.st = make([]float64, interior)
+	s.vst = make([]float64, 3*varInterior)
+	s.kc = make([]sweepCoef, ne)
+	s.scr = make([]float64, 2*maxCells)
 	s.stats.NodeUnknowns = m
 	s.stats.Unknowns = m + int(interior)
 	return s, nil
@@ -386,10 +403,17 @@ func (s *system) constCellOf(e int, shift float64) constCell {
 	return k
 }
 
-// gridStore returns the sweep storage of grid edge e.
+// gridStore returns the interior values of grid edge e (n−1 values).
 func (s *system) gridStore(e int) []float64 {
 	ge := &s.grid[e]
-	return s.st[3*ge.off : 3*(ge.off+ge.n-1)]
+	return s.st[ge.off : ge.off+ge.n-1]
+}
+
+// varStore returns the sweep triples of grid edge e with varying
+// coefficients.
+func (s *system) varStore(e int) []float64 {
+	o := s.voff[e]
+	return s.vst[3*o : 3*(o+s.grid[e].n-1)]
 }
 
 // element computes the end map of edge e for the given shift (and, for a grid
@@ -412,6 +436,7 @@ func (s *system) element(e int, shift float64) {
 		k := s.constCellOf(e, shift)
 		d, g := condenseConst(s.gridStore(e), &k)
 		s.grid[e] = k.ends
+		s.kc[e] = k.sweep()
 		s.maps[e] = edgeMap{d, g}
 		return
 	}
@@ -419,7 +444,7 @@ func (s *system) element(e int, shift float64) {
 	n, off := ge.n, ge.off
 	src := s.v.EdgeSource
 	cs := s.v.ConstSource
-	d, g, out := condenseVar(s.gridStore(e), n, L, func(x float64) (a, b, c, f float64) {
+	d, g, out := condenseVar(s.varStore(e), n, L, func(x float64) (a, b, c, f float64) {
 		a, b, c, f, rho := ed.Coeffs(x)
 		switch {
 		case src != nil:
@@ -463,6 +488,7 @@ func (s *system) assemble(shift float64) {
 		}
 		da, db, ga, gb := condenseConstPair(s.gridStore(pend), s.gridStore(e), &pk, &k)
 		s.grid[pend], s.grid[e] = pk.ends, k.ends
+		s.kc[pend], s.kc[e] = pk.sweep(), k.sweep()
 		s.maps[pend], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
 		pend = -1
 	}
@@ -551,20 +577,45 @@ func (s *system) solve() {
 	s.recover()
 }
 
-// recover writes the grid interiors over the sweeps in s.st by back
-// substitution and notes the first edge with a non-finite value in s.bad.
+// recover writes the grid interiors into s.st by back substitution and
+// notes the first edge with a non-finite value in s.bad. Constant grid edges
+// with equal cells are recovered in pairs (recoverConstPair).
 func (s *system) recover() {
 	s.bad = -1
-	for e := range s.net.Edges {
+	note := func(e int, ok bool) {
+		if !ok && (s.bad < 0 || e < s.bad) {
+			s.bad = e
+		}
+	}
+	edges := s.net.Edges
+	pend := -1 // a constant grid edge waiting for a partner
+	for e := range edges {
 		if s.exact[e] {
 			continue
 		}
-		ge := &s.grid[e]
-		ed := &s.net.Edges[e]
-		off, n := ge.off, ge.n
-		if !recoverGrid(s.st[3*off:3*(off+n-1)], s.u[ed.From], s.u[ed.To]) && s.bad < 0 {
-			s.bad = e
+		ed := &edges[e]
+		if !s.constGrid(e) {
+			note(e, recoverGrid(s.gridStore(e), s.varStore(e), s.u[ed.From], s.u[ed.To]))
+			continue
 		}
+		if pend >= 0 && s.grid[pend].n == s.grid[e].n {
+			pd := &edges[pend]
+			oka, okb := recoverConstPair(s.gridStore(pend), s.gridStore(e), s.scr, s.kc[pend], s.kc[e],
+				s.u[pd.From], s.u[pd.To], s.u[ed.From], s.u[ed.To])
+			note(pend, oka)
+			note(e, okb)
+			pend = -1
+			continue
+		}
+		if pend >= 0 {
+			pd := &edges[pend]
+			note(pend, recoverConst(s.gridStore(pend), s.scr, s.kc[pend], s.u[pd.From], s.u[pd.To]))
+		}
+		pend = e
+	}
+	if pend >= 0 {
+		pd := &edges[pend]
+		note(pend, recoverConst(s.gridStore(pend), s.scr, s.kc[pend], s.u[pd.From], s.u[pd.To]))
 	}
 }
 
@@ -579,7 +630,7 @@ func (s *system) endDerivs(e int) (d0, dL float64) {
 	ge := &s.grid[e]
 	first, last := UL, U0
 	if ge.n > 1 {
-		first, last = s.st[3*ge.off], s.st[3*(ge.off+ge.n-2)]
+		first, last = s.st[ge.off], s.st[ge.off+ge.n-2]
 	}
 	return ge.endDerivs(U0, UL, first, last)
 }

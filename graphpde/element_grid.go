@@ -39,8 +39,11 @@ import "math"
 // way u_1 = Π α · UL + Σ_j (Π_{i<j} α_i)(β⁰_j U0 + βˢ_j) (the second sweep,
 // fused into the first). Together with the end derivatives this is the same
 // affine 2×2 end map as the exact element. After the node solve, back
-// substitution with the stored (α, β⁰, βˢ) recovers the interior, writing u_i
-// over α_i: the storage is 24 bytes per interior unknown in all.
+// substitution recovers the interior into a flat array of one value per
+// interior unknown. An edge with varying coefficients keeps its triples in
+// storage of its own (24 bytes per interior unknown); an edge with constant
+// ones keeps only inv_i = α_i/r (8 bytes, in the place of its values), from
+// which recovery rebuilds α_i and β⁰_i U0 + βˢ_i once U0 is known.
 
 // gridEnds holds what the node balance and the flux reconstruction need of a
 // grid edge: its cells, its place in the flat storage, and the end half-cell
@@ -48,7 +51,7 @@ import "math"
 // a(L)u'(L) = lL (UL − u_{n−1}) − mfL + mcL UL.
 type gridEnds struct {
 	n   int // cells
-	off int // index of u_1 in the flat interior storage (n−1 values)
+	off int // index of u_1 in the flat interior values (n−1 values)
 
 	r0, mf0, mc0, a0 float64
 	lL, mfL, mcL, aL float64
@@ -82,6 +85,11 @@ type constCell struct {
 	ends            gridEnds
 }
 
+// sweepCoef is what recovery needs of a constant grid edge's cells.
+type sweepCoef struct{ r, lf, mf float64 }
+
+func (k *constCell) sweep() sweepCoef { return sweepCoef{k.r, k.lf, k.mf} }
+
 func newConstCell(n int, L, a, b, c, f float64) constCell {
 	h := L / float64(n)
 	p := b * h / a
@@ -96,21 +104,28 @@ func newConstCell(n int, L, a, b, c, f float64) constCell {
 }
 
 // condenseConst condenses a grid edge whose coefficients a, b, c (shift
-// included) and f are constant (k from newConstCell), writing (α, β⁰, βˢ)
-// triples into st (3(n−1) values) and returning the end map for u'.
+// included) and f are constant (k from newConstCell) and returns the end map
+// for u'. Of the forward sweep
+//
+//	inv_i = 1/(diag − lf·α_{i−1}),  α_i = r·inv_i,
+//	β⁰_i = lf·β⁰_{i−1}·inv_i,  βˢ_i = (mf + lf·βˢ_{i−1})·inv_i,
+//
+// it keeps only inv_i, in st[i−1] (n−1 values): recoverConst rebuilds α and
+// the combination β⁰·U0 + βˢ from it once U0 is known, so that the storage
+// is 8 bytes per interior unknown, later overwritten by the interior value.
 // Cost O(n), no allocation.
 func condenseConst(st []float64, k *constCell) (d [2][2]float64, g [2]float64) {
 	n := k.ends.n
 	r, lf, diag, mf := k.r, k.lf, k.diag, k.mf
-	st = st[:3*(n-1)]
+	st = st[:n-1]
 	alpha, b0, bs := 0.0, 1.0, 0.0
 	pi, p0, ps := 1.0, 0.0, 0.0
-	for j := 0; j+2 < len(st); j += 3 {
+	for i := range st {
 		inv := 1 / (diag - lf*alpha)
 		alpha = r * inv
 		b0 = lf * b0 * inv
 		bs = (mf + lf*bs) * inv
-		st[j], st[j+1], st[j+2] = alpha, b0, bs
+		st[i] = inv
 		p0 += pi * b0
 		ps += pi * bs
 		pi *= alpha
@@ -125,13 +140,13 @@ func condenseConst(st []float64, k *constCell) (d [2][2]float64, g [2]float64) {
 // calls bit for bit.
 func condenseConstPair(sa, sb []float64, ka, kb *constCell) (da, db [2][2]float64, ga, gb [2]float64) {
 	n := ka.ends.n
-	sa = sa[:3*(n-1)]
-	sb = sb[:3*(n-1)]
+	sa = sa[:n-1]
+	sb = sb[:n-1]
 	ra, lfa, diaga, mfa := ka.r, ka.lf, ka.diag, ka.mf
 	rb, lfb, diagb, mfb := kb.r, kb.lf, kb.diag, kb.mf
 	alpa, b0a, bsa, pia, p0a, psa := 0.0, 1.0, 0.0, 1.0, 0.0, 0.0
 	alpb, b0b, bsb, pib, p0b, psb := 0.0, 1.0, 0.0, 1.0, 0.0, 0.0
-	for j := 0; j+2 < len(sa) && j+2 < len(sb); j += 3 {
+	for i := range sa {
 		inva := 1 / (diaga - lfa*alpa)
 		invb := 1 / (diagb - lfb*alpb)
 		alpa = ra * inva
@@ -140,8 +155,8 @@ func condenseConstPair(sa, sb []float64, ka, kb *constCell) (da, db [2][2]float6
 		b0b = lfb * b0b * invb
 		bsa = (mfa + lfa*bsa) * inva
 		bsb = (mfb + lfb*bsb) * invb
-		sa[j], sa[j+1], sa[j+2] = alpa, b0a, bsa
-		sb[j], sb[j+1], sb[j+2] = alpb, b0b, bsb
+		sa[i] = inva
+		sb[i] = invb
 		p0a += pia * b0a
 		p0b += pib * b0b
 		psa += pia * bsa
@@ -152,6 +167,61 @@ func condenseConstPair(sa, sb []float64, ka, kb *constCell) (da, db [2][2]float6
 	da, ga = gridMap(&ka.ends, p0a, pia, psa, alpa, b0a, bsa)
 	db, gb = gridMap(&kb.ends, p0b, pib, psb, alpb, b0b, bsb)
 	return da, db, ga, gb
+}
+
+// recoverConst recovers the interior values u_1 … u_{n−1} of a constant grid
+// edge from its end values, writing them over the inv_i that condenseConst
+// left in u (n−1 values): a forward pass
+//
+//	γ_0 = U0,  γ_i = (mf + lf·γ_{i−1})·inv_i   (= β⁰_i·U0 + βˢ_i)
+//
+// into scr (n−1 values of scratch), then back substitution
+// u_i = r·inv_i·u_{i+1} + γ_i from u_n = UL. It reports whether all values
+// are finite. Cost O(n), no allocation.
+func recoverConst(u, scr []float64, k sweepCoef, U0, UL float64) bool {
+	r, lf, mf := k.r, k.lf, k.mf
+	scr = scr[:len(u)]
+	gam := U0
+	for i, inv := range u {
+		gam = (mf + lf*gam) * inv
+		scr[i] = gam
+	}
+	x, z := UL, 0.0
+	for i := len(u) - 1; i >= 0; i-- {
+		x = r*u[i]*x + scr[i]
+		u[i] = x
+		z += x * 0 // becomes NaN at the first NaN or ±Inf
+	}
+	return z == 0
+}
+
+// recoverConstPair is recoverConst for two edges with the same number of
+// cells at once (interleaved like condenseConstPair); sa, sb are their values
+// and scr 2(n−1) values of scratch. It reports whether all values of each
+// edge are finite.
+func recoverConstPair(sa, sb, scr []float64, ka, kb sweepCoef, U0a, ULa, U0b, ULb float64) (oka, okb bool) {
+	m := len(sa)
+	sb = sb[:m]
+	ga, gb := scr[:m], scr[m:2*m]
+	ra, lfa, mfa := ka.r, ka.lf, ka.mf
+	rb, lfb, mfb := kb.r, kb.lf, kb.mf
+	gama, gamb := U0a, U0b
+	for i := range sa {
+		gama = (mfa + lfa*gama) * sa[i]
+		gamb = (mfb + lfb*gamb) * sb[i]
+		ga[i] = gama
+		gb[i] = gamb
+	}
+	xa, xb, za, zb := ULa, ULb, 0.0, 0.0
+	for i := m - 1; i >= 0; i-- {
+		xa = ra*sa[i]*xa + ga[i]
+		xb = rb*sb[i]*xb + gb[i]
+		sa[i] = xa
+		sb[i] = xb
+		za += xa * 0
+		zb += xb * 0
+	}
+	return za == 0, zb == 0
 }
 
 // gridMap turns the sweep results into the end map for u': u_1 = p0·U0 +
@@ -209,16 +279,18 @@ func condenseVar(st []float64, n int, L float64, coef func(x float64) (a, b, c, 
 	return d, g, ge
 }
 
-// recoverGrid recovers the interior values u_1 … u_{n−1} from the end values
-// and the stored sweep (back substitution), writing u_i over α_i, the first of
-// its triple in st (3(n−1) values). It reports whether all values are finite.
-// Cost O(n).
-func recoverGrid(st []float64, U0, UL float64) bool {
+// recoverGrid recovers the interior values u_1 … u_{n−1} (into u, n−1
+// values) of a grid edge with varying coefficients from the end values and
+// the triples of its sweep in st (3(n−1) values) by back substitution. It
+// reports whether all values are finite. Cost O(n).
+func recoverGrid(u, st []float64, U0, UL float64) bool {
 	x := UL
 	z := 0.0
-	for j := len(st) - 3; j >= 0; j -= 3 {
+	st = st[:3*len(u)]
+	for i := len(u) - 1; i >= 0; i-- {
+		j := 3 * i
 		x = st[j]*x + st[j+1]*U0 + st[j+2]
-		st[j] = x
+		u[i] = x
 		z += x * 0 // becomes NaN at the first NaN or ±Inf
 	}
 	return z == 0

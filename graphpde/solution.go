@@ -24,7 +24,7 @@ type Solution struct {
 
 	exact []bool
 	grid  []gridEnds
-	gval  []float64 // grid interiors: value k (from gridEnds.off) at gval[3k]
+	gval  []float64 // grid interiors: value k (from gridEnds.off) at gval[k]
 	ecf   [][2]float64
 }
 
@@ -73,7 +73,7 @@ func (s *Solution) gridValue(e, i int) float64 {
 	case ge.n:
 		return s.U[ed.To]
 	}
-	return s.gval[3*(ge.off+i-1)]
+	return s.gval[ge.off+i-1]
 }
 
 // Sample appends to dst[:0] the field along edge e and returns it: the grid
