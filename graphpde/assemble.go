@@ -22,7 +22,7 @@ import (
 //	                     // first call only (nodesys keeps it while the pattern is unchanged)
 //	sys.solve()          // node values into sys.u (fixed nodes included)
 //	sys.recover()        // grid interiors by back substitution (interior value k,
-//	                     // counted from gridEnds.off, is sys.st[3k])
+//	                     // counted from gridEnds.off, is sys.st[k])
 //
 // Between calls a caller may change sys.v (sources, injections, fixed values;
 // not the kind of an edge: EdgeSource must stay nil or non-nil as at

@@ -30,8 +30,8 @@ import "math"
 //	a(0) u'(0) = R_0 (u_1 − U0) + m_0 (f_0 − c_0 U0),         m_0 = (h/2) ω(P_0),
 //	a(L) u'(L) = L_{n−1}(UL − u_{n−1}) − m_n (f_n − c_n UL),   m_n = (h/2) ω(−P_{n−1}).
 //
-// Condensation: one forward Thomas sweep writes, for each interior vertex,
-// into a triple of the flat storage (α_i, β⁰_i, βˢ_i) with
+// Condensation: one forward Thomas sweep computes, for each interior vertex,
+// (α_i, β⁰_i, βˢ_i) with
 //
 //	u_i = α_i u_{i+1} + β⁰_i U0 + βˢ_i,
 //

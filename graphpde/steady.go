@@ -51,7 +51,8 @@ func (m Method) String() string {
 const DefaultCells = 64
 
 // DefaultMaxGridUnknowns is the default bound on the interior grid unknowns
-// of one solve (24 bytes each, so about 6 GB).
+// of one solve (8 bytes each on edges with constant coefficients, 32 on
+// edges with varying ones, so 2 to 8 GB).
 const DefaultMaxGridUnknowns = 1 << 28
 
 // Settings controls a steady solve. A nil *Settings means the defaults.
@@ -181,7 +182,7 @@ type GridSizeError struct {
 }
 
 func (e *GridSizeError) Error() string {
-	return fmt.Sprintf("the grid would have %d interior unknowns (about %d MB); at most %d are allowed: use fewer cells", e.Unknowns, e.Unknowns*24>>20, e.Max)
+	return fmt.Sprintf("the grid would have %d interior unknowns (at least %d MB); at most %d are allowed: use fewer cells", e.Unknowns, e.Unknowns*8>>20, e.Max)
 }
 
 // Variant overrides data of a network for one solve, so that related problems
