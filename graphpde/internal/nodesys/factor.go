@@ -179,6 +179,7 @@ type Factor[T Scalar] struct {
 	stats     Stats
 
 	kernel int     // kernelAuto unless a test forces one
+	tree   bool    // analysed by analyzeTree: numericTree applies
 	sn     *snodes // supernodes, nil for the up-looking kernel
 	snw    *snWork[T]
 }
@@ -284,6 +285,7 @@ func (f *Factor[T]) analyze(m *Matrix[T]) error {
 			return err
 		}
 	}
+	f.tree = false
 	t0 := time.Now()
 	name := f.set.Ordering.String()
 	var perm []int
@@ -450,6 +452,9 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 	}
 	if f.sn != nil {
 		return f.numericSN(m, sym)
+	}
+	if f.tree {
+		return f.numericTree(m, sym)
 	}
 
 	par, flag, stack := f.par, f.flag, f.stack
