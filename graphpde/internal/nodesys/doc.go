@@ -56,6 +56,16 @@
 //     Van Loan, Matrix Computations, 3rd ed., §3.4, from memory), which covers
 //     node systems; complex symmetric systems (A = Aᵀ, not Hermitian) take the
 //     LDLᵀ path with the plain transpose.
+//   - Forests: when minimum-degree peeling eliminates every node (the network
+//     is a tree or a forest), the order, the parents, the pattern of L and
+//     the permuted upper triangle come out of the peeling pass itself, with
+//     no general symbolic analysis, and the numeric factorisation is one
+//     division per child (each column of L has one entry below the
+//     diagonal). The whole factor-and-solve is then a few linear passes.
+//
+// A caller that knows its pattern (graphpde builds it from the network) can
+// create the matrix with NewMatrixPattern and write values straight into the
+// slots of Values, skipping the assembly by Add.
 //
 // Nested dissection of the k×k five-point grid gives nnz(L) ≈ 31/8·n·log₂n to
 // leading order (A. George, Nested dissection of a regular finite element
