@@ -101,6 +101,9 @@ type crossResult struct {
 	fits   []weightFit
 	notes  []string
 	level  float64
+	// lawCompared is set when the exit-time law was compared (and can be
+	// drawn).
+	lawCompared bool
 }
 
 // crossOptions selects the optional parts of a cross-check.
@@ -228,11 +231,16 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	} else {
 		cc.notes = append(cc.notes, fmt.Sprintf("%d walkers were still out at the time cap %g: the mean exit time of the others is biased and is not compared; the distribution check accounts for them", res.Censored, res.TimeCap))
 	}
-	if x.HasDistribution {
+	atFixed := p.Edge < 0 && net.Nodes[p.Node].Law.Kind == vertex.Fixed
+	switch {
+	case atFixed:
+		cc.notes = append(cc.notes, "the start is a fixed node: every walker is absorbed at once, so the exit-time law is a point mass at 0 and is not compared")
+	case x.HasDistribution:
+		cc.lawCompared = true
 		times := exitTimes(res)
 		checks = append(checks, compare.Distribution("exit-time:distribution", times, res.TimeCap, int(res.Censored), survivalTable(x.SurvivalAt, times)))
-	} else {
-		cc.notes = append(cc.notes, "the exit-time distribution needs exact elements (constant coefficients on every edge); it is not compared")
+	default:
+		cc.notes = append(cc.notes, "the exit-time distribution is not available from the PDE for this network; it is not compared")
 	}
 	for e := range net.Edges {
 		if e < len(res.Occupation) && e < len(x.Occupation) && res.Censored == 0 && opt.occupation {
@@ -346,7 +354,7 @@ func (cc *crossResult) plot(dir string, net *graphpde.Network) error {
 	if err := compare.PlotHits(filepath.Join(dir, "hits.svg"), names, pde, walk, se); err != nil {
 		return err
 	}
-	if !cc.exit.HasDistribution {
+	if !cc.lawCompared {
 		return nil
 	}
 	times := exitTimes(cc.walk)
