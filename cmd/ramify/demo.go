@@ -107,7 +107,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 
 	// 4. Verdict.
-	fmt.Fprintf(w, "\n4. Cross-check of %d quantities (z-scores, split frequencies at every junction,\n", len(cc.report.Checks))
+	fmt.Fprintf(w, "\n4. Cross-check of %d quantities (z-scores, split frequencies at the junctions,\n", len(cc.report.Checks))
 	fmt.Fprintln(w, "   and a Kolmogorov–Smirnov test of the transit-time law):")
 	fmt.Fprintf(w, "   verdict: %s — %s\n", cc.report.Verdict, cc.report.Explain)
 	fmt.Fprintln(w, "\nNext: ramify solve examples/karst.toml --probe east-a@15")
