@@ -546,75 +546,54 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 // may alias b. It panics if the lengths differ from the dimension or if there
 // is no valid factorisation. Cost O(nnz(L)); it allocates nothing.
 func (f *Factor[T]) SolveTo(dst, b []T) {
-	if !f.ready {
-		panic("nodesys: SolveTo without a successful Factorize")
-	}
-	n := f.n
-	if len(dst) != n || len(b) != n {
-		panic(fmt.Sprintf("nodesys: SolveTo length mismatch: dst %d, b %d, dimension %d", len(dst), len(b), n))
-	}
-	w := f.work
-	for k, v := range f.perm {
-		w[k] = b[v]
-	}
-	lp, li, lx, d := f.lp, f.li, f.lx, f.d
-	for j := 0; j < n; j++ {
-		wj := w[j]
-		if wj == 0 {
-			continue
-		}
-		for p := lp[j]; p < lp[j+1]; p++ {
-			w[li[p]] -= lx[p] * wj
-		}
-	}
-	for j := 0; j < n; j++ {
-		w[j] /= d[j]
-	}
-	ux := lx
-	if !f.symmetric {
-		ux = f.ux
-	}
-	for j := n - 1; j >= 0; j-- {
-		s := w[j]
-		for p := lp[j]; p < lp[j+1]; p++ {
-			s -= ux[p] * w[li[p]]
-		}
-		w[j] = s
-	}
-	for k, v := range f.perm {
-		dst[v] = w[k]
-	}
+	f.checkSolve("SolveTo", dst, b)
+	f.solve(dst, b, f.lx, f.upper())
 }
 
 // SolveTransTo solves Aᵀ·x = b (plain transpose, no conjugation) with the
 // last factorisation and stores x in dst, for adjoint problems. dst may alias
 // b. It panics like SolveTo. Cost O(nnz(L)); it allocates nothing.
 func (f *Factor[T]) SolveTransTo(dst, b []T) {
-	if !f.ready {
-		panic("nodesys: SolveTransTo without a successful Factorize")
-	}
-	n := f.n
-	if len(dst) != n || len(b) != n {
-		panic(fmt.Sprintf("nodesys: SolveTransTo length mismatch: dst %d, b %d, dimension %d", len(dst), len(b), n))
-	}
+	f.checkSolve("SolveTransTo", dst, b)
 	// P·Aᵀ·Pᵀ = Uᵀ·D·Lᵀ: forward with Uᵀ (column j of Uᵀ is row j of U),
 	// diagonal, backward with Lᵀ.
+	f.solve(dst, b, f.upper(), f.lx)
+}
+
+// upper returns the values of U stored like L (those of L when symmetric).
+func (f *Factor[T]) upper() []T {
+	if f.symmetric {
+		return f.lx
+	}
+	return f.ux
+}
+
+func (f *Factor[T]) checkSolve(name string, dst, b []T) {
+	if !f.ready {
+		panic("nodesys: " + name + " without a successful Factorize")
+	}
+	if len(dst) != f.n || len(b) != f.n {
+		panic(fmt.Sprintf("nodesys: %s length mismatch: dst %d, b %d, dimension %d", name, len(dst), len(b), f.n))
+	}
+}
+
+// solve runs the permuted forward substitution with the unit lower factor
+// whose columns hold fwd, the diagonal, and the backward substitution with
+// the unit upper factor whose rows hold bwd, both on the pattern of L.
+func (f *Factor[T]) solve(dst, b, fwd, bwd []T) {
+	n := f.n
 	w := f.work
 	for k, v := range f.perm {
 		w[k] = b[v]
 	}
-	lp, li, lx, d := f.lp, f.li, f.lx, f.d
-	ux := lx
-	if !f.symmetric {
-		ux = f.ux
-	}
+	lp, li, d := f.lp, f.li, f.d
 	for j := 0; j < n; j++ {
 		wj := w[j]
 		if wj == 0 {
 			continue
 		}
 		for p := lp[j]; p < lp[j+1]; p++ {
-			w[li[p]] -= ux[p] * wj
+			w[li[p]] -= fwd[p] * wj
 		}
 	}
 	for j := 0; j < n; j++ {
@@ -623,7 +602,7 @@ func (f *Factor[T]) SolveTransTo(dst, b []T) {
 	for j := n - 1; j >= 0; j-- {
 		s := w[j]
 		for p := lp[j]; p < lp[j+1]; p++ {
-			s -= lx[p] * w[li[p]]
+			s -= bwd[p] * w[li[p]]
 		}
 		w[j] = s
 	}
