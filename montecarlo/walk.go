@@ -113,12 +113,7 @@ loop:
 				for u >= nd.arms[j].cum {
 					j++
 				}
-				T, killed := d, false
-				if nd.kill > 0 {
-					if z := rng.ExpFloat64() / nd.kill; z < d {
-						T, killed = z, true
-					}
-				}
+				T, killed := killClock(rng, d, nd.kill)
 				if t+T > tcap {
 					t += T
 					break loop
@@ -204,12 +199,7 @@ loop:
 			r, left = L-x, false
 		}
 		d := ed.tfac * r * r * tb.Draw(rng)
-		T, killed := d, false
-		if ed.kill > 0 {
-			if z := rng.ExpFloat64() / ed.kill; z < d {
-				T, killed = z, true
-			}
-		}
+		T, killed := killClock(rng, d, ed.kill)
 		if t+T > tcap {
 			t += T
 			break
@@ -345,4 +335,17 @@ func (w *walker) tsStep(e int, x, t, val float64) (int, float64, float64, float6
 		return ed.to, 0, t, val, false, 0
 	}
 	return -1, x, t, val, false, 0
+}
+
+// killClock runs an exponential killing clock of the given rate against a
+// step of duration d: it returns the time the step lasts and whether the
+// walker died in it (the clock is independent of the path for a constant
+// rate, so this is exact in law). A zero rate never kills and draws nothing.
+func killClock(rng *rand.Rand, d, rate float64) (float64, bool) {
+	if rate > 0 {
+		if z := rng.ExpFloat64() / rate; z < d {
+			return z, true
+		}
+	}
+	return d, false
 }
