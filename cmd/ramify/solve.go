@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strconv"
 	"text/tabwriter"
@@ -25,6 +26,7 @@ func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
 	probes := fs.StringArray("probe", nil, "report the value at POINT (NODE or EDGE@X); repeatable")
 	field := fs.String("field", "", "write the field sampled along every edge to this CSV file")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	all := fs.Bool("all", false, fmt.Sprintf("print every node and edge (the tables stop at %d rows otherwise)", tableRows))
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
 		return code
@@ -59,7 +61,11 @@ func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
 		}
 		return 0
 	}
-	printSolve(stdout, net, sol, *probes, pts, m)
+	rows := tableRows
+	if *all {
+		rows = -1
+	}
+	printSolve(stdout, net, sol, *probes, pts, m, rows)
 	return 0
 }
 
@@ -140,17 +146,55 @@ func methodSummary(sol *graphpde.Solution) string {
 	return "mixed"
 }
 
-func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point, m graphpde.Method) {
+// tableRows is the number of rows a human-readable table shows by default.
+const tableRows = 100
+
+// plural returns "n word" or "n words".
+func plural(n int, word string) string {
+	if n == 1 {
+		return "1 " + word
+	}
+	return fmt.Sprintf("%d %ss", n, word)
+}
+
+// more prints the line that says how many rows a table left out.
+func more(w io.Writer, shown, total int, what string) {
+	if shown < total {
+		fmt.Fprintf(w, "... %d more %s (--all prints them, --json gives everything)\n", total-shown, what)
+	}
+}
+
+// printSolve writes the human-readable result; rows < 0 prints every row.
+func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point, m graphpde.Method, rows int) {
+	limit := func(n int) int {
+		if rows < 0 || n < rows {
+			return n
+		}
+		return rows
+	}
 	name := net.Name
 	if name == "" {
 		name = "(unnamed network)"
 	}
-	fmt.Fprintf(w, "%s: %d nodes, %d edges; %s\n", name, len(net.Nodes), len(net.Edges), sol.Status)
-	fmt.Fprintf(w, "method %s: %d exact and %d grid edges, %d unknowns (%d at nodes), %.3g s\n\n",
+	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), sol.Status)
+	fmt.Fprintf(w, "method %s: %d exact and %d grid edges, %d unknowns (%d at nodes), %.3g s\n",
 		m, sol.Stats.ExactEdges, sol.Stats.GridEdges, sol.Stats.Unknowns, sol.Stats.NodeUnknowns, sol.Stats.Elapsed.Seconds())
+	worst, at := 0.0, -1
+	for v, r := range sol.Residual {
+		if net.Nodes[v].Law.Kind != vertex.Balance {
+			continue
+		}
+		if a := math.Abs(r); at < 0 || a > worst {
+			worst, at = a, v
+		}
+	}
+	if at >= 0 {
+		fmt.Fprintf(w, "largest balance residual %.2e, at node %s\n", worst, net.Nodes[at].ID)
+	}
+	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "node\tcondition\tu\tbalance residual")
-	for v, nd := range net.Nodes {
+	for v, nd := range net.Nodes[:limit(len(net.Nodes))] {
 		res := "—"
 		cond := "fixed"
 		if nd.Law.Kind == vertex.Balance {
@@ -166,13 +210,15 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 		fmt.Fprintf(tw, "%s\t%s\t%.6g\t%s\n", nd.ID, cond, sol.U[v], res)
 	}
 	tw.Flush()
+	more(w, limit(len(net.Nodes)), len(net.Nodes), "nodes")
 	fmt.Fprintln(w)
 	tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "edge\tfrom → to\tflux at from\tflux at to")
-	for i, e := range net.Edges {
+	for i, e := range net.Edges[:limit(len(net.Edges))] {
 		fmt.Fprintf(tw, "%s\t%s → %s\t%.6g\t%.6g\n", e.ID, net.Nodes[e.From].ID, net.Nodes[e.To].ID, sol.Flux[i][0], sol.Flux[i][1])
 	}
 	tw.Flush()
+	more(w, limit(len(net.Edges)), len(net.Edges), "edges")
 	fmt.Fprintln(w, "(flux: diffusive flux −a·u' along the edge's from → to direction)")
 	if len(pts) > 0 {
 		fmt.Fprintln(w)
