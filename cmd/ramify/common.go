@@ -1,18 +1,21 @@
 package main
 
 import (
+	"cmp"
 	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"math"
 	"os"
+	"slices"
 	"strings"
 
 	"github.com/spf13/pflag"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/netfile"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // caution is printed with every human-readable result and carried in JSON
@@ -113,4 +116,40 @@ func parsePoints(net *graphpde.Network, specs []string) ([]graphpde.Point, error
 		pts[i] = p
 	}
 	return pts, nil
+}
+
+// shownRows chooses the rows of a long table: all of idx in their order when
+// there are at most tableRows, otherwise the tableRows with the largest key,
+// largest first. It returns the chosen rows and the sum of the keys of the
+// rows left out.
+func shownRows(idx []int, key func(i int) float64) (rows []int, restSum float64) {
+	if len(idx) <= tableRows {
+		return idx, 0
+	}
+	rows = slices.Clone(idx)
+	slices.SortStableFunc(rows, func(a, b int) int { return cmp.Compare(key(b), key(a)) })
+	for _, i := range rows[tableRows:] {
+		restSum += key(i)
+	}
+	return rows[:tableRows], restSum
+}
+
+// fixedNodes returns the indices of the fixed nodes of net.
+func fixedNodes(net *graphpde.Network) []int {
+	var idx []int
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			idx = append(idx, v)
+		}
+	}
+	return idx
+}
+
+// allEdges returns 0, 1, …, len(net.Edges)−1.
+func allEdges(net *graphpde.Network) []int {
+	idx := make([]int, len(net.Edges))
+	for i := range idx {
+		idx[i] = i
+	}
+	return idx
 }

@@ -138,10 +138,12 @@ func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.Exit
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "exit at\tprobability")
-	for v, nd := range net.Nodes {
-		if nd.Law.Kind == vertex.Fixed {
-			fmt.Fprintf(tw, "%s\t%.6f\n", nd.ID, x.Hit[v])
-		}
+	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return x.Hit[v] })
+	for _, v := range rows {
+		fmt.Fprintf(tw, "%s\t%.6f\n", net.Nodes[v].ID, x.Hit[v])
+	}
+	if n := len(fixedNodes(net)) - len(rows); n > 0 {
+		fmt.Fprintf(tw, "(%d more fixed nodes)\t%.6f\n", n, rest)
 	}
 	if x.Killed > 1e-12 {
 		fmt.Fprintf(tw, "(killed by decay or leak)\t%.6f\n", x.Killed)
@@ -151,8 +153,12 @@ func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.Exit
 		fmt.Fprintln(w)
 		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 		fmt.Fprintln(tw, "edge\tmean time spent")
-		for e, ed := range net.Edges {
-			fmt.Fprintf(tw, "%s\t%.5g\n", ed.ID, x.Occupation[e])
+		rows, rest := shownRows(allEdges(net), func(e int) float64 { return x.Occupation[e] })
+		for _, e := range rows {
+			fmt.Fprintf(tw, "%s\t%.5g\n", net.Edges[e].ID, x.Occupation[e])
+		}
+		if n := len(net.Edges) - len(rows); n > 0 {
+			fmt.Fprintf(tw, "(%d more edges)\t%.5g\n", n, rest)
 		}
 		tw.Flush()
 	}

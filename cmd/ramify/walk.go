@@ -233,10 +233,12 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "exit at\tprobability\t± stderr")
-	for v, nd := range net.Nodes {
-		if nd.Law.Kind == vertex.Fixed {
-			fmt.Fprintf(tw, "%s\t%.5f\t%.2g\n", nd.ID, r.Hit[v].Mean, r.Hit[v].StdErr)
-		}
+	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return r.Hit[v].Mean })
+	for _, v := range rows {
+		fmt.Fprintf(tw, "%s\t%.5f\t%.2g\n", net.Nodes[v].ID, r.Hit[v].Mean, r.Hit[v].StdErr)
+	}
+	if n := len(fixedNodes(net)) - len(rows); n > 0 {
+		fmt.Fprintf(tw, "(%d more fixed nodes)\t%.5f\t\n", n, rest)
 	}
 	if r.Killed.Mean > 0 {
 		fmt.Fprintf(tw, "(killed by decay or leak)\t%.5f\t%.2g\n", r.Killed.Mean, r.Killed.StdErr)
