@@ -59,8 +59,9 @@ type Settings struct {
 	// 1e−2 of its drift time Lρ/|b|).
 	Step float64
 	// StarFraction is the star radius at nodes whose visit is exact only in
-	// mean (leak, capacity, decay on an arm at a different rate), as a
-	// fraction of the largest star that fits; 0 means 1/8.
+	// mean (leak, capacity, decay on an arm at a different rate, an arm that
+	// needs time stepping), as a fraction of the largest star that fits (for
+	// a time-stepping arm, of its hand-off zone); 0 means 1/8.
 	StarFraction float64
 	// KeepSamples keeps every walker's lifetime and fate in Result.Samples
 	// (16 bytes per walker; refused above MaxSampleBytes).

@@ -339,12 +339,8 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		nd.mode = modeMean
 		frac := set.StarFraction
 		r := math.Inf(1)
-		for k, ac := range co {
-			if m.edges[ends[k].Edge].exact {
-				r = math.Min(r, frac*ac.max)
-			} else {
-				r = math.Min(r, ac.max)
-			}
+		for _, ac := range co {
+			r = math.Min(r, frac*ac.max)
 		}
 		nd.r = r
 		if plain {
