@@ -83,6 +83,12 @@ type Check struct {
 	lnP float64
 }
 
+// roundoffFloor is the smallest relative standard error a z-test uses: the
+// PDE answers (exact elements, Laplace inversion) are accurate to about 1e-10
+// relative, so a difference below 1e-9 of the magnitude is round-off, not a
+// disagreement.
+const roundoffFloor = 1e-9
+
 // singleLevel is the level at which a constructor pre-sets Pass, before Decide
 // applies the family-wise threshold.
 const singleLevel = 0.01
@@ -216,8 +222,17 @@ func zCheck(quantity string, k Kind, pde, walker, stderr float64) Check {
 		c.P = math.NaN()
 		c.Note = "walker standard error is negative or NaN"
 		return c
+	}
+	// A walker estimate with (almost) no spread, e.g. a value every walker
+	// collects identically, would turn the PDE's round-off into a huge z.
+	floor := roundoffFloor * math.Max(math.Abs(pde), math.Abs(walker))
+	if stderr > 0 && stderr < floor {
+		stderr = floor
+		c.Note = "standard error raised to the round-off floor"
+	}
+	switch {
 	case stderr == 0:
-		if walker == pde {
+		if math.Abs(walker-pde) <= floor {
 			c.Z, c.P, c.Pass = 0, 1, true
 			c.Note = "zero standard error, values equal"
 			return c

@@ -202,3 +202,15 @@ func TestReportJSON(t *testing.T) {
 		t.Errorf("round trip: %s", b)
 	}
 }
+
+// TestRoundoffFloor checks that a walker estimate with no spread is compared
+// with the PDE up to round-off: a relative difference of 1e-13 passes, one of
+// 1e-6 does not.
+func TestRoundoffFloor(t *testing.T) {
+	if c := Mean("value", 1.7, 1.7*(1+1e-13), 3.7e-17); !c.Pass {
+		t.Errorf("round-off difference failed: z = %g", c.Z)
+	}
+	if c := Mean("value", 1.7, 1.7*(1+1e-6), 3.7e-17); c.Pass {
+		t.Errorf("a 1e-6 difference passed: z = %g", c.Z)
+	}
+}
