@@ -234,7 +234,7 @@ func zCheck(quantity string, k Kind, pde, walker, stderr float64) Check {
 	case stderr == 0:
 		if math.Abs(walker-pde) <= floor {
 			c.Z, c.P, c.Pass = 0, 1, true
-			c.Note = "zero standard error, values equal"
+			c.Note = "zero standard error, values equal to round-off"
 			return c
 		}
 		c.P = 0
