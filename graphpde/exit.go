@@ -6,7 +6,7 @@ import (
 	"math/cmplx"
 	"sync"
 
-	"github.com/ramify-dev/ramify/graphpde/internal/laplace"
+	"github.com/ramify-dev/ramify/internal/laplace"
 	"github.com/ramify-dev/ramify/vertex"
 )
 

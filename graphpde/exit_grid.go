@@ -4,7 +4,7 @@ import (
 	"fmt"
 	"math"
 
-	"github.com/ramify-dev/ramify/graphpde/internal/laplace"
+	"github.com/ramify-dev/ramify/internal/laplace"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
