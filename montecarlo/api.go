@@ -59,9 +59,12 @@ type Settings struct {
 	// 1e−2 of its drift time Lρ/|b|).
 	Step float64
 	// StarFraction is the star radius at nodes whose visit is exact only in
-	// mean (leak, capacity, decay on an arm at a different rate, an arm that
-	// needs time stepping), as a fraction of the largest star that fits (for
-	// a time-stepping arm, of its hand-off zone); 0 means 1/8.
+	// mean (decay on an arm at a different rate, an arm that needs time
+	// stepping, a capacity with decaying arms), as a fraction of the largest
+	// star that fits (for a time-stepping arm, of its hand-off zone); 0 means
+	// 1/8. Nodes visited exactly in law (arms walked on intervals with one
+	// common decay rate, none if the node has a capacity; any leak,
+	// injection, capacity) always use the full star.
 	StarFraction float64
 	// KeepSamples keeps every walker's lifetime and fate in Result.Samples
 	// (16 bytes per walker; refused above MaxSampleBytes).
@@ -140,8 +143,10 @@ type Stats struct {
 	// discretisation bias.
 	Exact bool
 	// LawExact reports that, in addition, every node visit is exact in law,
-	// so the exit-time distribution is exact too (no leak, no node capacity,
-	// equal decay rates on the arms of every balance node).
+	// so the exit-time distribution is exact too: at every balance node the
+	// arms decay at one common rate (possibly zero), and a node with a
+	// capacity has arms without decay. Leaks, injections and capacities are
+	// exact in law (see the package documentation).
 	LawExact bool
 }
 

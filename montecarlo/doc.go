@@ -43,26 +43,68 @@
 // independent; sources on the arms are collected in expectation, Σ p_e f_e/ρ_e
 // per unit time, and the injection as its mean per visit,
 // γ tanh(r sqrt(k))/(sqrt(k) Σw) for the common rate k (rγ/Σw for k = 0).
-// These visits are exact in law, and Stats.LawExact says so.
+// These visits are exact in law.
+//
+// # Leak and capacity: the visit law
+//
+// With a leak β or a capacity ρ_v the fate of a visit and its duration are
+// correlated, and the visit is drawn from their joint law (package
+// internal/starlaw). Scaled to a standard Brownian motion reflected at 0 on
+// [0, 1] (time factor r²/2), with L the local time at 0 and the excursion
+// measure n(height ≥ h) = 1/h: the visit's local time without killing is
+// Exp(1); the leak kills at local-time rate κ = rβ/Σw, so the visit's local
+// time is L_v ~ Exp(μ), μ = 1 + κ, independent of its fate (killed with
+// probability κ/μ, else out along arm e with probability w_e/Σw); the
+// capacity holds the walker for ρ_v(r/Σw)·L_v (vertex.Law.Star's
+// HoldScale·Exp(1)); the diffusive time is S(L_v) plus, on leaving, the
+// climb T_f of the last excursion from 0 to the rim, S the subordinator of
+// the excursions below the rim (Laplace exponent
+// Φ(s) = sqrt(2s) coth sqrt(2s) − 1) and T_f a 3-dimensional Bessel hitting
+// time (E e^{−sT_f} = sqrt(2s)/sinh sqrt(2s)), independent of each other and
+// of the fate. (Excursion theory: Revuz and Yor, Continuous Martingales and
+// Brownian Motion, 3rd ed., ch. XII, from memory; the decomposition is checked
+// by [1/(1 + Φ)]·sqrt(2s)/sinh sqrt(2s) = 1/cosh sqrt(2s), the transform of
+// τ₁, REFERENCES.md B3.) So a visit draws X = (r²/2)S(L_v) + ρ_v(r/Σw)L_v,
+// with transform μ/(μ + Φ(r²s/2) + ρ_v r s/Σw), from a table built per node
+// (Talbot inversion of its distribution function, the exact one-pole
+// exponential tail, cubic Hermite interpolation of the quantile; table error
+// max |F(Q(u)) − u| ≤ 2e−11), the fate from one uniform, and adds (r²/2)·T_f
+// on leaving (a universal table, error 3e−11). The star has the full free
+// radius. A decay rate common to the arms is an independent clock on top as
+// long as the node has no capacity (the arms' decay does not act while the
+// walker is held at the node). Measured on a star with a leaky centre
+// (TestLeakyStartLaw, 10⁶ walkers), the Kolmogorov–Smirnov distance of the
+// lifetimes to the exact law is 1.75e−3 (p = 0.004; 6.3e−4 with a sticky,
+// leaky centre, 9.9e−4 with decaying arms), where the former rule below,
+// applied to these nodes, gave 1.2e−2 (p = 2e−115).
+//
+// Value, occupation and the other estimates stay exact in mean: the reward
+// per visit is its mean from the exact-in-mean rule below at the full radius
+// (vertex.Law.Star, or Law.StarArms with arm sources or decay); the time of
+// a visit without capacity is all diffusive and is booked on the arm of the
+// draw (mean share w_e/Σw), and with a capacity the mean diffusive time
+// (r²/2)/μ is booked in the shares w_e/Σw.
+//
+// Stats.LawExact reports that every edge is walked on intervals and every
+// balance node is visited by one of these two exact rules.
 //
 // # Nodes exact in mean
 //
-// With a leak, a node capacity, arms decaying at different rates, or an arm
-// that needs time stepping, the fate of a visit and its duration are
-// correlated. There the visit uses DESIGN.md §4's exact rule from the edge
-// element on [0, ε_e], ε_e = r/s_e (vertex.NewArm and Law.StarArms; vertex.Law.Star for arms
-// without decay, drift or source): move along e with probability α_eB_e/den,
-// killed otherwise, reward (Σα_eF_e + γ)/den, den = β + Σα_eA_e; the duration
-// is drawn independently of the fate, as m_d·τ₁ + (ρ_v/den)·Exp(1) with
-// m_d = Σα_eF_e(ρ)/den the exact mean diffusive time (the element with f
-// replaced by ρ), so every mean — value, hitting probability, killing
-// probability, occupation, mean lifetime — stays exact, and only the
-// lifetime's law is approximate. The star is shrunk to Settings.StarFraction
-// (default 1/8) of the free radius so that the error is small. Measured on a
-// star with unit arms of lengths 1, 0.5, 2 (TestVisitLawError, 10⁶ walkers),
-// the relative bias of E τ² is +0.01 ± 0.22% with centre capacity 1 and
-// +0.43 ± 0.29% with leak 1 at the default radius, against −3.8 ± 0.5% with
-// capacity at the full radius.
+// With arms decaying at different rates, an arm that needs time stepping, or
+// a capacity together with decaying arms, the visit uses DESIGN.md §4's exact
+// rule from the edge element on [0, ε_e], ε_e = r/s_e (vertex.NewArm and
+// Law.StarArms; vertex.Law.Star for arms without decay, drift or source):
+// move along e with probability α_eB_e/den, killed otherwise, reward
+// (Σα_eF_e + γ)/den, den = β + Σα_eA_e; the duration is drawn independently
+// of the fate, as m_d·τ₁ + (ρ_v/den)·Exp(1) with m_d = Σα_eF_e(ρ)/den the
+// exact mean diffusive time (the element with f replaced by ρ), so every mean
+// — value, hitting probability, killing probability, occupation, mean
+// lifetime — stays exact, and only the lifetime's law is approximate. The
+// star is shrunk to Settings.StarFraction (default 1/8) of the free radius so
+// that the error is small: on leaky nodes with plain arms, where the law is
+// now exact, this rule had measured Kolmogorov–Smirnov distances of 1.2e−2
+// at 1/8 and 2.9e−3 at 1/32 of the radius (10⁶ walkers, TestLeakyStartLaw's
+// star), so at a leaky start its early-time exit law is visibly off.
 //
 // # The exit-time table
 //
@@ -127,7 +169,14 @@
 // # Performance
 //
 // Exact stepping ran at 1.06e7 steps per second per worker on the S1 star
-// (BenchmarkExactSteps, 3.4 steps per walker). Two workers against one gave
+// (BenchmarkExactSteps, 3.4 steps per walker). Visits drawn from the
+// visit-law tables cost about the same per step (BenchmarkNodeSteps: 0.85–1.1
+// times the S1 rate on stars with a leaky or sticky, leaky centre, against
+// 1.2–1.3 for the former exact-in-mean visits), and a walker on those stars
+// now takes 4.2 steps instead of 32 (full star instead of 1/8): 6–7 times
+// less time per walker. Building a visit table takes about 10 ms per
+// distinct node law (tables are shared across nodes and runs), the T_f table
+// about 0.1 s once per process, only when a node needs it. Two workers against one gave
 // a speed-up of only 1.01–1.05 when measured, on a 2-core machine shared with
 // other jobs; blocks are independent, so the speed-up follows the free cores.
 package montecarlo

@@ -187,9 +187,9 @@ func TestUnequalArms(t *testing.T) {
 // the centre of a star against the exact closed form of starCentre
 // (DESIGN.md §3 balance law; mean lifetime from §7 with the node capacity as
 // a source and the leak kept). P(killed) is the value with payoff 1 at every
-// end subtracted from one. These nodes are exact in mean only (the visit's
-// duration is drawn independently of its fate), which is all a value, a
-// probability or a mean time needs.
+// end subtracted from one. The arms are plain, so these visits are exact in
+// law (the laws themselves are checked in TestVisitLawError and
+// TestLeakyStartLaw).
 func TestNodeLaws(t *testing.T) {
 	base := []starArm{
 		{L: 1, a: 1, rho: 1, alpha: 1, g: 2},
@@ -202,11 +202,11 @@ func TestNodeLaws(t *testing.T) {
 		split    []float64
 		lawExact bool
 	}{
-		{"leak", vertex.Law{Kind: vertex.Balance, Leak: 1.5}, nil, false},
+		{"leak", vertex.Law{Kind: vertex.Balance, Leak: 1.5}, nil, true},
 		{"injection", vertex.Law{Kind: vertex.Balance, Inject: 0.7}, nil, true},
-		{"capacity", vertex.Law{Kind: vertex.Balance, Capacity: 2}, nil, false},
-		{"all three", vertex.Law{Kind: vertex.Balance, Leak: 0.4, Inject: -0.3, Capacity: 0.5}, nil, false},
-		{"split override", vertex.Law{Kind: vertex.Balance, Leak: 0.4}, []float64{0.2, 0.5, 0.3}, false},
+		{"capacity", vertex.Law{Kind: vertex.Balance, Capacity: 2}, nil, true},
+		{"all three", vertex.Law{Kind: vertex.Balance, Leak: 0.4, Inject: -0.3, Capacity: 0.5}, nil, true},
+		{"split override", vertex.Law{Kind: vertex.Balance, Leak: 0.4}, []float64{0.2, 0.5, 0.3}, true},
 		{"split, no leak", kirchhoff, []float64{0.2, 0.5, 0.3}, true},
 	} {
 		t.Run(c.name, func(t *testing.T) {
@@ -353,19 +353,29 @@ func mixedNet() *tNet {
 }
 
 // TestReproducible checks that the same seed gives the same result for 1, 2
-// and 3 workers, bit for bit (blocks are merged in block order).
+// and 3 workers, bit for bit (blocks are merged in block order), on the mixed
+// network and on a star whose sticky, leaky centre draws from the visit-law
+// tables.
 func TestReproducible(t *testing.T) {
-	net := mixedNet()
-	var ref *montecarlo.Result
-	for _, w := range []int{1, 2, 3} {
-		res := run(t, net, montecarlo.Start{Node: 1}, montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w, Step: 0.005})
-		res.Stats.Elapsed = 0
-		if ref == nil {
-			ref = res
-			continue
-		}
-		if !reflect.DeepEqual(ref, res) {
-			t.Errorf("workers=%d: result differs from workers=1:\n%+v\n%+v", w, res, ref)
+	sticky := star(vertex.Law{Kind: vertex.Balance, Leak: 0.5, Capacity: 0.3, Inject: 0.2}, []starArm{
+		{L: 1, a: 1, rho: 1, alpha: 1, g: 1},
+		{L: 0.5, a: 2, rho: 1, alpha: 1.5, f: 0.4},
+	})
+	for _, c := range []struct {
+		net   *tNet
+		start int
+	}{{mixedNet(), 1}, {sticky, 0}} {
+		var ref *montecarlo.Result
+		for _, w := range []int{1, 2, 3} {
+			res := run(t, c.net, montecarlo.Start{Node: c.start}, montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w, Step: 0.005})
+			res.Stats.Elapsed = 0
+			if ref == nil {
+				ref = res
+				continue
+			}
+			if !reflect.DeepEqual(ref, res) {
+				t.Errorf("workers=%d: result differs from workers=1:\n%+v\n%+v", w, res, ref)
+			}
 		}
 	}
 }

@@ -3,6 +3,7 @@ package montecarlo
 import (
 	"math"
 
+	"github.com/ramify-dev/ramify/montecarlo/internal/starlaw"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -12,6 +13,7 @@ const (
 	modeLaw             // walk on stars, exact in law
 	modeMean            // one visit exact in mean, time drawn independently
 	modeIsolated        // balance node without edges
+	modeStar            // walk on stars with leak or capacity, exact in law
 )
 
 // profileSamples is the number of points at which a varying edge's
@@ -50,8 +52,12 @@ type nodeInfo struct {
 	dscale float64 // r²/2: the visit lasts dscale·τ₁
 	kill   float64 // common killing rate c/ρ on the arms
 	fbar   float64 // Σ p_e f_e/ρ_e, expected reward rate during a visit
-	// modeMean
+	// modeMean (killP, reward, dmean, hold, arms[].occ) and modeStar
+	// (pMove = 1/μ, reward, hold > 0 iff the node has a capacity,
+	// arms[].occ, dscale, kill; arms[].cum normalised to Σw).
 	killP, reward, dmean, hold float64
+	pMove                      float64
+	tab                        *starlaw.Table
 }
 
 type model struct {
@@ -62,6 +68,7 @@ type model struct {
 	timeCap  float64
 	exact    bool
 	lawExact bool
+	fin      *starlaw.Table // T_f table when a node is in modeStar
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -334,6 +341,49 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			sk := math.Sqrt(nd.kill)
 			nd.reward = law.Inject * math.Tanh(nd.r*sk) / (sk * sw)
 		}
+	} else if allExact && sameKill && (law.Capacity == 0 || co[0].c == 0) {
+		// Walk on stars with a leak or a capacity, exact in law (package
+		// starlaw): with W = Σw, κ = rβ/W and μ = 1 + κ, the visit is
+		// killed with probability κ/μ, else leaves along arm k with
+		// probability w_k/W; its duration is (r²/2)·Y + (r²/2)·T_f on
+		// leaving, Y with transform μ/(μ + Φ(s) + ηs), η = 2ρ_v/(rW).
+		// A common decay rate on the arms is an independent clock when
+		// no capacity holds the walker at the node (where the arms'
+		// decay does not act).
+		nd.mode = modeStar
+		m.fin = starlaw.Final()
+		nd.r = free
+		r := free
+		var sw float64
+		for _, x := range w {
+			sw += x
+		}
+		kappa := r * law.Leak / sw
+		mu := 1 + kappa
+		nd.pMove = 1 / mu
+		nd.dscale = r * r / 2
+		nd.kill = co[0].c / co[0].rho
+		nd.hold = law.Capacity * r / (sw + r*law.Leak)
+		nd.tab = starlaw.VisitTable(mu, 2*law.Capacity/(r*sw))
+		// The value estimator of the exact-in-mean rule at the full
+		// radius: the mean reward per visit.
+		if plain {
+			law.Star(&visit, w, r)
+		} else {
+			arms := make([]vertex.Arm, n)
+			for k, ac := range co {
+				arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, r/ac.s)
+			}
+			law.StarArms(&visit, alpha, arms)
+		}
+		nd.reward = visit.Reward
+		// Moves are drawn from w_k/W (the fate apart).
+		for k := range co {
+			visit.Move[k] = w[k] / sw
+			// With a capacity (then no decay): the mean diffusive time
+			// per visit, (r²/2)/μ, shared in proportion to w_k.
+			nd.arms[k].occ = r * r * w[k] / 2 / (sw + r*law.Leak)
+		}
 	} else {
 		m.lawExact = false
 		nd.mode = modeMean
@@ -410,7 +460,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			a.x = ed.L - eps
 		}
 	}
-	if nd.mode == modeLaw {
+	if nd.mode == modeLaw || nd.mode == modeStar {
 		// Σ Move = 1 up to round-off: make the last arm catch it.
 		nd.arms[n-1].cum = math.Inf(1)
 	}

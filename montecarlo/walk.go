@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 
 	"github.com/ramify-dev/ramify/montecarlo/internal/exitlaw"
+	"github.com/ramify-dev/ramify/montecarlo/internal/starlaw"
 )
 
 // blockAcc holds the sums of one block of walkers.
@@ -50,6 +51,7 @@ type walker struct {
 	pcg      *rand.PCG
 	rng      *rand.Rand
 	tb       *exitlaw.Table
+	fin      *starlaw.Table
 	occ      []float64
 	touchedE []int32
 	vis      []float64
@@ -59,7 +61,7 @@ type walker struct {
 func newWalker(m *model) *walker {
 	pcg := rand.NewPCG(0, 0)
 	return &walker{
-		m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(),
+		m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(), fin: m.fin,
 		occ: make([]float64, len(m.edges)), vis: make([]float64, len(m.nodes)),
 	}
 }
@@ -126,6 +128,53 @@ loop:
 					fate = Killed
 					break loop
 				}
+				acc.dep[nd.depOff+j]++
+				if a.toNode >= 0 {
+					node = a.toNode
+				} else {
+					node, e, x = -1, a.edge, a.x
+				}
+			case modeStar:
+				// Fate and arm from one uniform: killed when u ≥ 1/μ,
+				// and the rescaled remainder picks the arm (w_k/W).
+				T := nd.dscale * nd.tab.Draw(rng)
+				u := rng.Float64()
+				killed := u >= nd.pMove
+				if killed {
+					u = (u - nd.pMove) / (1 - nd.pMove)
+				} else {
+					u /= nd.pMove
+					T += nd.dscale * w.fin.Draw(rng)
+				}
+				j := 0
+				for u >= nd.arms[j].cum {
+					j++
+				}
+				if nd.kill > 0 {
+					var k bool
+					T, k = killClock(rng, T, nd.kill)
+					killed = killed || k
+				}
+				if t+T > tcap {
+					t += T
+					break loop
+				}
+				t += T
+				val += nd.reward
+				if nd.hold == 0 {
+					// All of T is diffusive: on the arm of the draw,
+					// independent of T (mean share w_k/W, exact).
+					w.addOcc(nd.arms[j].edge, T)
+				} else {
+					for k := range nd.arms {
+						w.addOcc(nd.arms[k].edge, nd.arms[k].occ)
+					}
+				}
+				if killed {
+					fate = Killed
+					break loop
+				}
+				a := &nd.arms[j]
 				acc.dep[nd.depOff+j]++
 				if a.toNode >= 0 {
 					node = a.toNode

@@ -1,0 +1,431 @@
+// Package starlaw holds the exact law of one walker visit to the centre of a
+// star with plain arms, and inversion tables to draw it.
+//
+// Scaled to a standard Brownian motion B (generator ½d²) reflected at 0 on
+// [0, 1], a visit is described by the local time L at 0 (|B| = β + L, the
+// excursion measure gives n(height ≥ h) = 1/h):
+//
+//   - without killing the visit ends with the first excursion of height 1, so
+//     its local time is Exp(1);
+//   - a leak kills at local-time rate κ, so the visit's local time is
+//     L_v ~ Exp(μ), μ = 1 + κ, independent of whether it ends by killing
+//     (probability κ/μ) or by reaching the rim;
+//   - the excursions of height below 1 up to local time L form a subordinator
+//     S(L) with Laplace exponent Φ(s) = sqrt(2s)·coth(sqrt(2s)) − 1,
+//     independent of the fate given L_v;
+//   - a node capacity adds η·L_v, proportional to the local time;
+//   - on reaching the rim the last excursion climbs from 0 to 1 in a time T_f
+//     with E e^{−sT_f} = sqrt(2s)/sinh(sqrt(2s)) (a 3-dimensional Bessel
+//     hitting time, mean 1/3), independent of the rest.
+//
+// So Y = S(L_v) + η·L_v has E e^{−sY} = μ/(μ + Φ(s) + ηs), a law with two
+// parameters (Visit), and T_f one universal law (Final). For κ = η = 0,
+// [1/(1 + Φ(s))]·sqrt(2s)/sinh(sqrt(2s)) = 1/cosh(sqrt(2s)), the transform of
+// the exit time of B from (−1, 1) (REFERENCES.md B3), which the tests check.
+// The decomposition is derived in the montecarlo package documentation from
+// Itô's excursion theory (the excursion measure of the height and the
+// Bessel-3 description of an excursion up to its maximum: D. Revuz and M.
+// Yor, Continuous Martingales and Brownian Motion, 3rd ed., ch. XII, from
+// memory).
+//
+// A Table draws such a law by inversion: its distribution function is
+// computed by Talbot inversion of ψ(s)/s (internal/laplace, window contours
+// of one octave), the upper tail from the dominant pole of ψ exactly, and the
+// quantile is interpolated by cubic Hermite polynomials with exact slopes on
+// a uniform grid in v = sqrt(w), w = −ln(1 − u), which makes it smooth at both
+// ends (t ~ v⁴ or v² at 0, linear in w in the tail).
+package starlaw
+
+import (
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"sync"
+
+	"github.com/ramify-dev/ramify/internal/laplace"
+)
+
+// Phi returns Φ(s) = sqrt(2s)·coth(sqrt(2s)) − 1 for s off the negative real
+// axis (principal square root). Cost: one complex exponential.
+func Phi(s complex128) complex128 {
+	z := cmplx.Sqrt(2 * s)
+	if cmplx.Abs(z) < 0.1 {
+		z2 := z * z
+		// z coth z − 1 = z²/3 − z⁴/45 + 2z⁶/945 − z⁸/4725 + 2z¹⁰/93555 − …
+		return z2 * (1.0/3 + z2*(-1.0/45+z2*(2.0/945+z2*(-1.0/4725+z2*2/93555))))
+	}
+	e := cmplx.Exp(-2 * z)
+	return z*(1+e)/(1-e) - 1
+}
+
+// FinalTransform returns E e^{−sT_f} = sqrt(2s)/sinh(sqrt(2s)).
+func FinalTransform(s complex128) complex128 {
+	z := cmplx.Sqrt(2 * s)
+	if cmplx.Abs(z) < 0.1 {
+		z2 := z * z
+		// z/sinh z = 1 − z²/6 + 7z⁴/360 − 31z⁶/15120 + 127z⁸/604800 − …
+		return 1 + z2*(-1.0/6+z2*(7.0/360+z2*(-31.0/15120+z2*(127.0/604800-z2*73/3421440))))
+	}
+	return 2 * z * cmplx.Exp(-z) / (1 - cmplx.Exp(-2*z))
+}
+
+// Law is a law on (0, ∞) given by its Laplace transform Psi and the two
+// poles of Psi nearest to 0, −Lam1 and −Lam2 (0 < Lam1 < Lam2), with the tail
+// P(X > t) = C1·e^{−Lam1·t} + C2·e^{−Lam2·t} + … . A Law caches transform
+// values per octave of time and is not safe for concurrent use.
+type Law struct {
+	Psi      func(complex128) complex128
+	Lam1, C1 float64
+	Lam2, C2 float64
+	cache    map[int]*octave
+}
+
+type octave struct {
+	c                 laplace.Contour
+	fcdf, fsurv, fden []complex128
+}
+
+// window returns the transform values on the Talbot window contour of the
+// octave [2^k, 2^{k+1}) that holds t > 0.
+func (l *Law) window(t float64) *octave {
+	_, e := math.Frexp(t)
+	k := e - 1
+	if o, ok := l.cache[k]; ok {
+		return o
+	}
+	if l.cache == nil {
+		l.cache = map[int]*octave{}
+	}
+	t0 := math.Ldexp(1, k)
+	c := laplace.TalbotWindow(t0, 2*t0, laplace.DefaultWindowM)
+	n := len(c.S)
+	o := &octave{c: c, fcdf: make([]complex128, n), fsurv: make([]complex128, n), fden: make([]complex128, n)}
+	for i, s := range c.S {
+		p := l.Psi(s)
+		o.fcdf[i] = p / s
+		o.fsurv[i] = (1 - p) / s
+		o.fden[i] = p
+	}
+	l.cache[k] = o
+	return o
+}
+
+// eval returns F(t), 1 − F(t) and the density at t > 0 from one set of
+// complex exponentials on the octave's contour (the sums of
+// laplace.Contour.Apply for the three transforms).
+func (l *Law) eval(t float64) (f, g, d float64) {
+	o := l.window(t)
+	if t < o.c.Tmin*(1-1e-12) || t > o.c.Tmax*(1+1e-12) {
+		panic("starlaw: time outside its octave")
+	}
+	for k, s := range o.c.S {
+		e := o.c.D[k] * cmplx.Exp(s*complex(t, 0))
+		f += real(e * o.fcdf[k])
+		g += real(e * o.fsurv[k])
+		d += real(e * o.fden[k])
+	}
+	return f, g, d
+}
+
+// CDF returns P(X ≤ t) by Talbot inversion of Psi(s)/s, or of (1 − Psi(s))/s
+// where the result is above ½ (so that both tails keep their relative
+// accuracy; about 1e−11 of the larger of F and 1 − F over the octave).
+func (l *Law) CDF(t float64) float64 {
+	if t <= 0 {
+		return 0
+	}
+	o := l.window(t)
+	if f := o.c.Apply(t, o.fcdf); f < 0.5 {
+		return f
+	}
+	return 1 - o.c.Apply(t, o.fsurv)
+}
+
+// Survival returns P(X > t) (see CDF).
+func (l *Law) Survival(t float64) float64 {
+	if t <= 0 {
+		return 1
+	}
+	o := l.window(t)
+	if g := o.c.Apply(t, o.fsurv); g < 0.5 {
+		return g
+	}
+	return 1 - o.c.Apply(t, o.fcdf)
+}
+
+// Density returns the probability density at t > 0 by Talbot inversion of Psi.
+func (l *Law) Density(t float64) float64 {
+	o := l.window(t)
+	return o.c.Apply(t, o.fden)
+}
+
+// Visit returns the law of Y = S(L_v) + η·L_v, L_v ~ Exp(μ), with transform
+// μ/(μ + Φ(s) + ηs), for μ ≥ 1 and η ≥ 0. Its poles are s = −q²/2 with
+// q cot q = 1 − μ + ηq²/2, one root in (0, π) and one in (π, 2π); the residue
+// gives C = μ/(λ·D'), D' = 1/sin²q − cot(q)/q + η. It panics on parameters
+// out of range. Cost O(1) (two bisections).
+func Visit(mu, eta float64) *Law {
+	if !(mu >= 1) || !(eta >= 0) || math.IsInf(mu, 0) || math.IsInf(eta, 0) {
+		panic("starlaw: Visit needs μ ≥ 1 and η ≥ 0, finite")
+	}
+	g := func(q float64) float64 { return q/math.Tan(q) - (1 - mu) - eta*q*q/2 }
+	root := func(lo, hi float64) float64 {
+		// g decreases from +∞ (or μ) to −∞ on (lo, hi).
+		for range 200 {
+			mid := 0.5 * (lo + hi)
+			if g(mid) > 0 {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		return 0.5 * (lo + hi)
+	}
+	pole := func(q float64) (lam, c float64) {
+		sn := math.Sin(q)
+		dp := 1/(sn*sn) - 1/(math.Tan(q)*q) + eta
+		lam = q * q / 2
+		return lam, mu / (lam * dp)
+	}
+	l := &Law{Psi: func(s complex128) complex128 {
+		return complex(mu, 0) / (complex(mu, 0) + Phi(s) + complex(eta, 0)*s)
+	}}
+	l.Lam1, l.C1 = pole(root(0, math.Pi))
+	l.Lam2, l.C2 = pole(root(math.Pi, 2*math.Pi))
+	return l
+}
+
+// FinalLaw returns the law of T_f, the time a Brownian excursion conditioned
+// to reach height 1 takes to climb there: E e^{−sT} = sqrt(2s)/sinh(sqrt(2s)),
+// P(T > t) = 2 Σ_{n≥1} (−1)^{n+1} e^{−n²π²t/2} (residues at s = −n²π²/2).
+func FinalLaw() *Law {
+	return &Law{Psi: FinalTransform, Lam1: math.Pi * math.Pi / 2, C1: 2, Lam2: 2 * math.Pi * math.Pi, C2: -2}
+}
+
+// tailErr is the neglected second pole's weight |C2|e^{−Lam2·t} at which a
+// table switches to the exact one-pole tail.
+const tailErr = 1e-12
+
+// Table draws a law by inversion. With w = −ln(1 − u) (an Exp(1) draw) and
+// v = sqrt(w), the root sqrt(t) of the quantile t is a cubic Hermite
+// interpolant in v with exact slopes (dt/dv = 2v·e^{−w}/f(t)) on uniform
+// knots up to w_tail, where the second pole's weight is below 1e−12; above,
+// t = (w + ln C1)/Lam1 exactly. sqrt(t) is smooth in v at both ends when the
+// density behaves like a power of t at 0 (sqrt(t) ~ v² for F ~ sqrt(t),
+// ~ v for F ~ t). A law whose CDF vanishes faster than any power at 0 (T_f,
+// F ~ e^{−1/(2t)}) gets a low part below u = 1e−3 that interpolates 1/t
+// against ℓ = −ln u, nearly linear there. A Table is read-only after it is
+// built and safe for concurrent use.
+type Table struct {
+	inv      float64 // 1/dv
+	wTail    float64
+	lam, lnC float64
+	k        []float64 // sqrt(t_i), dv·d sqrt(t)/dv at knot i, interleaved
+	// Low part (wLow > 0): knots uniform in ℓ from ell0 by dl.
+	wLow, ell0, dl float64
+	low            []float64 // 1/t_i, dl·d(1/t)/dℓ at knot i, interleaved
+}
+
+// DefaultKnots is the number of knots of the tables the walkers use: the
+// measured table error max |F(Q(u)) − u| is 1e−11 or less (TestTableError),
+// and a visit table takes about 8 ms to build.
+const DefaultKnots = 1024
+
+// lowU and ellMax bound the low part of a table: it covers
+// e^{−ellMax} ≤ u < lowU (rand's exponential draws never give w below
+// about 1e−16, ℓ = 37).
+const (
+	lowU   = 1e-3
+	ellMax = 40.0
+)
+
+// NewTable builds a table of l with n ≥ 2 knots (and n more in a low part
+// if lowPart). Cost about 5n Talbot sums of 32 terms plus 32 transform
+// evaluations per octave spanned. It panics if n < 2.
+func NewTable(l *Law, n int, lowPart bool) *Table {
+	if n < 2 {
+		panic("starlaw: NewTable needs at least 2 knots")
+	}
+	tTail := math.Log(math.Max(math.Abs(l.C2), 1e-300)/tailErr) / l.Lam2
+	wTail := l.Lam1*tTail - math.Log(l.C1)
+	if wTail < 0.5 {
+		wTail = 0.5
+		tTail = (wTail + math.Log(l.C1)) / l.Lam1
+	}
+	tb := &Table{wTail: wTail, lam: l.Lam1, lnC: math.Log(l.C1), k: make([]float64, 2*n)}
+	dv := math.Sqrt(wTail) / float64(n-1)
+	tb.inv = 1 / dv
+	prev := 0.0
+	for i := 1; i < n; i++ {
+		v := float64(i) * dv
+		w := v * v
+		var t float64
+		if i == n-1 {
+			t = tTail
+		} else {
+			t = l.quantile(w, prev, tTail)
+		}
+		st := math.Sqrt(t)
+		tb.k[2*i] = st
+		tb.k[2*i+1] = dv * 2 * v * math.Exp(-w) / l.Density(t) / (2 * st)
+		prev = t
+	}
+	// Slope at v = 0 from s(v) ≈ a v + b v²: a = 2s_1/dv − s'_1.
+	tb.k[1] = math.Max(0, 2*tb.k[2]-tb.k[3])
+	if lowPart {
+		tb.wLow = -math.Log1p(-lowU)
+		tb.ell0 = -math.Log(lowU)
+		tb.dl = (ellMax - tb.ell0) / float64(n-1)
+		tb.low = make([]float64, 2*n)
+		hi := l.quantile(tb.wLow, 0, tTail)
+		for i := range n {
+			ell := tb.ell0 + float64(i)*tb.dl
+			u := math.Exp(-ell)
+			t := hi
+			if i > 0 {
+				t = l.quantile(-math.Log1p(-u), 0, hi)
+			}
+			tb.low[2*i] = 1 / t
+			tb.low[2*i+1] = tb.dl * u / (t * t * l.Density(t))
+			hi = t
+		}
+	}
+	return tb
+}
+
+// quantile solves P(X > t) = e^{−w} for t in (lo, hi) by Newton's method on
+// ln t safeguarded by bisection (lo = 0: search downwards from hi).
+func (l *Law) quantile(w, lo, hi float64) float64 {
+	small := w < math.Ln2
+	u, g := -math.Expm1(-w), math.Exp(-w)
+	// h increases in t and vanishes at the root; the smaller of F and
+	// 1 − F keeps its relative accuracy.
+	h := func(t float64) (float64, float64) {
+		f, sv, d := l.eval(t)
+		if small {
+			if f >= 0.5 {
+				f = 1 - sv
+			}
+			return f - u, d
+		}
+		if sv >= 0.5 {
+			sv = 1 - f
+		}
+		return g - sv, d
+	}
+	xh := math.Log(hi)
+	var xl float64
+	if lo > 0 {
+		xl = math.Log(lo)
+	} else {
+		xl = xh - 1
+		for {
+			if hv, _ := h(math.Exp(xl)); hv <= 0 {
+				break
+			}
+			xl -= 1
+		}
+	}
+	x := 0.5 * (xl + xh)
+	for range 200 {
+		t := math.Exp(x)
+		hv, d := h(t)
+		if hv > 0 {
+			xh = x
+		} else {
+			xl = x
+		}
+		nx := x - hv/(d*t)
+		if !(nx > xl && nx < xh) {
+			nx = 0.5 * (xl + xh)
+		}
+		if math.Abs(nx-x) < 1e-13 || xh-xl < 1e-13 {
+			return math.Exp(nx)
+		}
+		x = nx
+	}
+	return math.Exp(x)
+}
+
+// TailStart returns w_tail: draws with w = −ln(1 − u) above it use the
+// one-pole tail.
+func (tb *Table) TailStart() float64 { return tb.wTail }
+
+// Quantile returns the time at w = −ln(1 − u) ≥ 0. Cost: one square root
+// and a cubic (a logarithm more below u = 1e−3 in a table with a low part);
+// no allocation.
+func (tb *Table) Quantile(w float64) float64 {
+	if w >= tb.wTail {
+		return (w + tb.lnC) / tb.lam
+	}
+	if w < tb.wLow {
+		return tb.lowQuantile(w)
+	}
+	s := math.Sqrt(w) * tb.inv
+	i := int(s)
+	if n := len(tb.k)/2 - 1; i >= n {
+		i = n - 1
+	}
+	h := s - float64(i)
+	k := tb.k[2*i : 2*i+4]
+	h2 := h * h
+	h3 := h2 * h
+	r := (2*h3-3*h2+1)*k[0] + (h3-2*h2+h)*k[1] + (-2*h3+3*h2)*k[2] + (h3-h2)*k[3]
+	return r * r
+}
+
+func (tb *Table) lowQuantile(w float64) float64 {
+	ell := -math.Log(-math.Expm1(-w))
+	s := (ell - tb.ell0) / tb.dl
+	if !(s < float64(len(tb.low)/2-1)) {
+		// u below e^{−40}: the small-time asymptote ℓ ≈ 1/(2t).
+		return 1 / (2 * ell)
+	}
+	i := int(s)
+	h := s - float64(i)
+	k := tb.low[2*i : 2*i+4]
+	h2 := h * h
+	h3 := h2 * h
+	q := (2*h3-3*h2+1)*k[0] + (h3-2*h2+h)*k[1] + (-2*h3+3*h2)*k[2] + (h3-h2)*k[3]
+	return 1 / q
+}
+
+// Draw returns one draw, using one exponential draw from rng.
+func (tb *Table) Draw(rng *rand.Rand) float64 { return tb.Quantile(rng.ExpFloat64()) }
+
+var (
+	finalOnce  sync.Once
+	finalTable *Table
+	visitMu    sync.Mutex
+	visitCache = map[[2]float64]*Table{}
+)
+
+// maxCached bounds the number of visit tables kept for reuse across runs.
+const maxCached = 1024
+
+// Final returns the shared table of T_f (2·DefaultKnots knots in each part),
+// built on first use (about 0.1 s).
+func Final() *Table {
+	finalOnce.Do(func() { finalTable = NewTable(FinalLaw(), 2*DefaultKnots, true) })
+	return finalTable
+}
+
+// VisitTable returns a table of Visit(mu, eta) with DefaultKnots knots,
+// shared with earlier calls with the same parameters (up to 1024 are kept).
+// Safe for concurrent use. Cost: a few milliseconds when new.
+func VisitTable(mu, eta float64) *Table {
+	key := [2]float64{mu, eta}
+	visitMu.Lock()
+	tb, ok := visitCache[key]
+	visitMu.Unlock()
+	if ok {
+		return tb
+	}
+	tb = NewTable(Visit(mu, eta), DefaultKnots, false)
+	visitMu.Lock()
+	if len(visitCache) < maxCached {
+		visitCache[key] = tb
+	}
+	visitMu.Unlock()
+	return tb
+}
