@@ -58,13 +58,12 @@ type Settings struct {
 	// step per edge of 1e−3 of its diffusive time L²ρ/(2a) (and at most
 	// 1e−2 of its drift time Lρ/|b|).
 	Step float64
-	// StarFraction is the star radius at nodes whose visit is exact only in
-	// mean (decay on an arm at a different rate, an arm that needs time
-	// stepping, a capacity with decaying arms), as a fraction of the largest
-	// star that fits (for a time-stepping arm, of its hand-off zone); 0 means
-	// 1/8. Nodes visited exactly in law (arms walked on intervals with one
-	// common decay rate, none if the node has a capacity; any leak,
-	// injection, capacity) always use the full star.
+	// StarFraction is the star radius, as a fraction of the largest star
+	// that fits, at nodes whose visit is exact only in mean (an arm that
+	// needs time stepping; of its hand-off zone there) and at nodes whose
+	// arms decay at different rates (exact in law at any radius; the small
+	// star keeps the departure counts close to the weights); 0 means 1/8.
+	// Other nodes always use the full star.
 	StarFraction float64
 	// KeepSamples keeps every walker's lifetime and fate in Result.Samples
 	// (16 bytes per walker; refused above MaxSampleBytes).
@@ -143,10 +142,10 @@ type Stats struct {
 	// discretisation bias.
 	Exact bool
 	// LawExact reports that, in addition, every node visit is exact in law,
-	// so the exit-time distribution is exact too: at every balance node the
-	// arms decay at one common rate (possibly zero), and a node with a
-	// capacity has arms without decay. Leaks, injections and capacities are
-	// exact in law (see the package documentation).
+	// so the exit-time distribution is exact too. With every edge walked on
+	// intervals this holds for every node law (leak, injection, capacity)
+	// and any decay rates on the arms (see the package documentation), so
+	// LawExact equals Exact.
 	LawExact bool
 }
 

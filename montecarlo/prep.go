@@ -14,6 +14,7 @@ const (
 	modeMean            // one visit exact in mean, time drawn independently
 	modeIsolated        // balance node without edges
 	modeStar            // walk on stars with leak or capacity, exact in law
+	modeStarArms        // walk on stars with arms decaying at their own rates
 )
 
 // profileSamples is the number of points at which a varying edge's
@@ -40,6 +41,10 @@ type arm struct {
 	x          float64 // landing position on edge otherwise
 	cum        float64 // cumulative move probability up to this arm
 	occ        float64 // modeMean: expected time on this arm per visit
+	// modeStarArms: cumulative fate probabilities up to the rim exit and
+	// the killing on this arm, and the tables of their final pieces.
+	cx, ck           float64
+	exitTab, killTab *starlaw.Table
 }
 
 type nodeInfo struct {
@@ -383,6 +388,62 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			// With a capacity (then no decay): the mean diffusive time
 			// per visit, (r²/2)/μ, shared in proportion to w_k.
 			nd.arms[k].occ = r * r * w[k] / 2 / (sw + r*law.Leak)
+		}
+	} else if allExact {
+		// Arms decaying at their own rates, or a common rate with a
+		// capacity: package starlaw's decomposition with per-arm kill
+		// rates q_e = (c_e/ρ_e)·r²/2 in the time of the reflected motion.
+		// It is exact at any radius. With different rates the star is
+		// shrunk to StarFraction so that the departures stay close to
+		// the weights: a move along e has probability ∝ w_e·z_e/sinh z_e,
+		// z_e = r·sqrt(c_e/ρ_e), which tends to w_e/Σw only as r → 0
+		// (with a common rate it is w_e/Σw at any radius).
+		nd.mode = modeStarArms
+		r := free
+		if !sameKill {
+			r *= set.StarFraction
+		}
+		nd.r = r
+		var sw float64
+		for _, x := range w {
+			sw += x
+		}
+		p, q := make([]float64, n), make([]float64, n)
+		for k, ac := range co {
+			p[k] = w[k] / sw
+			q[k] = ac.c / ac.rho * r * r / 2
+		}
+		kappa := r * law.Leak / sw
+		nd.dscale = r * r / 2
+		nd.tab = starlaw.MixtureTable(kappa, 2*law.Capacity/(r*sw), p, q)
+		pl, ex, ki := starlaw.Rates(kappa, p, q, nil, nil)
+		nd.killP = pl
+		cum := pl
+		arms := make([]vertex.Arm, n)
+		var den float64
+		for k, ac := range co {
+			eps := r / ac.s
+			arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, eps)
+			den += alpha[k] * (arms[k].AmB + arms[k].B)
+			nd.arms[k].occ = alpha[k] * vertex.NewArm(ac.a, ac.b, ac.c, ac.rho, eps).F
+			cum += ex[k]
+			nd.arms[k].cx = cum
+			cum += ki[k]
+			nd.arms[k].ck = cum
+			nd.arms[k].exitTab = starlaw.ExitTable(q[k])
+			if q[k] > 0 {
+				nd.arms[k].killTab = starlaw.KillTable(q[k])
+			}
+		}
+		nd.arms[n-1].ck = math.Inf(1)
+		den += law.Leak
+		for k := range co {
+			nd.arms[k].occ /= den
+		}
+		law.StarArms(&visit, alpha, arms)
+		nd.reward = visit.Reward
+		for k := range co {
+			visit.Move[k] = 0 // the arms' cum is not used in this mode
 		}
 	} else {
 		m.lawExact = false

@@ -105,6 +105,9 @@ func TestLeakyStartLaw(t *testing.T) {
 	for k := range decaying {
 		decaying[k].c = 0.8 * decaying[k].rho
 	}
+	// Rates 2, 0 and 0.3 (an arm without decay beside decaying ones).
+	mixed := slicesClone(arms)
+	mixed[0].c, mixed[2].c = 2*mixed[0].rho, 0.3*mixed[2].rho
 	for _, c := range []struct {
 		name string
 		law  vertex.Law
@@ -114,6 +117,8 @@ func TestLeakyStartLaw(t *testing.T) {
 		{"leaky", vertex.Law{Kind: vertex.Balance, Leak: 3}, arms, 41},
 		{"sticky, leaky", vertex.Law{Kind: vertex.Balance, Leak: 3, Capacity: 0.5}, arms, 42},
 		{"leaky, decaying arms", vertex.Law{Kind: vertex.Balance, Leak: 3}, decaying, 43},
+		{"leaky, arms decaying at different rates", vertex.Law{Kind: vertex.Balance, Leak: 3}, mixed, 44},
+		{"sticky, leaky, decaying arms", vertex.Law{Kind: vertex.Balance, Leak: 3, Capacity: 0.5}, decaying, 45},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			// The reference itself: its mean (1 − u0(s))/s at s → 0
@@ -138,7 +143,7 @@ func TestLeakyStartLaw(t *testing.T) {
 			if !res.Stats.LawExact {
 				t.Errorf("LawExact = false")
 			}
-			// Three subtests: p > 1e−3 each keeps the family error near 0.3%.
+			// Five subtests: p > 1e−3 each keeps the family error near 0.5%.
 			if p < 1e-3 {
 				t.Errorf("KS D = %.4g, p = %.3g", d, p)
 			}

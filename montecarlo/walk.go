@@ -181,6 +181,46 @@ loop:
 				} else {
 					node, e, x = -1, a.edge, a.x
 				}
+			case modeStarArms:
+				// One uniform picks the fate: the leak, or per arm the
+				// rim exit or a killing on it, with its final piece.
+				T := nd.tab.Draw(rng)
+				u := rng.Float64()
+				killed := true
+				j := 0
+				if u >= nd.killP {
+					for u >= nd.arms[j].ck {
+						j++
+					}
+					a := &nd.arms[j]
+					if u < a.cx || a.killTab == nil {
+						killed = false
+						T += a.exitTab.Draw(rng)
+					} else {
+						T += a.killTab.Draw(rng)
+					}
+				}
+				T *= nd.dscale
+				if t+T > tcap {
+					t += T
+					break loop
+				}
+				t += T
+				val += nd.reward
+				for k := range nd.arms {
+					w.addOcc(nd.arms[k].edge, nd.arms[k].occ)
+				}
+				if killed {
+					fate = Killed
+					break loop
+				}
+				a := &nd.arms[j]
+				acc.dep[nd.depOff+j]++
+				if a.toNode >= 0 {
+					node = a.toNode
+				} else {
+					node, e, x = -1, a.edge, a.x
+				}
 			case modeMean:
 				u := rng.Float64()
 				j := 0

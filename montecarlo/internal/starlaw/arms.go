@@ -1,0 +1,236 @@
+package starlaw
+
+import (
+	"fmt"
+	"math"
+	"math/cmplx"
+	"slices"
+	"sync"
+)
+
+// Decaying arms. When arm e kills at rate q_e (in the time of the reflected
+// Brownian motion B of the package documentation) and the walker enters it
+// with probability p_e = w_e/Σw per excursion, each excursion is marked
+// killed or not independently, and by the marking theorem of Poisson point
+// processes the excursions split into independent Poisson processes in local
+// time (n the excursion measure, ζ the lifetime, T_1 the hitting time of 1):
+//
+//   - the visit ends on arm e by reaching the rim at rate p_e·E e^{−q_eT_f}
+//     = p_e ψ_f(q_e), ψ_f(s) = sqrt(2s)/sinh(sqrt(2s));
+//   - it ends on arm e by being killed before the rim at rate
+//     p_e·n(1 − e^{−q_e(ζ∧T_1)}) = p_e[Φ(q_e) + 1 − ψ_f(q_e)] (excursions
+//     below 1 and the climb of those above);
+//   - the leak ends it at rate κ;
+//   - the surviving excursions below 1 form a subordinator with exponent
+//     Σ p_e[Φ(s + q_e) − Φ(q_e)].
+//
+// So the visit's local time is L_v ~ Exp(μ), μ = κ + Σ p_e[Φ(q_e) + 1],
+// independent of the fate (whose probabilities are the rates over μ), Y has
+// transform μ/(μ + Σ p_e[Φ(s + q_e) − Φ(q_e)] + ηs) (Mixture), a rim exit on
+// e adds the climb with transform ψ_f(s + q_e)/ψ_f(q_e) (ExitLaw) and a
+// killing on e adds the time from the start of the fatal excursion to the
+// killing, with transform
+// q_e[Φ(q_e + s) + 1 − ψ_f(q_e + s)]/((q_e + s)[Φ(q_e) + 1 − ψ_f(q_e)])
+// (KillLaw; n(∫_0^{ζ∧T_1} e^{−pt}dt) = n(1 − e^{−p(ζ∧T_1)})/p). With all
+// q_e = 0 this is Visit and FinalLaw.
+
+// oneMinusFinal returns 1 − sqrt(2p)/sinh(sqrt(2p)) without cancellation.
+func oneMinusFinal(p complex128) complex128 {
+	z := cmplx.Sqrt(2 * p)
+	if cmplx.Abs(z) < 0.1 {
+		z2 := z * z
+		return z2 * (1.0/6 + z2*(-7.0/360+z2*(31.0/15120+z2*(-127.0/604800+z2*73/3421440))))
+	}
+	return 1 - FinalTransform(p)
+}
+
+// finalRatio returns ψ_f(p)/ψ_f(q) for real q ≥ 0 without overflow.
+func finalRatio(p complex128, q float64) complex128 {
+	z1, z0 := cmplx.Sqrt(2*p), complex(math.Sqrt(2*q), 0)
+	if cmplx.Abs(z1) < 0.1 || real(z0) < 0.1 {
+		return FinalTransform(p) / FinalTransform(complex(q, 0))
+	}
+	return z1 / z0 * cmplx.Exp(z0-z1) * (1 - cmplx.Exp(-2*z0)) / (1 - cmplx.Exp(-2*z1))
+}
+
+// phiPrime returns Φ'(p) = (coth z − z csch²z)/z, z = sqrt(2p), for real p
+// off the poles p = −n²π²/2.
+func phiPrime(p float64) float64 {
+	if math.Abs(2*p) < 0.01 {
+		x := 2 * p
+		return 2.0/3 + x*(-4.0/45+x*(12.0/945+x*(-8.0/4725)))
+	}
+	z := cmplx.Sqrt(complex(2*p, 0))
+	e := cmplx.Exp(-2 * z)
+	coth := (1 + e) / (1 - e)
+	csch2 := 4 * e / ((1 - e) * (1 - e))
+	return real((coth - z*csch2) / z)
+}
+
+func phiReal(p float64) float64 { return real(Phi(complex(p, 0))) }
+
+// Mixture returns the law of Y for a leak κ ≥ 0, capacity η ≥ 0 and arms
+// with entry probabilities p (Σp = 1) and kill rates q ≥ 0, and μ. Its
+// poles are the zeros of D(s) = μ + Σ p_e[Φ(s + q_e) − Φ(q_e)] + ηs, one in
+// each interval between consecutive poles s = −q_e − n²π²/2 of the Φ terms
+// (D increases from −∞ to +∞ there), found by bisection. It panics on
+// parameters out of range or mismatched lengths.
+func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
+	if len(p) != len(q) || !(kappa >= 0) || !(eta >= 0) {
+		panic("starlaw: Mixture parameters")
+	}
+	mu := kappa
+	var poles []float64
+	for e := range p {
+		if !(p[e] >= 0) || !(q[e] >= 0) || math.IsInf(q[e], 0) {
+			panic(fmt.Sprintf("starlaw: Mixture arm %d: p = %g, q = %g", e, p[e], q[e]))
+		}
+		if p[e] == 0 {
+			continue
+		}
+		mu += p[e] * (phiReal(q[e]) + 1)
+		poles = append(poles, -q[e]-math.Pi*math.Pi/2, -q[e]-2*math.Pi*math.Pi)
+	}
+	slices.Sort(poles)
+	slices.Reverse(poles)
+	poles = slices.CompactFunc(poles, func(a, b float64) bool { return math.Abs(a-b) <= 1e-12*math.Abs(a) })
+	D := func(s float64) float64 {
+		d := mu + eta*s
+		for e := range p {
+			if p[e] > 0 {
+				d += p[e] * (phiReal(s+q[e]) - phiReal(q[e]))
+			}
+		}
+		return d
+	}
+	Dp := func(s float64) float64 {
+		d := eta
+		for e := range p {
+			if p[e] > 0 {
+				d += p[e] * phiPrime(s+q[e])
+			}
+		}
+		return d
+	}
+	root := func(lo, hi float64) float64 { // D(lo+) = −∞ < 0 < D(hi−)
+		for range 200 {
+			mid := 0.5 * (lo + hi)
+			if D(mid) < 0 {
+				lo = mid
+			} else {
+				hi = mid
+			}
+		}
+		return 0.5 * (lo + hi)
+	}
+	pole := func(s0 float64) (lam, c float64) {
+		return -s0, mu / (-s0 * Dp(s0))
+	}
+	l := &Law{Psi: func(s complex128) complex128 {
+		d := complex(mu, 0) + complex(eta, 0)*s
+		for e := range p {
+			if p[e] > 0 {
+				d += complex(p[e], 0) * (Phi(s+complex(q[e], 0)) - complex(phiReal(q[e]), 0))
+			}
+		}
+		return complex(mu, 0) / d
+	}}
+	l.Lam1, l.C1 = pole(root(poles[0], 0))
+	l.Lam2, l.C2 = pole(root(poles[1], poles[0]))
+	return l, mu
+}
+
+// ExitLaw returns the law of the climb to the rim of an excursion that
+// survives a kill rate q ≥ 0: transform ψ_f(s + q)/ψ_f(q), poles
+// s = −q − n²π²/2 with weights (−1)^{n+1}n²π²/(ψ_f(q)(q + n²π²/2)).
+func ExitLaw(q float64) *Law {
+	pf := real(FinalTransform(complex(q, 0)))
+	l1, l2 := q+math.Pi*math.Pi/2, q+2*math.Pi*math.Pi
+	return &Law{
+		Psi:  func(s complex128) complex128 { return finalRatio(s+complex(q, 0), q) },
+		Lam1: l1, C1: math.Pi * math.Pi / (pf * l1),
+		Lam2: l2, C2: -4 * math.Pi * math.Pi / (pf * l2),
+	}
+}
+
+// KillLaw returns the law of the time from the start of an excursion to its
+// killing at rate q > 0, given that it is killed before the rim: transform
+// q·g(q + s)/((q + s)·g(q)), g(p) = Φ(p) + 1 − ψ_f(p); the poles are those of
+// g at p = −n²π²/2 for odd n (they cancel for even n), with weights
+// 4q/(g(q)(q + n²π²/2)).
+func KillLaw(q float64) *Law {
+	if !(q > 0) || math.IsInf(q, 0) {
+		panic("starlaw: KillLaw needs 0 < q < ∞")
+	}
+	g := func(p complex128) complex128 { return Phi(p) + oneMinusFinal(p) }
+	b := real(g(complex(q, 0)))
+	l1, l2 := q+math.Pi*math.Pi/2, q+9*math.Pi*math.Pi/2
+	return &Law{
+		Psi: func(s complex128) complex128 {
+			p := s + complex(q, 0)
+			return complex(q/b, 0) * g(p) / p
+		},
+		Lam1: l1, C1: 4 * q / (b * l1),
+		Lam2: l2, C2: 4 * q / (b * l2),
+	}
+}
+
+// Rates returns the fate probabilities of a visit with decaying arms: the
+// leak's κ/μ, and per arm the rim exit p_eψ_f(q_e)/μ and the killing
+// p_e[Φ(q_e) + 1 − ψ_f(q_e)]/μ, written into exit and kill (resized).
+func Rates(kappa float64, p, q []float64, exit, kill []float64) (leak float64, ex, ki []float64) {
+	mu := kappa
+	for e := range p {
+		mu += p[e] * (phiReal(q[e]) + 1)
+	}
+	ex, ki = exit[:0], kill[:0]
+	for e := range p {
+		pf := real(FinalTransform(complex(q[e], 0)))
+		ex = append(ex, p[e]*pf/mu)
+		ki = append(ki, p[e]*real(Phi(complex(q[e], 0))+oneMinusFinal(complex(q[e], 0)))/mu)
+	}
+	return kappa / mu, ex, ki
+}
+
+var (
+	armMu    sync.Mutex
+	armCache = map[string]*Table{}
+)
+
+func cached(key string, build func() *Table) *Table {
+	armMu.Lock()
+	tb, ok := armCache[key]
+	armMu.Unlock()
+	if ok {
+		return tb
+	}
+	tb = build()
+	armMu.Lock()
+	if len(armCache) < maxCached {
+		armCache[key] = tb
+	}
+	armMu.Unlock()
+	return tb
+}
+
+// MixtureTable returns a shared table of Mixture(kappa, eta, p, q) (see
+// VisitTable).
+func MixtureTable(kappa, eta float64, p, q []float64) *Table {
+	return cached(fmt.Sprint("m", kappa, eta, p, q), func() *Table {
+		l, _ := Mixture(kappa, eta, p, q)
+		return NewTable(l, DefaultKnots, false)
+	})
+}
+
+// ExitTable returns a shared table of ExitLaw(q) (Final for q = 0).
+func ExitTable(q float64) *Table {
+	if q == 0 {
+		return Final()
+	}
+	return cached(fmt.Sprint("e", q), func() *Table { return NewTable(ExitLaw(q), DefaultKnots, true) })
+}
+
+// KillTable returns a shared table of KillLaw(q), q > 0.
+func KillTable(q float64) *Table {
+	return cached(fmt.Sprint("k", q), func() *Table { return NewTable(KillLaw(q), DefaultKnots, false) })
+}
