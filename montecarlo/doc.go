@@ -195,13 +195,16 @@
 //
 // Exact stepping ran at 1.06e7 steps per second per worker on the S1 star
 // (BenchmarkExactSteps, 3.4 steps per walker). Visits drawn from the
-// visit-law tables cost about the same per step (BenchmarkNodeSteps: 0.85–1.1
-// times the S1 rate on stars with a leaky or sticky, leaky centre, against
-// 1.2–1.3 for the former exact-in-mean visits), and a walker on those stars
-// now takes 4.2 steps instead of 32 (full star instead of 1/8): 6–7 times
-// less time per walker. Building a visit table takes about 10 ms per
-// distinct node law (tables are shared across nodes and runs), the T_f table
-// about 0.1 s once per process, only when a node needs it. Two workers against one gave
-// a speed-up of only 1.01–1.05 when measured, on a 2-core machine shared with
-// other jobs; blocks are independent, so the speed-up follows the free cores.
+// visit-law tables cost about the same per step (BenchmarkNodeSteps: 0.9–1.03
+// times the S1 rate measured in the same run on stars with a leaky or a
+// sticky, leaky centre, against 1.1–1.25 for the former exact-in-mean
+// visits), and a walker on those stars takes 4.2 steps instead of 32 (full
+// star instead of 1/8): about 6 times less time per walker (33–41 ms against
+// 203–228 ms for 2¹⁷ walkers). A visit table takes about 10 ms to build per
+// distinct node law, a climb table for a decaying arm about 45 ms per
+// distinct rate, the T_f table about 0.1 s once per process; tables are
+// shared across nodes and runs and built only when a node needs them. Two
+// workers against one gave a speed-up of only 1.01–1.05 when measured, on a
+// 2-core machine shared with other jobs; blocks are independent, so the
+// speed-up follows the free cores.
 package montecarlo
