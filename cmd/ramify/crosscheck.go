@@ -151,15 +151,23 @@ func payoffScale(net *graphpde.Network, u float64) float64 {
 	return s
 }
 
-// exactNode reports whether every edge at v is stepped exactly by the walkers
-// (constant coefficients, no drift), so that their departures from v follow
-// the star rule w_e/Σw.
-func exactNode(net *graphpde.Network, v int) bool {
+// splitComparable reports whether the walkers' departures from v follow the
+// star rule w_e/Σw exactly, so that their frequencies can be compared with
+// the weights: every edge at v is stepped exactly (constant coefficients, no
+// drift) and all of them decay at one rate c/ρ (with different rates the
+// departures at a finite star radius lean towards the arms that decay less).
+func splitComparable(net *graphpde.Network, v int) bool {
+	rate := math.NaN()
 	for _, end := range net.Incident(v) {
 		e := &net.Edges[end.Edge]
 		if !e.Constant() || e.B != 0 {
 			return false
 		}
+		k := e.C / e.Rho
+		if !math.IsNaN(rate) && math.Abs(k-rate) > 1e-12*math.Max(k, rate) {
+			return false
+		}
+		rate = k
 	}
 	return true
 }
@@ -259,7 +267,7 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	minDepartures := int64(math.Ceil(4 * 0.5 / res2 * 4 * 0.5 / res2))
 	sparse := 0
 	for v, nd := range net.Nodes {
-		if nd.Law.Kind != vertex.Balance || v >= len(res.Departures) || res.Departures[v] == nil || len(net.Incident(v)) < 2 || !exactNode(net, v) {
+		if nd.Law.Kind != vertex.Balance || v >= len(res.Departures) || res.Departures[v] == nil || len(net.Incident(v)) < 2 || !splitComparable(net, v) {
 			continue
 		}
 		var departed int64
