@@ -70,26 +70,68 @@ func phiPrime(p float64) float64 {
 func phiReal(p float64) float64 { return real(Phi(complex(p, 0))) }
 
 // Mixture returns the law of Y for a leak κ ≥ 0, capacity η ≥ 0 and arms
-// with entry probabilities p (Σp = 1) and kill rates q ≥ 0, and μ. Its
-// poles are the zeros of D(s) = μ + Σ p_e[Φ(s + q_e) − Φ(q_e)] + ηs, one in
-// each interval between consecutive poles s = −q_e − n²π²/2 of the Φ terms
-// (D increases from −∞ to +∞ there), found by bisection. It panics on
-// parameters out of range or mismatched lengths.
+// with entry probabilities p (Σp = 1) and kill rates q ≥ 0, and μ. It is
+// MixtureDrift without drift.
 func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
-	if len(p) != len(q) || !(kappa >= 0) || !(eta >= 0) {
+	return MixtureDrift(kappa, eta, p, q, nil)
+}
+
+// Drifting arms. An arm whose motion has the drift γ_e (in the scaled
+// coordinates: generator ½d² + γ_e d on [0, 1], γ_e > 0 away from the node)
+// is by Girsanov's theorem the driftless motion weighted by
+// e^{γ_eX_t − γ_e²t/2}: an excursion that returns to 0 has weight
+// e^{−γ_e²ζ/2}, so the drift acts on it like the kill rate d_e = γ_e²/2, one
+// that reaches the rim has weight e^{γ_e − γ_e²T_1/2}. With Q_e = q_e + d_e
+// (decay and drift) the arm's rate of ending excursions is
+// n_e(1 − e^{−sζ}1{ζ < T_1}) = γ_e + sqrt(2(s + Q_e))·coth sqrt(2(s + Q_e)),
+// the flux −ψ'(0) of ψ(x) = e^{−γx} sinh(m(1 − x))/sinh m,
+// m = sqrt(γ² + 2(s + q)), the solution of ½ψ” + γψ' = (s + q)ψ with
+// ψ(0) = 1, ψ(1) = 0; so
+//
+//   - the visit's local time is Exp(μ), μ = κ + Σ p_e[γ_e + 1 + Φ(Q_e)];
+//   - the subordinator of the excursions below the rim has exponent
+//     Σ p_e[Φ(s + Q_e) − Φ(Q_e)] (the same form as without drift);
+//   - the rim is reached on e at rate p_e e^{γ_e}ψ_f(Q_e), and the climb
+//     has transform ψ_f(s + Q_e)/ψ_f(Q_e) (ExitLaw(Q_e));
+//   - arm e's decay kills at rate p_e G_e(q_e), with
+//     G_e(p) = γ_e + 1 + Φ(p + d_e) − e^{γ_e}ψ_f(p + d_e) (zero at p = 0),
+//     after a time with transform q_eG_e(q_e + s)/((q_e + s)G_e(q_e))
+//     (KillLawDrift).
+//
+// For γ_e = 0 these are the formulas above. The tests check the whole visit
+// transform against the arm ODE with drift. (Girsanov's theorem and the
+// excursion measure: D. Revuz and M. Yor, Continuous Martingales and
+// Brownian Motion, 3rd ed., ch. VIII and XII, from memory; the formulas are
+// derived here.)
+
+// MixtureDrift returns the law of Y for a leak κ ≥ 0, capacity η ≥ 0 and
+// arms with entry probabilities p (Σp = 1), kill rates q ≥ 0 and drifts g
+// (nil: none), and μ. Its poles are the zeros of
+// D(s) = μ + Σ p_e[Φ(s + Q_e) − Φ(Q_e)] + ηs, Q_e = q_e + g_e²/2, one in each
+// interval between consecutive poles s = −Q_e − n²π²/2 of the Φ terms (D
+// increases from −∞ to +∞ there), found by bisection. It panics on
+// parameters out of range or mismatched lengths.
+func MixtureDrift(kappa, eta float64, p, q, g []float64) (*Law, float64) {
+	if len(p) != len(q) || (g != nil && len(g) != len(p)) || !(kappa >= 0) || !(eta >= 0) {
 		panic("starlaw: Mixture parameters")
 	}
 	mu := kappa
+	Q := make([]float64, len(p))
 	var poles []float64
 	for e := range p {
-		if !(p[e] >= 0) || !(q[e] >= 0) || math.IsInf(q[e], 0) {
+		if !(p[e] >= 0) || !(q[e] >= 0) || math.IsInf(q[e], 0) || (g != nil && !finite(g[e])) {
 			panic(fmt.Sprintf("starlaw: Mixture arm %d: p = %g, q = %g", e, p[e], q[e]))
 		}
+		ge := 0.0
+		if g != nil {
+			ge = g[e]
+		}
+		Q[e] = q[e] + ge*ge/2
 		if p[e] == 0 {
 			continue
 		}
-		mu += p[e] * (phiReal(q[e]) + 1)
-		poles = append(poles, -q[e]-math.Pi*math.Pi/2, -q[e]-2*math.Pi*math.Pi)
+		mu += p[e] * (ge + 1 + phiReal(Q[e]))
+		poles = append(poles, -Q[e]-math.Pi*math.Pi/2, -Q[e]-2*math.Pi*math.Pi)
 	}
 	slices.Sort(poles)
 	slices.Reverse(poles)
@@ -98,7 +140,7 @@ func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
 		d := mu + eta*s
 		for e := range p {
 			if p[e] > 0 {
-				d += p[e] * (phiReal(s+q[e]) - phiReal(q[e]))
+				d += p[e] * (phiReal(s+Q[e]) - phiReal(Q[e]))
 			}
 		}
 		return d
@@ -107,7 +149,7 @@ func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
 		d := eta
 		for e := range p {
 			if p[e] > 0 {
-				d += p[e] * phiPrime(s+q[e])
+				d += p[e] * phiPrime(s+Q[e])
 			}
 		}
 		return d
@@ -130,7 +172,7 @@ func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
 		d := complex(mu, 0) + complex(eta, 0)*s
 		for e := range p {
 			if p[e] > 0 {
-				d += complex(p[e], 0) * (Phi(s+complex(q[e], 0)) - complex(phiReal(q[e]), 0))
+				d += complex(p[e], 0) * (Phi(s+complex(Q[e], 0)) - complex(phiReal(Q[e]), 0))
 			}
 		}
 		return complex(mu, 0) / d
@@ -139,6 +181,8 @@ func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
 	l.Lam2, l.C2 = pole(root(poles[1], poles[0]))
 	return l, mu
 }
+
+func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
 // ExitLaw returns the law of the climb to the rim of an excursion that
 // survives a kill rate q ≥ 0: transform ψ_f(s + q)/ψ_f(q), poles
@@ -175,19 +219,87 @@ func KillLaw(q float64) *Law {
 	}
 }
 
+// driftKillG returns G(p) = γ + 1 + Φ(p + d) − e^γψ_f(p + d), d = γ²/2,
+// written as Φ(p + d) + e^γ(1 − ψ_f(p + d)) − (e^γ − 1 − γ).
+func driftKillG(p complex128, gam float64) complex128 {
+	P := p + complex(gam*gam/2, 0)
+	return Phi(P) + complex(math.Exp(gam), 0)*oneMinusFinal(P) - complex(math.Expm1(gam)-gam, 0)
+}
+
+// KillLawDrift returns the law of the time from the start of an excursion
+// on an arm with drift γ to its killing at rate q > 0, given that it is
+// killed before the rim: transform q·G(q + s)/((q + s)·G(q)) (see
+// MixtureDrift). G(p) has its poles at p + γ²/2 = −n²π²/2 with residues
+// −n²π²(1 − (−1)ⁿe^γ), so P(X > t) = Σ C_n e^{−λ_n t} with
+// λ_n = q + γ²/2 + n²π²/2 and C_n = q n²π²(1 − (−1)ⁿe^γ)/(G(q)(λ_n − q)λ_n).
+// KillLawDrift(q, 0) is KillLaw(q). It panics unless 0 < q < ∞ and γ is
+// finite.
+func KillLawDrift(q, gam float64) *Law {
+	if gam == 0 {
+		return KillLaw(q)
+	}
+	if !(q > 0) || math.IsInf(q, 0) || !finite(gam) {
+		panic("starlaw: KillLawDrift needs 0 < q < ∞ and a finite drift")
+	}
+	b := real(driftKillG(complex(q, 0), gam))
+	d := gam * gam / 2
+	weight := func(n int) (lam, c float64) {
+		sign := 1.0
+		if n%2 == 1 {
+			sign = -1
+		}
+		nn := float64(n*n) * math.Pi * math.Pi
+		lam = q + d + nn/2
+		return lam, q * nn * (1 - sign*math.Exp(gam)) / (b * (d + nn/2) * lam)
+	}
+	l1, c1 := weight(1)
+	l2, c2 := weight(2)
+	_, c3 := weight(3)
+	return &Law{
+		Psi: func(s complex128) complex128 {
+			p := s + complex(q, 0)
+			return complex(q/b, 0) * driftKillG(p, gam) / p
+		},
+		// C2 bounds the second and third terms together (for small γ the
+		// second is small and the third comparable to it).
+		Lam1: l1, C1: c1,
+		Lam2: l2, C2: math.Abs(c2) + math.Abs(c3),
+	}
+}
+
 // Rates returns the fate probabilities of a visit with decaying arms: the
 // leak's κ/μ, and per arm the rim exit p_eψ_f(q_e)/μ and the killing
 // p_e[Φ(q_e) + 1 − ψ_f(q_e)]/μ, written into exit and kill (resized).
 func Rates(kappa float64, p, q []float64, exit, kill []float64) (leak float64, ex, ki []float64) {
+	return RatesDrift(kappa, p, q, nil, exit, kill)
+}
+
+// RatesDrift is Rates with arm drifts g (nil: none): the rim exit on e has
+// probability p_e e^{γ_e}ψ_f(Q_e)/μ and the killing on e p_e G_e(q_e)/μ
+// (exactly 0 when q_e = 0), Q_e = q_e + γ_e²/2 (see MixtureDrift).
+func RatesDrift(kappa float64, p, q, g []float64, exit, kill []float64) (leak float64, ex, ki []float64) {
 	mu := kappa
+	gam := func(e int) float64 {
+		if g == nil {
+			return 0
+		}
+		return g[e]
+	}
 	for e := range p {
-		mu += p[e] * (phiReal(q[e]) + 1)
+		ge := gam(e)
+		mu += p[e] * (ge + 1 + phiReal(q[e]+ge*ge/2))
 	}
 	ex, ki = exit[:0], kill[:0]
 	for e := range p {
-		pf := real(FinalTransform(complex(q[e], 0)))
-		ex = append(ex, p[e]*pf/mu)
-		ki = append(ki, p[e]*real(Phi(complex(q[e], 0))+oneMinusFinal(complex(q[e], 0)))/mu)
+		ge := gam(e)
+		Q := q[e] + ge*ge/2
+		pf := real(FinalTransform(complex(Q, 0)))
+		ex = append(ex, p[e]*math.Exp(ge)*pf/mu)
+		k := 0.0
+		if q[e] > 0 {
+			k = p[e] * real(driftKillG(complex(q[e], 0), ge)) / mu
+		}
+		ki = append(ki, k)
 	}
 	return kappa / mu, ex, ki
 }
@@ -216,8 +328,14 @@ func cached(key string, build func() *Table) *Table {
 // MixtureTable returns a shared table of Mixture(kappa, eta, p, q) (see
 // VisitTable).
 func MixtureTable(kappa, eta float64, p, q []float64) *Table {
-	return cached(fmt.Sprint("m", kappa, eta, p, q), func() *Table {
-		l, _ := Mixture(kappa, eta, p, q)
+	return MixtureDriftTable(kappa, eta, p, q, nil)
+}
+
+// MixtureDriftTable returns a shared table of MixtureDrift(kappa, eta, p, q,
+// g) (see VisitTable).
+func MixtureDriftTable(kappa, eta float64, p, q, g []float64) *Table {
+	return cached(fmt.Sprint("m", kappa, eta, p, q, g), func() *Table {
+		l, _ := MixtureDrift(kappa, eta, p, q, g)
 		return NewTable(l, DefaultKnots, false)
 	})
 }
@@ -231,6 +349,9 @@ func ExitTable(q float64) *Table {
 }
 
 // KillTable returns a shared table of KillLaw(q), q > 0.
-func KillTable(q float64) *Table {
-	return cached(fmt.Sprint("k", q), func() *Table { return NewTable(KillLaw(q), DefaultKnots, false) })
+func KillTable(q float64) *Table { return KillDriftTable(q, 0) }
+
+// KillDriftTable returns a shared table of KillLawDrift(q, g), q > 0.
+func KillDriftTable(q, g float64) *Table {
+	return cached(fmt.Sprint("k", q, g), func() *Table { return NewTable(KillLawDrift(q, g), DefaultKnots, false) })
 }

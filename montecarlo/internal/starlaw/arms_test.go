@@ -7,49 +7,59 @@ import (
 )
 
 // starODE returns E e^{−sτ} for a visit (killing counts as its end) from the
-// ODE side: on arm e, ½u” − (s + q_e)u + q_e = 0 on [0, 1] with u(1) = 1,
-// so with m = sqrt(2(s + q_e)) and v = q_e/(s + q_e),
-// u = v + (u0 − v) cosh mx + [(1 − v) − (u0 − v) cosh m] sinh mx / sinh m;
-// at the node the local-time balance Σ p_e u_e'(0) = (κ + ηs)u0 − κ (leak
-// rate κ per unit local time, capacity η, killing pays 1; its
-// normalisation is fixed by P(exit) = 1/(1 + κ) and u0 = 1/cosh sqrt(2s)
-// for κ = η = q = 0) gives
+// ODE side: on arm e, ½u” + γ_e u' − (s + q_e)u + q_e = 0 on [0, 1] with
+// u(1) = 1, so with m = sqrt(γ_e² + 2(s + q_e)) and v = q_e/(s + q_e),
+// u = v + e^{−γx}[A cosh mx + B sinh mx], A = u0 − v,
+// B = [(1 − v)e^γ − A cosh m]/sinh m, u'(0) = −γA + mB; at the node the
+// local-time balance Σ p_e u_e'(0) = (κ + ηs)u0 − κ (leak rate κ per unit
+// local time, capacity η, killing pays 1; its normalisation is fixed by
+// P(exit) = 1/(1 + κ) and u0 = 1/cosh sqrt(2s) for κ = η = q = γ = 0) gives
 //
-//	u0 = (κ + Σ p m [(1 − v) csch m + v coth m])/(κ + ηs + Σ p m coth m).
+//	u0 = (κ + Σ p [γv + m(1 − v)e^γ csch m + m v coth m])/(κ + ηs + Σ p (γ + m coth m)).
 //
-// Derived here; independent of the excursion decomposition it checks.
-func starODE(kappa, eta float64, p, q []float64, s complex128) complex128 {
+// Derived here; independent of the excursion decomposition it checks. g nil
+// means no drift.
+func starODE(kappa, eta float64, p, q, g []float64, s complex128) complex128 {
 	num, den := complex(kappa, 0), complex(kappa, 0)+complex(eta, 0)*s
 	for e := range p {
+		ge := 0.0
+		if g != nil {
+			ge = g[e]
+		}
+		gc := complex(ge, 0)
 		sq := s + complex(q[e], 0)
-		m := cmplx.Sqrt(2 * sq)
+		m := cmplx.Sqrt(gc*gc + 2*sq)
 		v := complex(q[e], 0) / sq
 		x := cmplx.Exp(-2 * m)
 		coth, csch := (1+x)/(1-x), 2*cmplx.Exp(-m)/(1-x)
 		pe := complex(p[e], 0)
-		num += pe * m * ((1-v)*csch + v*coth)
-		den += pe * m * coth
+		num += pe * (gc*v + m*(1-v)*cmplx.Exp(gc)*csch + m*v*coth)
+		den += pe * (gc + m*coth)
 	}
 	return num / den
 }
 
-// TestDecayingArms checks the decomposition for decaying arms: the
-// transform of the whole visit, ψ_Y(s)·[P(leak) + Σ P(exit e)ψ_exit,e(s) +
-// Σ P(killed on e)ψ_kill,e(s)], against starODE at real and complex s, and
-// that Mixture reduces to Visit when no arm decays.
+// TestDecayingArms checks the decomposition for decaying and drifting arms:
+// the transform of the whole visit, ψ_Y(s)·[P(leak) + Σ P(exit e)ψ_exit,e(s)
+// + Σ P(killed on e)ψ_kill,e(s)], against starODE at real and complex s,
+// and that Mixture reduces to Visit when no arm decays.
 func TestDecayingArms(t *testing.T) {
 	const roundoff = 1e-12
 	for _, c := range []struct {
 		kappa, eta float64
-		p, q       []float64
+		p, q, g    []float64
 	}{
-		{0, 0, []float64{0.5, 0.5}, []float64{0, 1}},
-		{0.7, 0, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}},
-		{0.4, 1.5, []float64{0.6, 0.4}, []float64{2, 2}},
-		{2, 0.2, []float64{0.1, 0.9}, []float64{1e-6, 30}},
+		{0, 0, []float64{0.5, 0.5}, []float64{0, 1}, nil},
+		{0.7, 0, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, nil},
+		{0.4, 1.5, []float64{0.6, 0.4}, []float64{2, 2}, nil},
+		{2, 0.2, []float64{0.1, 0.9}, []float64{1e-6, 30}, nil},
+		// Drift away from the node, towards it, and none.
+		{0.7, 0, []float64{0.2, 0.3, 0.5}, []float64{0, 0, 0}, []float64{0.4, -1.3, 0}},
+		{0.7, 0.3, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, []float64{0.4, -1.3, 2.5}},
+		{0, 0.5, []float64{0.6, 0.4}, []float64{1e-3, 0}, []float64{-0.05, 1e-3}},
 	} {
-		l, _ := Mixture(c.kappa, c.eta, c.p, c.q)
-		pl, ex, ki := Rates(c.kappa, c.p, c.q, nil, nil)
+		l, _ := MixtureDrift(c.kappa, c.eta, c.p, c.q, c.g)
+		pl, ex, ki := RatesDrift(c.kappa, c.p, c.q, c.g, nil, nil)
 		sum := pl
 		for e := range ex {
 			sum += ex[e] + ki[e]
@@ -60,14 +70,18 @@ func TestDecayingArms(t *testing.T) {
 		for _, s := range []complex128{1e-4, 0.5, 7, 300, complex(-1, 2), complex(3, -40)} {
 			fin := complex(pl, 0)
 			for e := range c.p {
-				fin += complex(ex[e], 0) * ExitLaw(c.q[e]).Psi(s)
+				ge := 0.0
+				if c.g != nil {
+					ge = c.g[e]
+				}
+				fin += complex(ex[e], 0) * ExitLaw(c.q[e]+ge*ge/2).Psi(s)
 				if c.q[e] > 0 {
-					fin += complex(ki[e], 0) * KillLaw(c.q[e]).Psi(s)
+					fin += complex(ki[e], 0) * KillLawDrift(c.q[e], ge).Psi(s)
 				}
 			}
-			got, want := l.Psi(s)*fin, starODE(c.kappa, c.eta, c.p, c.q, s)
+			got, want := l.Psi(s)*fin, starODE(c.kappa, c.eta, c.p, c.q, c.g, s)
 			if cmplx.Abs(got-want) > roundoff*math.Max(1, cmplx.Abs(want)) {
-				t.Errorf("κ=%g η=%g q=%v s=%v: decomposition %v, ODE %v", c.kappa, c.eta, c.q, s, got, want)
+				t.Errorf("κ=%g η=%g q=%v g=%v s=%v: decomposition %v, ODE %v", c.kappa, c.eta, c.q, c.g, s, got, want)
 			}
 		}
 	}
@@ -87,6 +101,7 @@ func TestDecayingArms(t *testing.T) {
 func TestDecayingTables(t *testing.T) {
 	const maxDCDF = 1e-8
 	mix, _ := Mixture(0.7, 0.5, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4})
+	mixd, _ := MixtureDrift(0.7, 0.5, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, []float64{0.4, -1.3, 2.5})
 	for _, c := range []struct {
 		name string
 		l    *Law
@@ -98,6 +113,10 @@ func TestDecayingTables(t *testing.T) {
 		{"kill q=0.3", KillLaw(0.3), false},
 		{"kill q=1e-6", KillLaw(1e-6), false},
 		{"kill q=30", KillLaw(30), false},
+		{"mixture with drift", mixd, false},
+		{"kill q=0.3 γ=0.4", KillLawDrift(0.3, 0.4), false},
+		{"kill q=0.3 γ=−1.3", KillLawDrift(0.3, -1.3), false},
+		{"kill q=4 γ=1e−4", KillLawDrift(4, 1e-4), false},
 	} {
 		tb := NewTable(c.l, DefaultKnots, c.low)
 		n := len(tb.k) / 2
