@@ -59,11 +59,12 @@ type Settings struct {
 	// 1e−2 of its drift time Lρ/|b|).
 	Step float64
 	// StarFraction is the star radius, as a fraction of the largest star
-	// that fits, at nodes whose visit is exact only in mean (an arm that
-	// needs time stepping; of its hand-off zone there) and at nodes whose
-	// arms decay at different rates (exact in law at any radius; the small
-	// star keeps the departure counts close to the weights); 0 means 1/8.
-	// Other nodes always use the full star.
+	// that fits, at nodes whose arms decay at different rates (exact in law
+	// at any radius; the small star keeps the departure counts close to the
+	// weights) and at nodes with an arm whose coefficients vary along its
+	// edge (frozen at the node for the visit; the small star keeps that
+	// error small); 0 means 1/8. Other nodes always use the full star (next
+	// to a time-stepping arm, the largest that fits in its hand-off zone).
 	StarFraction float64
 	// KeepSamples keeps every walker's lifetime and fate in Result.Samples
 	// (16 bytes per walker; refused above MaxSampleBytes).

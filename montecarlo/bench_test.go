@@ -133,21 +133,28 @@ func BenchmarkCostToAccuracy(b *testing.B) {
 // BenchmarkNodeSteps measures steps per second on one worker on the S1 star
 // (walk on stars at a Kirchhoff centre) and on stars with a leaky centre and
 // a sticky, leaky centre (the visit-law tables), each against the S1 rate
-// measured in the same run. Per walker the leaky stars take about 4.2 steps
-// (32 with the former exact-in-mean visits at 1/8 of the star).
+// measured in the same run, and the time per walker. Per walker the leaky
+// stars take about 4.2 steps (32 with the former exact-in-mean visits at 1/8
+// of the star). The drift cases are TestDriftStartLaw's stars (one arm time
+// stepped with dt = 1e−3).
 func BenchmarkNodeSteps(b *testing.B) {
 	arms := []starArm{
 		{L: 1, a: 1, rho: 1, alpha: 1},
 		{L: 0.5, a: 2, rho: 1, alpha: 1.5},
 		{L: 2, a: 0.5, rho: 2, alpha: 0.7},
 	}
+	drift := slicesClone(arms)
+	drift[0].b = 1.5
 	nets := []struct {
 		name string
 		net  montecarlo.Network
+		step float64
 	}{
-		{"S1", s1Star(false)},
-		{"leaky", star(vertex.Law{Kind: vertex.Balance, Leak: 3}, arms)},
-		{"sticky-leaky", star(vertex.Law{Kind: vertex.Balance, Leak: 3, Capacity: 0.5}, arms)},
+		{"S1", s1Star(false), 0},
+		{"leaky", star(vertex.Law{Kind: vertex.Balance, Leak: 3}, arms), 0},
+		{"sticky-leaky", star(vertex.Law{Kind: vertex.Balance, Leak: 3, Capacity: 0.5}, arms), 0},
+		{"leaky-drift", star(vertex.Law{Kind: vertex.Balance, Leak: 3}, drift), 1e-3},
+		{"sticky-leaky-drift", star(vertex.Law{Kind: vertex.Balance, Leak: 3, Capacity: 0.5}, drift), 1e-3},
 	}
 	const n = 1 << 17
 	var ref float64
@@ -156,11 +163,11 @@ func BenchmarkNodeSteps(b *testing.B) {
 			b.ReportAllocs()
 			// Warm-up outside the timed loop: the shared tables are built
 			// once per process.
-			mustRun(b, c.net, montecarlo.Settings{Particles: 1, Seed: 1, Workers: 1})
+			mustRun(b, c.net, montecarlo.Settings{Particles: 1, Seed: 1, Workers: 1, Step: c.step})
 			var steps int64
 			var el time.Duration
 			for b.Loop() {
-				res := mustRun(b, c.net, montecarlo.Settings{Particles: n, Seed: 1, Workers: 1})
+				res := mustRun(b, c.net, montecarlo.Settings{Particles: n, Seed: 1, Workers: 1, Step: c.step})
 				steps += res.Stats.Steps
 				el += res.Stats.Elapsed
 			}
@@ -170,6 +177,7 @@ func BenchmarkNodeSteps(b *testing.B) {
 			}
 			b.ReportMetric(rate, "steps/s")
 			b.ReportMetric(float64(steps)/float64(b.N)/n, "steps/walker")
+			b.ReportMetric(el.Seconds()/float64(b.N)/n*1e9, "ns/walker")
 			if ref > 0 {
 				b.ReportMetric(rate/ref, "rate/S1")
 			}

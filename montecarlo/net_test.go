@@ -95,6 +95,7 @@ func interval(e tEdge, g0, gL float64) *tNet {
 // fixed end with value g.
 type starArm struct {
 	L, a, c, f, rho, alpha, g float64
+	b                         float64 // drift away from the centre
 }
 
 // star builds a star with centre law centre and the given arms; node k+1 is
@@ -104,7 +105,7 @@ func star(centre vertex.Law, arms []starArm) *tNet {
 	n.node(centre)
 	for _, a := range arms {
 		end := n.node(fixed(a.g))
-		n.edge(tEdge{from: 0, to: end, L: a.L, a: a.a, c: a.c, f: a.f, r: a.rho, w: [2]float64{a.alpha, 0}})
+		n.edge(tEdge{from: 0, to: end, L: a.L, a: a.a, b: a.b, c: a.c, f: a.f, r: a.rho, w: [2]float64{a.alpha, 0}})
 	}
 	return n
 }

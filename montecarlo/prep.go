@@ -11,7 +11,6 @@ import (
 const (
 	modeFixed    = iota // absorbing
 	modeLaw             // walk on stars, exact in law
-	modeMean            // one visit exact in mean, time drawn independently
 	modeIsolated        // balance node without edges
 	modeStar            // walk on stars with leak or capacity, exact in law
 	modeStarArms        // walk on stars with arms decaying at their own rates
@@ -40,7 +39,7 @@ type arm struct {
 	toNode     int     // ≥ 0: the step lands on this node
 	x          float64 // landing position on edge otherwise
 	cum        float64 // cumulative move probability up to this arm
-	occ        float64 // modeMean: expected time on this arm per visit
+	occ        float64 // expected time on this arm per visit
 	// modeStarArms: cumulative fate probabilities up to the rim exit and
 	// the killing on this arm, and the tables of their final pieces.
 	cx, ck           float64
@@ -57,12 +56,13 @@ type nodeInfo struct {
 	dscale float64 // r²/2: the visit lasts dscale·τ₁
 	kill   float64 // common killing rate c/ρ on the arms
 	fbar   float64 // Σ p_e f_e/ρ_e, expected reward rate during a visit
-	// modeMean (killP, reward, dmean, hold, arms[].occ) and modeStar
-	// (pMove = 1/μ, reward, hold > 0 iff the node has a capacity,
-	// arms[].occ, dscale, kill; arms[].cum normalised to Σw).
-	killP, reward, dmean, hold float64
-	pMove                      float64
-	tab                        *starlaw.Table
+	// modeStar (pMove = 1/μ, reward, hold > 0 iff the node has a
+	// capacity, arms[].occ, dscale, kill; arms[].cum normalised to Σw),
+	// modeStarArms (killP, reward, dscale, arms[]) and modeIsolated
+	// (killP, reward, hold).
+	killP, reward, hold float64
+	pMove               float64
+	tab                 *starlaw.Table
 }
 
 type model struct {
@@ -283,6 +283,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 	co := make([]armCo, n)
 	plain := true // no drift, decay or source on any arm
 	allExact := true
+	varying := false // an arm's coefficients vary along its edge
 	sameKill := true
 	for k, end := range ends {
 		ed := &m.edges[end.Edge]
@@ -293,6 +294,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		switch {
 		case !ed.exact:
 			allExact = false
+			varying = varying || !net.EdgeConstant(end.Edge)
 			ac.max = ed.hz * s
 		case self:
 			ac.max = ed.L * s / 2
@@ -389,18 +391,23 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			// per visit, (r²/2)/μ, shared in proportion to w_k.
 			nd.arms[k].occ = r * r * w[k] / 2 / (sw + r*law.Leak)
 		}
-	} else if allExact {
+	} else {
 		// Arms decaying at their own rates, or a common rate with a
-		// capacity: package starlaw's decomposition with per-arm kill
-		// rates q_e = (c_e/ρ_e)·r²/2 in the time of the reflected motion.
-		// It is exact at any radius. With different rates the star is
-		// shrunk to StarFraction so that the departures stay close to
-		// the weights: a move along e has probability ∝ w_e·z_e/sinh z_e,
-		// z_e = r·sqrt(c_e/ρ_e), which tends to w_e/Σw only as r → 0
-		// (with a common rate it is w_e/Σw at any radius).
+		// capacity, or arms that need time stepping: package starlaw's
+		// decomposition with per-arm kill rates q_e = (c_e/ρ_e)·r²/2 in
+		// the time of the reflected motion and drifts
+		// γ_e = b_e ε_e/(2a_e) (b_e away from the node, ε_e = r/s_e),
+		// with the coefficients of each arm frozen at the node. It is
+		// exact at any radius when they are constant on [0, ε_e]. With
+		// different rates the star is shrunk to StarFraction so that the
+		// departures stay close to the weights: a move along e has
+		// probability ∝ w_e·z_e/sinh z_e, z_e = r·sqrt(c_e/ρ_e), which
+		// tends to w_e/Σw only as r → 0 (with a common rate it is w_e/Σw
+		// at any radius); next to an arm whose coefficients vary it is
+		// shrunk so that freezing them costs little.
 		nd.mode = modeStarArms
 		r := free
-		if !sameKill {
+		if !sameKill || varying {
 			r *= set.StarFraction
 		}
 		nd.r = r
@@ -409,14 +416,27 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			sw += x
 		}
 		p, q := make([]float64, n), make([]float64, n)
+		var g []float64
 		for k, ac := range co {
 			p[k] = w[k] / sw
 			q[k] = ac.c / ac.rho * r * r / 2
+			if ac.b != 0 {
+				if g == nil {
+					g = make([]float64, n)
+				}
+				g[k] = ac.b * (r / ac.s) / (2 * ac.a)
+			}
+		}
+		gam := func(k int) float64 {
+			if g == nil {
+				return 0
+			}
+			return g[k]
 		}
 		kappa := r * law.Leak / sw
 		nd.dscale = r * r / 2
-		nd.tab = starlaw.MixtureTable(kappa, 2*law.Capacity/(r*sw), p, q)
-		pl, ex, ki := starlaw.Rates(kappa, p, q, nil, nil)
+		nd.tab = starlaw.MixtureDriftTable(kappa, 2*law.Capacity/(r*sw), p, q, g)
+		pl, ex, ki := starlaw.RatesDrift(kappa, p, q, g, nil, nil)
 		nd.killP = pl
 		cum := pl
 		arms := make([]vertex.Arm, n)
@@ -430,9 +450,10 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			nd.arms[k].cx = cum
 			cum += ki[k]
 			nd.arms[k].ck = cum
-			nd.arms[k].exitTab = starlaw.ExitTable(q[k])
+			gk := gam(k)
+			nd.arms[k].exitTab = starlaw.ExitTable(q[k] + gk*gk/2)
 			if q[k] > 0 {
-				nd.arms[k].killTab = starlaw.KillTable(q[k])
+				nd.arms[k].killTab = starlaw.KillDriftTable(q[k], gk)
 			}
 		}
 		nd.arms[n-1].ck = math.Inf(1)
@@ -444,55 +465,6 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		nd.reward = visit.Reward
 		for k := range co {
 			visit.Move[k] = 0 // the arms' cum is not used in this mode
-		}
-	} else {
-		m.lawExact = false
-		nd.mode = modeMean
-		frac := set.StarFraction
-		r := math.Inf(1)
-		for _, ac := range co {
-			r = math.Min(r, frac*ac.max)
-		}
-		nd.r = r
-		if plain {
-			law.Star(&visit, w, r)
-			nd.killP = visit.Kill
-			nd.reward = visit.Reward
-			nd.hold = visit.HoldScale
-			nd.dmean = law.MeanVisitTime(w, r) - visit.HoldScale
-			var sw float64
-			for _, x := range w {
-				sw += x
-			}
-			for k := range co {
-				// Expected time on arm k: the arm's share r²w_k/2 of
-				// the diffusive part r²Σw/2, over Σw + rβ.
-				nd.arms[k].occ = r * r * w[k] / 2 / (sw + r*law.Leak)
-			}
-		} else {
-			// DESIGN.md §4 exact star rule from the arm elements on
-			// [0, ε_k], ε_k = r/s_k (equal radius r in y).
-			arms := make([]vertex.Arm, n)
-			var den, dm float64
-			for k, ac := range co {
-				eps := r / ac.s
-				arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, eps)
-				// The same element with source ρ gives the mean time
-				// spent on the arm during a visit.
-				frho := vertex.NewArm(ac.a, ac.b, ac.c, ac.rho, eps).F
-				den += alpha[k] * (arms[k].AmB + arms[k].B)
-				dm += alpha[k] * frho
-				nd.arms[k].occ = alpha[k] * frho
-			}
-			law.StarArms(&visit, alpha, arms)
-			den += law.Leak
-			for k := range co {
-				nd.arms[k].occ /= den
-			}
-			nd.killP = visit.Kill
-			nd.reward = visit.Reward
-			nd.dmean = dm / den
-			nd.hold = visit.HoldScale
 		}
 	}
 	var cum float64

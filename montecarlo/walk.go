@@ -221,38 +221,6 @@ loop:
 				} else {
 					node, e, x = -1, a.edge, a.x
 				}
-			case modeMean:
-				u := rng.Float64()
-				j := 0
-				for j < len(nd.arms) && u >= nd.arms[j].cum {
-					j++
-				}
-				T := nd.dmean * tb.Draw(rng)
-				if nd.hold > 0 {
-					T += nd.hold * rng.ExpFloat64()
-				}
-				if t+T > tcap {
-					t += T
-					break loop
-				}
-				t += T
-				val += nd.reward
-				for k := range nd.arms {
-					if o := nd.arms[k].occ; o > 0 {
-						w.addOcc(nd.arms[k].edge, o)
-					}
-				}
-				if j == len(nd.arms) {
-					fate = Killed
-					break loop
-				}
-				a := &nd.arms[j]
-				acc.dep[nd.depOff+j]++
-				if a.toNode >= 0 {
-					node = a.toNode
-				} else {
-					node, e, x = -1, a.edge, a.x
-				}
 			case modeIsolated:
 				if nd.killP == 0 {
 					t = math.Inf(1)
