@@ -130,7 +130,7 @@ func MixtureDrift(kappa, eta float64, p, q, g []float64) (*Law, float64) {
 		if p[e] == 0 {
 			continue
 		}
-		mu += p[e] * (ge + 1 + phiReal(Q[e]))
+		mu += p[e] * armRate(q[e], ge)
 		poles = append(poles, -Q[e]-math.Pi*math.Pi/2, -Q[e]-2*math.Pi*math.Pi)
 	}
 	slices.Sort(poles)
@@ -183,6 +183,21 @@ func MixtureDrift(kappa, eta float64, p, q, g []float64) (*Law, float64) {
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
+
+// armRate returns an arm's rate of ending excursions, γ + 1 + Φ(q + γ²/2)
+// = γ + z coth z, z = sqrt(2q + γ²), for real q ≥ 0. For a drift towards
+// the node (γ < −1) the two terms nearly cancel, and it is computed as
+// (z − |γ|) + z(coth z − 1), z − |γ| = 2q/(z + |γ|), z(coth z − 1) =
+// 2z e^{−2z}/(1 − e^{−2z}) (for q = 0 it is 2|γ|/(e^{2|γ|} − 1), the 1/φ of
+// DESIGN.md §4 in these units).
+func armRate(q, gam float64) float64 {
+	if gam >= -1 {
+		return gam + 1 + phiReal(q+gam*gam/2)
+	}
+	g := -gam
+	z := math.Sqrt(2*q + g*g)
+	return 2*q/(z+g) + 2*z/math.Expm1(2*z)
+}
 
 // ExitLaw returns the law of the climb to the rim of an excursion that
 // survives a kill rate q ≥ 0: transform ψ_f(s + q)/ψ_f(q), poles
@@ -242,6 +257,9 @@ func KillLawDrift(q, gam float64) *Law {
 		panic("starlaw: KillLawDrift needs 0 < q < ∞ and a finite drift")
 	}
 	b := real(driftKillG(complex(q, 0), gam))
+	if gam < -1 {
+		b = armRate(q, gam) - math.Exp(gam)*real(FinalTransform(complex(q+gam*gam/2, 0)))
+	}
 	d := gam * gam / 2
 	weight := func(n int) (lam, c float64) {
 		sign := 1.0
@@ -287,7 +305,7 @@ func RatesDrift(kappa float64, p, q, g []float64, exit, kill []float64) (leak fl
 	}
 	for e := range p {
 		ge := gam(e)
-		mu += p[e] * (ge + 1 + phiReal(q[e]+ge*ge/2))
+		mu += p[e] * armRate(q[e], ge)
 	}
 	ex, ki = exit[:0], kill[:0]
 	for e := range p {
@@ -297,7 +315,11 @@ func RatesDrift(kappa float64, p, q, g []float64, exit, kill []float64) (leak fl
 		ex = append(ex, p[e]*math.Exp(ge)*pf/mu)
 		k := 0.0
 		if q[e] > 0 {
-			k = p[e] * real(driftKillG(complex(q[e], 0), ge)) / mu
+			G := real(driftKillG(complex(q[e], 0), ge))
+			if ge < -1 {
+				G = armRate(q[e], ge) - math.Exp(ge)*pf
+			}
+			k = p[e] * G / mu
 		}
 		ki = append(ki, k)
 	}

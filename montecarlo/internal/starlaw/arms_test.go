@@ -57,6 +57,7 @@ func TestDecayingArms(t *testing.T) {
 		{0.7, 0, []float64{0.2, 0.3, 0.5}, []float64{0, 0, 0}, []float64{0.4, -1.3, 0}},
 		{0.7, 0.3, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, []float64{0.4, -1.3, 2.5}},
 		{0, 0.5, []float64{0.6, 0.4}, []float64{1e-3, 0}, []float64{-0.05, 1e-3}},
+		{0.3, 0, []float64{0.6, 0.4}, []float64{0.5, 0}, []float64{-3, -2}},
 	} {
 		l, _ := MixtureDrift(c.kappa, c.eta, c.p, c.q, c.g)
 		pl, ex, ki := RatesDrift(c.kappa, c.p, c.q, c.g, nil, nil)
@@ -83,6 +84,16 @@ func TestDecayingArms(t *testing.T) {
 			if cmplx.Abs(got-want) > roundoff*math.Max(1, cmplx.Abs(want)) {
 				t.Errorf("κ=%g η=%g q=%v g=%v s=%v: decomposition %v, ODE %v", c.kappa, c.eta, c.q, c.g, s, got, want)
 			}
+		}
+	}
+	// A strong drift towards the node: the arm's rate is 2|γ|/(e^{2|γ|} − 1)
+	// (scale function, DESIGN.md §4's 1/φ in these units), 1.8e−25 for
+	// γ = −30, and must not be lost to cancellation.
+	for _, g := range []float64{-1.5, -30} {
+		pl, _, _ := RatesDrift(1e-30, []float64{1}, []float64{0}, []float64{g}, nil, nil)
+		rate := 2 * -g / math.Expm1(-2*g)
+		if want := 1e-30 / (1e-30 + rate); math.Abs(pl-want) > roundoff*want {
+			t.Errorf("γ = %g: P(leak) %.15g, want %.15g", g, pl, want)
 		}
 	}
 	v := Visit(1.5, 0.3)
