@@ -41,7 +41,7 @@ func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
 		workers:   fs.Int("workers", 0, "parallel workers (0: all cores)"),
 		timeCap:   fs.Float64("time-cap", 0, "time after which a walker still out is reported as censored (0: automatic)"),
 		step:      fs.Float64("step", 0, "time step on edges that need time stepping (0: automatic)"),
-		star:      fs.Float64("star-fraction", 0, "star radius, as a fraction of the free radius, at nodes next to time-stepped edges or edges decaying at different rates (0: 1/8)"),
+		star:      fs.Float64("star-fraction", 0, "star radius, as a fraction of the free radius, at nodes next to edges whose coefficients vary along them or that decay at different rates (0: 1/8)"),
 		samples:   fs.String("samples", "", "write every walker's exit time and exit node to this CSV file"),
 	}
 }
