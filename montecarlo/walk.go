@@ -128,12 +128,7 @@ loop:
 					fate = Killed
 					break loop
 				}
-				acc.dep[nd.depOff+j]++
-				if a.toNode >= 0 {
-					node = a.toNode
-				} else {
-					node, e, x = -1, a.edge, a.x
-				}
+				node, e, x = depart(nd, j, acc)
 			case modeStar:
 				// Fate and arm from one uniform: killed when u ≥ 1/μ,
 				// and the rescaled remainder picks the arm (w_k/W).
@@ -174,13 +169,7 @@ loop:
 					fate = Killed
 					break loop
 				}
-				a := &nd.arms[j]
-				acc.dep[nd.depOff+j]++
-				if a.toNode >= 0 {
-					node = a.toNode
-				} else {
-					node, e, x = -1, a.edge, a.x
-				}
+				node, e, x = depart(nd, j, acc)
 			case modeStarArms:
 				// One uniform picks the fate: the leak, or per arm the
 				// rim exit or a killing on it, with its final piece.
@@ -214,13 +203,7 @@ loop:
 					fate = Killed
 					break loop
 				}
-				a := &nd.arms[j]
-				acc.dep[nd.depOff+j]++
-				if a.toNode >= 0 {
-					node = a.toNode
-				} else {
-					node, e, x = -1, a.edge, a.x
-				}
+				node, e, x = depart(nd, j, acc)
 			case modeIsolated:
 				if nd.killP == 0 {
 					t = math.Inf(1)
@@ -405,4 +388,16 @@ func killClock(rng *rand.Rand, d, rate float64) (float64, bool) {
 		}
 	}
 	return d, false
+}
+
+// depart counts a departure from the node nd along its arm j and returns
+// where the walker lands: the node at the arm's far end when the star reaches
+// it (then e and x are unused), else the point at x on the arm's edge.
+func depart(nd *nodeInfo, j int, acc *blockAcc) (node, e int, x float64) {
+	a := &nd.arms[j]
+	acc.dep[nd.depOff+j]++
+	if a.toNode >= 0 {
+		return a.toNode, -1, 0
+	}
+	return -1, a.edge, a.x
 }
