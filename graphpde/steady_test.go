@@ -115,8 +115,10 @@ func TestFinAdiabaticTip(t *testing.T) {
 }
 
 // TestCableSealedEnd: a passive cable clamped at x = 0 with a sealed end.
-// REFERENCES.md C2 (G_in = G∞ tanh(L/λ) confirmed in Ermentrout's course
-// notes; V(x)/V₀ = cosh((L−x)/λ)/cosh(L/λ)), values for L/λ = 0.5, 1, 2.
+// REFERENCES.md C2: G_in = G∞ tanh(L/λ) and V(x)/V₀ = cosh((L−x)/λ)/cosh(L/λ)
+// (cable theory: Johnston & Wu, Foundations of Cellular Neurophysiology,
+// 1995, ch. 4, and Rall 1959, Exp. Neurol. 1:491–527 — both from memory),
+// values for L/λ = 0.5, 1, 2.
 // With a u_xx − c u = 0: λ = sqrt(a/c) and G∞ = sqrt(a c); C1's cable
 // (λ = 0.1 cm, G∞ = π nS).
 func TestCableSealedEnd(t *testing.T) {
