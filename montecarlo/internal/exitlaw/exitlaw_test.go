@@ -9,8 +9,9 @@ import (
 )
 
 // TestSurvivalReference checks both series against REFERENCES.md B2 (two
-// independent series there; density series with Feller vol. II p. 342 as
-// cited in a MathOverflow answer): P(τ > t) from the centre of (−1, 1).
+// independent series there; the density series is in Feller, An
+// Introduction to Probability Theory and Its Applications, vol. II — page
+// and edition from memory): P(τ > t) from the centre of (−1, 1).
 func TestSurvivalReference(t *testing.T) {
 	const printed = 5e-8 // the reference values carry 7 decimals
 	for _, c := range []struct{ t, want float64 }{
