@@ -256,23 +256,7 @@ func TestNodeSystemAgainstDense(t *testing.T) {
 				rhs.SetVec(r, rhs.AtVec(r)-al*g[1])
 			}
 		}
-		for v := range net.Nodes {
-			if r := idx[v]; r >= 0 {
-				l := net.Nodes[v].Law
-				A.Set(r, r, A.At(r, r)+l.Leak)
-				rhs.SetVec(r, rhs.AtVec(r)+l.Inject)
-			}
-		}
-		var x mat.VecDense
-		if err := x.SolveVec(A, rhs); err != nil {
-			t.Fatal(err)
-		}
-		scale := mat.Norm(&x, math.Inf(1))
-		for v := range net.Nodes {
-			if r := idx[v]; r >= 0 && math.Abs(sol.U[v]-x.AtVec(r)) > dense*scale {
-				t.Errorf("trial %d node %s: sparse %.15g, dense %.15g", trial, net.Nodes[v].ID, sol.U[v], x.AtVec(r))
-			}
-		}
+		checkAgainstDense(t, net, idx, A, rhs, sol.U, dense, fmt.Sprintf("trial %d", trial), "sparse")
 	}
 }
 
@@ -348,23 +332,7 @@ func TestGridCondensationAgainstDense(t *testing.T) {
 				rhs.SetVec(r, rhs.AtVec(r)+w*mL*ed.F)
 			}
 		}
-		for v := range net.Nodes {
-			if r := idx[v]; r >= 0 {
-				l := net.Nodes[v].Law
-				A.Set(r, r, A.At(r, r)+l.Leak)
-				rhs.SetVec(r, rhs.AtVec(r)+l.Inject)
-			}
-		}
-		var x mat.VecDense
-		if err := x.SolveVec(A, rhs); err != nil {
-			t.Fatal(err)
-		}
-		scale := mat.Norm(&x, math.Inf(1))
-		for v := range net.Nodes {
-			if r := idx[v]; r >= 0 && math.Abs(sol.U[v]-x.AtVec(r)) > dense*scale {
-				t.Errorf("trial %d node %s: condensed %.15g, dense %.15g", trial, net.Nodes[v].ID, sol.U[v], x.AtVec(r))
-			}
-		}
+		x, scale := checkAgainstDense(t, net, idx, A, rhs, sol.U, dense, fmt.Sprintf("trial %d", trial), "condensed")
 		for e := range net.Edges {
 			pts := sol.Sample(nil, e)
 			for i := 1; i < cells; i++ {
@@ -643,4 +611,31 @@ func TestGridSizeRefused(t *testing.T) {
 	if _, err := Solve(b.net, &Settings{Method: MethodGrid, Cells: 6, MaxGridUnknowns: 5}); err != nil {
 		t.Errorf("5 unknowns: %v", err)
 	}
+}
+
+// checkAgainstDense adds the node laws' own terms (leak on the diagonal,
+// injection on the right) to the dense node system A·x = rhs, whose row of
+// node v is idx[v] (−1 for fixed nodes), solves it with gonum and compares
+// with the values u of the method under test within tol·‖x‖∞. It returns
+// the dense solution and ‖x‖∞.
+func checkAgainstDense(t *testing.T, net *Network, idx []int, A *mat.Dense, rhs *mat.VecDense, u []float64, tol float64, what, method string) (*mat.VecDense, float64) {
+	t.Helper()
+	for v := range net.Nodes {
+		if r := idx[v]; r >= 0 {
+			l := net.Nodes[v].Law
+			A.Set(r, r, A.At(r, r)+l.Leak)
+			rhs.SetVec(r, rhs.AtVec(r)+l.Inject)
+		}
+	}
+	var x mat.VecDense
+	if err := x.SolveVec(A, rhs); err != nil {
+		t.Fatal(err)
+	}
+	scale := mat.Norm(&x, math.Inf(1))
+	for v := range net.Nodes {
+		if r := idx[v]; r >= 0 && math.Abs(u[v]-x.AtVec(r)) > tol*scale {
+			t.Errorf("%s node %s: %s %.15g, dense %.15g", what, net.Nodes[v].ID, method, u[v], x.AtVec(r))
+		}
+	}
+	return &x, scale
 }
