@@ -18,6 +18,13 @@ type Node struct {
 	// leaving along each incident edge (by edge id) at equal physical radius.
 	// The PDE ignores it; a cross-check uses it to test the weights.
 	Split map[string]float64
+	// Nonlinear, when non-nil, replaces the linear balance of Law (which
+	// must then be a Balance with no leak or injection).
+	Nonlinear *NodeNonlinear
+	// Time, when non-nil, makes the fixed value or the injection depend on t.
+	Time *NodeTime
+	// Initial is the node's initial value for transient problems (nil: 0).
+	Initial *float64
 }
 
 // Profile holds coefficients that vary along an edge, as functions of the
@@ -49,6 +56,9 @@ type Edge struct {
 	// Cells is the number of grid cells when a grid element is used; 0 means
 	// the solver's default.
 	Cells int
+	// Law, when non-nil, holds coefficients that depend on x, u or t, or a
+	// fully nonlinear equation (see EdgeLaw).
+	Law *EdgeLaw
 }
 
 // Constant reports whether the edge's coefficients are constant along it.
@@ -102,6 +112,8 @@ type Network struct {
 	Description string
 	Nodes       []Node
 	Edges       []Edge
+	// Params are the named numbers that the network's laws read (nil: none).
+	Params *Params
 
 	nodeIndex map[string]int
 	edgeIndex map[string]int
