@@ -57,8 +57,8 @@ type Coef struct {
 //
 //	E(x, u, u', u'') = 0,
 //
-// which must be increasing in u'' (elliptic). Fn returns E and its partial
-// derivatives in u, u' and u''.
+// which must be increasing in u” (elliptic). Fn returns E and its partial
+// derivatives in u, u' and u”.
 type Equation struct {
 	Fn  func(x, u, ux, uxx float64) (e, du, dux, duxx float64)
 	Src string
