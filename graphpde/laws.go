@@ -55,9 +55,9 @@ type Coef struct {
 
 // Equation is a fully nonlinear edge law in generator sign,
 //
-//	E(x, u, u', u'') = 0,
+//	E(x, u, ux, uxx) = 0,
 //
-// which must be increasing in u” (elliptic). Fn returns E and its partial
+// which must be increasing in uxx (elliptic). Fn returns E and its partial
 // derivatives in u, u' and u”.
 type Equation struct {
 	Fn  func(x, u, ux, uxx float64) (e, du, dux, duxx float64)
