@@ -58,7 +58,7 @@ type Coef struct {
 //	E(x, u, ux, uxx) = 0,
 //
 // which must be increasing in uxx (elliptic). Fn returns E and its partial
-// derivatives in u, u' and u”.
+// derivatives in u, ux and uxx.
 type Equation struct {
 	Fn  func(x, u, ux, uxx float64) (e, du, dux, duxx float64)
 	Src string
