@@ -3,13 +3,12 @@ package graphpde
 import (
 	"math"
 	"math/cmplx"
-	"reflect"
 	"sync"
 )
 
 // scalar is the number type of an element: float64 for steady and real-shift
 // problems, complex128 for Laplace transforms at complex s (Talbot contours).
-type scalar interface{ ~float64 | ~complex128 }
+type scalar interface{ float64 | complex128 }
 
 // exactElement returns the Dirichlet-to-Neumann map of
 //
@@ -243,8 +242,8 @@ func gaussLegendre(n int) [][2]float64 {
 	return out
 }
 
-// Type-dispatching helpers. They handle float64 and complex128 with a type
-// switch and any other type of the constraint (named types) by reflection.
+// Type-dispatching helpers: a type switch over the two types of the
+// constraint.
 
 func fromF[T scalar](x float64) T { return fromC[T](complex(x, 0)) }
 
@@ -255,11 +254,7 @@ func toC[T scalar](x T) complex128 {
 	case complex128:
 		return v
 	}
-	v := reflect.ValueOf(x)
-	if v.Kind() == reflect.Float64 {
-		return complex(v.Float(), 0)
-	}
-	return v.Complex()
+	panic("unreachable")
 }
 
 func isReal[T scalar]() bool {
@@ -270,7 +265,7 @@ func isReal[T scalar]() bool {
 	case complex128:
 		return false
 	}
-	return reflect.ValueOf(r).Kind() == reflect.Float64
+	panic("unreachable")
 }
 
 // fromC converts back; for a real T the imaginary part is dropped.
@@ -281,13 +276,6 @@ func fromC[T scalar](z complex128) T {
 		*p = real(z)
 	case *complex128:
 		*p = z
-	default:
-		v := reflect.ValueOf(&r).Elem()
-		if v.Kind() == reflect.Float64 {
-			v.SetFloat(real(z))
-		} else {
-			v.SetComplex(z)
-		}
 	}
 	return r
 }
@@ -299,7 +287,7 @@ func absT[T scalar](x T) float64 {
 	case complex128:
 		return cmplx.Abs(v)
 	}
-	return cmplx.Abs(toC(x))
+	panic("unreachable")
 }
 
 func unary[T scalar](x T, fr func(float64) float64, fc func(complex128) complex128) T {
@@ -309,10 +297,7 @@ func unary[T scalar](x T, fr func(float64) float64, fc func(complex128) complex1
 	case complex128:
 		return any(fc(v)).(T)
 	}
-	if isReal[T]() {
-		return fromF[T](fr(real(toC(x))))
-	}
-	return fromC[T](fc(toC(x)))
+	panic("unreachable")
 }
 
 // sqrtT is the principal square root; for a real T the argument must be ≥ 0.

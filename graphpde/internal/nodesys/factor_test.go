@@ -524,32 +524,6 @@ func TestSolveAliasAndPanics(t *testing.T) {
 	panics("unknown ordering", func() { NewFactor[float64](&Settings{Ordering: Ordering(42)}) })
 }
 
-// volt is a named scalar type: the generic code must accept it.
-type volt float64
-
-func TestNamedScalar(t *testing.T) {
-	t.Parallel()
-	m := NewMatrix[volt](2)
-	m.Add(0, 0, 2)
-	m.Add(0, 1, -1)
-	m.Add(1, 0, -1)
-	m.Add(1, 1, 2)
-	f := NewFactor[volt](nil)
-	if err := f.Factorize(m); err != nil {
-		t.Fatal(err)
-	}
-	x := make([]volt, 2)
-	f.SolveTo(x, []volt{1, 0})
-	// [[2,−1],[−1,2]]⁻¹·(1,0) = (2/3, 1/3) by hand.
-	const roundoff = 4 * eps
-	if math.Abs(float64(x[0])-2.0/3) > roundoff || math.Abs(float64(x[1])-1.0/3) > roundoff {
-		t.Errorf("x = %v, want (2/3, 1/3)", x)
-	}
-	if mag(volt(-3)) != 3 || mag(complex(3.0, 4.0)) != 5 {
-		t.Errorf("mag wrong")
-	}
-}
-
 // TestSharedAnalysis factors two matrices with the same pattern (two values
 // of s in a Laplace inversion) with one Factor, and then a matrix whose
 // pattern changed after the analysis: the analysis must be reused only when

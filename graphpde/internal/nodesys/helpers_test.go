@@ -191,3 +191,15 @@ func residual[T Scalar](m *Matrix[T], x, b []T) float64 {
 	}
 	return maxAbs(r) / (anorm*maxAbs(x) + maxAbs(b))
 }
+
+// fromReal returns x as a T.
+func fromReal[T Scalar](x float64) T {
+	var v T
+	switch p := any(&v).(type) {
+	case *float64:
+		*p = x
+	case *complex128:
+		*p = complex(x, 0)
+	}
+	return v
+}
