@@ -37,7 +37,7 @@
 //
 // ExitStatistics gives hitting probabilities, the probability of being killed,
 // exit-time moments, occupation times and the exit-time law of the walker
-// that the equation describes (DESIGN.md §7): steady problems for the first
+// that the equation describes (docs/exit-statistics.md): steady problems for the first
 // two, the Laplace transform E[e^{−sτ}] through exact elements with decay
 // c + sρ and leak β + sρ_v for the law, inverted by the fixed-Talbot method
 // on windows of time, moments by a Cauchy integral of the transform around

@@ -50,7 +50,7 @@ type Quantile struct{ P, T float64 }
 // ExitStats are the statistics of the lifetime τ of a walker started at
 // Start: the time until it is absorbed at a fixed node or killed by decay
 // on an edge (rate c/ρ) or by the leak of a node. Times are in the units of
-// the capacities ρ (DESIGN.md §4).
+// the capacities ρ (docs/walkers.md §1).
 type ExitStats struct {
 	Start Point
 	// Hit[v] is the probability of absorption at node v for a fixed node v
@@ -128,7 +128,7 @@ func (e *ExitError) Error() string {
 func (e *ExitError) Unwrap() error { return e.Err }
 
 // ExitStatistics computes the first-passage statistics of a walker started
-// at start (DESIGN.md §7): absorption probabilities, killed fraction, mean
+// at start (docs/exit-statistics.md): absorption probabilities, killed fraction, mean
 // and higher moments of the lifetime, expected occupation time of every
 // edge, and the survival function and quantiles of the lifetime.
 //

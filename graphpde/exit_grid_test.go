@@ -62,7 +62,7 @@ func TestExitGridVaryingCapacity(t *testing.T) {
 
 // TestExitGridAgainstExact runs the grid path (MethodGrid) on exact-element
 // networks and compares with the exact path: the biased star S1 of
-// REFERENCES.md (hits exact for a piecewise linear solution, mean, SD,
+// docs/references.md (hits exact for a piecewise linear solution, mean, SD,
 // occupations to the grid's second order) and the B2 survival function by
 // Gaver–Stehfest (error about 1e−5 plus the grid error).
 func TestExitGridAgainstExact(t *testing.T) {

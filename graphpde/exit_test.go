@@ -17,7 +17,7 @@ const (
 	// well-conditioned node system with exact elements.
 	exitRoundoff = 1e-12
 	// published7 is half a unit in the 7th significant digit, for values
-	// quoted to 7 digits in REFERENCES.md.
+	// quoted to 7 digits in docs/references.md.
 	published7 = 5e-8
 	// inversion is the error of a Talbot window contour with 32 nodes
 	// measured in internal/laplace (at most 1e−11 of max|f| over its test
@@ -88,11 +88,11 @@ func star(tb testing.TB, centre vertex.Law, L, w []float64, a float64) *Network 
 func near(got, want, tol float64) bool { return math.Abs(got-want) <= tol }
 
 // TestExitIntervalB1: Brownian motion (generator ½d², so a = 1/2: trap 4 of
-// REFERENCES.md) on (0, 1) from x = 0.3. REFERENCES.md B1: P(exit at L) = x/L
+// docs/references.md) on (0, 1) from x = 0.3. docs/references.md B1: P(exit at L) = x/L
 // = 0.3, E τ = x(L−x) = 0.21, Var τ = x(L−x)[x² + (L−x)²]/3 = 0.0406 (derived
 // there from the backward equation), E e^{−τ} = cosh(√2(x−½))/cosh(√2/2) =
 // 0.8252214 (Durrett, Probability: Theory and Examples, Exercise 7.5.3, as
-// cited in REFERENCES.md).
+// cited in docs/references.md).
 func TestExitIntervalB1(t *testing.T) {
 	net := interval(t, 1, 0.5, 0, 0)
 	x, err := ExitStatistics(net, Point{Node: -1, Edge: 0, X: 0.3}, &ExitSettings{Moments: 4})
@@ -113,7 +113,7 @@ func TestExitIntervalB1(t *testing.T) {
 		{"occupation", x.Occupation[0], 0.21, exitRoundoff},
 	}
 	// Moments 3 and 4 from the hierarchy ½T_n'' = −n T_{n−1}, T_n(0) = T_n(1) = 0
-	// (DESIGN.md §7), solved exactly in polynomials here.
+	// (docs/exit-statistics.md §2), solved exactly in polynomials here.
 	Tn := exactIntervalMoments(4, 0.5)
 	for n := 1; n <= 4; n++ {
 		checks = append(checks, struct {
@@ -177,7 +177,7 @@ func polyAt(p []float64, x float64) float64 {
 }
 
 // TestExitSurvivalB2: survival of Brownian motion from the centre of
-// (−1, 1): REFERENCES.md B2 (two series agreeing to 15 digits; 7 digits
+// (−1, 1): docs/references.md B2 (two series agreeing to 15 digits; 7 digits
 // quoted), and the eigen series itself to the inversion accuracy.
 func TestExitSurvivalB2(t *testing.T) {
 	net := interval(t, 2, 0.5, 0, 0)
@@ -199,7 +199,7 @@ func TestExitSurvivalB2(t *testing.T) {
 		}
 	}
 	t.Logf("B2 inversion error: max %.2g over t = %v", worst, times)
-	// E τ = r² = 1, Var τ = 2r⁴/3 (REFERENCES.md B2).
+	// E τ = r² = 1, Var τ = 2r⁴/3 (docs/references.md B2).
 	if !near(x.Mean, 1, exitRoundoff) || !near(x.SD*x.SD, 2.0/3, cauchyMoments) {
 		t.Errorf("mean %.12g, var %.12g; want 1, 2/3", x.Mean, x.SD*x.SD)
 	}
@@ -216,7 +216,7 @@ func TestExitSurvivalB2(t *testing.T) {
 }
 
 // seriesB2 is P(τ > t) for Brownian motion from the centre of (−r, r):
-// (4/π) Σ (−1)^n/(2n+1) exp(−(2n+1)²π²t/(8r²)) (REFERENCES.md B2).
+// (4/π) Σ (−1)^n/(2n+1) exp(−(2n+1)²π²t/(8r²)) (docs/references.md B2).
 func seriesB2(t, r float64) float64 {
 	var s float64
 	for n := 0; n < 100000; n++ {
@@ -233,9 +233,9 @@ func seriesB2(t, r float64) float64 {
 	return 4 / math.Pi * s
 }
 
-// TestExitBiasedStar: Walsh Brownian motion on the star S1 of REFERENCES.md
+// TestExitBiasedStar: Walsh Brownian motion on the star S1 of docs/references.md
 // (arms L = (1, 2, 3), centre weights α = p = (0.5, 0.3, 0.2), a = ½, so the
-// walker leaves the centre along arm i with probability p_i; DESIGN.md §4).
+// walker leaves the centre along arm i with probability p_i; docs/walkers.md §2).
 // Hit probabilities 30/43, 9/43, 4/43 and E τ = 102/43 are S1 [D and MC];
 // from x = 0.5 on arm 1: E τ = 1.4360465, P(end 1) = 0.8488372. The survival
 // function is checked against the eigen series derived below.
@@ -287,7 +287,7 @@ func TestExitBiasedStar(t *testing.T) {
 		}
 	}
 
-	// From x = 0.5 on arm 1 (REFERENCES.md S1).
+	// From x = 0.5 on arm 1 (docs/references.md S1).
 	y, err := ExitStatistics(net, Point{Node: -1, Edge: 0, X: 0.5}, nil)
 	if err != nil {
 		t.Fatal(err)
@@ -297,7 +297,7 @@ func TestExitBiasedStar(t *testing.T) {
 	}
 }
 
-// TestExitEqualArms: REFERENCES.md S1 (i): with equal arms the distance from
+// TestExitEqualArms: docs/references.md S1 (i): with equal arms the distance from
 // the centre is reflected Brownian motion whatever the weights, so τ from
 // the centre has the law of B2: P(τ > 1) = 0.3707774 for L = 1.
 func TestExitEqualArms(t *testing.T) {
@@ -335,7 +335,7 @@ func TestExitEqualArms(t *testing.T) {
 //
 // after multiplying by Π sinh(kL_j). At s = −κ²/2 (k = iκ), up to the common
 // factor i^{n−1}: F(κ) = Σ p_i cos(κL_i) Π_{j≠i} sin(κL_j) (the multiplied-out
-// secular function of REFERENCES.md trap 7) and G(κ) = Σ p_i Π_{j≠i} sin(κL_j).
+// secular function of docs/references.md trap 7) and G(κ) = Σ p_i Π_{j≠i} sin(κL_j).
 // The poles of (1 − L(s))/s are at λ_k = κ_k²/2 with residues
 // A_k = Res L / λ_k = −2 G(κ_k)/(κ_k F'(κ_k)). Roots where several sines vanish
 // together are either double roots of F shared with G (no pole: no sign
@@ -410,9 +410,9 @@ func (se starEigen) moment(n int) float64 {
 // TestExitForkContract: the contract case testdata fork.toml (two unit
 // edges, a = 1, centre weights 2 (to the left end) and 1, the right end
 // paying 1) built in code. Hit right = (1/1)/(2/1 + 1/1) = 1/3 and
-// E τ = Σα L/(2a)/Σ α/L = 0.5 (DESIGN.md §4); equal arms with a = 1 run
+// E τ = Σα L/(2a)/Σ α/L = 0.5 (docs/exit-statistics.md §5); equal arms with a = 1 run
 // twice as fast as Brownian motion, so P(τ > t) is B2 at 2t:
-// P(τ > 0.25) = 0.6854458, P(τ > 0.5) = 0.3707774 (REFERENCES.md B2, trap 4).
+// P(τ > 0.25) = 0.6854458, P(τ > 0.5) = 0.3707774 (docs/references.md B2, trap 4).
 func TestExitForkContract(t *testing.T) {
 	net := mustNet(t, []Node{{ID: "fork", Law: free}, {ID: "left", Law: fixedAt(0)}, {ID: "right", Law: fixedAt(1)}},
 		[]edgeSpec{
@@ -431,7 +431,7 @@ func TestExitForkContract(t *testing.T) {
 }
 
 // TestExitCapacityLeak: a star with centre capacity ρ_v and leak β.
-// DESIGN.md §4: E τ = (ρ_v + Σ α L/(2a)) / Σ α/L with no leak. With a leak β
+// docs/exit-statistics.md §5: E τ = (ρ_v + Σ α L/(2a)) / Σ α/L with no leak. With a leak β
 // and zero capacity (derived here): the killed fraction from the centre
 // solves the steady problem with γ = β, g = 0; u is linear on each arm,
 // u_i = U(1 − x/L_i), and the balance Σ α_i U/L_i + βU = β gives
@@ -529,7 +529,7 @@ func TestExitDecayDrift(t *testing.T) {
 }
 
 // TestExitRCLine: the step response of a uniform distributed RC line with
-// an open far end (REFERENCES.md R2). Mapping (derived): the line voltage
+// an open far end (docs/references.md R2). Mapping (derived): the line voltage
 // obeys C v_t = v_xx/R per unit length with v = 1 at the driven end x = 0
 // and v_x = 0 at the open end. 1 − v is the survival probability of a
 // walker with generator (1/RC) d²/dx² that is absorbed at x = 0 and
@@ -564,7 +564,7 @@ func TestExitRCLine(t *testing.T) {
 // TestExitOccupation: Brownian motion on (0, 1) cut at m = 0.6 into two
 // edges by a free node. The expected time spent in (l, r) from x is
 // ∫_l^r G(x, y) dy with G(x, y) = 2 min(x, y)(1 − max(x, y)) (the interval's
-// Green's function for ½d², DESIGN.md §4). Starts on both sides of the cut.
+// Green's function for ½d², docs/walkers.md §4). Starts on both sides of the cut.
 func TestExitOccupation(t *testing.T) {
 	net := mustNet(t, []Node{{ID: "lo", Law: fixedAt(0)}, {ID: "cut", Law: free}, {ID: "hi", Law: fixedAt(0)}},
 		[]edgeSpec{

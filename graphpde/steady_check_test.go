@@ -111,8 +111,8 @@ func mmsNetwork(t testing.TB) (*Network, []mmsEdge, []float64) {
 // TestGridSecondOrder: on the manufactured network (varying a, b, c, f, cycles,
 // a self-loop, parallel edges, weights α ≠ a) the grid solution converges at
 // second order in the max norm at nodes and at every grid point. The observed
-// orders of four refinements must be within 0.1 of 2 (DESIGN.md §5: the
-// half cells owned by the nodes keep second order).
+// orders of four refinements must be within 0.1 of 2 (docs/discretisation.md §2:
+// the half cells owned by the nodes keep second order).
 func TestGridSecondOrder(t *testing.T) {
 	net, edges, phi := mmsNetwork(t)
 	var prevNode, prevEdge float64
@@ -345,9 +345,10 @@ func TestGridCondensationAgainstDense(t *testing.T) {
 	}
 }
 
-// contractCase builds the networks of /work/shared/contract/cases/*.toml in
-// code (values copied from those files) and holds the expected values of
-// /work/shared/contract/expected/*.solve.json (copied; the contract's own
+// contractCase builds the networks of the public contract reference cases
+// (cases/*.toml of the contract check that .ci/run runs when it is present
+// beside the clone) in code, values copied from those files, and holds their
+// expected values (expected/*.solve.json, copied; the contract's own
 // tolerances are 1e-6 for auto and 1e-3 for grid).
 type contractCase struct {
 	name   string

@@ -62,9 +62,9 @@ func relErrS(got, want float64) float64 {
 // TestFinAdiabaticTip: a pin fin with a held base and an insulated tip.
 // Source: Incropera, DeWitt, Bergman & Lavine, Fundamentals of Heat and Mass
 // Transfer, 6th ed. (2007), §3.6.2, Table 3.4 case B (adiabatic tip; the
-// case letter as REFERENCES.md row F2 gives it, whose table/case labels are
+// case letter as docs/references.md row F2 gives it, whose table/case labels are
 // from memory): q = sqrt(hPkA_c)·θ_b·tanh(mL), θ/θ_b = cosh(m(L−x))/cosh(mL).
-// Cu pin values of REFERENCES.md F2 (computed there at 30 digits): q =
+// Cu pin values of docs/references.md F2 (computed there at 30 digits): q =
 // 5.068618 W, θ(L/2)/θ_b = 0.8427193. Map: a = kA_c, c = hP, u = θ.
 func TestFinAdiabaticTip(t *testing.T) {
 	const (
@@ -115,7 +115,7 @@ func TestFinAdiabaticTip(t *testing.T) {
 }
 
 // TestCableSealedEnd: a passive cable clamped at x = 0 with a sealed end.
-// REFERENCES.md C2: G_in = G∞ tanh(L/λ) and V(x)/V₀ = cosh((L−x)/λ)/cosh(L/λ)
+// docs/references.md C2: G_in = G∞ tanh(L/λ) and V(x)/V₀ = cosh((L−x)/λ)/cosh(L/λ)
 // (cable theory: Johnston & Wu, Foundations of Cellular Neurophysiology,
 // 1995, ch. 4, and Rall 1959, Exp. Neurol. 1:491–527 — both from memory),
 // values for L/λ = 0.5, 1, 2.
@@ -184,7 +184,7 @@ func cubeNet(t testing.TB, fix map[int]float64) *Network {
 // TestCubeResistance: effective resistance of the unit resistor cube between
 // opposite corners 5/6, across a face 3/4, along an edge 7/12.
 // Source: Halliday & Resnick, Physics, 3rd ed., Part 2, ch. 32, problem 35
-// (REFERENCES.md N1, [S]). Linear profiles are reproduced by both elements,
+// (docs/references.md N1, [S]). Linear profiles are reproduced by both elements,
 // so the tolerance is roundoff = 1e-13.
 func TestCubeResistance(t *testing.T) {
 	const roundoff = 1e-13
@@ -221,8 +221,8 @@ func starNet(t testing.TB, L, alpha []float64, a float64, g []float64, centre ve
 
 // TestStarHitAndExitTime: a star with unequal arms and non-conservative
 // weights. From the centre, P(exit at end j) = (α_j/L_j)/Σ(α_i/L_i) and
-// E τ = (ρ_v + Σ α_e L_e/(2a_e))/Σ(α_e/L_e) (derived in DESIGN.md §4), with
-// the REFERENCES.md S1 values 30/43, 9/43, 4/43 and 102/43 for L = (1,2,3),
+// E τ = (ρ_v + Σ α_e L_e/(2a_e))/Σ(α_e/L_e) (derived in docs/exit-statistics.md §5), with
+// the docs/references.md S1 values 30/43, 9/43, 4/43 and 102/43 for L = (1,2,3),
 // α = (0.5,0.3,0.2), a = 1/2 (generator ½ d²); from x = 0.5 on arm 1:
 // E τ = 1.4360465 ([D] there). Exact elements: roundoff = 1e-13; grid:
 // exact too, since the exit-time profile is quadratic (constant source) and
@@ -265,7 +265,7 @@ func TestStarHitAndExitTime(t *testing.T) {
 }
 
 // TestScharfetterGummel: the exponentially fitted flux is exact for a cell
-// with constant coefficients and no source. REFERENCES.md D2 (Scharfetter &
+// with constant coefficients and no source. docs/references.md D2 (Scharfetter &
 // Gummel 1969, IEEE Trans. Electron Devices ED-16:64–77, from memory;
 // exactness derived there): J = −Dc' + vc = 1.5819767, 25.8197671, 1.0000227
 // for (D, v, h, c_i, c_{i+1}) = (1,1,1,1,0), (1,10,0.1,2,1), (0.01,1,0.1,1,0.5).

@@ -11,7 +11,7 @@ import (
 	"github.com/ramify-dev/ramify/vertex"
 )
 
-// s1Star is the REFERENCES.md S1 star: generator ½d², L = (1, 2, 3),
+// s1Star is the docs/references.md S1 star: generator ½d², L = (1, 2, 3),
 // p = (0.5, 0.3, 0.2); from the centre E τ = 102/43.
 func s1Star(timeStepping bool) *tNet {
 	net := star(kirchhoff, []starArm{

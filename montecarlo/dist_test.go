@@ -10,7 +10,7 @@ import (
 
 // starSecondMoment returns E τ² from the centre of a star with arms of
 // constant a, ρ (no decay), absorbed at the ends, centre leak β and capacity
-// ρ_v. DESIGN.md §7: T_n solves the mean-time problem with source nρT_{n−1}
+// ρ_v. docs/exit-statistics.md §2: T_n solves the mean-time problem with source nρT_{n−1}
 // on the edges and nρ_vT_{n−1} at the node. On an arm T1 = c0 + c1 x + c2 x²
 // with c0 = T0, c1 = −T0/L + ρL/(2a), c2 = −ρ/(2a); T2 = T2(0)(1 − x/L) +
 // G(x) − G(L)x/L with G” = −2ρT1/a, G(0) = G'(0) = 0; the balance law

@@ -1,6 +1,6 @@
 // Package montecarlo estimates the solution of the linear network problems
-// of package graphpde, and the exit statistics of DESIGN.md §7, by following
-// random walkers (DESIGN.md §4). It does not import graphpde: Network lists
+// of package graphpde, and the exit statistics of docs/exit-statistics.md, by following
+// random walkers (docs/walkers.md). It does not import graphpde: Network lists
 // the accessors it needs, and *graphpde.Network satisfies it. Node rules come
 // from package vertex, so both engines read a node law the same way.
 //
@@ -19,7 +19,7 @@
 //	u(x) = E_x[rewards collected before death + g(absorbing node) if absorbed],
 //
 // and the lifetime τ (until absorption or killing) is what the PDE's
-// mean-exit-time problem computes with c and β kept (DESIGN.md §7).
+// mean-exit-time problem computes with c and β kept (docs/exit-statistics.md §2).
 //
 // # Exact stepping
 //
@@ -37,7 +37,7 @@
 // arm carries the generator d²/dy² and the node is a skew (Walsh) junction
 // with weights w_e = α_e sqrt(ρ_e/a_e) (or the split override through
 // vertex.ApplySplit); from the node the walker reaches y = r on arm e with
-// probability w_e/Σw, independently of its exit time r²τ₁/2 (DESIGN.md §4).
+// probability w_e/Σw, independently of its exit time r²τ₁/2 (docs/walkers.md §3).
 // The radius r is the largest that fits: the shortest arm's y-length, half a
 // self-loop's. If every arm decays at one rate c_e/ρ_e, the clock is again
 // independent; sources on the arms are collected in expectation, Σ p_e f_e/ρ_e
@@ -64,7 +64,7 @@
 // of the fate. (Excursion theory: Revuz and Yor, Continuous Martingales and
 // Brownian Motion, 3rd ed., ch. XII, from memory; the decomposition is checked
 // by [1/(1 + Φ)]·sqrt(2s)/sinh sqrt(2s) = 1/cosh sqrt(2s), the transform of
-// τ₁, REFERENCES.md B3.) So a visit draws X = (r²/2)S(L_v) + ρ_v(r/Σw)L_v,
+// τ₁, docs/references.md B3.) So a visit draws X = (r²/2)S(L_v) + ρ_v(r/Σw)L_v,
 // with transform μ/(μ + Φ(r²s/2) + ρ_v r s/Σw), from a table built per node
 // (Talbot inversion of its distribution function, the exact one-pole
 // exponential tail, cubic Hermite interpolation of the quantile; table error
@@ -104,7 +104,7 @@
 // radius the first three still gave 2.9e−3, 9.1e−4 and 3.0e−3.
 //
 // Value, occupation and the other estimates stay exact in mean: the reward
-// per visit is its mean from DESIGN.md §4's exact-in-mean rule from the arm
+// per visit is its mean from the exact-in-mean rule (docs/walkers.md §7) from the arm
 // elements at the same radius (vertex.Law.Star, or Law.StarArms with arm
 // sources, decay or drift; vertex.NewArm is exact for drift or decay alone
 // and adds a second-order term for both); the time of
@@ -130,7 +130,7 @@
 // the climb like an extra kill rate γ_e²/2, the arm's rate of ending
 // excursions is p_e[γ_e + 1 + Φ(q_e + γ_e²/2)], the rim is reached on it at
 // rate p_e e^{γ_e}ψ_f(q_e + γ_e²/2) (which makes the split ∝ α_e/φ_e(ε_e),
-// φ_e(ε) = a_e(1 − e^{−b_eε/a_e})/b_e, DESIGN.md §4, when nothing decays),
+// φ_e(ε) = a_e(1 − e^{−b_eε/a_e})/b_e, docs/walkers.md §2, when nothing decays),
 // and a decaying arm kills after a time whose tail has the terms
 // (1 − (−1)ⁿe^{γ_e})e^{−λ_n t} (only the odd ones without drift) (Girsanov's
 // theorem: Revuz and Yor, ch. VIII, from memory; starlaw.MixtureDrift,
@@ -169,9 +169,9 @@
 // = 1.0e−7, four orders below the KS resolution 1.36/sqrt(10⁷) = 4.3e−4 of
 // a 10⁷-walker run (TestTableError). The series are Feller's (An
 // Introduction to Probability Theory and Its Applications vol. II, p. 342,
-// page as cited in REFERENCES.md B2; eigen and image forms).
+// page as cited in docs/references.md B2; eigen and image forms).
 //
-// Exact stepping has no discretisation bias: on the S1 star of REFERENCES.md
+// Exact stepping has no discretisation bias: on the S1 star of docs/references.md
 // the error of the mean exit time stayed within two standard errors from 10⁴
 // to 10⁷ walkers (z = 0.40, 1.03, 0.65, 1.81; relative error 5.8e−4 at 10⁷,
 // BenchmarkConvergence).

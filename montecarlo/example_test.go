@@ -12,7 +12,7 @@ import (
 // A dye drop released at the junction of three irrigation ditches of
 // different lengths drains to one of three sluices, held at 0. Where does it
 // leave, and after how long? The exact answers are (1/L_j)/Σ(1/L_i) =
-// 0.545, 0.273, 0.182 and E τ = ΣL_i/(2 Σ 1/L_i) = 1.64 (DESIGN.md §4).
+// 0.545, 0.273, 0.182 and E τ = ΣL_i/(2 Σ 1/L_i) = 1.64 (docs/exit-statistics.md §5).
 func ExampleRun() {
 	var net graphpde.Network
 	law := vertex.Law{Kind: vertex.Fixed}

@@ -37,11 +37,11 @@ func run(t *testing.T, net montecarlo.Network, st montecarlo.Start, set montecar
 func onEdge(e int, x float64) montecarlo.Start { return montecarlo.Start{Node: -1, Edge: e, X: x} }
 
 // TestInterval checks walkers on one edge between absorbing nodes against
-// REFERENCES.md B1 (Karatzas & Shreve, Brownian Motion and Stochastic
+// docs/references.md B1 (Karatzas & Shreve, Brownian Motion and Stochastic
 // Calculus 2nd ed. §2.8; Borodin & Salminen, Handbook of Brownian Motion 2nd
 // ed. Part II ch. 1 §3 — both from memory; moments derived there): for the
 // generator ½d²/dx² on (0, L), P(exit at L) = x/L and E τ = x(L − x). Trap 4
-// of REFERENCES.md: for the generator D d²/dx² (D = a/ρ) times divide by 2D.
+// of docs/references.md: for the generator D d²/dx² (D = a/ρ) times divide by 2D.
 func TestInterval(t *testing.T) {
 	for _, c := range []struct {
 		name   string
@@ -70,7 +70,7 @@ func TestInterval(t *testing.T) {
 // intervalSurvival is P(τ > t) from x on (0, L) for the generator
 // D d²/dx² absorbed at both ends: the sine series of the backward heat
 // equation, Σ_{n odd} 4/(nπ) sin(nπx/L) exp(−n²π²Dt/L²) (separation of
-// variables; REFERENCES.md B2 is its special case x = L/2).
+// variables; docs/references.md B2 is its special case x = L/2).
 func intervalSurvival(x, L, D, t float64) float64 {
 	if t < 1e-3*L*L/D {
 		return 1 // below 1e−40 of the mass for the starts used here
@@ -91,7 +91,7 @@ func intervalSurvival(x, L, D, t float64) float64 {
 // against the exact law: an interval (several walk-on-interval steps per
 // walker), the same interval cut in two by a Kirchhoff node (node steps too),
 // and an equal-arm star with biased splitting, whose distance from the centre
-// is reflected Brownian motion so that τ has the REFERENCES.md B2 law for
+// is reflected Brownian motion so that τ has the docs/references.md B2 law for
 // every split (derived there, S1 check (i)).
 func TestExitLawKS(t *testing.T) {
 	const L, D, x0 = 2.0, 0.5, 0.6
@@ -125,7 +125,7 @@ func TestExitLawKS(t *testing.T) {
 }
 
 // TestStarS1 checks the star with unequal arms and biased splitting of
-// REFERENCES.md S1 (derived there and in DESIGN.md §4, checked by Monte
+// docs/references.md S1 (derived there and in docs/exit-statistics.md §5, checked by Monte
 // Carlo): generator ½d², L = (1, 2, 3), p = (0.5, 0.3, 0.2); from the centre
 // P(hit) = 30/43, 9/43, 4/43 and E τ = 102/43; from x = 0.5 on arm 1,
 // E τ = 1.4360465 and P(end 1) = 0.8488372. The weights α = p with a = ½
@@ -150,10 +150,10 @@ func TestStarS1(t *testing.T) {
 // TestUnequalArms checks a Kirchhoff junction of arms with unequal
 // diffusivities and capacities (conservative weights α = a). The first
 // departures from the centre follow w_e = α_e sqrt(ρ_e/a_e) = sqrt(a_e ρ_e)
-// (DESIGN.md §4, derived there; REFERENCES.md trap 5: not ∝ a_e). The
+// (docs/walkers.md §3, derived there; docs/references.md trap 5: not ∝ a_e). The
 // hitting probabilities are the PDE closed form (α_j/L_j)/Σ(α_i/L_i), which
-// ignores ρ, and E τ = Σ α_e ρ_e L_e/(2a_e) / Σ(α_e/L_e) (DESIGN.md §4 check
-// values with the capacity per length restored; derivation in starCentre).
+// ignores ρ, and E τ = Σ α_e ρ_e L_e/(2a_e) / Σ(α_e/L_e) (docs/exit-statistics.md §5
+// check values with the capacity per length restored; derivation in starCentre).
 func TestUnequalArms(t *testing.T) {
 	arms := []starArm{
 		{L: 1, a: 1, rho: 1, alpha: 1},
@@ -185,7 +185,8 @@ func TestUnequalArms(t *testing.T) {
 
 // TestNodeLaws checks leak, injection, node capacity and a split override at
 // the centre of a star against the exact closed form of starCentre
-// (DESIGN.md §3 balance law; mean lifetime from §7 with the node capacity as
+// (docs/node-laws.md §2 balance law; mean lifetime from
+// docs/exit-statistics.md §2 with the node capacity as
 // a source and the leak kept). P(killed) is the value with payoff 1 at every
 // end subtracted from one. The arms are plain, so these visits are exact in
 // law (the laws themselves are checked in TestVisitLawError and
@@ -249,7 +250,7 @@ func TestNodeLaws(t *testing.T) {
 func slicesClone(a []starArm) []starArm { return append([]starArm(nil), a...) }
 
 // TestDecaySource checks edges with decay and source: the interval with the
-// cosh/sinh closed form of starCentre's arm formula (REFERENCES.md C2 is the
+// cosh/sinh closed form of starCentre's arm formula (docs/references.md C2 is the
 // f = 0 case: V(x)/V0 = cosh((L−x)/λ)/cosh(L/λ) for a sealed end), and stars
 // whose arms decay at one common rate (an independent clock) or at different
 // rates (package starlaw's per-arm decomposition); both are exact in law.
@@ -266,7 +267,7 @@ func TestDecaySource(t *testing.T) {
 		near(t, "P(hit start node)", res.Hit[0], armValue(h, 1, 0.6))
 	})
 	t.Run("sealed cable C2", func(t *testing.T) {
-		// REFERENCES.md C2 [S]: V(L)/V0 = 0.6480543 at L/λ = 1, λ =
+		// docs/references.md C2 [S]: V(L)/V0 = 0.6480543 at L/λ = 1, λ =
 		// sqrt(a/c). A sealed end is a Kirchhoff node of degree one.
 		net := &tNet{}
 		a, b := net.node(fixed(1)), net.node(kirchhoff)
@@ -416,7 +417,7 @@ func TestCancel(t *testing.T) {
 
 // TestCensoring uses a time cap at which a known fraction of walkers is still
 // out: from the centre of (0, 2) with generator ½d², P(τ > 1) = 0.3707774
-// (REFERENCES.md B2). Censored walkers are reported, not counted as exits:
+// (docs/references.md B2). Censored walkers are reported, not counted as exits:
 // the exit-time mean is that of τ given τ ≤ 1, below the cap.
 func TestCensoring(t *testing.T) {
 	net := interval(tEdge{L: 2, a: 0.5}, 0, 1)
@@ -491,7 +492,7 @@ func TestErrors(t *testing.T) {
 // L = 1, a = 1) and a loop (L = 0.9, a = 2, α = a). On the loop
 // T = T0 + ρx(Ls − x)/(2a_s), leaving T0 unchanged at both ends, so the
 // balance law gives T0 = (ρ_v + α₁ρL₁/(2a₁) + α_sρL_s/a_s)/(β + α₁/L₁) and
-// u(b) = (α₁g/L₁ + γ)/(β + α₁/L₁) (derived here from DESIGN.md §3).
+// u(b) = (α₁g/L₁ + γ)/(β + α₁/L₁) (derived here from docs/node-laws.md §2).
 func TestSelfLoop(t *testing.T) {
 	for _, law := range []vertex.Law{kirchhoff, {Kind: vertex.Balance, Leak: 0.5, Capacity: 0.3}} {
 		n := &tNet{}
@@ -503,13 +504,13 @@ func TestSelfLoop(t *testing.T) {
 		near(t, "E tau", res.ExitTime, (law.Capacity+0.5+2*0.9/2)/den)
 		near(t, "value", res.Value, 1/den)
 		// Occupation of the loop: the same problem with the source
-		// restricted to the loop (DESIGN.md §7): α_sρL_s/a_s/den.
+		// restricted to the loop (docs/exit-statistics.md §4): α_sρL_s/a_s/den.
 		near(t, "loop occupation", res.Occupation[1], 0.9/den)
 	}
 }
 
 // TestQuantiles checks the reported exit-time quantiles of the equal-arm
-// star (REFERENCES.md B2 law, see TestExitLawKS) against the exact ones; a
+// star (docs/references.md B2 law, see TestExitLawKS) against the exact ones; a
 // sample p-quantile has standard error sqrt(p(1−p)/n)/f(q_p).
 func TestQuantiles(t *testing.T) {
 	eq := star(kirchhoff, []starArm{{L: 1, a: 0.5, rho: 1, alpha: 0.2}, {L: 1, a: 0.5, rho: 1, alpha: 0.8}})
@@ -533,7 +534,7 @@ func TestQuantiles(t *testing.T) {
 			t.Errorf("quantile %g: %.5g, exact %.5g ± %.2g", q.P, q.T, lo, se)
 		}
 	}
-	// The spread of the law: sd of τ₁ is sqrt(2/3) (REFERENCES.md B2).
+	// The spread of the law: sd of τ₁ is sqrt(2/3) (docs/references.md B2).
 	if sd := math.Sqrt(2.0 / 3); math.Abs(res.ExitSD-sd) > bonf*math.Sqrt(6.1/n)/(2*sd) {
 		t.Errorf("ExitSD = %g, want %g", res.ExitSD, sd)
 	}

@@ -113,7 +113,7 @@ func star(centre vertex.Law, arms []starArm) *tNet {
 // starCentre returns the exact value at the centre of a star with constant
 // coefficient arms, from the ODE a u” − c u + f = 0 on each arm with
 // u(L) = g, and the balance law Σ α_e(−u_e'(0)) + β u0 = γ at the centre
-// (DESIGN.md §3). On an arm, with κ = sqrt(c/a) and v = f/c,
+// (docs/node-laws.md §2). On an arm, with κ = sqrt(c/a) and v = f/c,
 //
 //	u(x) = v + [(u0 − v) sinh κ(L−x) + (g − v) sinh κx]/sinh κL,
 //	u'(0) = κ[(g − v) − (u0 − v) cosh κL]/sinh κL,
@@ -151,7 +151,7 @@ func armValue(s starArm, u0, x float64) float64 {
 	return v + ((u0-v)*math.Sinh(k*(s.L-x))+(s.g-v)*math.Sinh(k*x))/math.Sinh(k*s.L)
 }
 
-// timeArms turns a star into its mean-lifetime problem (DESIGN.md §7): source
+// timeArms turns a star into its mean-lifetime problem (docs/exit-statistics.md §2): source
 // ρ on the edges, payoff 0, decay kept.
 func timeArms(arms []starArm) []starArm {
 	out := make([]starArm, len(arms))

@@ -11,8 +11,8 @@ import (
 
 // TestStarArmsMeans checks the visit rule of a node whose arms decay at
 // different rates, or that has an arm with drift (time stepped), against
-// DESIGN.md §4's exact-in-mean rule from the arm elements (vertex.NewArm,
-// Law.StarArms; exact for drift without decay, DESIGN.md §4), derived
+// the exact-in-mean rule from the arm elements (vertex.NewArm,
+// Law.StarArms; exact for drift without decay, docs/walkers.md §7), derived
 // independently from the ODEs on the arms: the probability of leaving along
 // each arm, of being killed, and the mean duration m_d + HoldScale,
 // m_d = Σα_eF_e(ρ)/den. The visit law's means come from its transforms

@@ -23,7 +23,7 @@ func nearTS(t *testing.T, what string, e montecarlo.Estimate, want float64) {
 }
 
 // TestTimeStepping checks the Euler–Maruyama walker against closed forms:
-// the S1 star forced onto time stepping (REFERENCES.md S1, derived there);
+// the S1 star forced onto time stepping (docs/references.md S1, derived there);
 // an interval with drift, where P(exit at L) = (1 − e^{−bx/a})/(1 − e^{−bL/a})
 // and E τ solves (a u” + b u')/ρ = −1 (scale function; standard, derived
 // here: E τ = (L P(x) − x)ρ/b); and an edge whose diffusivity varies,
@@ -57,7 +57,7 @@ func TestTimeStepping(t *testing.T) {
 		// On an arm with drift b away from the centre, a u'' + b u' = 0
 		// gives u'(0) = (g − u0)/φ(L), φ(L) = a(1 − e^{−bL/a})/b, so the
 		// balance law Σ α(u0 − g)/φ = 0 gives u0 = Σ(αg/φ)/Σ(α/φ)
-		// (DESIGN.md §4's drift-corrected split, here for the whole arm).
+		// (the drift-corrected split of docs/walkers.md §2, here for the whole arm).
 		net := &tNet{}
 		c, e1, e2 := net.node(kirchhoff), net.node(fixed(1)), net.node(fixed(0))
 		net.edge(tEdge{from: c, to: e1, L: 1, a: 0.5, b: 1})

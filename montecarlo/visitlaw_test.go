@@ -23,7 +23,7 @@ import (
 //
 //	u0 = (β + Σ α [g v + k(1 − v)e^{gL} csch kL + k v coth kL])/(β + sρ_v + Σ α (g + k coth kL)).
 //
-// Derived here from DESIGN.md §3's balance law.
+// Derived here from the balance law of docs/node-laws.md §2.
 func starTransform(beta, capv float64, arms []starArm, s complex128) complex128 {
 	num, den := complex(beta, 0), complex(beta, 0)+s*complex(capv, 0)
 	for _, a := range arms {

@@ -14,7 +14,7 @@ type Arm struct {
 	AmB, B, F float64
 }
 
-// NewArm returns the arm element of DESIGN.md §4 for diffusivity a > 0,
+// NewArm returns the arm element of docs/walkers.md §7 for diffusivity a > 0,
 // drift b (away from the node), decay c ≥ 0, source f and radius eps > 0.
 // It is exact for b = 0 (A = κ coth κε, B = κ/sinh κε,
 // F = (f/c) κ tanh(κε/2), κ = sqrt(c/a)) and for c = 0 (A = B = 1/φ,
@@ -50,8 +50,8 @@ func NewArm(a, b, c, f, eps float64) Arm {
 }
 
 // StarArms fills dst with the per-visit rule of the balance law l for a star
-// whose arm k has weight alpha[k] and element arms[k] on [0, ε_k] (DESIGN.md
-// §4, the exact star rule): with
+// whose arm k has weight alpha[k] and element arms[k] on [0, ε_k]
+// (docs/walkers.md §7, the exact star rule): with
 //
 //	den = β + Σ α_k (AmB_k + B_k),
 //

@@ -70,7 +70,7 @@ func fdSlope(a, b, c, f, eps, u0, u1 float64) float64 {
 func unpack(ar Arm) (amb, b, f float64) { return ar.AmB, ar.B, ar.F }
 
 // TestStarArms checks that StarArms on plain arms is Star (both are the rule
-// of DESIGN.md §4), and that its probabilities sum to one with decay.
+// of docs/walkers.md §7), and that its probabilities sum to one with decay.
 func TestStarArms(t *testing.T) {
 	law := Law{Kind: Balance, Leak: 0.7, Inject: 0.3, Capacity: 0.4}
 	a := []float64{1, 4, 0.25}

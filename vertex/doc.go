@@ -19,5 +19,5 @@
 // carries the standard diffusion d²/dy² (y = x·sqrt(ρ_e/a_e)) the weights become
 // w_e = α_e·sqrt(ρ_e/a_e), and a walker leaving v reaches y = r along arm e with
 // probability w_e/(Σw + rβ), is killed at v with probability rβ/(Σw + rβ), and
-// collects rγ/(Σw + rβ) per visit (DESIGN.md §4, derived there).
+// collects rγ/(Σw + rβ) per visit (docs/walkers.md §3, derived there).
 package vertex

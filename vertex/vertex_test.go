@@ -43,7 +43,7 @@ func TestValidate(t *testing.T) {
 }
 
 // TestStar checks the per-visit rule against the balance law it comes from
-// (DESIGN.md §4): the probabilities sum to one, and for a function linear on
+// (docs/walkers.md §3): the probabilities sum to one, and for a function linear on
 // every arm of the star, u_k(y) = u0 + s_k·y, the visit's expectation
 // Σ Move[k]·u_k(r) + Reward equals u0 exactly when u satisfies the balance
 // −Σ w_k s_k + β u0 = γ.
@@ -78,7 +78,7 @@ func TestStar(t *testing.T) {
 
 // TestMeanVisitTime checks the mean duration of a visit against its two
 // limits: a pure Kirchhoff star, where it is the mean exit time r²/2 of
-// d²/dy² from (−r, r) (REFERENCES.md B2 with the time scaling of trap 4:
+// d²/dy² from (−r, r) (docs/references.md B2 with the time scaling of trap 4:
 // E τ = r² for ½d², halved for d²), and a capacity with no diffusion time
 // left in the limit r → 0, where it is ρ_v r/Σw.
 func TestMeanVisitTime(t *testing.T) {

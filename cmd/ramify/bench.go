@@ -41,7 +41,7 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	fmt.Fprintf(w, "  solve %.3g s, of which ordering and factorisation %.3g s\n", m.Solve.Seconds(), m.Factor.Seconds())
 	fmt.Fprintf(w, "  nonzeros of the factor %d = %.2f × (31/8)·n·log2(n), the nested-dissection leading term\n\n", m.NNZL, m.FillRatio)
 
-	// Walkers on the biased star of REFERENCES.md S1 (exact stepping).
+	// Walkers on the biased star of docs/references.md S1 (exact stepping).
 	star := gen.Star([]float64{1, 2, 3}, []float64{0.5, 0.3, 0.2})
 	c, _ := star.NodeIndex("c")
 	rate := func(workers int) (float64, error) {

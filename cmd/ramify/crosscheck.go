@@ -173,7 +173,7 @@ func splitComparable(net *graphpde.Network, v int) bool {
 }
 
 // starWeights returns the weights w_e = α_e·sqrt(ρ_e/a_e) of the ends at v
-// (DESIGN.md §4) and the scales sqrt(a_e/ρ_e) that turn them back into α.
+// (docs/walkers.md §3) and the scales sqrt(a_e/ρ_e) that turn them back into α.
 func starWeights(net *graphpde.Network, v int) (w, scale, alpha []float64) {
 	inc := net.Incident(v)
 	w, scale, alpha = make([]float64, len(inc)), make([]float64, len(inc)), make([]float64, len(inc))

@@ -32,7 +32,7 @@ func writeFile(t *testing.T, name, body string) string {
 // example against Rall's equivalent cylinder: with the 3/2-power rule and equal
 // electrotonic lengths the tree is one sealed cable of length X = 1, so
 // V(branch)/V0 = cosh(0.5)/cosh(1) = 0.7307628 and V(tip)/V0 = 1/cosh(1) =
-// 0.6480543 (REFERENCES.md C3; Rall 1962, from memory). The exact elements are
+// 0.6480543 (docs/references.md C3; Rall 1962, from memory). The exact elements are
 // exact, so the tolerance is the 1e-6 rounding of the example's lengths.
 func TestSolveDendrite(t *testing.T) {
 	code, out, errs := runCLI(t, context.Background(), "solve", "--json", "--probe", "trunk@0.025", "../../examples/dendrite.toml")
@@ -107,7 +107,7 @@ func TestErrorsAreOneLine(t *testing.T) {
 
 // TestWalkReproducible checks that the same seed gives the same estimates
 // with one and with three workers, and that the fork's hitting probability
-// 1/3 (DESIGN.md §4: (α_r/L_r)/Σ(α/L) = 1/(2+1)) is within 5 standard errors.
+// 1/3 (docs/exit-statistics.md §5: (α_r/L_r)/Σ(α/L) = 1/(2+1)) is within 5 standard errors.
 func TestWalkReproducible(t *testing.T) {
 	var outs [2]map[string]any
 	for i, w := range []string{"1", "3"} {

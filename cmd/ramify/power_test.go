@@ -98,7 +98,7 @@ func TestCrosscheckPower(t *testing.T) {
 // TestFitWeightsRecovers checks --fit-weights end to end: walkers at the
 // centre of a three-arm star with unequal diffusivities and capacities follow
 // a known split (0.2, 0.5, 0.3) at equal physical radius, which is what weights
-// proportional to the split describe (DESIGN.md §4); scaled to the file's total
+// proportional to the split describe (docs/walkers.md §2); scaled to the file's total
 // Σα = 1 + 4 + 0.25 = 5.25 they are (1.05, 2.625, 1.575). Each fitted weight
 // must lie within 4 of its stated standard errors (three estimates at once: a
 // Bonferroni bound of 2.9σ for a 1% family-wise level, with room).

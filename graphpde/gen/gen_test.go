@@ -48,8 +48,8 @@ func TestRandomTreeDeterministic(t *testing.T) {
 
 // TestGeneratorsSolve checks each small generator against its closed form:
 // the cube's body-diagonal resistance 5/6 (Halliday & Resnick, Physics, 3rd
-// ed., Part 2, ch. 32, problem 35, REFERENCES.md N1), the star's hitting
-// probability (α_1/L_1)/Σ(α_i/L_i) (derived in DESIGN.md §4), linear profiles
+// ed., Part 2, ch. 32, problem 35, docs/references.md N1), the star's hitting
+// probability (α_1/L_1)/Σ(α_i/L_i) (derived in docs/exit-statistics.md §5), linear profiles
 // on the chain and across the mesh (unit conductors, opposite sides held).
 // Tolerance roundoff = 1e-12.
 func TestGeneratorsSolve(t *testing.T) {

@@ -11,9 +11,9 @@ import (
 // 1/(s+1) ↔ e^{−t}, 1/√s ↔ 1/√(πt) and e^{−a√s} ↔ a e^{−a²/4t}/(2√(π t³)) are in
 // every transform table (e.g. Abramowitz & Stegun, Handbook of Mathematical
 // Functions, 1964, §29.3, entries recalled from memory: 29.3.8, 29.3.4, 29.3.82).
-// 1/(s√(1+s)) ↔ erf(√t) is REFERENCES.md C4. The exit-time pair
+// 1/(s√(1+s)) ↔ erf(√t) is docs/references.md C4. The exit-time pair
 // (1 − 1/cosh√(2s))/s ↔ P(τ > t) for Brownian motion from the centre of (−1, 1)
-// is REFERENCES.md B2/B3, whose survival series is evaluated here.
+// is docs/references.md B2/B3, whose survival series is evaluated here.
 type pair struct {
 	name string
 	F    func(s complex128) complex128
@@ -21,7 +21,7 @@ type pair struct {
 	ts   []float64
 }
 
-// exitSurvival is the eigen series of REFERENCES.md B2 with r = 1:
+// exitSurvival is the eigen series of docs/references.md B2 with r = 1:
 // (4/π) Σ (−1)^n/(2n+1) exp(−(2n+1)²π²t/8), summed until the terms vanish.
 func exitSurvival(t float64) float64 {
 	var s float64
@@ -75,7 +75,7 @@ func TestTalbotPairs(t *testing.T) {
 	}
 }
 
-// TestTalbotB2 checks the published 7-digit values of REFERENCES.md B2.
+// TestTalbotB2 checks the published 7-digit values of docs/references.md B2.
 func TestTalbotB2(t *testing.T) {
 	F := func(s complex128) complex128 { return (1 - 1/cmplx.Cosh(cmplx.Sqrt(2*s))) / s }
 	const published = 5e-8 // half a unit in the 7th digit

@@ -292,7 +292,7 @@ func BinomialStdErr(p float64, n int64) float64 {
 // edge of departures[i] and implied[i]; implied is normalised to sum 1 here,
 // so weights w_e may be passed directly (they must be the weights of the same
 // radius convention in which departures were counted: α_e at equal physical
-// radius, w_e = α_e·sqrt(ρ_e/a_e) at equal diffusive radius, DESIGN.md §4).
+// radius, w_e = α_e·sqrt(ρ_e/a_e) at equal diffusive radius, docs/walkers.md §3).
 // Departures that ended in a kill at the node are not departures.
 //
 // Each edge gives one Probability check named split:NODE:EDGE with

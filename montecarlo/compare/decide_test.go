@@ -151,7 +151,7 @@ func TestDecideBonferroni(t *testing.T) {
 // walkers starting at the hub: split checks at the hub (n departures, the
 // fewest possible with n walkers), hit checks at both tips, the mean exit
 // time and its distribution. On equal arms the exit-time law does not
-// depend on the split (REFERENCES.md S1 (i)), and the hit probability of a
+// depend on the split (docs/references.md S1 (i)), and the hit probability of a
 // tip is the split probability of its arm; the exit-time law is taken
 // exponential here (any continuous law serves to exercise Decide).
 func forkChecks(rng *rand.Rand, n int, walkerSplit, impliedSplit float64, times []float64) []Check {

@@ -77,8 +77,8 @@
 // # Weights from walkers
 //
 // FitWeights estimates the weights α_e of a junction from departure counts at
-// equal diffusive radius, where p_e ∝ α_e·sqrt(ρ_e/a_e) (DESIGN.md §4, walk on
-// stars), with delta-method standard errors on the multinomial (derived in
+// equal diffusive radius, where p_e ∝ α_e·sqrt(ρ_e/a_e) (docs/walkers.md §3,
+// walk on stars), with delta-method standard errors on the multinomial (derived in
 // its comment, checked for spread and coverage by simulation).
 //
 // # Figures

@@ -7,7 +7,7 @@ import (
 
 // FitWeights estimates the node weights α_e of one balance node from walker
 // departure counts observed at equal diffusive radius (y = x·sqrt(ρ_e/a_e),
-// the walk-on-stars radius of DESIGN.md §4). There a walker leaves along e
+// the walk-on-stars radius of docs/walkers.md §3). There a walker leaves along e
 // with probability p_e = w_e/Σw, w_e = α_e·sqrt(ρ_e/a_e), so
 //
 //	α_e ∝ p_e·scale_e,   scale_e = sqrt(a_e/ρ_e).

@@ -172,7 +172,7 @@ func TestCensoredKolmogorovQ(t *testing.T) {
 	}
 	// Small a with x = 2√a: the bridge on [0, a] is Brownian motion up to
 	// O(a), so P(sup|B| < x) → P(BM stays in (−1, 1) up to time 1/4) =
-	// 0.9089995 (REFERENCES.md B2, survival from the centre of (−r, r),
+	// 0.9089995 (docs/references.md B2, survival from the centre of (−r, r),
 	// r = 1, t = 0.25, derived by two series). Tolerance: the 7 digits
 	// of the reference plus the O(a) = 1e-6 bridge correction.
 	const b2 = 0.9089995

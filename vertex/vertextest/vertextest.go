@@ -54,13 +54,13 @@ func Cases() []Case {
 	}
 	var cs []Case
 
-	// The biased star of REFERENCES.md S1 (derived there and in DESIGN.md
-	// §4): arms L = (1, 2, 3), weights (0.5, 0.3, 0.2), generator ½d²
+	// The biased star of docs/references.md S1 (derived there and in
+	// docs/exit-statistics.md §5): arms L = (1, 2, 3), weights (0.5, 0.3, 0.2), generator ½d²
 	// (a = ½): P(end j) = (α_j/L_j)/Σ(α/L) = 30/43, 9/43, 4/43 and
 	// E τ = Σ α L/(2a) / Σ(α/L) = 102/43.
 	cs = append(cs, Case{
 		Name:   "biased star",
-		Source: "REFERENCES.md S1 (derived); DESIGN.md §4",
+		Source: "docs/references.md S1 (derived); docs/exit-statistics.md §5",
 		Nodes:  []NodeSpec{{ID: "c", Law: vertex.Law{Kind: vertex.Balance}}, fixed("e1", 1), fixed("e2", 0), fixed("e3", 0)},
 		Edges: []EdgeSpec{
 			{ID: "a1", From: 0, To: 1, Length: 1, A: 0.5, Rho: 1, WFrom: 0.5},
@@ -85,7 +85,7 @@ func Cases() []Case {
 		arms := []arm{{1, 1, 1, 1, 1}, {0.5, 4, 0.5, 2, 0}, {2, 0.25, 2, 0.5, 0}}
 		c := Case{
 			Name:   "sticky leaky star",
-			Source: "derived from the balance law of DESIGN.md §3",
+			Source: "derived from the balance law of docs/node-laws.md §2",
 			Nodes: []NodeSpec{{ID: "c", Law: vertex.Law{Kind: vertex.Balance, Leak: beta, Inject: gamma, Capacity: rhoV}},
 				fixed("e1", 1), fixed("e2", 0), fixed("e3", 0)},
 			StartNode: 0, StartEdge: -1,
@@ -109,7 +109,7 @@ func Cases() []Case {
 
 	// A sealed cable: base fixed at 1, tip a balance node with no current,
 	// decay c on the edge. From the tip, u = 1/cosh(κL), κ = sqrt(c/a)
-	// (REFERENCES.md C2: V(L)/V0 = 0.6480543 at L/λ = 1), which is also the
+	// (docs/references.md C2: V(L)/V0 = 0.6480543 at L/λ = 1), which is also the
 	// probability of reaching the base alive; the rest are killed. The mean
 	// lifetime solves a T'' − c T = −ρ with T(0) = 0, T'(L) = 0:
 	// T(L) = (ρ/c)(1 − 1/cosh κL) (derived).
@@ -118,7 +118,7 @@ func Cases() []Case {
 		k := math.Sqrt(cc / a)
 		cs = append(cs, Case{
 			Name:      "sealed cable",
-			Source:    "REFERENCES.md C2 (cable theory); mean lifetime derived",
+			Source:    "docs/references.md C2 (cable theory); mean lifetime derived",
 			Nodes:     []NodeSpec{fixed("base", 1), {ID: "tip", Law: vertex.Law{Kind: vertex.Balance}}},
 			Edges:     []EdgeSpec{{ID: "cable", From: 0, To: 1, Length: L, A: a, C: cc, Rho: 1}},
 			StartNode: 1, StartEdge: -1,
@@ -130,12 +130,12 @@ func Cases() []Case {
 	}
 
 	// Brownian motion on (0, 1) from x = 0.3, generator ½d² (a = ½):
-	// P(exit at 1) = x = 0.3, E τ = x(1 − x) = 0.21 (REFERENCES.md B1;
+	// P(exit at 1) = x = 0.3, E τ = x(1 − x) = 0.21 (docs/references.md B1;
 	// Karatzas & Shreve 2nd ed. §2.8, from memory). A source f = 1 adds
 	// E ∫ f/ρ dt = E τ to the value: u = 0.3 + 0.21.
 	cs = append(cs, Case{
 		Name:      "interval with a source",
-		Source:    "REFERENCES.md B1",
+		Source:    "docs/references.md B1",
 		Nodes:     []NodeSpec{fixed("left", 0), fixed("right", 1)},
 		Edges:     []EdgeSpec{{ID: "i", From: 0, To: 1, Length: 1, A: 0.5, F: 1, Rho: 1}},
 		StartNode: -1, StartEdge: 0, StartX: 0.3,

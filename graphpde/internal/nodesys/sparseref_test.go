@@ -11,7 +11,7 @@ import (
 // TestAgainstSparseCholesky checks the production factorisation against a
 // second, independent sparse reference: the Cholesky factorisation of
 // github.com/james-bowman/sparse (no fill-reducing order, so it is kept for
-// tests only, as DESIGN.md §5 says), on SPD graph Laplacians plus a leak with
+// tests only, as docs/discretisation.md §5 says), on SPD graph Laplacians plus a leak with
 // cycles. Both solves are backward stable on an SPD matrix, so the solutions
 // may differ by cond(A)·(a small multiple of eps): the same roundoff bound as
 // the dense comparisons of TestFactorRealAgainstDense.

@@ -5,7 +5,7 @@
 // generator D d²/dx² on (x − r, x + r) the exit time from x is r²τ₁/(2D).
 //
 // The survival function has two series (Feller, An Introduction to Probability
-// Theory and Its Applications vol. II, p. 342 as cited in REFERENCES.md B2;
+// Theory and Its Applications vol. II, p. 342 as cited in docs/references.md B2;
 // both series derived there and checked to agree to 15 digits):
 //
 //	P(τ₁ > t) = (4/π) Σ_{k≥0} (−1)^k/(2k+1) · exp(−(2k+1)² π² t/8)     (eigen series)

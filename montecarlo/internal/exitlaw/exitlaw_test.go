@@ -8,7 +8,7 @@ import (
 	"github.com/ramify-dev/ramify/montecarlo/internal/kstest"
 )
 
-// TestSurvivalReference checks both series against REFERENCES.md B2 (two
+// TestSurvivalReference checks both series against docs/references.md B2 (two
 // independent series there; the density series is in Feller, An
 // Introduction to Probability Theory and Its Applications, vol. II — page
 // and edition from memory): P(τ > t) from the centre of (−1, 1).
@@ -114,7 +114,7 @@ func TestTableError(t *testing.T) {
 }
 
 // TestDrawsKS draws 2·10⁵ times and applies the one-sample KS test against
-// CDF (REFERENCES.md B2 law); the moments are checked against E τ₁ = 1 and
+// CDF (docs/references.md B2 law); the moments are checked against E τ₁ = 1 and
 // Var τ₁ = 2/3 (B2: E τ = r², Var τ = 2r⁴/3).
 func TestDrawsKS(t *testing.T) {
 	const n = 200000

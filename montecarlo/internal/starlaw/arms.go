@@ -189,7 +189,7 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // the node (γ < −1) the two terms nearly cancel, and it is computed as
 // (z − |γ|) + z(coth z − 1), z − |γ| = 2q/(z + |γ|), z(coth z − 1) =
 // 2z e^{−2z}/(1 − e^{−2z}) (for q = 0 it is 2|γ|/(e^{2|γ|} − 1), the 1/φ of
-// DESIGN.md §4 in these units).
+// docs/walkers.md §2 in these units).
 func armRate(q, gam float64) float64 {
 	if gam >= -1 {
 		return gam + 1 + phiReal(q+gam*gam/2)

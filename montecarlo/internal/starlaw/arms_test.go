@@ -87,7 +87,7 @@ func TestDecayingArms(t *testing.T) {
 		}
 	}
 	// A strong drift towards the node: the arm's rate is 2|γ|/(e^{2|γ|} − 1)
-	// (scale function, DESIGN.md §4's 1/φ in these units), 1.8e−25 for
+	// (scale function, the 1/φ of docs/walkers.md §2 in these units), 1.8e−25 for
 	// γ = −30, and must not be lost to cancellation.
 	for _, g := range []float64{-1.5, -30} {
 		pl, _, _ := RatesDrift(1e-30, []float64{1}, []float64{0}, []float64{g}, nil, nil)

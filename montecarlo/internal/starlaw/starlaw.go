@@ -21,7 +21,7 @@
 // So Y = S(L_v) + η·L_v has E e^{−sY} = μ/(μ + Φ(s) + ηs), a law with two
 // parameters (Visit), and T_f one universal law (Final). For κ = η = 0,
 // [1/(1 + Φ(s))]·sqrt(2s)/sinh(sqrt(2s)) = 1/cosh(sqrt(2s)), the transform of
-// the exit time of B from (−1, 1) (REFERENCES.md B3), which the tests check.
+// the exit time of B from (−1, 1) (docs/references.md B3), which the tests check.
 // The decomposition is derived in the montecarlo package documentation from
 // Itô's excursion theory (the excursion measure of the height and the
 // Bessel-3 description of an excursion up to its maximum: D. Revuz and M.

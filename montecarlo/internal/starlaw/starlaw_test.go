@@ -18,7 +18,7 @@ var testLaws = []struct{ mu, eta float64 }{
 
 // TestDecomposition checks the identity the visit law rests on: with no leak
 // and no capacity, S(L_tot) + T_f is the exit time τ₁ of standard Brownian
-// motion from (−1, 1), whose transform is 1/cosh(sqrt(2s)) (REFERENCES.md
+// motion from (−1, 1), whose transform is 1/cosh(sqrt(2s)) (docs/references.md
 // B3): [1/(1 + Φ(s))]·sqrt(2s)/sinh(sqrt(2s)) = 1/cosh(sqrt(2s)).
 func TestDecomposition(t *testing.T) {
 	const roundoff = 1e-13
