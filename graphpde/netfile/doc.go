@@ -16,7 +16,9 @@
 // The file is TOML 1.0 (https://toml.io/en/v1.0.0). Numbers are SI unless
 // stated otherwise. Where a number is expected an integer is accepted
 // (length = 1); nan and inf are rejected wherever a value must be finite,
-// which is everywhere. A key this package does not know is an error, with
+// which is everywhere. A number may also be written as a string "NUMBER
+// UNIT" ("25 mm", "20 degC"; package units), converted to SI base units;
+// length must then be a length. A key this package does not know is an error, with
 // its line, as is a value of the wrong type. An empty file, and a file with
 // nodes but no edges, are read as they are (a solver will refuse them).
 // An id is a non-empty string of ASCII letters, digits, '_', '-' and '.'

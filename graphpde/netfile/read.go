@@ -15,6 +15,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/units"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -227,6 +228,9 @@ func toFloat(v any) (float64, bool) {
 }
 
 func (t *tbl) number(key string) (float64, error) {
+	if s, isStr := t.m[key].(string); isStr && units.LooksLikeQuantity(s) {
+		return t.quantity(key, s)
+	}
 	v, ok := toFloat(t.m[key])
 	if !ok {
 		return 0, t.fail(key, fmt.Sprintf("%s must be a number, not %s", key, typeName(t.m[key])))
