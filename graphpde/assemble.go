@@ -45,18 +45,14 @@ type system struct {
 	v     Variant
 	cells int
 
-	exact []bool       // per edge: exact element?
-	grid  []gridEnds   // per edge (zero for exact edges)
-	maps  []edgeMap    // per edge: the end map of the last assembly
-	ecf   [][2]float64 // per exact edge: c (shift included) and f of the last assembly
-	st    []float64    // grid interiors, one value per interior unknown (from
-	//                    gridEnds.off); after assemble, for constant grid edges,
-	//                    the inv_i of condenseConst, overwritten by recover
-	vst   []float64   // sweep triples of the grid edges with varying coefficients
-	voff  []int       // per such edge: index of its first triple in vst (nil if none)
-	kc    []sweepCoef // per constant grid edge: its cells at the last assembly
-	scr   []float64   // recovery scratch, 2·(most cells of an edge)
-	bad   int         // first grid edge with a non-finite interior after recover, or −1
+	els  []element // per edge
+	off  []int     // per edge: index of its first interior value in st
+	maps []edgeMap // per edge: the end map of the last assembly
+	st   []float64 // interior values of all elements (grid values; for a
+	//                 constant grid edge after assemble the sweep factors of
+	//                 condenseConst, overwritten by recover)
+	scr   []float64 // recovery scratch, 2·(most cells of an edge)
+	bad   int       // first edge with a non-finite interior after recover, or −1
 	shift float64
 
 	unk   []int                    // node → unknown, −1 for fixed nodes
@@ -112,16 +108,22 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		return nil, fmt.Errorf("shift = %g must be a finite number", s.v.Shift)
 	}
 
-	// Classify edges.
-	s.exact = make([]bool, ne)
-	s.grid = make([]gridEnds, ne)
-	s.maps = make([]edgeMap, ne)
-	s.ecf = make([][2]float64, ne)
+	// Choose the elements: count first, then allocate the interior storage
+	// and the elements of each kind in one slice apiece.
+	const (
+		kindExact = iota
+		kindConstGrid
+		kindVarGrid
+	)
+	kind := make([]uint8, ne)
+	cells := make([]int, ne)
 	var interior, varInterior int64
+	nExact, nConst, nVar := 0, 0, 0
 	maxCells := 0
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		cons := s.constantEdge(ed)
+		exact := false
 		switch method {
 		case MethodExact:
 			if !cons {
@@ -131,30 +133,31 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 				}
 				return nil, &ModelError{Object: "edge", ID: ed.ID, Reason: why + ": method exact needs constant ones (use auto or grid)"}
 			}
-			s.exact[e] = true
+			exact = true
 		case MethodAuto:
-			s.exact[e] = cons
+			exact = cons
 		case MethodGrid:
 		default:
 			return nil, fmt.Errorf("unknown method %v", method)
 		}
-		if s.exact[e] {
-			s.stats.ExactEdges++
+		if exact {
+			kind[e] = kindExact
+			nExact++
 			continue
 		}
-		s.stats.GridEdges++
 		n := ed.Cells
 		if n == 0 {
 			n = s.cells
 		}
-		s.grid[e] = gridEnds{n: n, off: int(interior)}
+		cells[e] = n
 		interior += int64(n - 1)
 		maxCells = max(maxCells, n)
-		if !s.constGrid(e) {
-			if s.voff == nil {
-				s.voff = make([]int, ne)
-			}
-			s.voff[e] = int(varInterior)
+		if s.v.EdgeSource == nil && ed.Constant() {
+			kind[e] = kindConstGrid
+			nConst++
+		} else {
+			kind[e] = kindVarGrid
+			nVar++
 			varInterior += int64(n - 1)
 		}
 		if interior > maxGrid {
@@ -168,6 +171,42 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 			}
 			return nil, &GridSizeError{Unknowns: interior, Max: maxGrid}
 		}
+	}
+	s.stats.ExactEdges = nExact
+	s.stats.GridEdges = nConst + nVar
+	s.st = make([]float64, interior)
+	vst := make([]float64, 3*varInterior)
+	s.scr = make([]float64, 2*maxCells)
+	s.maps = make([]edgeMap, ne)
+	s.els = make([]element, ne)
+	s.off = make([]int, ne)
+	exs := make([]exactEl, nExact)
+	cgs := make([]constGridEl, nConst)
+	vgs := make([]varGridEl, nVar)
+	o, vo := 0, 0
+	for e := range net.Edges {
+		n := cells[e]
+		s.off[e] = o
+		switch kind[e] {
+		case kindExact:
+			x := &exs[len(exs)-nExact]
+			nExact--
+			*x = exactEl{s: s, e: e}
+			s.els[e] = x
+		case kindConstGrid:
+			x := &cgs[len(cgs)-nConst]
+			nConst--
+			*x = constGridEl{s: s, e: e, n: n, st: s.st[o : o+n-1 : o+n-1]}
+			s.els[e] = x
+		case kindVarGrid:
+			x := &vgs[len(vgs)-nVar]
+			nVar--
+			*x = varGridEl{s: s, e: e, n: n, st: s.st[o : o+n-1 : o+n-1], vst: vst[3*vo : 3*(vo+n-1) : 3*(vo+n-1)]}
+			x.ends.n = n
+			s.els[e] = x
+			vo += n - 1
+		}
+		o += s.els[e].unknowns()
 	}
 	if err := s.checkAnchors(); err != nil {
 		return nil, err
@@ -190,10 +229,6 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
 	s.u = make([]float64, nn)
-	s.st = make([]float64, interior)
-	s.vst = make([]float64, 3*varInterior)
-	s.kc = make([]sweepCoef, ne)
-	s.scr = make([]float64, 2*maxCells)
 	s.stats.NodeUnknowns = m
 	s.stats.Unknowns = m + int(interior)
 	return s, nil
@@ -359,9 +394,9 @@ func (s *system) edgeDecays(e int) bool {
 	if p == nil || (p.C == nil && (p.Rho == nil || s.v.Shift == 0)) {
 		return ed.C+s.v.Shift*ed.Rho > 0
 	}
-	n := s.grid[e].n
-	if s.exact[e] || n == 0 {
-		n = 2
+	n := 2
+	if g, ok := s.els[e].(gridCells); ok {
+		n = g.cells()
 	}
 	L := ed.Length
 	for i := 0; i <= n; i++ {
@@ -389,76 +424,6 @@ func (s *system) edgeSource(e int) float64 {
 	return s.net.Edges[e].F
 }
 
-// constGrid reports whether edge e is a grid edge with constant
-// coefficients and source (the fast, pairable path).
-func (s *system) constGrid(e int) bool {
-	return !s.exact[e] && s.v.EdgeSource == nil && s.net.Edges[e].Constant()
-}
-
-// constCellOf returns the cell coefficients of constant grid edge e.
-func (s *system) constCellOf(e int, shift float64) constCell {
-	ed := &s.net.Edges[e]
-	k := newConstCell(s.grid[e].n, ed.Length, ed.A, ed.B, ed.C+shift*ed.Rho, s.edgeSource(e))
-	k.ends.off = s.grid[e].off
-	return k
-}
-
-// gridStore returns the interior values of grid edge e (n−1 values).
-func (s *system) gridStore(e int) []float64 {
-	ge := &s.grid[e]
-	return s.st[ge.off : ge.off+ge.n-1]
-}
-
-// varStore returns the sweep triples of grid edge e with varying
-// coefficients.
-func (s *system) varStore(e int) []float64 {
-	o := s.voff[e]
-	return s.vst[3*o : 3*(o+s.grid[e].n-1)]
-}
-
-// element computes the end map of edge e for the given shift (and, for a grid
-// edge, its sweep into s.st).
-func (s *system) element(e int, shift float64) {
-	ed := &s.net.Edges[e]
-	L := ed.Length
-	if s.exact[e] {
-		if shift != 0 && ed.Profile != nil && ed.Profile.Rho != nil {
-			panic("graphpde: shift on an exact edge with a capacity profile")
-		}
-		c := ed.C + shift*ed.Rho
-		f := s.edgeSource(e)
-		d, g := exactElement(ed.A, ed.B, c, f, L)
-		s.maps[e] = edgeMap{d, g}
-		s.ecf[e] = [2]float64{c, f}
-		return
-	}
-	if s.constGrid(e) {
-		k := s.constCellOf(e, shift)
-		d, g := condenseConst(s.gridStore(e), &k)
-		s.grid[e] = k.ends
-		s.kc[e] = k.sweep()
-		s.maps[e] = edgeMap{d, g}
-		return
-	}
-	ge := &s.grid[e]
-	n, off := ge.n, ge.off
-	src := s.v.EdgeSource
-	cs := s.v.ConstSource
-	d, g, out := condenseVar(s.varStore(e), n, L, func(x float64) (a, b, c, f float64) {
-		a, b, c, f, rho := ed.Coeffs(x)
-		switch {
-		case src != nil:
-			f = src(e, x)
-		case cs != nil:
-			f = cs[e]
-		}
-		return a, b, c + shift*rho, f
-	})
-	out.off = off
-	*ge = out
-	s.maps[e] = edgeMap{d, g}
-}
-
 // assemble computes every element map with decay c + shift·ρ and leak
 // β + shift·ρ_v and writes the node system into s.mat (same pattern on every
 // call after the first) and s.rhs. Constant grid edges with equal cells are
@@ -471,29 +436,28 @@ func (s *system) assemble(shift float64) {
 	clear(s.rhs)
 	// The elements first, then the node rows: the sweeps stream through
 	// the grid storage, which would evict the node system between edges.
-	pend := -1 // a constant grid edge waiting for a partner
-	var pk constCell
-	for e := range net.Edges {
-		if !s.constGrid(e) {
-			s.element(e, shift)
+	var pend *constGridEl // a constant grid edge waiting for a partner
+	for e, el := range s.els {
+		k, ok := el.(*constGridEl)
+		if !ok {
+			s.maps[e], _ = el.linearize(0, 0)
 			continue
 		}
-		k := s.constCellOf(e, shift)
-		if pend < 0 || s.grid[pend].n != k.ends.n {
-			if pend >= 0 {
-				s.element(pend, shift)
+		if pend == nil || pend.n != k.n {
+			if pend != nil {
+				s.maps[pend.e], _ = pend.linearize(0, 0)
 			}
-			pend, pk = e, k
+			pend = k
 			continue
 		}
-		da, db, ga, gb := condenseConstPair(s.gridStore(pend), s.gridStore(e), &pk, &k)
-		s.grid[pend], s.grid[e] = pk.ends, k.ends
-		s.kc[pend], s.kc[e] = pk.sweep(), k.sweep()
-		s.maps[pend], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
-		pend = -1
+		pend.k, k.k = pend.cell(), k.cell()
+		da, db, ga, gb := condenseConstPair(pend.st, k.st, &pend.k, &k.k)
+		pend.kc, k.kc = pend.k.sweep(), k.k.sweep()
+		s.maps[pend.e], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
+		pend = nil
 	}
-	if pend >= 0 {
-		s.element(pend, shift)
+	if pend != nil {
+		s.maps[pend.e], _ = pend.linearize(0, 0)
 	}
 	val := s.mat.Values()
 	for e := range net.Edges {
@@ -577,9 +541,9 @@ func (s *system) solve() {
 	s.recover()
 }
 
-// recover writes the grid interiors into s.st by back substitution and
-// notes the first edge with a non-finite value in s.bad. Constant grid edges
-// with equal cells are recovered in pairs (recoverConstPair).
+// recover sets every element's interior for the node values s.u and notes
+// the first edge with a non-finite value in s.bad. Constant grid edges with
+// equal cells are recovered in pairs (recoverConstPair).
 func (s *system) recover() {
 	s.bad = -1
 	note := func(e int, ok bool) {
@@ -588,51 +552,53 @@ func (s *system) recover() {
 		}
 	}
 	edges := s.net.Edges
-	pend := -1 // a constant grid edge waiting for a partner
-	for e := range edges {
-		if s.exact[e] {
+	var pend *constGridEl // a constant grid edge waiting for a partner
+	for e, el := range s.els {
+		if el.unknowns() == 0 {
 			continue
 		}
 		ed := &edges[e]
-		if !s.constGrid(e) {
-			note(e, recoverGrid(s.gridStore(e), s.varStore(e), s.u[ed.From], s.u[ed.To]))
+		k, ok := el.(*constGridEl)
+		if !ok {
+			note(e, el.recover(s.u[ed.From], s.u[ed.To]))
 			continue
 		}
-		if pend >= 0 && s.grid[pend].n == s.grid[e].n {
-			pd := &edges[pend]
-			oka, okb := recoverConstPair(s.gridStore(pend), s.gridStore(e), s.scr, s.kc[pend], s.kc[e],
+		if pend != nil && pend.n == k.n {
+			pd := &edges[pend.e]
+			oka, okb := recoverConstPair(pend.st, k.st, s.scr, pend.kc, k.kc,
 				s.u[pd.From], s.u[pd.To], s.u[ed.From], s.u[ed.To])
-			note(pend, oka)
+			note(pend.e, oka)
 			note(e, okb)
-			pend = -1
+			pend = nil
 			continue
 		}
-		if pend >= 0 {
-			pd := &edges[pend]
-			note(pend, recoverConst(s.gridStore(pend), s.scr, s.kc[pend], s.u[pd.From], s.u[pd.To]))
+		if pend != nil {
+			pd := &edges[pend.e]
+			note(pend.e, pend.recover(s.u[pd.From], s.u[pd.To]))
 		}
-		pend = e
+		pend = k
 	}
-	if pend >= 0 {
-		pd := &edges[pend]
-		note(pend, recoverConst(s.gridStore(pend), s.scr, s.kc[pend], s.u[pd.From], s.u[pd.To]))
+	if pend != nil {
+		pd := &edges[pend.e]
+		note(pend.e, pend.recover(s.u[pd.From], s.u[pd.To]))
 	}
+}
+
+// interior returns the interior values of edge e.
+func (s *system) interior(e int) []float64 {
+	o := s.off[e]
+	return s.st[o : o+s.els[e].unknowns()]
 }
 
 // endDerivs returns u'(0) and u'(L) of edge e in the current solution.
 func (s *system) endDerivs(e int) (d0, dL float64) {
 	ed := &s.net.Edges[e]
 	U0, UL := s.u[ed.From], s.u[ed.To]
-	if s.exact[e] {
-		m := &s.maps[e]
-		return m.d[0][0]*U0 + m.d[0][1]*UL + m.g[0], m.d[1][0]*U0 + m.d[1][1]*UL + m.g[1]
-	}
-	ge := &s.grid[e]
-	first, last := UL, U0
-	if ge.n > 1 {
-		first, last = s.st[ge.off], s.st[ge.off+ge.n-2]
-	}
-	return ge.endDerivs(U0, UL, first, last)
+	el := s.els[e]
+	in := s.interior(e)
+	_, d0 = el.eval(0, U0, UL, in)
+	_, dL = el.eval(ed.Length, U0, UL, in)
+	return d0, dL
 }
 
 // solution packages the current state (after solve) as a Solution: node
@@ -648,10 +614,9 @@ func (s *system) solution() (*Solution, error) {
 		Residual: make([]float64, len(net.Nodes)),
 		Status:   Converged,
 		Stats:    s.stats,
-		exact:    s.exact,
-		grid:     s.grid,
+		els:      s.els,
+		off:      s.off,
 		gval:     s.st,
-		ecf:      s.ecf,
 	}
 	for i, u := range sol.U {
 		if math.IsNaN(u) || math.IsInf(u, 0) {

@@ -1,7 +1,5 @@
 package graphpde
 
-import "math"
-
 // Solution is the result of a steady solve.
 type Solution struct {
 	Net *Network
@@ -22,10 +20,9 @@ type Solution struct {
 	Status   Status
 	Stats    Stats
 
-	exact []bool
-	grid  []gridEnds
-	gval  []float64 // grid interiors: value k (from gridEnds.off) at gval[k]
-	ecf   [][2]float64
+	els  []element // per edge
+	off  []int     // per edge: its first interior value in gval
+	gval []float64 // interior values of the elements
 }
 
 // FieldPoint is one sample of the field along an edge: the distance X from
@@ -43,37 +40,20 @@ func (s *Solution) At(p Point) float64 {
 	if p.Edge < 0 {
 		return s.U[p.Node]
 	}
-	e := p.Edge
-	ed := &s.Net.Edges[e]
-	U0, UL := s.U[ed.From], s.U[ed.To]
+	ed := &s.Net.Edges[p.Edge]
 	if p.X < 0 || p.X > ed.Length {
 		panic("graphpde: point off its edge")
 	}
-	if s.exact[e] {
-		cf := s.ecf[e]
-		return exactValue(ed.A, ed.B, cf[0], cf[1], ed.Length, p.X, U0, UL)
-	}
-	ge := &s.grid[e]
-	h := ed.Length / float64(ge.n)
-	i := int(math.Floor(p.X / h))
-	if i >= ge.n {
-		i = ge.n - 1
-	}
-	t := p.X/h - float64(i)
-	return (1-t)*s.gridValue(e, i) + t*s.gridValue(e, i+1)
+	u, _ := s.eval(p.Edge, p.X)
+	return u
 }
 
-// gridValue returns the value at vertex i (0 … n) of grid edge e.
-func (s *Solution) gridValue(e, i int) float64 {
+// eval returns u and u' at distance x along edge e.
+func (s *Solution) eval(e int, x float64) (u, du float64) {
 	ed := &s.Net.Edges[e]
-	ge := &s.grid[e]
-	switch i {
-	case 0:
-		return s.U[ed.From]
-	case ge.n:
-		return s.U[ed.To]
-	}
-	return s.gval[ge.off+i-1]
+	el := s.els[e]
+	o := s.off[e]
+	return el.eval(x, s.U[ed.From], s.U[ed.To], s.gval[o:o+el.unknowns()])
 }
 
 // Sample appends to dst[:0] the field along edge e and returns it: the grid
@@ -83,21 +63,32 @@ func (s *Solution) Sample(dst []FieldPoint, e int) []FieldPoint {
 	dst = dst[:0]
 	ed := &s.Net.Edges[e]
 	L := ed.Length
-	if s.exact[e] {
-		U0, UL := s.U[ed.From], s.U[ed.To]
-		cf := s.ecf[e]
+	g, grid := s.els[e].(gridCells)
+	if !grid {
 		for k := range exactSamples {
 			x := L * float64(k) / (exactSamples - 1)
-			dst = append(dst, FieldPoint{x, exactValue(ed.A, ed.B, cf[0], cf[1], L, x, U0, UL)})
+			u, _ := s.eval(e, x)
+			dst = append(dst, FieldPoint{x, u})
 		}
 		return dst
 	}
-	n := s.grid[e].n
+	n := g.cells()
+	in := s.gval[s.off[e]:]
 	for i := 0; i <= n; i++ {
-		dst = append(dst, FieldPoint{L * float64(i) / float64(n), s.gridValue(e, i)})
+		u := s.U[ed.From]
+		switch {
+		case i == n:
+			u = s.U[ed.To]
+		case i > 0:
+			u = in[i-1]
+		}
+		dst = append(dst, FieldPoint{L * float64(i) / float64(n), u})
 	}
 	return dst
 }
 
 // ExactEdge reports whether edge e was solved with an exact element.
-func (s *Solution) ExactEdge(e int) bool { return s.exact[e] }
+func (s *Solution) ExactEdge(e int) bool {
+	_, ok := s.els[e].(*exactEl)
+	return ok
+}

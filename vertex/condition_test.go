@@ -1,0 +1,55 @@
+package vertex
+
+import (
+	"errors"
+	"math"
+	"testing"
+)
+
+// TestLinearCondition checks the residual form of a linear balance law
+// against the balance written out by hand, its derivatives against central
+// differences, and the monotonicity verdicts.
+func TestLinearCondition(t *testing.T) {
+	// Differences of an affine function are exact up to round-off of the
+	// values, |G| ≈ 10 here, over a step of 1e-3.
+	const diffTol = 1e-9
+	c := Linear{Law: Law{Kind: Balance, Leak: 0.5, Inject: 2}, Alpha: []float64{1, 3}}
+	u, d := 1.5, []float64{0.2, -0.7}
+	dd := make([]float64, 2)
+	g, du := c.Residual(u, d, dd)
+	// By hand: −(1·0.2 + 3·(−0.7)) + 0.5·1.5 − 2 = 1.9 + 0.75 − 2 = 0.65.
+	if math.Abs(g-0.65) > 1e-15 || du != 0.5 || dd[0] != -1 || dd[1] != -3 {
+		t.Fatalf("G = %g, ∂u = %g, ∂d = %v; want 0.65, 0.5, [-1 -3]", g, du, dd)
+	}
+	const h = 1e-3
+	for j := range d {
+		dp := append([]float64(nil), d...)
+		dm := append([]float64(nil), d...)
+		dp[j] += h
+		dm[j] -= h
+		gp, _ := c.Residual(u, dp, make([]float64, 2))
+		gm, _ := c.Residual(u, dm, make([]float64, 2))
+		if fd := (gp - gm) / (2 * h); math.Abs(fd-dd[j]) > diffTol {
+			t.Errorf("∂G/∂d[%d] = %g, difference quotient %g", j, dd[j], fd)
+		}
+	}
+	if err := c.Monotone(u, d); err != nil {
+		t.Errorf("admissible law: %v", err)
+	}
+	if err := CheckMonotone(c, u, d, dd); err != nil {
+		t.Errorf("CheckMonotone: %v", err)
+	}
+	fx := Linear{Law: Law{Kind: Fixed, Value: 3}}
+	if g, du := fx.Residual(2, nil, nil); g != -1 || du != 1 {
+		t.Errorf("fixed: G = %g, ∂u = %g; want −1, 1", g, du)
+	}
+	bad := Linear{Law: Law{Kind: Balance, Leak: -1}, Alpha: []float64{1}}
+	var me *MonotoneError
+	if err := bad.Monotone(0, []float64{0}); !errors.As(err, &me) || me.End != -1 {
+		t.Errorf("negative leak: %v, want a MonotoneError on u", err)
+	}
+	neg := Linear{Law: Law{Kind: Balance}, Alpha: []float64{1, -2}}
+	if err := CheckMonotone(neg, 0, []float64{0, 0}, dd); !errors.As(err, &me) || me.End != 1 {
+		t.Errorf("negative weight: %v, want a MonotoneError on end 1", err)
+	}
+}
