@@ -1,6 +1,7 @@
 package montecarlo_test
 
 import (
+	"github.com/ramify-dev/ramify/internal/testenv"
 	"math"
 	"math/cmplx"
 	"testing"
@@ -97,9 +98,7 @@ func starCDF(beta, capv float64, arms []starArm) func(float64) float64 {
 // three still gave D = 2.9e−3 (p = 8e−8), 9.1e−4 (p = 0.38), 3.0e−3
 // (p = 4e−8).
 func TestLeakyStartLaw(t *testing.T) {
-	if testing.Short() {
-		t.Skip("10⁶ walkers")
-	}
+	testenv.SkipUnlessLong(t, "10⁶ walkers")
 	arms := []starArm{
 		{L: 1, a: 1, rho: 1, alpha: 1},
 		{L: 0.5, a: 2, rho: 1, alpha: 1.5},
@@ -172,9 +171,7 @@ func TestLeakyStartLaw(t *testing.T) {
 // 1.07e−3 (p = 0.20) at dt = 1e−3, and 1.88e−3 (p = 0.0017) and 8.0e−4
 // (p = 0.54) at dt = 1e−4, with the same seeds.
 func TestDriftStartLaw(t *testing.T) {
-	if testing.Short() {
-		t.Skip("10⁶ walkers")
-	}
+	testenv.SkipUnlessLong(t, "10⁶ walkers")
 	arms := []starArm{
 		{L: 1, a: 1, rho: 1, alpha: 1, b: 1.5},
 		{L: 0.5, a: 2, rho: 1, alpha: 1.5},

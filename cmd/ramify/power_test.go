@@ -2,6 +2,7 @@ package main
 
 import (
 	"context"
+	"github.com/ramify-dev/ramify/internal/testenv"
 	"strings"
 	"testing"
 
@@ -57,9 +58,7 @@ diffusivity = 1.0
 //     seeds that do not agree is about Binomial(40, 0.01); 4 or more has
 //     probability 8e−4.
 func TestCrosscheckPower(t *testing.T) {
-	if testing.Short() {
-		t.Skip("80 cross-checks of 10⁵ walkers")
-	}
+	testenv.SkipUnlessLong(t, "80 cross-checks of 10⁵ walkers")
 	const seeds = 40
 	for _, c := range []struct {
 		name, split string

@@ -3,6 +3,7 @@ package main
 import (
 	"context"
 	"fmt"
+	"github.com/ramify-dev/ramify/internal/testenv"
 	"math/rand/v2"
 	"testing"
 
@@ -77,9 +78,7 @@ func randomNet(r *rand.Rand) *graphpde.Network {
 // — a junction rule, a visit law, a Laplace inversion — fails it, as it did
 // before the exact visit laws at leaky and drift-side nodes were written.
 func TestRandomNetworks(t *testing.T) {
-	if testing.Short() {
-		t.Skip("24 cross-checks of 10⁵ walkers")
-	}
+	testenv.SkipUnlessLong(t, "24 cross-checks of 10⁵ walkers")
 	r := rand.New(rand.NewPCG(21, 22))
 	counts := map[compare.Verdict]int{}
 	for i := 0; i < 24; i++ {
