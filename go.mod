@@ -4,6 +4,7 @@ go 1.26
 
 require (
 	github.com/BurntSushi/toml v1.6.0
+	github.com/expr-lang/expr v1.17.8
 	github.com/james-bowman/sparse v0.0.0-20260216202247-495ee4f84d35
 	github.com/spf13/pflag v1.1.0
 	gonum.org/v1/gonum v0.17.0

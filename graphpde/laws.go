@@ -43,13 +43,17 @@ func (p *Params) Set(name string, v float64) error {
 }
 
 // Coef is a coefficient that may depend on the distance x along the edge,
-// the field value u and the time t. Fn returns the value and its partial
-// derivative in u (zero when the law does not use u).
+// the field value u, the time t and the network's parameters. Fn returns the
+// value and its partial derivative in u (zero when the law does not use u).
 type Coef struct {
 	Fn func(x, u, t float64) (v, du float64)
-	// Which variables the law uses; a coefficient that uses none of them is
-	// a constant and is stored in the plain field instead.
+	// Which variables the law uses. A coefficient that uses none of them and
+	// no parameter is a constant and is stored in the plain field instead.
+	// One that reads parameters only (UsesP, not X, U or T) is kept as a Coef
+	// so that a parameter sweep sees the change; the plain field then holds
+	// its value at the parameters it was read with.
 	UsesX, UsesU, UsesT bool
+	UsesP               bool   // reads a parameter (Params)
 	Src                 string // the expression as written, for messages and writers
 }
 
