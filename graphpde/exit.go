@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"math/cmplx"
@@ -95,17 +96,17 @@ type ExitStats struct {
 // factorisations, O(edges) each on a tree, later calls in the same octave
 // O(InversionNodes). On the grid path each new t costs 16 grid solves
 // (Gaver–Stehfest, about 1e−5). It is safe for concurrent use (calls are
-// serialised). It returns NaN when HasDistribution is false or a transform
-// evaluation fails.
-func (x *ExitStats) SurvivalAt(t float64) float64 {
+// serialised). It returns an error when HasDistribution is false or a
+// transform evaluation fails.
+func (x *ExitStats) SurvivalAt(t float64) (float64, error) {
 	if x.law == nil {
-		return math.NaN()
+		return 0, errors.New("the law of the lifetime is not available (see Notes)")
 	}
 	s, _, err := x.law.survival(t)
 	if err != nil {
-		return math.NaN()
+		return 0, err
 	}
-	return s
+	return s, nil
 }
 
 // ExitError reports exit statistics that cannot be computed for this data.

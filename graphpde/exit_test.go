@@ -210,8 +210,8 @@ func TestExitSurvivalB2(t *testing.T) {
 		}
 	}
 	// SurvivalAt agrees with the reported values and is 1 at t ≤ 0.
-	if x.SurvivalAt(0.5) != x.Survival[1].P || x.SurvivalAt(0) != 1 || x.SurvivalAt(-1) != 1 {
-		t.Errorf("SurvivalAt: %g at 0.5 (want %g), %g at 0", x.SurvivalAt(0.5), x.Survival[1].P, x.SurvivalAt(0))
+	if survivalAt(t, x, 0.5) != x.Survival[1].P || survivalAt(t, x, 0) != 1 || survivalAt(t, x, -1) != 1 {
+		t.Errorf("SurvivalAt: %g at 0.5 (want %g), %g at 0", survivalAt(t, x, 0.5), x.Survival[1].P, survivalAt(t, x, 0))
 	}
 }
 
@@ -522,8 +522,8 @@ func TestExitDecayDrift(t *testing.T) {
 			t.Errorf("b=%g: E τ = %.15g, want %.15g", c.b, x.Mean, want)
 		}
 		// The median solves S(T) = ½ of the inverted survival function.
-		if q := x.Quantiles[0]; !near(x.SurvivalAt(q.T), 0.5, inversion) {
-			t.Errorf("b=%g c=%g: S(median %g) = %.12g", c.b, c.c, q.T, x.SurvivalAt(q.T))
+		if q := x.Quantiles[0]; !near(survivalAt(t, x, q.T), 0.5, inversion) {
+			t.Errorf("b=%g c=%g: S(median %g) = %.12g", c.b, c.c, q.T, survivalAt(t, x, q.T))
 		}
 	}
 }
@@ -898,13 +898,13 @@ func TestExitDriftCycle(t *testing.T) {
 		}
 		const tmax, n = 200.0, 20000
 		h := tmax / n
-		integral := 1 + x.SurvivalAt(tmax)
+		integral := 1 + survivalAt(t, x, tmax)
 		for i := 1; i < n; i++ {
 			w := 2.0
 			if i%2 == 1 {
 				w = 4
 			}
-			integral += w * x.SurvivalAt(float64(i)*h)
+			integral += w * survivalAt(t, x, float64(i)*h)
 		}
 		integral *= h / 3
 		// Simpson on a smooth S (S'(0) = 0 from an interior start): error
@@ -1026,4 +1026,14 @@ func TestExitSelfLoop(t *testing.T) {
 			}
 		}
 	}
+}
+
+// survivalAt is ExitStats.SurvivalAt for tests: an error fails the test.
+func survivalAt(t *testing.T, x *ExitStats, at float64) float64 {
+	t.Helper()
+	s, err := x.SurvivalAt(at)
+	if err != nil {
+		t.Fatalf("SurvivalAt(%g): %v", at, err)
+	}
+	return s
 }

@@ -69,8 +69,10 @@ type Settings struct {
 }
 
 // Status describes how a solver ended. The linear steady solve either
-// succeeds (Converged) or returns an error; the other values are for the
-// iterative solvers of the package.
+// succeeds (Converged) or returns an error; the iterative solvers of the
+// package (Newton) also end at their budget (IterationLimit), where an edge
+// law loses ellipticity (NotElliptic) or at a singular Jacobian (Singular),
+// each with a Result that says so.
 type Status int
 
 const (
@@ -85,8 +87,6 @@ const (
 	NotElliptic
 	// Singular: a linear system met a zero pivot.
 	Singular
-	// NoSolution: no solution in the continuation range.
-	NoSolution
 )
 
 // String returns the status in words.
@@ -102,8 +102,6 @@ func (s Status) String() string {
 		return "not elliptic"
 	case Singular:
 		return "singular"
-	case NoSolution:
-		return "no solution"
 	}
 	return fmt.Sprintf("Status(%d)", int(s))
 }

@@ -141,13 +141,10 @@ type Stats struct {
 	// Exact reports that no edge needed time stepping: values, hitting
 	// probabilities, occupations and mean exit times carry no
 	// discretisation bias.
+	// Every node visit is then exact in law as well (for every node law
+	// and any decay rates on the arms; see the package documentation), so
+	// the exit-time distribution is exact too.
 	Exact bool
-	// LawExact reports that, in addition, every node visit is exact in law,
-	// so the exit-time distribution is exact too. With every edge walked on
-	// intervals this holds for every node law (leak, injection, capacity)
-	// and any decay rates on the arms (see the package documentation), so
-	// LawExact equals Exact.
-	LawExact bool
 }
 
 // Result holds the estimates of a run. Means over "walkers" are over the
@@ -155,9 +152,10 @@ type Stats struct {
 // TimeCap).
 type Result struct {
 	Particles, Finished int64
-	Partial             bool
-	Status              Status
-	Seed                uint64
+	// Status is Cancelled when the run was interrupted: the estimates
+	// then cover the completed prefix of blocks (Finished < Particles).
+	Status Status
+	Seed   uint64
 
 	Value    Estimate // Feynman–Kac value u(start)
 	ExitTime Estimate // lifetime over walkers absorbed or killed

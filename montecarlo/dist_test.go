@@ -60,8 +60,8 @@ func TestVisitLawError(t *testing.T) {
 		t.Run(c.name, func(t *testing.T) {
 			net := star(c.law, arms)
 			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 1000000, Seed: c.seed, StarFraction: 1, KeepSamples: true})
-			if !res.Stats.LawExact {
-				t.Errorf("LawExact = false on a star with plain arms")
+			if !res.Stats.Exact {
+				t.Errorf("Exact = false on a star with plain arms")
 			}
 			var s2, s4 float64
 			for _, sm := range res.Samples {

@@ -113,7 +113,7 @@
 // otherwise each arm gets its mean time per visit (the arm element with
 // source ρ, Σα_eF_e(ρ)/den, den = β + Σα_e A_e).
 //
-// Stats.LawExact reports that every edge is walked on intervals (so every
+// Stats.Exact reports that every edge is walked on intervals (so every
 // balance node is visited by one of these exact rules): it is false exactly
 // when some edge is time stepped.
 //
@@ -213,7 +213,7 @@
 // and LeVeque, 1979, from memory) are merged in block order, so one Seed
 // gives bit-identical results for any number of workers. A cancelled run
 // returns the completed prefix of blocks (blocks finished out of order are
-// dropped) with Partial set. Memory: O(nodes + edges) per worker and per
+// dropped) with Status Cancelled. Memory: O(nodes + edges) per worker and per
 // block in flight, 8 bytes per walker (up to 2²² walkers) for the quantiles,
 // and 16 bytes per walker with KeepSamples (refused above MaxSampleBytes
 // before anything is allocated). The step loop allocates nothing.

@@ -66,14 +66,13 @@ type nodeInfo struct {
 }
 
 type model struct {
-	net      Network
-	edges    []edgeInfo
-	nodes    []nodeInfo
-	nDep     int
-	timeCap  float64
-	exact    bool
-	lawExact bool
-	fin      *starlaw.Table // T_f table when a node is in modeStar
+	net     Network
+	edges   []edgeInfo
+	nodes   []nodeInfo
+	nDep    int
+	timeCap float64
+	exact   bool
+	fin     *starlaw.Table // T_f table when a node is in modeStar
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -81,7 +80,7 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // prepare validates the network and builds the per-edge and per-node step
 // rules. Cost O(nodes + edges·profileSamples).
 func prepare(net Network, set *Settings) (*model, error) {
-	m := &model{net: net, exact: true, lawExact: true}
+	m := &model{net: net, exact: true}
 	ne, nn := net.NumEdges(), net.NumNodes()
 	m.edges = make([]edgeInfo, ne)
 	var capTot, resTot, lossTot float64
@@ -135,7 +134,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 			ed.tfac = ed.rho / (2 * ed.a)
 			continue
 		}
-		m.exact, m.lawExact = false, false
+		m.exact = false
 		ed.dt = set.Step
 		if ed.dt == 0 {
 			ed.dt = math.Min(1e-3*tDiff, 1e-2*tDrift)

@@ -145,7 +145,7 @@ func (m *model) startPlace(s Start) (place, error) {
 // merged in block order, so a given Seed gives bit-identical results for any
 // Workers (Stats.Elapsed aside). When ctx is cancelled, Run stops within one
 // walker per worker and returns the estimates of the completed prefix of
-// blocks with Partial set and no error.
+// blocks with Status Cancelled and no error.
 //
 // Errors: *StartError, *WeightError, *CoefficientError, *NodeError,
 // *SettingsError, *MemoryError (before any allocation), and *CensoredError,
@@ -300,7 +300,6 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		Censored:  censored,
 	}
 	if nextFold < nblocks {
-		res.Partial = true
 		res.Status = Cancelled
 	}
 	if exited > 1 {
@@ -335,7 +334,7 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 	} else {
 		res.Quantiles = blockQuantiles(times[:min(done, int64(len(times)))], BlockSize, s.Quantiles)
 	}
-	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact, LawExact: m.lawExact}
+	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact}
 	res.TimeCap = m.timeCap
 	if done > 0 && exited == 0 {
 		return res, &CensoredError{Censored: censored, Finished: done, TimeCap: m.timeCap}

@@ -144,8 +144,8 @@ func TestLeakyStartLaw(t *testing.T) {
 			d := kstest.Statistic(x, cdf)
 			p := kstest.PValue(d, len(x))
 			t.Logf("KS D = %.3g, p = %.3g", d, p)
-			if !res.Stats.LawExact {
-				t.Errorf("LawExact = false")
+			if !res.Stats.Exact {
+				t.Errorf("Exact = false")
 			}
 			// Five subtests: p > 1e−3 each keeps the family error near 0.5%.
 			if p < 1e-3 {
@@ -195,8 +195,8 @@ func TestDriftStartLaw(t *testing.T) {
 			d := kstest.Statistic(x, cdf)
 			p := kstest.PValue(d, len(x))
 			t.Logf("KS D = %.3g, p = %.3g, %.1f steps per walker", d, p, float64(res.Stats.Steps)/float64(len(x)))
-			if res.Stats.LawExact {
-				t.Errorf("LawExact = true with a time-stepped edge")
+			if res.Stats.Exact {
+				t.Errorf("Exact = true with a time-stepped edge")
 			}
 			// Two subtests: p > 1e−3 each keeps the family error near 0.2%.
 			if p < 1e-3 {

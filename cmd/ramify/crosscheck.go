@@ -79,7 +79,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 			return fail(stderr, "crosscheck", err)
 		}
 	}
-	if cc.walk.Partial {
+	if cc.walk.Status == montecarlo.Cancelled {
 		fmt.Fprintf(stderr, "ramify crosscheck: interrupted: compared with the %d walkers that finished (of %d)\n", cc.walk.Finished, cc.walk.Particles)
 	}
 	if *asJSON {
@@ -89,7 +89,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	} else {
 		cc.print(stdout)
 	}
-	return partialCode(cc.walk.Partial)
+	return partialCode(cc.walk.Status == montecarlo.Cancelled)
 }
 
 // crossResult holds both engines' answers and their comparison.
@@ -246,7 +246,12 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	case x.HasDistribution:
 		cc.lawCompared = true
 		times := exitTimes(res)
-		checks = append(checks, compare.Distribution("exit-time:distribution", times, res.TimeCap, int(res.Censored), survivalTable(x.SurvivalAt, times)))
+		sv := survivalFunc{at: x.SurvivalAt}
+		ch := compare.Distribution("exit-time:distribution", times, res.TimeCap, int(res.Censored), survivalTable(sv.eval, times))
+		if sv.err != nil {
+			return nil, fmt.Errorf("exit-time law from the PDE: %w", sv.err)
+		}
+		checks = append(checks, ch)
 	default:
 		cc.notes = append(cc.notes, "the exit-time distribution is not available from the PDE for this network; it is not compared")
 	}
@@ -330,7 +335,7 @@ type crossOut struct {
 }
 
 func (cc *crossResult) json() crossOut {
-	return crossOut{Start: cc.from, Particles: cc.walk.Particles, Finished: cc.walk.Finished, Partial: cc.walk.Partial,
+	return crossOut{Start: cc.from, Particles: cc.walk.Particles, Finished: cc.walk.Finished, Partial: cc.walk.Status == montecarlo.Cancelled,
 		Seed: cc.walk.Seed, Checks: cc.report.Checks, Verdict: string(cc.report.Verdict), Explanation: cc.report.Explain,
 		Notes: cc.notes, Weights: cc.fits}
 }
@@ -338,7 +343,7 @@ func (cc *crossResult) json() crossOut {
 func (cc *crossResult) print(w io.Writer) {
 	r := cc.walk
 	fmt.Fprintf(w, "cross-check from %s: PDE against %d walkers (seed %d)\n", cc.from, r.Finished, r.Seed)
-	if r.Partial {
+	if r.Status == montecarlo.Cancelled {
 		fmt.Fprintf(w, "PARTIAL: interrupted after %d of %d walkers\n", r.Finished, r.Particles)
 	}
 	fmt.Fprintln(w)
@@ -393,7 +398,34 @@ func (cc *crossResult) plot(dir string, net *graphpde.Network) error {
 		return nil
 	}
 	times := exitTimes(cc.walk)
-	return compare.PlotSurvival(filepath.Join(dir, "survival.svg"), cc.exit.SurvivalAt, times, cc.level)
+	sv := survivalFunc{at: cc.exit.SurvivalAt}
+	if err := compare.PlotSurvival(filepath.Join(dir, "survival.svg"), sv.eval, times, cc.level); err != nil {
+		return err
+	}
+	if sv.err != nil {
+		return fmt.Errorf("survival plot: %w", sv.err)
+	}
+	return nil
+}
+
+// survivalFunc adapts ExitStats.SurvivalAt to the plain functions of
+// package compare: eval returns 0 after a failure and keeps the first error
+// in err, which the caller must check before using what eval fed.
+type survivalFunc struct {
+	at  func(float64) (float64, error)
+	err error
+}
+
+func (s *survivalFunc) eval(t float64) float64 {
+	if s.err != nil {
+		return 0
+	}
+	v, err := s.at(t)
+	if err != nil {
+		s.err = err
+		return 0
+	}
+	return v
 }
 
 // exitTimes returns the exit times of the walkers that were absorbed or

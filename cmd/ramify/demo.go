@@ -102,7 +102,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fmt.Fprintf(tw, "   lost by sorption\t%.4f ± %.4f\n", r.Killed.Mean, r.Killed.StdErr)
 	tw.Flush()
 	fmt.Fprintf(w, "   transit time: mean %.0f ± %.1f days\n", r.ExitTime.Mean, r.ExitTime.StdErr)
-	if r.Partial {
+	if r.Status == montecarlo.Cancelled {
 		fmt.Fprintf(w, "   (interrupted: %d of %d walkers finished)\n", r.Finished, r.Particles)
 	}
 
@@ -112,7 +112,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fmt.Fprintf(w, "   verdict: %s — %s\n", cc.report.Verdict, cc.report.Explain)
 	fmt.Fprintln(w, "\nNext: ramify solve examples/karst.toml --probe east-a@15")
 	fmt.Fprintln(w, "      ramify crosscheck examples/fork.toml --from fork --plot figures")
-	return partialCode(r.Partial)
+	return partialCode(r.Status == montecarlo.Cancelled)
 }
 
 // demoNetwork reads an embedded example (used by tests and the bench command).

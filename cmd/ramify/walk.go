@@ -107,7 +107,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 			return fail(stderr, "walk", err)
 		}
 	}
-	if res.Partial {
+	if res.Status == montecarlo.Cancelled {
 		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
 	}
 	if *asJSON {
@@ -117,7 +117,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	} else {
 		printWalk(stdout, net, *wf.from, res)
 	}
-	return partialCode(res.Partial)
+	return partialCode(res.Status == montecarlo.Cancelled)
 }
 
 // exitInterrupted is the exit status of a run stopped by Ctrl-C after it
@@ -176,7 +176,7 @@ func quantKey(p float64) string { return strconv.FormatFloat(p, 'g', -1, 64) }
 
 func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result) walkOut {
 	out := walkOut{
-		Particles: r.Particles, Finished: r.Finished, Partial: r.Partial, Seed: r.Seed, Start: from,
+		Particles: r.Particles, Finished: r.Finished, Partial: r.Status == montecarlo.Cancelled, Seed: r.Seed, Start: from,
 		Value: estOut{num(r.Value.Mean), num(r.Value.StdErr)},
 		Exit: exitOut{
 			Time: timeOut{Mean: num(r.ExitTime.Mean), StdErr: num(r.ExitTime.StdErr), SD: num(r.ExitSD),
@@ -214,7 +214,7 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 		mode = "time stepping on some edges"
 	}
 	fmt.Fprintf(w, "%d walkers from %s (seed %d, %s), %d steps in %.3g s\n", r.Finished, from, r.Seed, mode, r.Stats.Steps, r.Stats.Elapsed.Seconds())
-	if r.Partial {
+	if r.Status == montecarlo.Cancelled {
 		fmt.Fprintf(w, "PARTIAL: interrupted after %d of %d walkers\n", r.Finished, r.Particles)
 	}
 	fmt.Fprintf(w, "\nvalue u(%s) = %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
