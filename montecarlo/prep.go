@@ -245,11 +245,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 	m.nDep += n
 	if n == 0 {
 		nd.mode = modeIsolated
-		if law.Leak > 0 {
-			nd.killP = 1
-			nd.reward = law.Inject / law.Leak
-			nd.hold = law.Capacity / law.Leak
-		}
+		nd.killP, nd.reward, nd.hold = law.Isolated()
 		return nil
 	}
 	alpha := make([]float64, n)
@@ -332,20 +328,11 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		for k := range co {
 			nd.fbar += visit.Move[k] * co[k].f / co[k].rho
 		}
-		// Injection is collected per unit local time at the node; its
-		// mean per visit is γ/Σ α_e A_e with the arm elements of
-		// vertex.NewArm, A_e = κ_e coth(κ_e ε_e). With a common rate
-		// k = c_e/ρ_e, κ_e ε_e = r sqrt(k) and α_e κ_e = sqrt(k) w_e, so
-		// the mean is γ tanh(r sqrt(k))/(sqrt(k) Σw), and rγ/Σw
-		// (vertex.Law.Star's Reward) when k = 0.
+		// Injection per visit: rγ/Σw (Star's Reward), or its form
+		// under a common decay rate.
 		nd.reward = visit.Reward
 		if nd.kill > 0 {
-			var sw float64
-			for _, x := range w {
-				sw += x
-			}
-			sk := math.Sqrt(nd.kill)
-			nd.reward = law.Inject * math.Tanh(nd.r*sk) / (sk * sw)
+			nd.reward = law.StarRewardDecay(w, nd.r, nd.kill)
 		}
 	} else if allExact && sameKill && (law.Capacity == 0 || co[0].c == 0) {
 		// Walk on stars with a leak or a capacity, exact in law (package
@@ -360,17 +347,14 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		m.fin = starlaw.Final()
 		nd.r = free
 		r := free
-		var sw float64
-		for _, x := range w {
-			sw += x
-		}
-		kappa := r * law.Leak / sw
-		mu := 1 + kappa
+		sc := law.StarScales(w, r)
+		sw := sc.W
+		mu := 1 + sc.Kappa
 		nd.pMove = 1 / mu
 		nd.dscale = r * r / 2
 		nd.kill = co[0].c / co[0].rho
-		nd.hold = law.Capacity * r / (sw + r*law.Leak)
-		nd.tab = starlaw.VisitTable(mu, 2*law.Capacity/(r*sw))
+		nd.hold = sc.Hold
+		nd.tab = starlaw.VisitTable(mu, sc.Eta)
 		// The value estimator of the exact-in-mean rule at the full
 		// radius: the mean reward per visit.
 		if plain {
@@ -410,10 +394,8 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			r *= set.StarFraction
 		}
 		nd.r = r
-		var sw float64
-		for _, x := range w {
-			sw += x
-		}
+		sc := law.StarScales(w, r)
+		sw := sc.W
 		p, q := make([]float64, n), make([]float64, n)
 		var g []float64
 		for k, ac := range co {
@@ -432,10 +414,9 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 			}
 			return g[k]
 		}
-		kappa := r * law.Leak / sw
 		nd.dscale = r * r / 2
-		nd.tab = starlaw.MixtureDriftTable(kappa, 2*law.Capacity/(r*sw), p, q, g)
-		pl, ex, ki := starlaw.RatesDrift(kappa, p, q, g, nil, nil)
+		nd.tab = starlaw.MixtureDriftTable(sc.Kappa, sc.Eta, p, q, g)
+		pl, ex, ki := starlaw.RatesDrift(sc.Kappa, p, q, g, nil, nil)
 		nd.killP = pl
 		cum := pl
 		arms := make([]vertex.Arm, n)

@@ -53,3 +53,42 @@ func TestLinearCondition(t *testing.T) {
 		t.Errorf("negative weight: %v, want a MonotoneError on end 1", err)
 	}
 }
+
+// TestStarScales checks the visit scales against Star, which states the
+// same laws as probabilities: Kill = κ/(1+κ), HoldScale = Hold; and the
+// decayed injection reward against its k → 0 limit rγ/W (Star's Reward) and
+// against the arm elements (γ/Σ α_e A_e with NewArm's A = AmB + B) on a star
+// of plain arms with a common decay rate.
+func TestStarScales(t *testing.T) {
+	const roundoff = 1e-14
+	l := Law{Kind: Balance, Leak: 0.7, Inject: 1.3, Capacity: 0.4}
+	w := []float64{1, 2.5, 0.5}
+	r := 0.3
+	sc := l.StarScales(w, r)
+	var v Visit
+	l.Star(&v, w, r)
+	if math.Abs(sc.Kappa/(1+sc.Kappa)-v.Kill) > roundoff || math.Abs(sc.Hold-v.HoldScale) > roundoff {
+		t.Errorf("κ/(1+κ) = %g, Kill = %g; Hold = %g, HoldScale = %g", sc.Kappa/(1+sc.Kappa), v.Kill, sc.Hold, v.HoldScale)
+	}
+	if want := 2 * 0.4 / (r * 4); math.Abs(sc.Eta-want) > roundoff {
+		t.Errorf("η = %g, want %g", sc.Eta, want)
+	}
+	// Small k: tanh(r√k)/√k = r(1 − r²k/3 + …), relative error r²k/3.
+	if got, want := l.StarRewardDecay(w, r, 1e-10), r*l.Inject/4; math.Abs(got-want) > 1e-10*want {
+		t.Errorf("k → 0: %g, want %g", got, want)
+	}
+	// Arms with a = ρ = 1 (so w = α) and c = k: γ/Σ α_e A_e.
+	k := 2.0
+	var den float64
+	for _, a := range w {
+		arm := NewArm(1, 0, k, 0, r)
+		den += a * (arm.AmB + arm.B)
+	}
+	if got, want := l.StarRewardDecay(w, r, k), l.Inject/den; math.Abs(got-want) > roundoff*want {
+		t.Errorf("common decay: %g, arm elements give %g", got, want)
+	}
+	kill, rew, hold := l.Isolated()
+	if kill != 1 || math.Abs(rew-1.3/0.7) > roundoff || math.Abs(hold-0.4/0.7) > roundoff {
+		t.Errorf("Isolated = %g, %g, %g", kill, rew, hold)
+	}
+}
