@@ -245,12 +245,12 @@ func (e *NodeError) Error() string {
 // is returned before anything is allocated.
 type MemoryError struct {
 	Particles int64
-	Bytes     int64 // what KeepSamples would need
+	Bytes     int64 // what KeepSamples would need (math.MaxInt64 when that overflows)
 	Limit     int64
 }
 
 func (e *MemoryError) Error() string {
-	return fmt.Sprintf("keeping samples of %d walkers needs %d bytes, above the limit %d: lower the particle count or drop KeepSamples", e.Particles, e.Bytes, e.Limit)
+	return fmt.Sprintf("keeping samples of %d walkers needs %.4g bytes (16 per walker), above the limit %d: lower Particles or clear KeepSamples", e.Particles, 16*float64(e.Particles), e.Limit)
 }
 
 // SettingsError reports an inadmissible setting.

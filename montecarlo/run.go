@@ -109,7 +109,11 @@ func checkSettings(s *Settings) error {
 	if s.KeepSamples {
 		const sampleBytes = 16
 		if s.Particles > MaxSampleBytes/sampleBytes {
-			return &MemoryError{Particles: s.Particles, Bytes: s.Particles * sampleBytes, Limit: MaxSampleBytes}
+			bytes := int64(math.MaxInt64) // saturated: Particles·16 overflows
+			if s.Particles <= math.MaxInt64/sampleBytes {
+				bytes = s.Particles * sampleBytes
+			}
+			return &MemoryError{Particles: s.Particles, Bytes: bytes, Limit: MaxSampleBytes}
 		}
 	}
 	return nil
@@ -143,8 +147,9 @@ func (m *model) startPlace(s Start) (place, error) {
 // Walkers are split into blocks of BlockSize; block k draws from
 // rand.NewPCG(Seed, k); workers take blocks in order and the block sums are
 // merged in block order, so a given Seed gives bit-identical results for any
-// Workers (Stats.Elapsed aside). When ctx is cancelled, Run stops within one
-// walker per worker and returns the estimates of the completed prefix of
+// Workers (Stats.Elapsed aside). When ctx is cancelled, Run stops within
+// about a thousand walker steps per worker (even inside a walker that would
+// live for ever) and returns the estimates of the completed prefix of
 // blocks with Status Cancelled and no error.
 //
 // Errors: *StartError, *WeightError, *CoefficientError, *NodeError,
@@ -168,7 +173,11 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		return nil, err
 	}
 	N := s.Particles
-	nblocks := int((N + BlockSize - 1) / BlockSize)
+	// Without N + BlockSize − 1, which overflows for N near 2⁶³.
+	nblocks := int(N / BlockSize)
+	if N%BlockSize != 0 {
+		nblocks++
+	}
 
 	var samples []Sample
 	var times []float64
@@ -176,6 +185,14 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		samples = make([]Sample, N)
 	} else {
 		times = make([]float64, min(N, maxInternalTimes))
+	}
+
+	// The walkers look at this flag, not at ctx, every few steps: an atomic
+	// load costs next to nothing.
+	var stop atomic.Bool
+	defer context.AfterFunc(ctx, func() { stop.Store(true) })()
+	if ctx.Err() != nil {
+		stop.Store(true)
 	}
 
 	workers := min(s.Workers, max(nblocks, 1))
@@ -187,10 +204,10 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			w := newWalker(m)
+			w := newWalker(m, &stop)
 			for {
 				k := int(next.Add(1) - 1)
-				if k >= nblocks || ctx.Err() != nil {
+				if k >= nblocks || stop.Load() {
 					return
 				}
 				var acc *blockAcc
@@ -202,14 +219,18 @@ func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result,
 				acc.reset(k)
 				w.pcg.Seed(s.Seed, uint64(k))
 				lo := int64(k) * BlockSize
-				hi := min(lo+BlockSize, N)
+				hi := lo + min(BlockSize, N-lo)
 				ok := true
 				for i := lo; i < hi; i++ {
-					if i&255 == 0 && ctx.Err() != nil {
+					if i&255 == 0 && stop.Load() {
 						ok = false
 						break
 					}
 					t, fate := w.walk(p, acc)
+					if fate == aborted {
+						ok = false
+						break
+					}
 					if samples != nil {
 						samples[i] = Sample{Time: t, Node: fate}
 					} else if i < int64(len(times)) {

@@ -3,6 +3,7 @@ package montecarlo
 import (
 	"math"
 	"math/rand/v2"
+	"sync/atomic"
 
 	"github.com/ramify-dev/ramify/montecarlo/internal/exitlaw"
 	"github.com/ramify-dev/ramify/montecarlo/internal/starlaw"
@@ -44,9 +45,20 @@ func (b *blockAcc) reset(k int) {
 	*b = blockAcc{k: k, hits: hits, occS: occS, occQ: occQ, visS: visS, visQ: visQ, dep: dep}
 }
 
+// aborted is the fate walk returns when the run was cancelled while the
+// walker was out; its block is discarded.
+const aborted = -3
+
+// stopCheckSteps+1 is the number of steps between two looks at the stop
+// flag inside one walker (an atomic load, far cheaper than a step), so that
+// a walker with an astronomically long life still stops within about a
+// microsecond of a cancellation.
+const stopCheckSteps = 1023
+
 // walker is one worker's state: its generator and per-walker scratch. Nothing
 // in the step loop allocates.
 type walker struct {
+	stop     *atomic.Bool // set when the run is cancelled
 	m        *model
 	pcg      *rand.PCG
 	rng      *rand.Rand
@@ -58,10 +70,10 @@ type walker struct {
 	touchedV []int32
 }
 
-func newWalker(m *model) *walker {
+func newWalker(m *model, stop *atomic.Bool) *walker {
 	pcg := rand.NewPCG(0, 0)
 	return &walker{
-		m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(), fin: m.fin,
+		stop: stop, m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(), fin: m.fin,
 		occ: make([]float64, len(m.edges)), vis: make([]float64, len(m.nodes)),
 	}
 }
@@ -99,6 +111,11 @@ func (w *walker) walk(p place, acc *blockAcc) (float64, int) {
 loop:
 	for {
 		steps++
+		if steps&stopCheckSteps == 0 && w.stop.Load() {
+			// Cancelled mid-walker: the block is discarded, so nothing
+			// is added to acc.
+			return t, aborted
+		}
 		if node >= 0 {
 			nd := &m.nodes[node]
 			w.addVisit(node)

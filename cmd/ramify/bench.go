@@ -18,12 +18,12 @@ const benchExamples = `  ramify bench                 # small sizes, about half 
 func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("bench", "bench [flags]", benchExamples, stderr)
 	size := fs.String("size", "small", "small or large")
-	walkers := fs.Int64("particles", 2000000, "walkers in the walker measurements")
+	walkers := newCount(fs, "particles", 2000000, "walkers in the walker measurements")
 	if _, code, ok := parseFlags(fs, args, stderr, false); !ok {
 		return code
 	}
 	if *walkers <= 0 {
-		return fail(stderr, "bench", fmt.Errorf("--particles %d: must be > 0", *walkers))
+		return badFlag(stderr, "bench", fmt.Errorf("--particles %d: must be > 0", *walkers))
 	}
 	w := stdout
 	fmt.Fprintf(w, "ramify bench (%s), %d cores; every figure is a ratio to a reference measured in this run\n\n", *size, runtime.NumCPU())

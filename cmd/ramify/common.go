@@ -2,6 +2,7 @@ package main
 
 import (
 	"cmp"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -9,6 +10,7 @@ import (
 	"math"
 	"os"
 	"slices"
+	"strconv"
 	"strings"
 
 	"github.com/spf13/pflag"
@@ -48,29 +50,144 @@ func parseFlags(fs *pflag.FlagSet, args []string, stderr io.Writer, wantFile boo
 		if errors.Is(err, pflag.ErrHelp) {
 			return "", 0, false
 		}
-		return "", 2, false
+		return "", usageFail(stderr, fs.Name(), err), false
 	}
 	if !wantFile {
 		if fs.NArg() > 0 {
-			fmt.Fprintf(stderr, "%s: unexpected argument %q\n", fs.Name(), fs.Arg(0))
-			return "", 2, false
+			return "", usageFail(stderr, fs.Name(), fmt.Errorf("unexpected argument %q (this command reads no file)", fs.Arg(0))), false
 		}
 		return "", 0, true
 	}
 	if fs.NArg() != 1 {
-		fmt.Fprintf(stderr, "%s: need exactly one network file (got %d arguments); see --help\n", fs.Name(), fs.NArg())
-		return "", 2, false
+		return "", usageFail(stderr, fs.Name(), fmt.Errorf("need exactly one network file (got %d arguments)", fs.NArg())), false
 	}
 	return fs.Arg(0), 0, true
 }
 
-// load reads a network file (TOML or CSV).
-func load(path string) (*graphpde.Network, error) {
-	return netfile.ReadFile(path)
+// exitUsage is the exit status of a command-line error (a bad flag or
+// argument), as distinct from 1 for a failed computation or bad input file.
+const exitUsage = 2
+
+// usageFail prints a one-line command-line error with a pointer to the
+// command's help and returns exitUsage. name is the flag set's name,
+// "ramify CMD".
+func usageFail(stderr io.Writer, name string, err error) int {
+	msg := strings.ReplaceAll(err.Error(), "\n", "; ")
+	fmt.Fprintf(stderr, "%s: %s (see '%s --help')\n", name, msg, name)
+	return exitUsage
 }
 
-// fail prints a one-line error and returns the exit status 1.
+// countValue is an int64 flag that also takes an exact integer written as
+// a float (1e6, 2.5e5): the natural way to type a particle count.
+type countValue int64
+
+func newCount(fs *pflag.FlagSet, name string, value int64, usage string) *int64 {
+	p := new(int64)
+	*p = value
+	fs.Var((*countValue)(p), name, usage)
+	return p
+}
+
+func (c *countValue) String() string { return strconv.FormatInt(int64(*c), 10) }
+func (c *countValue) Type() string   { return "count" }
+
+func (c *countValue) Set(s string) error {
+	if n, err := strconv.ParseInt(s, 10, 64); err == nil {
+		*c = countValue(n)
+		return nil
+	}
+	f, err := strconv.ParseFloat(s, 64)
+	if err != nil {
+		return fmt.Errorf("%q is not a whole number", s)
+	}
+	// 2^63 is exactly representable; every float below it is in range.
+	if f != math.Trunc(f) {
+		return fmt.Errorf("%q is not a whole number", s)
+	}
+	if math.Abs(f) >= 1<<63 {
+		return fmt.Errorf("%q is out of range (at most %d)", s, int64(math.MaxInt64))
+	}
+	*c = countValue(int64(f))
+	return nil
+}
+
+// checkedWriter remembers the first write error of w (a full disk, a closed
+// pipe), so that a command whose output was lost does not exit 0.
+type checkedWriter struct {
+	w   io.Writer
+	err error
+}
+
+func (c *checkedWriter) Write(p []byte) (int, error) {
+	if c.err != nil {
+		return 0, c.err
+	}
+	n, err := c.w.Write(p)
+	if err != nil {
+		c.err = err
+	}
+	return n, err
+}
+
+// load reads a network file (TOML or CSV); a Ctrl-C while it reads stops
+// the command at once (errInterrupted).
+func load(ctx context.Context, path string) (*graphpde.Network, error) {
+	return interruptible(ctx, func() (*graphpde.Network, error) { return netfile.ReadFile(path) })
+}
+
+// errInterrupted is returned by interruptible when the context is cancelled
+// before the work is done.
+var errInterrupted = errors.New("interrupted before anything finished")
+
+// interruptible runs f and returns its results, or errInterrupted as soon
+// as ctx is cancelled. A cancelled f goes on in the background until it
+// returns (the process exits first), so f must not write anything the
+// command reads afterwards. Work that can keep partial results (the
+// walkers) takes the context itself instead.
+func interruptible[T any](ctx context.Context, f func() (T, error)) (T, error) {
+	if ctx.Done() == nil {
+		return f()
+	}
+	if ctx.Err() != nil {
+		var zero T
+		return zero, errInterrupted
+	}
+	type out struct {
+		v   T
+		err error
+	}
+	ch := make(chan out, 1)
+	go func() {
+		v, err := f()
+		ch <- out{v, err}
+	}()
+	select {
+	case o := <-ch:
+		return o.v, o.err
+	case <-ctx.Done():
+		select {
+		case o := <-ch:
+			return o.v, o.err
+		default:
+		}
+		var zero T
+		return zero, errInterrupted
+	}
+}
+
+// badFlag is usageFail for command cmd: a flag value that parsed but is not
+// admissible (exit status 2, with the pointer to --help).
+func badFlag(stderr io.Writer, cmd string, err error) int {
+	return usageFail(stderr, "ramify "+cmd, err)
+}
+
+// fail prints a one-line error and returns the exit status 1 (or
+// exitInterrupted for errInterrupted).
 func fail(stderr io.Writer, cmd string, err error) int {
+	if errors.Is(err, errInterrupted) {
+		fmt.Fprintf(stderr, "ramify %s: %v\n", cmd, err)
+		return exitInterrupted
+	}
 	msg := strings.ReplaceAll(err.Error(), "\n", "; ")
 	fmt.Fprintf(stderr, "ramify %s: %s\n", cmd, msg)
 	return 1

@@ -39,18 +39,27 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		return code
 	}
 	if *wf.from == "" {
-		return fail(stderr, "crosscheck", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
+		return badFlag(stderr, "crosscheck", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
 	}
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
-		return fail(stderr, "crosscheck", err)
+		return badFlag(stderr, "crosscheck", err)
 	}
 	set, err := wf.settings(stderr)
 	if err != nil {
-		return fail(stderr, "crosscheck", err)
+		return badFlag(stderr, "crosscheck", err)
 	}
 	set.KeepSamples = true
-	net, err := load(file)
+	cset := &compare.Settings{Level: *level, Resolution: *resolution}
+	if err := cset.Validate(); err != nil {
+		return badFlag(stderr, "crosscheck", err)
+	}
+	inputs := []string{file}
+	if err := checkOutputs(inputs, outTarget{flag: "--samples", path: *wf.samples},
+		outTarget{flag: "--plot", path: *plot, dir: true}); err != nil {
+		return badFlag(stderr, "crosscheck", err)
+	}
+	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
@@ -58,25 +67,21 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
-	cset := &compare.Settings{Level: *level, Resolution: *resolution}
-	if err := cset.Validate(); err != nil {
-		return fail(stderr, "crosscheck", err)
-	}
 	cc, err := crosscheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{fit: *fit, occupation: *occ})
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
 	if err != nil {
-		return fail(stderr, "crosscheck", err)
+		return fail(stderr, "crosscheck", walkError(err, "the exit-time comparison keeps"))
 	}
 	if *wf.samples != "" {
-		if err := writeSamples(*wf.samples, net, cc.walk); err != nil {
+		if err := writeSamples(*wf.samples, file, net, cc.walk, stderr, "crosscheck"); err != nil {
 			return fail(stderr, "crosscheck", err)
 		}
 	}
 	if *plot != "" {
-		if err := cc.plot(*plot, net); err != nil {
-			return fail(stderr, "crosscheck", err)
+		if err := cc.plot(*plot, inputs, net, stderr); err != nil {
+			return fail(stderr, "crosscheck", fmt.Errorf("--plot %s: %w", *plot, err))
 		}
 	}
 	if cc.walk.Status == montecarlo.Cancelled {
@@ -193,9 +198,23 @@ func starWeights(net *graphpde.Network, v int) (w, scale, alpha []float64) {
 
 func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
 	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions) (*crossResult, error) {
-	x, err := graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m})
+	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
+		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m})
+	})
 	if err != nil {
 		return nil, err
+	}
+	// The steady solve comes before the walkers: once they are interrupted,
+	// the command only compares and prints.
+	var sol *graphpde.Solution
+	var solErr error
+	if hasPayoff(net) {
+		sol, solErr = interruptible(ctx, func() (*graphpde.Solution, error) {
+			return graphpde.Solve(net, &graphpde.Settings{Method: m})
+		})
+		if errors.Is(solErr, errInterrupted) {
+			return nil, solErr
+		}
 	}
 	res, err := montecarlo.Run(ctx, net, startOf(p), wset)
 	if err != nil {
@@ -207,16 +226,15 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	}
 	var checks []compare.Check
 	if hasPayoff(net) {
-		sol, err := graphpde.Solve(net, &graphpde.Settings{Method: m})
 		var floating *graphpde.UnanchoredError
 		switch {
-		case errors.As(err, &floating):
+		case errors.As(solErr, &floating):
 			// Another component floats: the steady problem as a whole has
 			// no unique solution, though the walkers' value from this start
 			// is well defined. Say so rather than fail the whole check.
-			cc.notes = append(cc.notes, "value not compared: "+err.Error())
-		case err != nil:
-			return nil, err
+			cc.notes = append(cc.notes, "value not compared: "+solErr.Error())
+		case solErr != nil:
+			return nil, solErr
 		default:
 			c := compare.Mean("value", sol.At(p), res.Value.Mean, res.Value.StdErr)
 			c.Scale = payoffScale(net, c.PDE)
@@ -376,8 +394,9 @@ func (cc *crossResult) print(w io.Writer) {
 	}
 }
 
-// plot writes the survival and hitting-probability figures into dir.
-func (cc *crossResult) plot(dir string, net *graphpde.Network) error {
+// plot writes the survival and hitting-probability figures into dir (never
+// over an input file) and says on stderr what it wrote.
+func (cc *crossResult) plot(dir string, inputs []string, net *graphpde.Network, stderr io.Writer) error {
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return err
 	}
@@ -391,20 +410,33 @@ func (cc *crossResult) plot(dir string, net *graphpde.Network) error {
 			se = append(se, cc.walk.Hit[v].StdErr)
 		}
 	}
-	if err := compare.PlotHits(filepath.Join(dir, "hits.svg"), names, pde, walk, se); err != nil {
+	path := filepath.Join(dir, "hits.svg")
+	replaced, err := saveByName(path, inputs, func(tmp string) error {
+		return compare.PlotHits(tmp, names, pde, walk, se)
+	})
+	if err != nil {
 		return err
 	}
+	wrote(stderr, "crosscheck", path, replaced, "hitting probabilities, PDE and walkers")
 	if !cc.lawCompared {
 		return nil
 	}
 	times := exitTimes(cc.walk)
+	path = filepath.Join(dir, "survival.svg")
 	sv := survivalFunc{at: cc.exit.SurvivalAt}
-	if err := compare.PlotSurvival(filepath.Join(dir, "survival.svg"), sv.eval, times, cc.level); err != nil {
+	replaced, err = saveByName(path, inputs, func(tmp string) error {
+		if err := compare.PlotSurvival(tmp, sv.eval, times, cc.level); err != nil {
+			return err
+		}
+		if sv.err != nil {
+			return fmt.Errorf("survival plot: %w", sv.err)
+		}
+		return nil
+	})
+	if err != nil {
 		return err
 	}
-	if sv.err != nil {
-		return fmt.Errorf("survival plot: %w", sv.err)
-	}
+	wrote(stderr, "crosscheck", path, replaced, "survival function, PDE and walkers")
 	return nil
 }
 

@@ -19,14 +19,14 @@ const demoFile = "karst.toml"
 
 func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("demo", "demo [flags]", "  ramify demo\n  ramify demo --particles 1000000 --seed 3\n", stderr)
-	particles := fs.Int64("particles", 100000, "number of walkers in the walker and cross-check steps")
+	particles := newCount(fs, "particles", 100000, "number of walkers in the walker and cross-check steps")
 	seed := fs.Uint64("seed", 1, "random seed")
 	workers := fs.Int("workers", 0, "parallel workers (0: all cores)")
 	if _, code, ok := parseFlags(fs, args, stderr, false); !ok {
 		return code
 	}
 	if *particles <= 0 {
-		return fail(stderr, "demo", fmt.Errorf("--particles %d: must be > 0", *particles))
+		return badFlag(stderr, "demo", fmt.Errorf("--particles %d: must be > 0", *particles))
 	}
 	net, err := demoNetwork(demoFile)
 	if err != nil {

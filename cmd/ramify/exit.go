@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -14,7 +15,7 @@ const exitExamples = `  ramify exit examples/fork.toml --from fork
   ramify exit net.toml --from arm1@0.25 --times 0.1,0.5,1 --json
 `
 
-func runExit(_ context.Context, args []string, stdout, stderr io.Writer) int {
+func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("exit", "exit [flags] FILE --from POINT", exitExamples, stderr)
 	from := fs.String("from", "", "start point: NODE or EDGE@X (required)")
 	times := fs.Float64Slice("times", nil, "also give the survival probability P(τ > t) at these times (comma-separated)")
@@ -27,23 +28,26 @@ func runExit(_ context.Context, args []string, stdout, stderr io.Writer) int {
 		return code
 	}
 	if *from == "" {
-		return fail(stderr, "exit", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
+		return badFlag(stderr, "exit", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
 	}
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
-		return fail(stderr, "exit", err)
+		return badFlag(stderr, "exit", err)
 	}
 	for _, t := range *times {
-		if !(t >= 0) {
-			return fail(stderr, "exit", fmt.Errorf("--times: %g is not a time ≥ 0", t))
+		if !(t >= 0) || math.IsInf(t, 1) {
+			return badFlag(stderr, "exit", fmt.Errorf("--times: %g is not a finite time ≥ 0", t))
 		}
 	}
 	for _, q := range *quants {
 		if !(q > 0 && q < 1) {
-			return fail(stderr, "exit", fmt.Errorf("--quantiles: %g is not a probability strictly between 0 and 1", q))
+			return badFlag(stderr, "exit", fmt.Errorf("--quantiles: %g is not a probability strictly between 0 and 1", q))
 		}
 	}
-	net, err := load(file)
+	if *cells < 0 {
+		return badFlag(stderr, "exit", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
+	}
+	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "exit", err)
 	}
@@ -51,7 +55,9 @@ func runExit(_ context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "exit", err)
 	}
-	x, err := graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants})
+	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
+		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants})
+	})
 	if err != nil {
 		return fail(stderr, "exit", err)
 	}

@@ -15,6 +15,9 @@ import (
 
 func main() {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt)
+	// After the first Ctrl-C the command prints what finished; a second one
+	// ends the program at once, as if ramify had not caught the first.
+	context.AfterFunc(ctx, stop)
 	code := run(ctx, os.Args[1:], os.Stdout, os.Stderr)
 	stop()
 	os.Exit(code)
@@ -54,11 +57,17 @@ func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 	for _, c := range commands() {
 		if c.name == args[0] {
-			return c.run(ctx, args[1:], stdout, stderr)
+			out := &checkedWriter{w: stdout}
+			code := c.run(ctx, args[1:], out, stderr)
+			if out.err != nil && (code == 0 || code == exitInterrupted) {
+				fmt.Fprintf(stderr, "ramify %s: writing standard output: %v\n", c.name, unwrapPath(out.err))
+				return 1
+			}
+			return code
 		}
 	}
-	fmt.Fprintf(stderr, "ramify: unknown command %q (commands: %s)\n", args[0], names())
-	return 2
+	fmt.Fprintf(stderr, "ramify: unknown command %q (commands: %s; see 'ramify help')\n", args[0], names())
+	return exitUsage
 }
 
 const version = "0.1.0"

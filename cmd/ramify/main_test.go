@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 )
 
 // runCLI runs the program in-process and returns its exit status and output.
@@ -132,21 +133,33 @@ func TestWalkReproducible(t *testing.T) {
 	}
 }
 
-// TestWalkInterrupted checks that a cancelled run still prints its estimates,
-// marked partial, and exits with the status of an interrupted program.
+// TestWalkInterrupted checks that a run cancelled while the walkers run
+// still prints the estimates of those that finished, marked partial, and
+// exits with the status of an interrupted program; and that one cancelled
+// before anything finished says so and exits the same way.
 func TestWalkInterrupted(t *testing.T) {
-	ctx, cancel := context.WithCancel(context.Background())
-	cancel()
-	code, out, errs := runCLI(t, ctx, "walk", "../../examples/fork.toml", "--from", "fork", "--particles", "1000000", "--json")
+	ctx, cancel := context.WithTimeout(context.Background(), 300*time.Millisecond)
+	defer cancel()
+	code, out, errs := runCLI(t, ctx, "walk", "../../examples/fork.toml", "--from", "fork", "--particles", "1e12", "--json")
 	if code != exitInterrupted {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var got struct{ Partial bool }
+	var got struct {
+		Partial             bool
+		Finished, Particles int64
+	}
 	if err := json.Unmarshal([]byte(out), &got); err != nil {
 		t.Fatal(err)
 	}
-	if !got.Partial {
-		t.Errorf("cancelled run not marked partial")
+	if !got.Partial || got.Finished <= 0 || got.Finished >= got.Particles {
+		t.Errorf("cancelled run: partial %v, %d of %d finished", got.Partial, got.Finished, got.Particles)
+	}
+
+	ctx, cancel = context.WithCancel(context.Background())
+	cancel()
+	code, out, errs = runCLI(t, ctx, "walk", "../../examples/fork.toml", "--from", "fork", "--particles", "1000000", "--json")
+	if code != exitInterrupted || out != "" || !strings.Contains(errs, "interrupted") {
+		t.Errorf("cancelled at once: exit %d, stdout %q, stderr %q", code, out, errs)
 	}
 }
 

@@ -6,7 +6,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"strconv"
 	"text/tabwriter"
 
@@ -19,7 +18,7 @@ const solveExamples = `  ramify solve examples/handrail.toml
   ramify solve net.toml --method grid --cells 200 --field field.csv
 `
 
-func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
+func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("solve", "solve [flags] FILE", solveExamples, stderr)
 	method := fs.String("method", "auto", "edge elements: exact, grid, or auto (exact where coefficients are constant)")
 	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
@@ -33,12 +32,15 @@ func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
-		return fail(stderr, "solve", err)
+		return badFlag(stderr, "solve", err)
 	}
 	if *cells < 0 {
-		return fail(stderr, "solve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
+		return badFlag(stderr, "solve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
 	}
-	net, err := load(file)
+	if err := checkOutputs([]string{file}, outTarget{flag: "--field", path: *field}); err != nil {
+		return badFlag(stderr, "solve", err)
+	}
+	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
@@ -46,12 +48,14 @@ func runSolve(_ context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
-	sol, err := graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: *cells})
+	sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
+		return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: *cells})
+	})
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
 	if *field != "" {
-		if err := writeField(*field, sol); err != nil {
+		if err := writeField(*field, file, sol, stderr); err != nil {
 			return fail(stderr, "solve", err)
 		}
 	}
@@ -233,26 +237,28 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 	fmt.Fprintln(w, caution)
 }
 
-// writeField writes edge,x,u rows for every edge to path.
-func writeField(path string, sol *graphpde.Solution) error {
-	f, err := os.Create(path)
-	if err != nil {
-		return err
-	}
-	cw := csv.NewWriter(f)
-	cw.Write([]string{"edge", "x", "u"})
-	var pts []graphpde.FieldPoint
-	for e := range sol.Net.Edges {
-		pts = sol.Sample(pts[:0], e)
-		id := sol.Net.Edges[e].ID
-		for _, p := range pts {
-			cw.Write([]string{id, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
+// writeField writes edge,x,u rows for every edge to path (never over the
+// input file) and says on stderr what it wrote.
+func writeField(path, input string, sol *graphpde.Solution, stderr io.Writer) error {
+	rows := 0
+	replaced, err := saveFile(path, []string{input}, func(w io.Writer) error {
+		cw := csv.NewWriter(w)
+		cw.Write([]string{"edge", "x", "u"})
+		var pts []graphpde.FieldPoint
+		for e := range sol.Net.Edges {
+			pts = sol.Sample(pts[:0], e)
+			id := sol.Net.Edges[e].ID
+			for _, p := range pts {
+				cw.Write([]string{id, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
+			}
+			rows += len(pts)
 		}
+		cw.Flush()
+		return cw.Error()
+	})
+	if err != nil {
+		return fmt.Errorf("--field %s: %w", path, err)
 	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
-		f.Close()
-		return err
-	}
-	return f.Close()
+	wrote(stderr, "solve", path, replaced, fmt.Sprintf("field at %d points on %s", rows, plural(len(sol.Net.Edges), "edge")))
+	return nil
 }

@@ -3,9 +3,9 @@ package main
 import (
 	"context"
 	"encoding/csv"
+	"errors"
 	"fmt"
 	"io"
-	"os"
 	"strconv"
 	"text/tabwriter"
 
@@ -36,7 +36,7 @@ type walkFlags struct {
 func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
 	return &walkFlags{
 		from:      fs.String("from", "", "start point of the walkers: NODE or EDGE@X (required)"),
-		particles: fs.Int64("particles", 100000, "number of walkers"),
+		particles: newCount(fs, "particles", 100000, "number of walkers (1e6 works too)"),
 		seed:      fs.Uint64("seed", 1, "random seed; the same seed gives the same numbers for any --workers"),
 		workers:   fs.Int("workers", 0, "parallel workers (0: all cores)"),
 		timeCap:   fs.Float64("time-cap", 0, "time after which a walker still out is reported as censored (0: automatic)"),
@@ -81,13 +81,16 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return code
 	}
 	if *wf.from == "" {
-		return fail(stderr, "walk", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
+		return badFlag(stderr, "walk", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
 	}
 	set, err := wf.settings(stderr)
 	if err != nil {
-		return fail(stderr, "walk", err)
+		return badFlag(stderr, "walk", err)
 	}
-	net, err := load(file)
+	if err := checkOutputs([]string{file}, outTarget{flag: "--samples", path: *wf.samples}); err != nil {
+		return badFlag(stderr, "walk", err)
+	}
+	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
@@ -100,10 +103,10 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		bar.Done()
 	}
 	if err != nil {
-		return fail(stderr, "walk", err)
+		return fail(stderr, "walk", walkError(err, "--samples keeps"))
 	}
 	if *wf.samples != "" {
-		if err := writeSamples(*wf.samples, net, res); err != nil {
+		if err := writeSamples(*wf.samples, file, net, res, stderr, "walk"); err != nil {
 			return fail(stderr, "walk", err)
 		}
 	}
@@ -247,29 +250,56 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 	fmt.Fprintln(w, "(± one standard error)")
 }
 
-func writeSamples(path string, net *graphpde.Network, r *montecarlo.Result) error {
-	f, err := os.Create(path)
-	if err != nil {
-		return err
-	}
-	cw := csv.NewWriter(f)
-	cw.Write([]string{"time", "exit"})
-	for _, s := range r.Samples {
-		var at string
-		switch {
-		case s.Node >= 0:
-			at = net.Nodes[s.Node].ID
-		case s.Node == -1:
-			at = "killed"
-		default:
-			at = "censored"
+// writeSamples writes every walker's exit time and fate to path (never over
+// the input file), and says on stderr what it wrote.
+func writeSamples(path, input string, net *graphpde.Network, r *montecarlo.Result, stderr io.Writer, cmd string) error {
+	replaced, err := saveFile(path, []string{input}, func(w io.Writer) error {
+		cw := csv.NewWriter(w)
+		cw.Write([]string{"time", "exit"})
+		for _, s := range r.Samples {
+			var at string
+			switch {
+			case s.Node >= 0:
+				at = net.Nodes[s.Node].ID
+			case s.Node == montecarlo.Killed:
+				at = "killed"
+			default:
+				at = "censored"
+			}
+			cw.Write([]string{strconv.FormatFloat(s.Time, 'g', 12, 64), at})
 		}
-		cw.Write([]string{strconv.FormatFloat(s.Time, 'g', 12, 64), at})
+		cw.Flush()
+		return cw.Error()
+	})
+	if err != nil {
+		return fmt.Errorf("--samples %s: %w", path, err)
 	}
-	cw.Flush()
-	if err := cw.Error(); err != nil {
-		f.Close()
-		return err
+	wrote(stderr, cmd, path, replaced, fmt.Sprintf("exit time and fate of %d walkers", len(r.Samples)))
+	return nil
+}
+
+// walkError rewrites the walker errors whose advice names library fields
+// into command-line terms; keeps names what holds the samples ("--samples
+// keeps", or "the exit-time comparison keeps").
+func walkError(err error, keeps string) error {
+	var me *montecarlo.MemoryError
+	if errors.As(err, &me) {
+		return fmt.Errorf("%s 16 bytes per walker: %d walkers need %s, above the limit of %s; lower --particles",
+			keeps, me.Particles, byteSize(16*float64(me.Particles)), byteSize(float64(me.Limit)))
 	}
-	return f.Close()
+	return err
+}
+
+// byteSize formats a byte count with a binary unit.
+func byteSize(b float64) string {
+	units := []string{"bytes", "KiB", "MiB", "GiB", "TiB", "PiB", "EiB"}
+	i := 0
+	for b >= 1024 && i < len(units)-1 {
+		b /= 1024
+		i++
+	}
+	if i == 0 {
+		return fmt.Sprintf("%.0f bytes", b)
+	}
+	return fmt.Sprintf("%.3g %s", b, units[i])
 }
