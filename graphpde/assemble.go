@@ -68,10 +68,16 @@ type system struct {
 }
 
 // edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
-// u'(L) = d[1]·(U0,UL) + g[1].
+// u'(L) = d[1]·(U0,UL) + g[1]. rs holds its row sums d[0][0] + d[0][1] and
+// d[1][0] + d[1][1], formed without cancellation (0 exactly without decay);
+// the elements set them for self-loops at least, whose node row gets only
+// them: a loop's d[0][0] and d[0][1] are large and nearly opposite, and
+// their rounded sum would swamp an e^{−Pe} small coupling of the node to the
+// rest of the network (docs/discretisation.md).
 type edgeMap struct {
-	d [2][2]float64
-	g [2]float64
+	d  [2][2]float64
+	g  [2]float64
+	rs [2]float64
 }
 
 func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
@@ -453,7 +459,7 @@ func (s *system) assemble(shift float64) {
 		pend.k, k.k = pend.cell(), k.cell()
 		da, db, ga, gb := condenseConstPair(pend.st, k.st, &pend.k, &k.k)
 		pend.kc, k.kc = pend.k.sweep(), k.k.sweep()
-		s.maps[pend.e], s.maps[e] = edgeMap{da, ga}, edgeMap{db, gb}
+		s.maps[pend.e], s.maps[e] = edgeMap{da, ga, pend.k.ends.rs}, edgeMap{db, gb, k.k.ends.rs}
 		pend = nil
 	}
 	if pend != nil {
@@ -488,6 +494,15 @@ func (s *system) addEdge(val []float64, e int) {
 		g1 = s.fixedValue(v1)
 	}
 	sl := s.eslot[e]
+	if v0 == v1 {
+		// A self-loop: U0 = UL, so only the row sums enter.
+		if r0 >= 0 {
+			a0, aL := ed.EndWeight(0), ed.EndWeight(1)
+			val[s.dslot[r0]] += -a0*m.rs[0] + aL*m.rs[1]
+			s.rhs[r0] += a0*m.g[0] - aL*m.g[1]
+		}
+		return
+	}
 	if r0 >= 0 {
 		a0 := ed.EndWeight(0)
 		val[s.dslot[r0]] += -a0 * m.d[0][0]

@@ -76,7 +76,10 @@ func (x *exactEl) linearize(_, _ float64) (edgeMap, float64) {
 	x.c = ed.C + s.shift*ed.Rho
 	x.f = s.edgeSource(x.e)
 	d, g := exactElement(x.a, x.b, x.c, x.f, x.L)
-	x.m = edgeMap{d, g}
+	x.m = edgeMap{d: d, g: g}
+	if ed.From == ed.To {
+		x.m.rs = exactRowSums(x.a, x.b, x.c, x.L)
+	}
 	return x.m, 0
 }
 
@@ -86,6 +89,14 @@ func (x *exactEl) recover(_, _ float64) bool { return true }
 // u'(x) from the end map of [x, L]. Cost O(1).
 func (x *exactEl) eval(at, U0, UL float64, _ []float64) (u, du float64) {
 	m := &x.m
+	if ed := &x.s.net.Edges[x.e]; ed.From == ed.To && (at <= 0 || at >= x.L) {
+		// A self-loop: U0 = UL, and the row sums carry it without
+		// cancellation.
+		if at <= 0 {
+			return U0, m.rs[0]*U0 + m.g[0]
+		}
+		return UL, m.rs[1]*UL + m.g[1]
+	}
 	switch {
 	case at <= 0:
 		return U0, m.d[0][0]*U0 + m.d[0][1]*UL + m.g[0]
@@ -124,7 +135,7 @@ func (x *constGridEl) linearize(_, _ float64) (edgeMap, float64) {
 	x.k = x.cell()
 	d, g := condenseConst(x.st, &x.k)
 	x.kc = x.k.sweep()
-	return edgeMap{d, g}, 0
+	return edgeMap{d, g, x.k.ends.rs}, 0
 }
 
 func (x *constGridEl) recover(U0, UL float64) bool {
@@ -167,7 +178,7 @@ func (x *varGridEl) linearize(_, _ float64) (edgeMap, float64) {
 		return a, b, c + shift*rho, f
 	})
 	x.ends = out
-	return edgeMap{d, g}, 0
+	return edgeMap{d, g, out.rs}, 0
 }
 
 func (x *varGridEl) recover(U0, UL float64) bool {

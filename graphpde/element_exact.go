@@ -98,6 +98,17 @@ func exactElement[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T)
 	return d, g
 }
 
+// exactRowSums returns the row sums of exactElement's map, u'(0) and u'(L)
+// for U0 = UL = 1 and f = 0, without forming d[0][0] + d[0][1] (two terms of
+// size |μ| + 1/L that cancel to 0 without decay). With u = 1 − w, w solves
+// the edge problem with source c and zero ends, so u'(0) = −w'(0) and
+// u'(L) = −w'(L) are −g of exactElement with f = c: −(c/a)∫v₀ and +(c/a)∫v_L,
+// exactly 0 for c = 0 and sums of positive terms for real c > 0 (derived).
+func exactRowSums[T scalar](a, b float64, c T, L float64) [2]T {
+	_, g := exactElement(a, b, c, c, L)
+	return [2]T{-g[0], -g[1]}
+}
+
 // exactValue returns u(x), 0 ≤ x ≤ L, for the problem of exactElement with
 // end values U0 and UL. It splits the edge at x and matches the derivatives of
 // the two sub-elements there,

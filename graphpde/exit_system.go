@@ -155,6 +155,16 @@ func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitL
 		d, g := exitElementT(el.a, el.b, c, f, el.L)
 		i, j := sys.unk[el.from], sys.unk[el.to]
 		w0, w1 := fromF[T](el.w0), fromF[T](el.w1)
+		if el.from == el.to {
+			// A self-loop: only the row sums of its map enter (see
+			// edgeMap), as −g of the element with source c.
+			if i >= 0 {
+				_, gc := exitElementT(el.a, el.b, c, c, el.L)
+				add(i, i, w0*gc[0]-w1*gc[1])
+				rhs[i] += w0*g[0] - w1*g[1]
+			}
+			continue
+		}
 		// From end: J = −α0 u'(0); to end: J = +α1 u'(L).
 		if i >= 0 {
 			add(i, i, -w0*d[0][0])
