@@ -1,0 +1,412 @@
+package graphpde
+
+import (
+	"fmt"
+	"math"
+)
+
+// Grid elements of edges with laws (docs/nonlinear.md, docs/discretisation.md).
+//
+// Quasilinear edge, ∂_x(a(x,u) ∂_x u) + b(x,u) ∂_x u − c(x,u) u + f(x,u) = 0:
+// vertices x_i = i·h, faces at (j+½)h with ū = (u_j + u_{j+1})/2 and the
+// exponentially fitted (Scharfetter–Gummel) coefficients
+//
+//	R_j = (a/h) B(−P),  L_j = (a/h) B(P),  P = b h / a,  B(P) = P/(eᴾ − 1),
+//
+// (R = L = a/h without drift), and the balance of vertex i
+//
+//	G_i = R_i (u_{i+1} − u_i) − L_{i−1} (u_i − u_{i−1}) + h (f_i − c_i u_i) = 0.
+//
+// It is monotone (non-negative neighbour coefficients) at any cell Péclet
+// number, conservative, and second order for smooth coefficients. The nodes
+// own the end half cells:
+//
+//	a(0) u'(0) = R_0 (u_1 − U0) + (h/2)(f_0 − c_0 U0),
+//	a(L) u'(L) = L_{n−1} (UL − u_{n−1}) − (h/2)(f_n − c_n UL).
+//
+// Fully nonlinear edge, E(x, u, ux, uxx) = 0 (generator sign, ∂E/∂uxx > 0):
+// at vertex i, uxx by the central second difference and ux by the central
+// difference where |∂E/∂ux|·h ≤ 2 ∂E/∂uxx (then the scheme is monotone and
+// second order), by the one-sided difference towards the side that ∂E/∂ux
+// points to elsewhere (monotone, first order); G_i = h·E. The end
+// derivative comes from the equation on the node's half cell: with
+// s = (u_1 − U0)/h, u'(0) = s − (h/2) X₀ where X₀ solves
+// E(0, U0, s − (h/2)X₀, X₀) = 0 (Newton in X₀; u'(L) likewise), which is
+// second order; where the half cell is not monotone (h·∂E/∂ux ≥ ∂E/∂uxx)
+// u'(0) = s.
+//
+// Rows are stored in flux sign: residual −G_i and the Jacobian of −G_i, whose
+// diagonal is positive and off-diagonals are ≤ 0 for a monotone law.
+
+// bernoulliD is B'(P) for B(P) = P/(eᴾ − 1): B'(P) = (B(P)/P)(1 − B(−P)),
+// with a series near 0.
+func bernoulliD(p float64) float64 {
+	if math.Abs(p) < 0.1 {
+		p2 := p * p
+		return -0.5 + p/6 - p*p2/180 + p*p2*p2/5040
+	}
+	return sgB(p) / p * (1 - sgB(-p))
+}
+
+// lawCoef evaluates coefficient c at (x, u), or returns the constant k.
+func lawCoef(c *Coef, x, u, k float64) (v, dv float64) {
+	if c == nil {
+		return k, 0
+	}
+	return c.Fn(x, u, 0)
+}
+
+// coefA returns the diffusivity of a quasilinear edge and its u-derivative.
+func (s *nlSystem) coefA(ed *Edge, x, u float64) (float64, float64) {
+	a0, _, _, _, _ := ed.Coeffs(x)
+	var l *Coef
+	if ed.Law != nil {
+		l = ed.Law.A
+	}
+	return lawCoef(l, x, u, a0)
+}
+
+// quasiCoefs returns a, b, c, f and their u-derivatives at (x, u).
+func quasiCoefs(ed *Edge, x, u float64) (a, da, b, db, c, dc, f, df float64) {
+	a0, b0, c0, f0, _ := ed.Coeffs(x)
+	l := ed.Law
+	a, da = lawCoef(l.A, x, u, a0)
+	b, db = lawCoef(l.B, x, u, b0)
+	c, dc = lawCoef(l.C, x, u, c0)
+	f, df = lawCoef(l.F, x, u, f0)
+	return
+}
+
+func edgeLawError(ed *Edge, x, u float64, q string, v float64, want, why string) *LawError {
+	return &LawError{Object: "edge", ID: ed.ID, X: x, U: u, Quantity: q, Value: v, Want: want, Why: why}
+}
+
+// quasiFace holds the fitted coefficients of a face and their derivatives in
+// either adjacent vertex value (the same for both: ū is their mean).
+type quasiFace struct{ r, l, dr, dl float64 }
+
+func (s *nlSystem) face(ed *Edge, j int, h, uj, uk float64) (quasiFace, error) {
+	x := (float64(j) + 0.5) * h
+	ub := 0.5 * (uj + uk)
+	a, da, b, db, _, _, _, _ := quasiCoefs(ed, x, ub)
+	if !(a > 0) || math.IsInf(a, 0) {
+		return quasiFace{}, edgeLawError(ed, x, ub, "diffusivity", a, "> 0 and finite", "the equation is not elliptic there")
+	}
+	if !finite(b) || !finite(da) || !finite(db) {
+		return quasiFace{}, edgeLawError(ed, x, ub, "drift", b, "finite", "")
+	}
+	if b == 0 && db == 0 {
+		return quasiFace{r: a / h, l: a / h, dr: 0.5 * da / h, dl: 0.5 * da / h}, nil
+	}
+	p := b * h / a
+	bm, bp := sgB(-p), sgB(p)
+	bdm, bdp := bernoulliD(-p), bernoulliD(p)
+	ra, rb := (bm+p*bdm)/h, -bdm
+	la, lb := (bp-p*bdp)/h, bdp
+	return quasiFace{r: a / h * bm, l: a / h * bp, dr: 0.5 * (ra*da + rb*db), dl: 0.5 * (la*da + lb*db)}, nil
+}
+
+// evalQuasi evaluates the interior rows and the end derivatives of
+// quasilinear edge e at end values U0, UL and interior values w.
+func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
+	ed := &s.net.Edges[e]
+	n, o := s.n[e], s.off[e]
+	L := ed.Length
+	h := L / float64(n)
+	in := w[o : o+n-1]
+	val := func(i int) float64 {
+		switch i {
+		case 0:
+			return U0
+		case n:
+			return UL
+		}
+		return in[i-1]
+	}
+	react := func(x, u float64) (g, dg float64, err error) {
+		_, _, _, _, c, dc, f, df := quasiCoefs(ed, x, u)
+		g, dg = f-c*u, df-c-u*dc
+		if !finite(g) || !finite(dg) {
+			return 0, 0, edgeLawError(ed, x, u, "f − c·u", g, "finite", "")
+		}
+		if dg > 0 {
+			s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂(f − c·u)/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(dg)))
+		}
+		return g, dg, nil
+	}
+	prev, err := s.face(ed, 0, h, U0, val(1))
+	if err != nil {
+		return err
+	}
+	dPrev := val(1) - U0
+	// From end.
+	{
+		g, dg, err := react(0, U0)
+		if err != nil {
+			return err
+		}
+		a, da := s.coefA(ed, 0, U0)
+		if !(a > 0) {
+			return edgeLawError(ed, 0, U0, "diffusivity", a, "> 0", "the equation is not elliptic there")
+		}
+		flux := prev.r*dPrev + 0.5*h*g
+		fU := prev.dr*dPrev - prev.r + 0.5*h*dg
+		fA := prev.r + prev.dr*dPrev
+		el := endLin{d: flux / a, dSelf: fU/a - flux*da/(a*a), dAdj: fA / a, w: ed.Weight[0]}
+		if el.w == 0 {
+			el.w, el.dw = a, da
+		}
+		s.end[e][0] = el
+	}
+	for i := 1; i < n; i++ {
+		ui, un := in[i-1], val(i+1)
+		cur, err := s.face(ed, i, h, ui, un)
+		if err != nil {
+			return err
+		}
+		dCur := un - ui
+		g, dg, err := react(float64(i)*h, ui)
+		if err != nil {
+			return err
+		}
+		G := cur.r*dCur - prev.l*dPrev + h*g
+		k := o + i - 1
+		s.ires[k] = -G
+		s.jc[k] = -(cur.r + cur.dr*dCur)
+		s.jb[k] = -(-cur.r + cur.dr*dCur - prev.l - prev.dl*dPrev + h*dg)
+		s.ja[k] = -(prev.l - prev.dl*dPrev)
+		if !finite(G) {
+			return edgeLawError(ed, float64(i)*h, ui, "balance", G, "finite", "")
+		}
+		prev, dPrev = cur, dCur
+	}
+	// To end.
+	g, dg, err := react(L, UL)
+	if err != nil {
+		return err
+	}
+	a, da := s.coefA(ed, L, UL)
+	if !(a > 0) {
+		return edgeLawError(ed, L, UL, "diffusivity", a, "> 0", "the equation is not elliptic there")
+	}
+	flux := prev.l*dPrev - 0.5*h*g // a(L) u'(L)
+	fU := prev.dl*dPrev + prev.l - 0.5*h*dg
+	fA := prev.dl*dPrev - prev.l
+	el := endLin{d: -flux / a, dSelf: -(fU/a - flux*da/(a*a)), dAdj: -fA / a, w: ed.Weight[1]}
+	if el.w == 0 {
+		el.w, el.dw = a, da
+	}
+	s.end[e][1] = el
+	return nil
+}
+
+// equation evaluates the edge equation and checks it.
+func (s *nlSystem) equation(ed *Edge, x, u, p, X float64) (E, Eu, Ep, EX float64, err error) {
+	E, Eu, Ep, EX = ed.Law.Equation.Fn(x, u, p, X)
+	if !finite(E) || !finite(Eu) || !finite(Ep) || !finite(EX) {
+		return 0, 0, 0, 0, edgeLawError(ed, x, u, "E", E, "finite", "with its derivatives")
+	}
+	if !(EX > 0) {
+		return 0, 0, 0, 0, edgeLawError(ed, x, u, "∂E/∂uxx", EX, "> 0", "the equation is not elliptic there")
+	}
+	if Eu > 0 {
+		s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂E/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(Eu)))
+	}
+	return E, Eu, Ep, EX, nil
+}
+
+// evalEquation evaluates the interior rows and the end derivatives of the
+// fully nonlinear edge e.
+func (s *nlSystem) evalEquation(e int, U0, UL float64, w []float64) error {
+	ed := &s.net.Edges[e]
+	n, o := s.n[e], s.off[e]
+	L := ed.Length
+	h := L / float64(n)
+	in := w[o : o+n-1]
+	val := func(i int) float64 {
+		switch i {
+		case 0:
+			return U0
+		case n:
+			return UL
+		}
+		return in[i-1]
+	}
+	for i := 1; i < n; i++ {
+		x := float64(i) * h
+		um, ui, up := val(i-1), in[i-1], val(i+1)
+		X := (up - 2*ui + um) / (h * h)
+		p := (up - um) / (2 * h)
+		E, Eu, Ep, EX, err := s.equation(ed, x, ui, p, X)
+		if err != nil {
+			return err
+		}
+		var ga, gb, gc float64 // ∂(hE)/∂u_{i−1}, ∂u_i, ∂u_{i+1}
+		switch {
+		case math.Abs(Ep)*h <= 2*EX:
+			ga, gb, gc = EX/h-Ep/2, h*Eu-2*EX/h, EX/h+Ep/2
+		case Ep > 0:
+			p = (up - ui) / h
+			if E, Eu, Ep, EX, err = s.equation(ed, x, ui, p, X); err != nil {
+				return err
+			}
+			ga, gb, gc = EX/h, h*Eu-2*EX/h-Ep, EX/h+Ep
+		default:
+			p = (ui - um) / h
+			if E, Eu, Ep, EX, err = s.equation(ed, x, ui, p, X); err != nil {
+				return err
+			}
+			ga, gb, gc = EX/h-Ep, h*Eu-2*EX/h+Ep, EX/h
+		}
+		k := o + i - 1
+		s.ires[k] = -h * E
+		s.ja[k], s.jb[k], s.jc[k] = -ga, -gb, -gc
+	}
+	// Ends: the equation on the node's half cell.
+	for side := 0; side < 2; side++ {
+		x, U, adj := 0.0, U0, val(1)
+		sg := 1.0 // u'(end) = s − sg·(h/2)·X
+		if side == 1 {
+			x, U, adj = L, UL, val(n-1)
+			sg = -1
+		}
+		sl := (adj - U) / h
+		if side == 1 {
+			sl = (U - adj) / h
+		}
+		X := s.xEnd[e][side]
+		var p, Eu, Ep, EX, gp float64
+		mono := true
+		for it := 0; ; it++ {
+			p = sl - sg*0.5*h*X
+			var E float64
+			var err error
+			if E, Eu, Ep, EX, err = s.equation(ed, x, U, p, X); err != nil {
+				return err
+			}
+			gp = EX - sg*0.5*h*Ep
+			if gp <= 0.5*EX {
+				mono = false
+				break
+			}
+			dX := E / gp
+			X -= dX
+			if math.Abs(dX) <= 1e-13*(1+math.Abs(X)) || it == 40 {
+				p = sl - sg*0.5*h*X
+				if _, Eu, Ep, EX, err = s.equation(ed, x, U, p, X); err != nil {
+					return err
+				}
+				gp = EX - sg*0.5*h*Ep
+				if gp <= 0.5*EX {
+					mono = false
+				}
+				break
+			}
+		}
+		var dS, dU float64 // ∂u'(end)/∂sl and explicit ∂u'(end)/∂U
+		if mono {
+			s.xEnd[e][side] = X
+			dS, dU = EX/gp, sg*0.5*h*Eu/gp
+		} else {
+			p, dS, dU = sl, 1, 0
+			s.xEnd[e][side] = 0
+		}
+		el := endLin{w: ed.Weight[side]}
+		if side == 0 {
+			// sl = (u_1 − U0)/h
+			el.d, el.dSelf, el.dAdj = p, -dS/h+dU, dS/h
+		} else {
+			// sl = (UL − u_{n−1})/h; d = −u'(L)
+			el.d, el.dSelf, el.dAdj = -p, -(dS/h + dU), dS/h
+		}
+		s.end[e][side] = el
+	}
+	return nil
+}
+
+// nlGridEl is the element of a grid edge in a nonlinear solve (Law edges
+// and linear grid edges alike), as kept by a Solution and used by the
+// nonlinear system: eval interpolates the grid and gives the end
+// derivatives of the solve; linearize and recover run one Newton
+// condensation of the edge inside its system (s), which a Solution drops.
+type nlGridEl struct {
+	s      *nlSystem
+	e, n   int
+	L      float64
+	d0, dL float64 // u'(0), u'(L) of the solution
+	// Linearisation point of the last linearize.
+	U0, UL float64
+}
+
+func (x *nlGridEl) unknowns() int { return x.n - 1 }
+func (x *nlGridEl) cells() int    { return x.n }
+
+// eval implements element: end derivatives as solved, linear interpolation
+// inside.
+func (x *nlGridEl) eval(at, U0, UL float64, in []float64) (u, du float64) {
+	switch {
+	case at <= 0:
+		return U0, x.d0
+	case at >= x.L:
+		return UL, x.dL
+	}
+	ge := gridEnds{n: x.n}
+	return gridEval(&ge, x.L, at, U0, UL, in)
+}
+
+// linearize implements element for a Law edge inside its system: it
+// evaluates the edge at (U0, UL) and the system's interior, eliminates the
+// interior of the Newton linearisation and returns the end map of the next
+// iterate's end derivatives with the interior residual's max-norm. It panics
+// on an element detached from its system (a Solution's) or on a law that
+// fails its checks (the system's own Newton loop reports those as errors).
+func (x *nlGridEl) linearize(U0, UL float64) (edgeMap, float64) {
+	s := x.s
+	if s == nil {
+		panic("graphpde: linearize of a solved nonlinear element")
+	}
+	e := x.e
+	var err error
+	if s.kind[e] == nlQuasi {
+		err = s.evalQuasi(e, U0, UL, s.w)
+	} else {
+		err = s.evalEquation(e, U0, UL, s.w)
+	}
+	if err == nil {
+		err = s.condense(e)
+	}
+	if err != nil {
+		panic("graphpde: " + err.Error())
+	}
+	x.U0, x.UL = U0, UL
+	o := s.off[e]
+	b := s.ires[o : o+x.n-1]
+	s.forward(e, s.ires, s.dw, -1)
+	cd := &s.cond[e]
+	el := &s.end[e]
+	var m edgeMap
+	// u'(0) = d_0; u'(L) = −d_1; affine in the next end values.
+	m.d[0] = cd.c[0]
+	m.d[1] = [2]float64{-cd.c[1][0], -cd.c[1][1]}
+	m.g[0] = el[0].d + cd.k[0] - cd.c[0][0]*U0 - cd.c[0][1]*UL
+	m.g[1] = -(el[1].d + cd.k[1] - cd.c[1][0]*U0 - cd.c[1][1]*UL)
+	res := 0.0
+	for _, r := range b {
+		res = math.Max(res, math.Abs(r))
+	}
+	return m, res
+}
+
+// recover implements element: the interior Newton update for the end values
+// of the node solve, added to the system's interior.
+func (x *nlGridEl) recover(U0, UL float64) bool {
+	s := x.s
+	o := s.off[x.e]
+	s.back(x.e, U0-x.U0, UL-x.UL, s.dw)
+	ok := true
+	for i := o; i < o+x.n-1; i++ {
+		s.w[i] += s.dw[i]
+		ok = ok && finite(s.w[i])
+	}
+	return ok
+}
