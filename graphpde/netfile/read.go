@@ -22,8 +22,8 @@ import (
 // Keys accepted in each table, in the order the documentation lists them.
 var (
 	networkKeys  = []string{"name", "description"}
-	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split"}
-	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells"}
+	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split", "initial"}
+	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells", "initial"}
 	defaultsKeys = edgeKeys[3:]
 	topKeys      = []string{"network", "defaults", "node", "edge"}
 )
@@ -424,7 +424,7 @@ func (t *tbl) edgeValues(ev *edgeVals) error {
 	}
 	for _, k := range t.keys() {
 		switch k {
-		case "id", "from", "to":
+		case "id", "from", "to", "initial":
 		default:
 			if err := t.edgeValue(k, ev); err != nil {
 				return err
@@ -603,6 +603,10 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 			nd.XY = &xy
 		case "fixed":
 			nd.Law.Value, err = t.ruled(k, finite)
+		case "initial":
+			var v float64
+			v, err = t.ruled(k, finite)
+			nd.Initial = &v
 		case "leak", "inject", "capacity", "split":
 			if fixed {
 				return nd, nil, t.fail(k, k+" is not allowed on a fixed node (it has no balance law; remove fixed or "+k+")")
@@ -667,6 +671,14 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 		}
 	}
 	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
+	if _, ok := t.m["initial"]; ok {
+		// a number for now; expressions in x come with the formula reader
+		v, err := t.ruled("initial", finite)
+		if err != nil {
+			return err
+		}
+		e.Law = &graphpde.EdgeLaw{Initial: &graphpde.Coef{Fn: func(x, u, t float64) (float64, float64) { return v, 0 }, Src: strconv.FormatFloat(v, 'g', -1, 64)}}
+	}
 	if _, err := net.AddEdge(e); err != nil {
 		return rd.modelError(t, err, func(field string) int {
 			if field == "weight" && ev.given[slices.Index(defaultsKeys, "weights")] {

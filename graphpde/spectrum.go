@@ -1,0 +1,663 @@
+package graphpde
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// Spectrum of a network.
+//
+// The eigenproblem is
+//
+//	(a u')' + b u' − c u = −λ ρ u   on every edge,
+//	u = 0 at fixed nodes,   Σ_e J_e + β u = λ ρ_v u   at balance nodes,
+//
+// (docs/time-and-spectrum.md). Its eigenvalues are the decay rates of the
+// transient problem: a disturbance of the steady field dies out like e^{−λ₁ t},
+// so 1/λ₁ is the network's slowest relaxation time.
+//
+// For a self-adjoint network (no drift, the same weight at both ends of every
+// edge, constant coefficients) the eigenvalues are real and are found with
+// exact elements by the Wittrick–Williams count (Wittrick & Williams, Q. J.
+// Mech. Appl. Math. 24 (1971) 263 — from memory): with K(λ) the node matrix
+// of the exact elements at decay c − λρ and leak β − λρ_v, the number of
+// eigenvalues below λ is
+//
+//	N(λ) = neg K(λ) + Σ_e #{clamped–clamped eigenvalues of edge e below λ},
+//
+// neg the number of negative pivots of the LDLᵀ factorisation of K(λ)
+// (Sylvester's law of inertia). N is exact, so no eigenvalue is missed and
+// multiplicities are the jumps of N — also where several edges' sin(kL)
+// vanish together, where a secular Σ cot equation loses roots. Each
+// eigenvalue is bracketed by N and refined by a secant on 1/(eᵀK(λ)⁻¹e),
+// safeguarded by bisection, to a relative width of about 1e-13.
+//
+// Other networks (coefficients varying along edges, drift, unequal end
+// weights) are discretised on the finite-volume grid of the steady solver and
+// solved by shift-invert Arnoldi with the node-system factorisation; with
+// drift or unequal weights the eigenvalues may be complex and are reported
+// as such.
+
+// SpectrumSettings controls Spectrum. A nil *SpectrumSettings means the
+// defaults.
+type SpectrumSettings struct {
+	// Count is the number of smallest eigenvalues wanted, multiplicities
+	// counted; 0 means 10.
+	Count int
+	// Method: MethodAuto (the zero value) counts with exact elements where
+	// the network allows it and uses the grid otherwise; MethodExact
+	// refuses networks that need the grid; MethodGrid always uses it.
+	Method Method
+	// Cells is the number of grid cells of an edge whose Edge.Cells is 0
+	// (grid method only); 0 means DefaultCells.
+	Cells int
+	// Context, when non-nil, stops the computation early; the eigenvalues
+	// found so far are returned with Status IterationLimit.
+	Context context.Context
+}
+
+// Eigenvalue is one eigenvalue of a network with its multiplicity.
+type Eigenvalue struct {
+	Value float64 // real part of λ (1/time)
+	Imag  float64 // imaginary part (0 for self-adjoint networks)
+	// Multiplicity is the number of independent modes (exact method); on
+	// the grid, the number of computed eigenvalues that agree to the
+	// accuracy of the computation.
+	Multiplicity int
+	// Err bounds |λ − Value| for the numerical solution of the problem
+	// stated (the exact method's bracket width; on the grid the Arnoldi
+	// residual bound, which does not include the discretisation error).
+	Err float64
+}
+
+// SpectrumResult is the outcome of Spectrum.
+type SpectrumResult struct {
+	// Eigenvalues in ascending order of real part (then imaginary part),
+	// multiplicities counted once each.
+	Eigenvalues []Eigenvalue
+	// Method used: "exact" (Wittrick–Williams count) or "grid" (shift-invert
+	// Arnoldi on the finite-volume grid).
+	Method string
+	// SelfAdjoint reports whether the problem is self-adjoint (real
+	// eigenvalues).
+	SelfAdjoint bool
+	Status      Status
+	Stats       SpectrumStats
+}
+
+// SpectrumStats describes the work of Spectrum.
+type SpectrumStats struct {
+	Factorizations int // factorisations of the node or grid matrix
+	Unknowns       int // unknowns of that matrix
+	Time           time.Duration
+}
+
+// RelaxationTime returns 1/λ₁, the time constant of the slowest decaying
+// mode, or +Inf when the smallest eigenvalue is 0 (a network that nothing
+// anchors keeps its mean forever) and NaN when there are no eigenvalues.
+func (r *SpectrumResult) RelaxationTime() float64 {
+	if len(r.Eigenvalues) == 0 {
+		return math.NaN()
+	}
+	l := r.Eigenvalues[0].Value
+	if l <= 0 {
+		return math.Inf(1)
+	}
+	return 1 / l
+}
+
+// Spectrum returns the smallest eigenvalues of the network (see the top of
+// this file). It fails on a network with nonlinear laws or laws that depend
+// on time, and when the grid is needed but MethodExact was asked for.
+func Spectrum(net *Network, set *SpectrumSettings) (*SpectrumResult, error) {
+	var s SpectrumSettings
+	if set != nil {
+		s = *set
+	}
+	if s.Count < 0 {
+		return nil, fmt.Errorf("count = %d must be ≥ 0", s.Count)
+	}
+	if s.Count == 0 {
+		s.Count = 10
+	}
+	if s.Context == nil {
+		s.Context = context.Background()
+	}
+	if err := spectrumCheck(net); err != nil {
+		return nil, err
+	}
+	t0 := time.Now()
+	exactOK, why := spectrumExactOK(net)
+	var res *SpectrumResult
+	var err error
+	switch {
+	case s.Method == MethodGrid || (s.Method == MethodAuto && !exactOK):
+		res, err = spectrumGrid(net, &s)
+	case !exactOK:
+		return nil, errors.New(why + ": method exact needs a self-adjoint network with constant coefficients (use auto or grid)")
+	default:
+		res, err = spectrumExact(net, &s)
+	}
+	if res != nil {
+		res.Stats.Time = time.Since(t0)
+	}
+	return res, err
+}
+
+// spectrumCheck rejects laws for which the eigenproblem is not defined.
+func spectrumCheck(net *Network) error {
+	for i := range net.Nodes {
+		nd := &net.Nodes[i]
+		if nd.Nonlinear != nil {
+			return &ModelError{Object: "node", ID: nd.ID, Reason: "has a nonlinear law: the spectrum is that of a linear network"}
+		}
+	}
+	for i := range net.Edges {
+		ed := &net.Edges[i]
+		if l := ed.Law; l != nil {
+			if l.Equation != nil {
+				return &ModelError{Object: "edge", ID: ed.ID, Reason: "has a nonlinear equation: the spectrum is that of a linear network"}
+			}
+			for _, c := range []*Coef{l.A, l.B, l.C, l.Rho} {
+				if c != nil && (c.UsesU || c.UsesT) {
+					return &ModelError{Object: "edge", ID: ed.ID, Reason: fmt.Sprintf("coefficient %q depends on u or t: the spectrum is that of a linear, time-invariant network", c.Src)}
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// spectrumExactOK reports whether every edge is drift-free with constant
+// coefficients and equal end weights, and if not, why.
+func spectrumExactOK(net *Network) (bool, string) {
+	for i := range net.Edges {
+		ed := &net.Edges[i]
+		switch {
+		case !ed.Constant() || (ed.Law != nil && (ed.Law.A != nil || ed.Law.B != nil || ed.Law.C != nil || ed.Law.Rho != nil)):
+			return false, fmt.Sprintf("edge %q has coefficients that vary along it", ed.ID)
+		case ed.B != 0:
+			return false, fmt.Sprintf("edge %q has drift", ed.ID)
+		case ed.EndWeight(0) != ed.EndWeight(1) && net.Nodes[ed.From].Law.Kind != vertex.Fixed && net.Nodes[ed.To].Law.Kind != vertex.Fixed:
+			// (the weight at a fixed end does not enter the problem)
+			return false, fmt.Sprintf("edge %q has different weights at its ends", ed.ID)
+		}
+	}
+	return true, ""
+}
+
+// wwSystem is the node matrix K(λ) of the exact elements, for the
+// Wittrick–Williams count.
+//
+// Unknowns: the balance nodes and one point inside every edge (see countAt).
+// They are numbered in elimination order and factored with the Natural
+// ordering: the nodes in minimum-degree order, and each edge's inner point
+// right after the later of its ends. Eliminating an edge's inner point before
+// its ends would, near a clamped eigenvalue of the edge, leave a pivot of
+// the size of the distance to it and spread its inverse over the ends,
+// where it cancels (no pivoting): counts would then be wrong within about
+// √eps of such an eigenvalue. With the ends first, the small pivot comes
+// last and the count is right to round-off.
+type wwSystem struct {
+	net   *Network
+	unk   []int // node → unknown or −1
+	mid   []int // edge → unknown of its inner point
+	m     int   // balance nodes
+	mat   *nodesys.Matrix[float64]
+	fac   *nodesys.Factor[float64]
+	e, x  []float64
+	facts int
+	scale float64 // size of the smallest eigenvalues, for absolute nudges
+}
+
+func newWW(net *Network) *wwSystem {
+	nn, ne := len(net.Nodes), len(net.Edges)
+	w := &wwSystem{net: net, unk: make([]int, nn), mid: make([]int, ne)}
+	// Graph of the balance nodes, compressed.
+	bal := make([]int, nn) // node → balance index or −1
+	for v := range net.Nodes {
+		bal[v] = -1
+		if net.Nodes[v].Law.Kind != vertex.Fixed {
+			bal[v] = w.m
+			w.m++
+		}
+	}
+	ptr := make([]int, w.m+1)
+	for _, ed := range net.Edges {
+		if i, j := bal[ed.From], bal[ed.To]; i >= 0 && j >= 0 && i != j {
+			ptr[i+1]++
+			ptr[j+1]++
+		}
+	}
+	for i := 0; i < w.m; i++ {
+		ptr[i+1] += ptr[i]
+	}
+	adj := make([]int, ptr[w.m])
+	fill := append([]int(nil), ptr[:w.m]...)
+	for _, ed := range net.Edges {
+		if i, j := bal[ed.From], bal[ed.To]; i >= 0 && j >= 0 && i != j {
+			adj[fill[i]] = j
+			fill[i]++
+			adj[fill[j]] = i
+			fill[j]++
+		}
+	}
+	perm := nodesys.MinimumDegreeOrder(w.m, ptr, adj)
+	pos := make([]int, w.m) // balance index → place in perm
+	for k, i := range perm {
+		pos[i] = k
+	}
+	// Edges by the later of their balance ends (−1: none).
+	byEnd := make([][]int, w.m)
+	next := 0
+	for e, ed := range net.Edges {
+		last := -1
+		for _, v := range []int{ed.From, ed.To} {
+			if i := bal[v]; i >= 0 && (last < 0 || pos[i] > pos[last]) {
+				last = i
+			}
+		}
+		if last < 0 {
+			w.mid[e] = next // an edge between fixed nodes: alone
+			next++
+			continue
+		}
+		byEnd[last] = append(byEnd[last], e)
+	}
+	node := make([]int, w.m) // balance index → node
+	for v := range net.Nodes {
+		if bal[v] >= 0 {
+			node[bal[v]] = v
+		}
+	}
+	for v := range w.unk {
+		w.unk[v] = -1
+	}
+	for _, i := range perm {
+		w.unk[node[i]] = next
+		next++
+		for _, e := range byEnd[i] {
+			w.mid[e] = next
+			next++
+		}
+	}
+	w.mat = nodesys.NewMatrix[float64](next)
+	sym := true
+	// The pivots of an indefinite K(λ) may be small after cancellation
+	// without K being nearly singular (no pivoting); only their signs are
+	// used, so only pivots that vanish to round-off are refused.
+	w.fac = nodesys.NewFactor[float64](&nodesys.Settings{Ordering: nodesys.Natural, Symmetric: &sym, PivotTol: 0x1p-60})
+	w.e = make([]float64, next)
+	w.x = make([]float64, next)
+	for v := range net.Nodes {
+		if i := w.unk[v]; i >= 0 {
+			// a fixed vector with no special structure, so that no
+			// eigenvector is orthogonal to it except by accident
+			w.e[i] = 1 + 0.5*math.Sin(1.7*float64(v)+0.3)
+		}
+	}
+	return w
+}
+
+// splitAt is where an edge is split when λ is close to one of its
+// clamped eigenvalues (2 − φ, so that the poles of the two pieces fall
+// between those of the whole edge).
+const splitAt = 0.3819660112501051
+
+// edgeDyn returns the diagonal and off-diagonal entries of the exact
+// element of a piece of length L of edge ed in K(λ), per unit weight α, and
+// the number of its clamped–clamped eigenvalues below λ:
+//
+//	q = (λρ − c)/a > 0, k = √q:  diag = k cot kL,  off = −k / sin kL,
+//	q < 0, κ = √−q:              diag = κ coth κL, off = −κ / sinh κL,
+//
+// both written with z = kL (or κL) as (1/L)·z cot z and (1/L)·z/sin z so that
+// q → 0 is smooth, and in exponentially scaled form for large κL. It also
+// returns |sin z| (1 when q ≤ 0), the distance from a pole.
+func edgeDyn(ed *Edge, L, lam float64) (diag, off float64, clamped int, dist float64) {
+	a, c, rho := ed.A, ed.C, ed.Rho
+	q := (lam*rho - c) / a
+	dist = 1
+	switch {
+	case q > 0:
+		z := math.Sqrt(q) * L
+		clamped = int(math.Ceil(z/math.Pi)) - 1
+		if z < 1e-4 {
+			z2 := z * z
+			diag = 1 - z2/3
+			off = -(1 + z2/6)
+		} else {
+			s, co := math.Sincos(z)
+			diag = z * co / s
+			off = -z / s
+			dist = math.Abs(s)
+		}
+	case q < 0:
+		z := math.Sqrt(-q) * L
+		if z < 1e-4 {
+			z2 := z * z
+			diag = 1 + z2/3
+			off = -(1 - z2/6)
+		} else {
+			e2 := math.Exp(-2 * z)
+			den := -math.Expm1(-2 * z)
+			diag = z * (1 + e2) / den
+			off = -2 * z * math.Exp(-z) / den
+		}
+	default:
+		diag, off = 1, -1
+	}
+	return diag / L, off / L, clamped, dist
+}
+
+// count returns N(λ) and g(λ) = 1/(eᵀK(λ)⁻¹e). A pivot too small to be
+// trusted means λ is (nearly) an eigenvalue: λ is then moved by a few units
+// of round-off and the count repeated; the value used is returned as
+// lamUsed.
+func (w *wwSystem) count(lam float64) (n int, g, lamUsed float64, err error) {
+	for try := 0; ; try++ {
+		n, g, err = w.countAt(lam)
+		if err == nil {
+			return n, g, lam, nil
+		}
+		var se *nodesys.SingularError
+		if !errors.As(err, &se) || try == 8 {
+			return 0, 0, lam, err
+		}
+		lam += math.Max(math.Abs(lam), w.scale) * 0x1p-46 * float64(int(1)<<try)
+	}
+}
+
+// countAt assembles K(λ) and factors it. Unknowns: the balance nodes, then
+// one per edge for a point inside it (at splitAt of its length). An edge
+// whose λ is closer to one of its own clamped eigenvalues (where its entries
+// are huge and cancel in the pivots) than those of its two pieces is split
+// there; otherwise the point's unknown is decoupled (row of the identity,
+// one positive pivot). Splitting does not change N(λ) (the count holds for
+// any subdivision), only the conditioning.
+func (w *wwSystem) countAt(lam float64) (int, float64, error) {
+	net := w.net
+	clamped := 0
+	w.mat.ZeroValues()
+	for v := range net.Nodes {
+		if i := w.unk[v]; i >= 0 {
+			l := net.Nodes[v].Law
+			w.mat.Add(i, i, l.Leak-lam*l.Capacity)
+		}
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		i, j := w.unk[ed.From], w.unk[ed.To]
+		mid := w.mid[e]
+		a0, a1 := ed.EndWeight(0), ed.EndWeight(1)
+		if i < 0 {
+			a0 = a1 // (the weight at a fixed end does not enter)
+		} else if j < 0 {
+			a1 = a0
+		}
+		L := ed.Length
+		diag, off, cl, dist := edgeDyn(ed, L, lam)
+		d1, o1, c1, dist1 := edgeDyn(ed, splitAt*L, lam)
+		d2, o2, c2, dist2 := edgeDyn(ed, (1-splitAt)*L, lam)
+		split := dist < 0.1 && dist < math.Min(dist1, dist2)
+		if !split {
+			d1, o1, d2, o2 = 0, 0, 0, 0
+			w.mat.Add(mid, mid, 1)
+			clamped += cl
+		} else {
+			diag, off = 0, 0
+			w.mat.Add(mid, mid, a0*(d1+d2))
+			clamped += c1 + c2
+		}
+		if ed.From == ed.To {
+			if i >= 0 {
+				if split {
+					w.mat.Add(i, i, a0*(d1+d2))
+					w.mat.Add(i, mid, a0*(o1+o2))
+					w.mat.Add(mid, i, a0*(o1+o2))
+				} else {
+					// diag + off on both ends: −2k tan(kL/2) without
+					// the cancellation of cot and 1/sin
+					w.mat.Add(i, i, 2*a0*loopDyn(ed, lam))
+					w.mat.Add(i, mid, 0)
+					w.mat.Add(mid, i, 0)
+				}
+			}
+			continue
+		}
+		if i >= 0 {
+			w.mat.Add(i, i, a0*(diag+d1))
+			w.mat.Add(i, mid, a0*o1)
+			w.mat.Add(mid, i, a0*o1)
+		}
+		if j >= 0 {
+			w.mat.Add(j, j, a1*(diag+d2))
+			w.mat.Add(j, mid, a1*o2)
+			w.mat.Add(mid, j, a1*o2)
+		}
+		if i >= 0 && j >= 0 {
+			// a0 = a1 here (spectrumExactOK)
+			w.mat.Add(i, j, a0*off)
+			w.mat.Add(j, i, a0*off)
+		}
+	}
+	w.facts++
+	if err := w.fac.Factorize(w.mat); err != nil {
+		return 0, 0, err
+	}
+	neg, ok := w.fac.Inertia()
+	if !ok {
+		return 0, 0, errors.New("graphpde: node matrix not factored symmetrically")
+	}
+	if w.m == 0 {
+		return clamped + neg, math.NaN(), nil
+	}
+	w.fac.SolveTo(w.x, w.e)
+	h := 0.0
+	for i, v := range w.x {
+		h += w.e[i] * v
+	}
+	return clamped + neg, 1 / h, nil
+}
+
+// loopDyn returns (diag + off) per unit weight for a self-loop of length L:
+// −k tan(kL/2) for q = (λρ − c)/a = k² > 0, κ tanh(κL/2) for q = −κ² < 0.
+func loopDyn(ed *Edge, lam float64) float64 {
+	q := (lam*ed.Rho - ed.C) / ed.A
+	switch {
+	case q > 0:
+		k := math.Sqrt(q)
+		return -k * math.Tan(k*ed.Length/2)
+	case q < 0:
+		k := math.Sqrt(-q)
+		return k * math.Tanh(k*ed.Length/2)
+	}
+	return 0
+}
+
+// spectrumExact finds the s.Count smallest eigenvalues by the count.
+func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
+	w := newWW(net)
+	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
+	// Scale of the eigenvalues: the smallest clamped eigenvalue of an edge
+	// (or a node's own rate β/ρ_v).
+	scale := math.Inf(1)
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		scale = math.Min(scale, (ed.C+ed.A*(math.Pi/ed.Length)*(math.Pi/ed.Length))/ed.Rho)
+	}
+	for v := range net.Nodes {
+		if l := net.Nodes[v].Law; l.Kind == vertex.Balance && l.Capacity > 0 && l.Leak > 0 {
+			scale = math.Min(scale, l.Leak/l.Capacity)
+		}
+	}
+	if math.IsInf(scale, 1) {
+		scale = 1
+	}
+	w.scale = scale
+	absTol := 1e-13 * scale
+	type eval struct {
+		lam, g float64
+		n      int
+	}
+	// Bracket: N(lo) = 0 (every eigenvalue is ≥ 0), N(hi) ≥ Count.
+	// Every evaluation narrows the bracket of every later eigenvalue.
+	evals := []eval{{lam: -0.7 * scale, g: math.NaN()}}
+	hi := eval{lam: 1.3 * scale}
+	var err error
+	for {
+		hi.n, hi.g, hi.lam, err = w.count(hi.lam)
+		if err != nil {
+			return nil, err
+		}
+		evals = append(evals, hi)
+		if hi.n >= s.Count || hi.lam > 1e300 {
+			break // (fewer eigenvalues than asked: a network of nodes only)
+		}
+		hi = eval{lam: 2 * hi.lam}
+	}
+	bracket := func(k int) (eval, eval) {
+		l, h := eval{lam: math.Inf(-1)}, eval{lam: math.Inf(1)}
+		for _, ev := range evals {
+			if ev.n < k && ev.lam > l.lam {
+				l = ev
+			}
+			if ev.n >= k && ev.lam < h.lam {
+				h = ev
+			}
+		}
+		return l, h
+	}
+	found := 0
+	for found < s.Count {
+		if s.Context.Err() != nil {
+			res.Status = IterationLimit
+			break
+		}
+		k := found + 1
+		l, h := bracket(k)
+		if math.IsInf(h.lam, 1) {
+			break
+		}
+		var prev, last *eval
+		shrink := h.lam - l.lam
+		var lam float64
+		done := false
+		// add records an evaluation and narrows the bracket with it.
+		add := func(ev eval) {
+			evals = append(evals, ev)
+			if ev.n < k && ev.lam > l.lam {
+				l = ev
+			} else if ev.n >= k && ev.lam < h.lam {
+				h = ev
+			}
+		}
+		// probe counts on both sides of an estimate c, at distance d and,
+		// where K is singular to working precision there too (or nothing
+		// narrows), at 4d, 16d, … within the bracket. It reports whether
+		// the bracket narrowed.
+		probe := func(c, d float64) (bool, error) {
+			w0 := h.lam - l.lam
+			for ; d < w0; d *= 4 {
+				for _, x := range []float64{c - d, c + d} {
+					if x <= l.lam || x >= h.lam {
+						continue
+					}
+					n, _, err := w.countAt(x)
+					var se *nodesys.SingularError
+					if errors.As(err, &se) {
+						continue
+					}
+					if err != nil {
+						return false, err
+					}
+					add(eval{lam: x, n: n, g: math.NaN()})
+				}
+				if h.lam-l.lam < w0 {
+					return true, nil
+				}
+			}
+			return false, nil
+		}
+		for it := 0; it < 400 && !done; it++ {
+			tol := 64*0x1p-52*math.Max(math.Abs(l.lam), math.Abs(h.lam)) + absTol
+			if h.lam-l.lam <= 2*tol {
+				lam = 0.5 * (l.lam + h.lam)
+				done = true
+				break
+			}
+			// Secant on g through the last two evaluations, if it falls
+			// inside the bracket and the bracket keeps shrinking (every
+			// third step is a bisection regardless); otherwise bisection.
+			cand := 0.5 * (l.lam + h.lam)
+			secant := false
+			if prev != nil && last != nil && last.g != prev.g && !math.IsNaN(last.g) && !math.IsNaN(prev.g) && it%3 != 2 {
+				c := last.lam - last.g*(last.lam-prev.lam)/(last.g-prev.g)
+				if c > l.lam && c < h.lam && h.lam-l.lam < shrink {
+					cand, secant = c, true
+				}
+			}
+			shrink = h.lam - l.lam
+			if secant && math.Abs(cand-last.lam) < tol {
+				// The secant has converged: a bracket of width 2·tol
+				// around it finishes.
+				if _, err := probe(cand, tol); err != nil {
+					return nil, err
+				}
+				prev, last = nil, nil
+				continue
+			}
+			n, g, err := w.countAt(cand)
+			var se *nodesys.SingularError
+			switch {
+			case errors.As(err, &se):
+				// K(cand) is singular to working precision: cand is an
+				// eigenvalue to about that precision; bracket it.
+				narrowed, err := probe(cand, tol)
+				if err != nil {
+					return nil, err
+				}
+				if !narrowed {
+					// singular all across the bracket: this is the
+					// precision the factorisation allows
+					lam = cand
+					done = true
+				}
+				prev, last = nil, nil
+				continue
+			case err != nil:
+				return nil, err
+			}
+			add(eval{lam: cand, n: n, g: g})
+			prev, last = last, &evals[len(evals)-1]
+		}
+		if !done {
+			res.Status = IterationLimit
+			break
+		}
+		mult := h.n - (k - 1)
+		if mult < 1 {
+			mult = 1
+		}
+		val := lam
+		if math.Abs(val) <= absTol {
+			val = 0
+		}
+		res.Eigenvalues = append(res.Eigenvalues, Eigenvalue{Value: val, Multiplicity: mult, Err: 0.5*(h.lam-l.lam) + math.Abs(val-lam)})
+		found += mult
+	}
+	res.Stats.Factorizations = w.facts
+	res.Stats.Unknowns = w.m
+	return res, nil
+}
+
+// spectrumGrid solves the eigenproblem on the finite-volume grid.
+func spectrumGrid(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
+	return nil, errors.New("the spectrum of networks with drift, varying coefficients or unequal end weights needs the grid eigen-solver, which is not built yet")
+}

@@ -1,0 +1,160 @@
+package graphpde
+
+import (
+	"fmt"
+	"math"
+	"testing"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// eigRel is the relative accuracy asked of the exact spectrum: the count
+// brackets each eigenvalue to about 1e-13 of its size; the reference values
+// below are given to 7–8 significant digits, so they are compared at
+// their own precision (refDigits).
+const (
+	eigRel    = 1e-11
+	refDigits = 6e-8
+)
+
+// flatten lists eigenvalues with multiplicities repeated.
+func flatten(ev []Eigenvalue) []float64 {
+	var out []float64
+	for _, e := range ev {
+		for range e.Multiplicity {
+			out = append(out, e.Value)
+		}
+	}
+	return out
+}
+
+func mustSpectrum(t *testing.T, net *Network, count int) *SpectrumResult {
+	t.Helper()
+	r, err := Spectrum(net, &SpectrumSettings{Count: count, Method: MethodExact})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Status != Converged {
+		t.Fatalf("status %v", r.Status)
+	}
+	return r
+}
+
+// starTips is a star of arms L[i] (diffusivity 1) with weights w[i] at the
+// centre and tips held at 0 (fixed) or sealed (balance with nothing).
+func starTips(t *testing.T, L, w []float64, sealed bool) *Network {
+	b := newNetBuilder(t)
+	c := b.node("c", vertex.Law{Kind: vertex.Balance})
+	for i := range L {
+		var end int
+		if sealed {
+			end = b.node(fmt.Sprintf("tip%d", i+1), vertex.Law{Kind: vertex.Balance})
+		} else {
+			end = b.fixed(fmt.Sprintf("tip%d", i+1), 0)
+		}
+		wi := 0.0
+		if w != nil {
+			wi = w[i]
+		}
+		b.edge(Edge{ID: fmt.Sprintf("arm%d", i+1), From: c, To: end, Length: L[i], A: 1, Weight: [2]float64{wi, wi}})
+	}
+	return b.net
+}
+
+// TestSpectrumExact checks the Wittrick–Williams count against eigenvalues
+// known in closed form or computed independently.
+//
+// Interval (0, 1), u” = −λu: Dirichlet (kπ)², Neumann (kπ)² from k = 0
+// (any textbook on Sturm–Liouville problems). Ring of length 1 through one
+// node: 0, then (2πk)² twice each (periodic eigenfunctions cos, sin).
+// Stars (Berkolaiko & Kuchment, Introduction to Quantum Graphs, AMS 2013,
+// ch. 1 — from memory; values derived): with Dirichlet tips the eigenvalues
+// are k² with Σ_i w_i cot(k L_i) = 0 together with the k at which sin(k L_i)
+// vanishes on two or more arms at once, of multiplicity one less than the
+// number of such arms; with sealed tips Σ_i w_i tan(k L_i) = 0 and the k at
+// which cos(k L_i) vanishes on several arms. The values were computed by
+// bisection on those secular equations, and the multiple ones are exactly
+// the roots that the secular equations miss.
+// Cable sealed at both ends with decay (τ₀ = ρ/c = 1): equalising time
+// constants τ_n/τ₀ = 1/(1 + (nπ/L)²) (Rall, Biophys. J. 9 (1969) 1483 —
+// from memory): 0.0919997 at L = 1, 0.2884004 at L = 2.
+func TestSpectrumExact(t *testing.T) {
+	pi2 := math.Pi * math.Pi
+	rod := func(t *testing.T, sealed bool, c float64, L float64) *Network {
+		b := newNetBuilder(t)
+		var x, y int
+		if sealed {
+			x, y = b.node("a", vertex.Law{Kind: vertex.Balance}), b.node("b", vertex.Law{Kind: vertex.Balance})
+		} else {
+			x, y = b.fixed("a", 0), b.fixed("b", 0)
+		}
+		b.edge(Edge{ID: "rod", From: x, To: y, Length: L, A: 1, C: c})
+		return b.net
+	}
+	ring := func(t *testing.T) *Network {
+		b := newNetBuilder(t)
+		v := b.node("v", vertex.Law{Kind: vertex.Balance})
+		b.edge(Edge{ID: "loop", From: v, To: v, Length: 1, A: 1})
+		return b.net
+	}
+	for _, tc := range []struct {
+		name string
+		net  func(*testing.T) *Network
+		want []float64 // with multiplicities repeated
+		tol  float64
+	}{
+		{"interval Dirichlet", func(t *testing.T) *Network { return rod(t, false, 0, 1) },
+			[]float64{pi2, 4 * pi2, 9 * pi2, 16 * pi2}, eigRel},
+		{"interval Neumann", func(t *testing.T) *Network { return rod(t, true, 0, 1) },
+			[]float64{0, pi2, 4 * pi2, 9 * pi2}, eigRel},
+		{"ring", ring, []float64{0, 4 * pi2, 4 * pi2, 16 * pi2, 16 * pi2}, eigRel},
+		{"equilateral star k=3", func(t *testing.T) *Network { return starTips(t, []float64{1, 1, 1}, nil, false) },
+			[]float64{pi2 / 4, pi2, pi2, 9 * pi2 / 4, 4 * pi2, 4 * pi2}, eigRel},
+		{"star arms 1,2,3", func(t *testing.T) *Network { return starTips(t, []float64{1, 2, 3}, nil, false) },
+			[]float64{0.6168503, 1.6331653, 3.4731507, 5.5516525, pi2, pi2, 15.421257}, refDigits},
+		{"star arms 1,2,3 weighted", func(t *testing.T) *Network {
+			return starTips(t, []float64{1, 2, 3}, []float64{0.5, 0.3, 0.2}, false)
+		}, []float64{0.7705495, 1.5947238, 3.5297726}, refDigits},
+		{"star arms 1,2,3 sealed", func(t *testing.T) *Network { return starTips(t, []float64{1, 2, 3}, nil, true) },
+			[]float64{0, 0.3788153, 1.0966227, pi2 / 4, 4.3864908}, refDigits},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			r := mustSpectrum(t, tc.net(t), len(tc.want))
+			got := flatten(r.Eigenvalues)
+			if len(got) < len(tc.want) {
+				t.Fatalf("%d eigenvalues %v, want %d", len(got), got, len(tc.want))
+			}
+			for i, w := range tc.want {
+				if math.Abs(got[i]-w) > tc.tol*math.Max(1, math.Abs(w)) {
+					t.Errorf("λ_%d = %.12g, want %.12g", i+1, got[i], w)
+				}
+			}
+			t.Logf("%s: %v (%d factorisations)", tc.name, r.Eigenvalues, r.Stats.Factorizations)
+		})
+	}
+}
+
+// TestSpectrumCable: a passive cable of electrotonic length L sealed at both
+// ends (a = 1, c = 1, ρ = 1, so τ₀ = ρ/c = 1) has the equalising time
+// constants τ_n/τ₀ = 1/(1 + (nπ/L)²) (Rall, Biophys. J. 9 (1969) 1483 —
+// from memory): τ₁/τ₀ = 0.0919997 at L = 1 and 0.2884004 at L = 2, given to
+// 7 decimals, so compared within half a unit of the last one.
+func TestSpectrumCable(t *testing.T) {
+	const lastDigit = 0.5e-7
+	for _, tc := range []struct{ L, ratio float64 }{{1, 0.0919997}, {2, 0.2884004}} {
+		b := newNetBuilder(t)
+		x, y := b.balance("soma"), b.balance("tip")
+		b.edge(Edge{ID: "cable", From: x, To: y, Length: tc.L, A: 1, C: 1})
+		r := mustSpectrum(t, b.net, 2)
+		lam := flatten(r.Eigenvalues)
+		if math.Abs(lam[0]-1) > eigRel {
+			t.Errorf("L=%g: λ₀ = %.15g, want 1 (1/τ₀)", tc.L, lam[0])
+		}
+		if got := lam[0] / lam[1]; math.Abs(got-tc.ratio) > lastDigit {
+			t.Errorf("L=%g: τ₁/τ₀ = %.9f, want %.7f", tc.L, got, tc.ratio)
+		}
+		if got := r.RelaxationTime(); math.Abs(got-1) > eigRel {
+			t.Errorf("L=%g: relaxation time %.15g, want 1", tc.L, got)
+		}
+	}
+}
