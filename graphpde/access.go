@@ -18,53 +18,50 @@ func (n *Network) NodeID(v int) string { return n.Nodes[v].ID }
 // EdgeID returns the id of edge e.
 func (n *Network) EdgeID(e int) string { return n.Edges[e].ID }
 
-// NodeLaw returns the condition of node v.
-func (n *Network) NodeLaw(v int) vertex.Law { return n.Nodes[v].Law }
-
-// NodeIncident is Incident under the name the walker interface uses.
-func (n *Network) NodeIncident(v int) []vertex.End { return n.Incident(v) }
-
 // EdgeNodes returns the From and To node indices of edge e.
 func (n *Network) EdgeNodes(e int) (from, to int) { return n.Edges[e].From, n.Edges[e].To }
 
-// EdgeLength returns the length of edge e.
-func (n *Network) EdgeLength(e int) float64 { return n.Edges[e].Length }
+// Size returns the numbers of nodes and edges.
+func (n *Network) Size() (nodes, edges int) { return len(n.Nodes), len(n.Edges) }
 
-// EdgeConstant reports whether the coefficients of edge e are constant.
-func (n *Network) EdgeConstant(e int) bool { return n.Edges[e].Constant() }
+// WalkNode returns what a walker needs of node v: its id, law, incident
+// ends (Incident order) and the walker-only split override as probabilities
+// aligned with the ends, nil when the node has none. A self-loop's share is
+// divided equally between its two ends; the probabilities are normalised to
+// sum to one. It allocates the split.
+func (n *Network) WalkNode(v int) (id string, law vertex.Law, ends []vertex.End, split []float64) {
+	nd := &n.Nodes[v]
+	ends = n.Incident(v)
+	if nd.Split == nil {
+		return nd.ID, nd.Law, ends, nil
+	}
+	split = make([]float64, len(ends))
+	count := make(map[int]int, len(ends))
+	for _, end := range ends {
+		count[end.Edge]++
+	}
+	var sum float64
+	for k, end := range ends {
+		split[k] = nd.Split[n.Edges[end.Edge].ID] / float64(count[end.Edge])
+		sum += split[k]
+	}
+	if sum > 0 {
+		for k := range split {
+			split[k] /= sum
+		}
+	}
+	return nd.ID, nd.Law, ends, split
+}
+
+// WalkEdge returns what a walker needs of edge e: its id, end nodes,
+// length, the weights α at its From and To ends (EndWeight), and whether its
+// coefficients are constant along it.
+func (n *Network) WalkEdge(e int) (id string, from, to int, length float64, alpha [2]float64, constant bool) {
+	ed := &n.Edges[e]
+	return ed.ID, ed.From, ed.To, ed.Length, [2]float64{ed.EndWeight(0), ed.EndWeight(1)}, ed.Constant()
+}
 
 // EdgeCoeffs returns a, b, c, f, ρ of edge e at distance x from its From node.
 func (n *Network) EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64) {
 	return n.Edges[e].Coeffs(x)
-}
-
-// EdgeWeight returns α of edge e at side 0 (From) or 1 (To).
-func (n *Network) EdgeWeight(e, side int) float64 { return n.Edges[e].EndWeight(side) }
-
-// NodeSplit returns the walker-only split override of node v as probabilities
-// aligned with Incident(v), or nil when the node has none. A self-loop's share
-// is divided equally between its two ends. The probabilities are normalised to
-// sum to one. It allocates the returned slice.
-func (n *Network) NodeSplit(v int) []float64 {
-	sp := n.Nodes[v].Split
-	if sp == nil {
-		return nil
-	}
-	inc := n.Incident(v)
-	out := make([]float64, len(inc))
-	count := make(map[int]int, len(inc))
-	for _, end := range inc {
-		count[end.Edge]++
-	}
-	var sum float64
-	for k, end := range inc {
-		out[k] = sp[n.Edges[end.Edge].ID] / float64(count[end.Edge])
-		sum += out[k]
-	}
-	if sum > 0 {
-		for k := range out {
-			out[k] /= sum
-		}
-	}
-	return out
 }

@@ -22,8 +22,12 @@ func ExampleSolve() {
 		fmt.Println(err)
 		return
 	}
-	fmt.Printf("heat loss %.4g W, tip %.4g K, middle %.4g K\n",
-		sol.Flux[0][0], sol.U[tip], sol.At(graphpde.Point{Node: -1, Edge: 0, X: L / 2}))
+	mid, err := sol.At(vertex.OnEdge(0, L/2))
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	fmt.Printf("heat loss %.4g W, tip %.4g K, middle %.4g K\n", sol.Flux[0][0], sol.U[tip], mid)
 	// Output: heat loss 5.069 W, tip 59.43 K, middle 63.2 K
 }
 

@@ -307,26 +307,17 @@ const adjointAgreement = 1e-8
 // checkStart validates p and turns a point at the end of an edge into its
 // node.
 func checkStart(net *Network, p *Point) error {
+	if err := net.CheckPoint(*p); err != nil {
+		return fmt.Errorf("exit statistics: start: %w", err)
+	}
 	if p.Edge >= 0 {
-		if p.Edge >= len(net.Edges) {
-			return fmt.Errorf("exit statistics: start point on edge %d, but the network has %d edges", p.Edge, len(net.Edges))
-		}
 		e := &net.Edges[p.Edge]
-		if !(p.X >= 0 && p.X <= e.Length) {
-			return fmt.Errorf("exit statistics: start point %g is off edge %q, whose length is %g", p.X, e.ID, e.Length)
-		}
 		switch p.X {
 		case 0:
-			*p = Point{Node: e.From, Edge: -1}
+			*p = vertex.AtNode(e.From)
 		case e.Length:
-			*p = Point{Node: e.To, Edge: -1}
-		default:
-			p.Node = -1
+			*p = vertex.AtNode(e.To)
 		}
-		return nil
-	}
-	if p.Node < 0 || p.Node >= len(net.Nodes) {
-		return fmt.Errorf("exit statistics: start node %d, but the network has %d nodes", p.Node, len(net.Nodes))
 	}
 	return nil
 }

@@ -33,9 +33,9 @@ func componentNetwork(net *Network, p Point) (sub *Network, nodeOf, edgeOf []int
 		}
 		nodeOf = append(nodeOf, v)
 	}
-	sp = Point{Node: -1, Edge: -1, X: p.X}
+	sp = vertex.OnEdge(-1, p.X) // edge set below
 	if p.Edge < 0 {
-		sp.Node = local[p.Node]
+		sp = vertex.AtNode(local[p.Node])
 	}
 	for e := range net.Edges {
 		ed := net.Edges[e]
@@ -170,7 +170,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		if err != nil {
 			return err
 		}
-		h := sol.At(g.start)
+		h := sol.at(g.start)
 		x.Hit[nodeOf[v]] = h
 		hitSum += h
 	}
@@ -185,7 +185,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		} else {
 			p := prev
 			g.src = func(e int, xx float64) float64 {
-				return nf * g.rho(e, xx) * p.At(Point{Node: -1, Edge: e, X: xx})
+				return nf * g.rho(e, xx) * p.at(vertex.OnEdge(e, xx))
 			}
 		}
 		for v := range sub.Nodes {
@@ -202,7 +202,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		if err != nil {
 			return err
 		}
-		x.Moments[n-1] = sol.At(g.start)
+		x.Moments[n-1] = sol.at(g.start)
 		prev = snapshot(sol)
 	}
 	x.Mean = x.Moments[0]
@@ -236,7 +236,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 			if err != nil {
 				return err
 			}
-			x.Occupation[edgeOf[k]] = sol.At(g.start)
+			x.Occupation[edgeOf[k]] = sol.at(g.start)
 		}
 	}
 
@@ -273,7 +273,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		if err != nil {
 			return 0, err
 		}
-		return sol.At(g.start), nil
+		return sol.at(g.start), nil
 	}, stehfest: laplace.StehfestWeights(laplace.DefaultStehfestN)}
 	x.Notes = append(x.Notes,
 		"grid elements: moments from the hierarchy T_n (source nρT_{n−1}), second order in the cell size",

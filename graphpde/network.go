@@ -317,15 +317,17 @@ func (n *Network) Components() (comp []int, count int) {
 	return comp, count
 }
 
-// Point is a place on the network: a node (Edge < 0) or the point at distance
-// X from the From node of edge Edge (Node < 0).
-type Point struct {
-	Node int
-	Edge int
-	X    float64
+// Point is a place on the network (vertex.Point): build it with
+// vertex.AtNode or vertex.OnEdge; its zero value is invalid.
+type Point = vertex.Point
+
+// CheckPoint reports whether p lies on the network (a *vertex.PointError if
+// not; the zero Point never does). Cost O(1).
+func (n *Network) CheckPoint(p Point) error {
+	return p.Check(len(n.Nodes), len(n.Edges), func(e int) float64 { return n.Edges[e].Length })
 }
 
-// String writes p in the network-file syntax, NODE or EDGE@X.
+// PointString writes p in the network-file syntax, NODE or EDGE@X.
 func (n *Network) PointString(p Point) string {
 	if p.Edge < 0 {
 		return n.Nodes[p.Node].ID
@@ -353,15 +355,15 @@ func (n *Network) ParsePoint(s string) (Point, error) {
 		}
 		switch x {
 		case 0:
-			return Point{Node: n.Edges[e].From, Edge: -1}, nil
+			return vertex.AtNode(n.Edges[e].From), nil
 		case L:
-			return Point{Node: n.Edges[e].To, Edge: -1}, nil
+			return vertex.AtNode(n.Edges[e].To), nil
 		}
-		return Point{Node: -1, Edge: e, X: x}, nil
+		return vertex.OnEdge(e, x), nil
 	}
 	v, ok := n.NodeIndex(s)
 	if !ok {
 		return Point{}, fmt.Errorf("point %q: no node %q (write NODE or EDGE@X)", s, s)
 	}
-	return Point{Node: v, Edge: -1}, nil
+	return vertex.AtNode(v), nil
 }

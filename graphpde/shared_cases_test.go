@@ -23,11 +23,7 @@ func buildCase(t *testing.T, c *vertextest.Case) (*graphpde.Network, graphpde.Po
 			t.Fatal(err)
 		}
 	}
-	p := graphpde.Point{Node: c.StartNode, Edge: -1}
-	if c.StartEdge >= 0 {
-		p = graphpde.Point{Node: -1, Edge: c.StartEdge, X: c.StartX}
-	}
-	return net, p
+	return net, c.Start
 }
 
 // TestSharedCases checks the steady solve and the exit statistics on the
@@ -49,7 +45,11 @@ func TestSharedCases(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			near("value", sol.At(p), c.Value)
+			u, err := sol.At(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			near("value", u, c.Value)
 			x, err := graphpde.ExitStatistics(net, p, nil)
 			if err != nil {
 				t.Fatal(err)

@@ -34,15 +34,19 @@ const exactSamples = 33
 
 // At returns the solution at p: a node value, or a value inside an edge
 // (closed form on exact edges; linear interpolation between grid points on
-// grid edges, second-order accurate like the grid). It panics if p is not on
-// the network. Cost O(1).
-func (s *Solution) At(p Point) float64 {
+// grid edges, second-order accurate like the grid). A point that is not on
+// the network (the zero Point included) is a *vertex.PointError. Cost O(1).
+func (s *Solution) At(p Point) (float64, error) {
+	if err := s.Net.CheckPoint(p); err != nil {
+		return 0, err
+	}
+	return s.at(p), nil
+}
+
+// at is At for a point known to be on the network.
+func (s *Solution) at(p Point) float64 {
 	if p.Edge < 0 {
 		return s.U[p.Node]
-	}
-	ed := &s.Net.Edges[p.Edge]
-	if p.X < 0 || p.X > ed.Length {
-		panic("graphpde: point off its edge")
 	}
 	u, _ := s.eval(p.Edge, p.X)
 	return u

@@ -97,13 +97,13 @@ func TestFinAdiabaticTip(t *testing.T) {
 		if relErrS(q, 5.068618) > tab+tc.tol {
 			t.Errorf("%v: q = %.10g W, table 5.068618", tc.method, q)
 		}
-		mid := sol.At(Point{Node: -1, Edge: 0, X: L / 2})
+		mid := atOK(t, sol, Point{Node: -1, Edge: 0, X: L / 2})
 		if relErrS(mid/thb, 0.8427193) > tab+tc.tol {
 			t.Errorf("%v: θ(L/2)/θ_b = %.10g, table 0.8427193", tc.method, mid/thb)
 		}
 		for _, x := range []float64{0.1 * L, 0.3 * L, 0.77 * L} {
 			want := thb * math.Cosh(m*(L-x)) / math.Cosh(m*L)
-			if got := sol.At(Point{Node: -1, Edge: 0, X: x}); relErrS(got, want) > tc.tol {
+			if got := atOK(t, sol, Point{Node: -1, Edge: 0, X: x}); relErrS(got, want) > tc.tol {
 				t.Errorf("%v: θ(%g) = %.10g, profile %.10g", tc.method, x, got, want)
 			}
 		}
@@ -153,7 +153,7 @@ func TestCableSealedEnd(t *testing.T) {
 			if v := sol.U[end]; math.Abs(v-tc.vEnd) > tol {
 				t.Errorf("L/λ=%g %v: V(L) = %.9f, table %.7f", tc.X, m, v, tc.vEnd)
 			}
-			if v := sol.At(Point{Node: -1, Edge: 0, X: L / 2}); math.Abs(v-tc.vHalf) > tol {
+			if v := atOK(t, sol, Point{Node: -1, Edge: 0, X: L / 2}); math.Abs(v-tc.vHalf) > tol {
 				t.Errorf("L/λ=%g %v: V(L/2) = %.9f, table %.7f", tc.X, m, v, tc.vHalf)
 			}
 		}
@@ -256,7 +256,7 @@ func TestStarHitAndExitTime(t *testing.T) {
 				if relErrS(sol.U[0], 102.0/43) > roundoff {
 					t.Errorf("%v: E τ = %.15g, want 102/43", m, sol.U[0])
 				}
-				if got := sol.At(Point{Node: -1, Edge: 0, X: 0.5}); math.Abs(got-1.4360465) > 5e-8 {
+				if got := atOK(t, sol, Point{Node: -1, Edge: 0, X: 0.5}); math.Abs(got-1.4360465) > 5e-8 {
 					t.Errorf("%v: E τ from arm1@0.5 = %.10g, want 1.4360465", m, got)
 				}
 			}
@@ -530,6 +530,50 @@ func TestResiduals(t *testing.T) {
 					t.Errorf("trial %d %v: node %s residual %g (scale %g)", trial, m, net.Nodes[v].ID, r, scale)
 				}
 			}
+		}
+	}
+}
+
+// atOK is Solution.At for tests: an error fails the test.
+func atOK(t *testing.T, sol *Solution, p Point) float64 {
+	t.Helper()
+	u, err := sol.At(p)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return u
+}
+
+// TestPointZeroValueRejected checks the point convention on the chain
+// a–b–c where it used to go wrong: Point{Node: b} (edge left at 0) named a
+// point on edge 0 and returned u(a). Now a point must name exactly one of a
+// node and an edge, so that literal, the zero Point and points off the
+// network are errors, while AtNode and OnEdge give the node and edge values.
+func TestPointZeroValueRejected(t *testing.T) {
+	net := &Network{}
+	a, _ := net.AddNode(Node{ID: "a", Law: vertex.Law{Kind: vertex.Fixed, Value: 1}})
+	b, _ := net.AddNode(Node{ID: "b"})
+	c, _ := net.AddNode(Node{ID: "c", Law: vertex.Law{Kind: vertex.Fixed, Value: 3}})
+	net.AddEdge(Edge{ID: "ab", From: a, To: b, Length: 1, A: 1})
+	net.AddEdge(Edge{ID: "bc", From: b, To: c, Length: 1, A: 1})
+	sol, err := Solve(net, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Linear profile from 1 to 3: u(b) = 2, u(ab@0.5) = 1.5, exact.
+	if u, err := sol.At(vertex.AtNode(b)); err != nil || u != 2 {
+		t.Errorf("At(AtNode(b)) = %g, %v; want 2", u, err)
+	}
+	if u, err := sol.At(vertex.OnEdge(0, 0.5)); err != nil || math.Abs(u-1.5) > 1e-15 {
+		t.Errorf("At(OnEdge(0, 0.5)) = %g, %v; want 1.5", u, err)
+	}
+	var pe *vertex.PointError
+	for _, p := range []Point{{Node: b}, {}, vertex.AtNode(3), vertex.OnEdge(2, 0.1), vertex.OnEdge(0, 1.5), {Node: -1, Edge: -1}} {
+		if _, err := sol.At(p); !errors.As(err, &pe) {
+			t.Errorf("At(%+v): %v, want a *vertex.PointError", p, err)
+		}
+		if _, err := ExitStatistics(net, p, nil); !errors.As(err, &pe) {
+			t.Errorf("ExitStatistics(%+v): %v, want a *vertex.PointError", p, err)
 		}
 	}
 }

@@ -8,29 +8,19 @@ import (
 )
 
 // Network is what the walkers need to know about a network. Node and edge
-// indices run from 0 to NumNodes()−1 and NumEdges()−1; x is the distance from
-// an edge's From node. *graphpde.Network satisfies it.
+// indices run from 0 to nodes−1 and edges−1; x is the distance from an
+// edge's From node. *graphpde.Network satisfies it.
 type Network interface {
-	NumNodes() int
-	NumEdges() int
-	NodeID(v int) string
-	EdgeID(e int) string
-	NodeLaw(v int) vertex.Law
-	NodeIncident(v int) []vertex.End // ends at v, aligned with NodeSplit
-	NodeSplit(v int) []float64       // walker-only split per end, or nil
-	EdgeNodes(e int) (from, to int)
-	EdgeLength(e int) float64
-	EdgeConstant(e int) bool
+	// Size returns the numbers of nodes and edges.
+	Size() (nodes, edges int)
+	// WalkNode returns node v's id, law and incident ends, and the
+	// walker-only split per end (aligned with ends), nil when it has none.
+	WalkNode(v int) (id string, law vertex.Law, ends []vertex.End, split []float64)
+	// WalkEdge returns edge e's id, end nodes, length, the weights α at its
+	// From and To ends, and whether its coefficients are constant along it.
+	WalkEdge(e int) (id string, from, to int, length float64, alpha [2]float64, constant bool)
+	// EdgeCoeffs returns a, b, c, f, ρ of edge e at x.
 	EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64)
-	EdgeWeight(e, side int) float64 // α at From (0) / To (1)
-}
-
-// Start is where every walker starts: node Node when Node ≥ 0, otherwise the
-// point at distance X (length units) from the From node of edge Edge.
-type Start struct {
-	Node int
-	Edge int
-	X    float64
 }
 
 // Recorder receives progress reports: done walkers out of total. Run calls it
@@ -186,19 +176,6 @@ func (r *Result) CensoredFraction() float64 {
 		return 0
 	}
 	return float64(r.Censored) / float64(r.Finished)
-}
-
-// StartError reports a start point that is not on the network.
-type StartError struct {
-	Start  Start
-	Reason string
-}
-
-func (e *StartError) Error() string {
-	if e.Start.Node >= 0 {
-		return fmt.Sprintf("walker start node %d: %s", e.Start.Node, e.Reason)
-	}
-	return fmt.Sprintf("walker start on edge %d at x = %g: %s", e.Start.Edge, e.Start.X, e.Reason)
 }
 
 // WeightError reports an edge weight α or a split entry that is not a finite

@@ -28,7 +28,7 @@ func s1Star(timeStepping bool) *tNet {
 const s1Time = 102.0 / 43
 
 func mustRun(b *testing.B, net montecarlo.Network, set montecarlo.Settings) *montecarlo.Result {
-	res, err := montecarlo.Run(context.Background(), net, montecarlo.Start{Node: 0}, &set)
+	res, err := montecarlo.Run(context.Background(), net, vertex.AtNode(0), &set)
 	if err != nil {
 		b.Fatal(err)
 	}

@@ -59,7 +59,7 @@ func TestVisitLawError(t *testing.T) {
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			net := star(c.law, arms)
-			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 1000000, Seed: c.seed, StarFraction: 1, KeepSamples: true})
+			res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 1000000, Seed: c.seed, StarFraction: 1, KeepSamples: true})
 			if !res.Stats.Exact {
 				t.Errorf("Exact = false on a star with plain arms")
 			}
@@ -82,9 +82,9 @@ func TestVisitLawError(t *testing.T) {
 	t.Run("fraction has no effect", func(t *testing.T) {
 		net := star(vertex.Law{Kind: vertex.Balance, Capacity: 1, Leak: 1}, arms)
 		set := montecarlo.Settings{Particles: 20000, Seed: 5}
-		a := run(t, net, montecarlo.Start{Node: 0}, set)
+		a := run(t, net, vertex.AtNode(0), set)
 		set.StarFraction = 1.0 / 32
-		b := run(t, net, montecarlo.Start{Node: 0}, set)
+		b := run(t, net, vertex.AtNode(0), set)
 		if a.ExitTime != b.ExitTime || a.Stats.Steps != b.Stats.Steps {
 			t.Errorf("fraction 1/8: E τ %v, %d steps; 1/32: E τ %v, %d steps", a.ExitTime, a.Stats.Steps, b.ExitTime, b.Stats.Steps)
 		}

@@ -24,25 +24,19 @@ func TestDefaultTimeCap(t *testing.T) {
 // s1Net is the S1 star as a bare Network: centre 0, ends 1–3.
 type s1Net struct{}
 
-func (s1Net) NumNodes() int       { return 4 }
-func (s1Net) NumEdges() int       { return 3 }
-func (s1Net) NodeID(v int) string { return string(rune('a' + v)) }
-func (s1Net) EdgeID(e int) string { return string(rune('p' + e)) }
-func (s1Net) NodeLaw(v int) vertex.Law {
+func (s1Net) Size() (int, int) { return 4, 3 }
+
+func (s1Net) WalkNode(v int) (string, vertex.Law, []vertex.End, []float64) {
+	id := string(rune('a' + v))
 	if v == 0 {
-		return vertex.Law{Kind: vertex.Balance}
+		return id, vertex.Law{Kind: vertex.Balance}, []vertex.End{{Edge: 0}, {Edge: 1}, {Edge: 2}}, nil
 	}
-	return vertex.Law{Kind: vertex.Fixed}
+	return id, vertex.Law{Kind: vertex.Fixed}, []vertex.End{{Edge: v - 1, Side: 1}}, nil
 }
-func (s1Net) NodeIncident(v int) []vertex.End {
-	if v == 0 {
-		return []vertex.End{{Edge: 0}, {Edge: 1}, {Edge: 2}}
-	}
-	return []vertex.End{{Edge: v - 1, Side: 1}}
+
+func (s1Net) WalkEdge(e int) (string, int, int, float64, [2]float64, bool) {
+	w := [3]float64{0.5, 0.3, 0.2}[e]
+	return string(rune('p' + e)), 0, e + 1, float64(e + 1), [2]float64{w, w}, true
 }
-func (s1Net) NodeSplit(int) []float64                           { return nil }
-func (s1Net) EdgeNodes(e int) (int, int)                        { return 0, e + 1 }
-func (s1Net) EdgeLength(e int) float64                          { return float64(e + 1) }
-func (s1Net) EdgeConstant(int) bool                             { return true }
-func (s1Net) EdgeWeight(e, side int) float64                    { return [3]float64{0.5, 0.3, 0.2}[e] }
+
 func (s1Net) EdgeCoeffs(int, float64) (a, b, c, f, rho float64) { return 0.5, 0, 0, 0, 1 }

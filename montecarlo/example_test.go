@@ -24,7 +24,7 @@ func ExampleRun() {
 		end, _ := net.AddNode(graphpde.Node{ID: ditch.sluice, Law: law})
 		net.AddEdge(graphpde.Edge{ID: fmt.Sprint("ditch", i), From: hub, To: end, Length: ditch.length, A: 1})
 	}
-	res, err := montecarlo.Run(context.Background(), &net, montecarlo.Start{Node: hub},
+	res, err := montecarlo.Run(context.Background(), &net, vertex.AtNode(hub),
 		&montecarlo.Settings{Particles: 200000, Seed: 2026})
 	if err != nil {
 		fmt.Println(err)

@@ -25,7 +25,7 @@ func near(t *testing.T, what string, e montecarlo.Estimate, want float64) {
 	}
 }
 
-func run(t *testing.T, net montecarlo.Network, st montecarlo.Start, set montecarlo.Settings) *montecarlo.Result {
+func run(t *testing.T, net montecarlo.Network, st vertex.Point, set montecarlo.Settings) *montecarlo.Result {
 	t.Helper()
 	res, err := montecarlo.Run(context.Background(), net, st, &set)
 	if err != nil {
@@ -34,7 +34,7 @@ func run(t *testing.T, net montecarlo.Network, st montecarlo.Start, set montecar
 	return res
 }
 
-func onEdge(e int, x float64) montecarlo.Start { return montecarlo.Start{Node: -1, Edge: e, X: x} }
+func onEdge(e int, x float64) vertex.Point { return vertex.OnEdge(e, x) }
 
 // TestInterval checks walkers on one edge between absorbing nodes against
 // docs/references.md B1 (Karatzas & Shreve, Brownian Motion and Stochastic
@@ -103,12 +103,12 @@ func TestExitLawKS(t *testing.T) {
 	for _, cs := range []struct {
 		name string
 		net  montecarlo.Network
-		st   montecarlo.Start
+		st   vertex.Point
 		cdf  func(float64) float64
 	}{
 		{"interval", interval(tEdge{L: L, a: 0.5}, 0, 1), onEdge(0, x0), func(t float64) float64 { return 1 - intervalSurvival(x0, L, D, t) }},
 		{"chain", chain, onEdge(0, x0), func(t float64) float64 { return 1 - intervalSurvival(x0, L, D, t) }},
-		{"equal-arm star", eq, montecarlo.Start{Node: 0}, exitlaw.CDF},
+		{"equal-arm star", eq, vertex.AtNode(0), exitlaw.CDF},
 	} {
 		t.Run(cs.name, func(t *testing.T) {
 			res := run(t, cs.net, cs.st, montecarlo.Settings{Particles: 50000, Seed: 3, KeepSamples: true})
@@ -136,7 +136,7 @@ func TestStarS1(t *testing.T) {
 		{L: 2, a: 0.5, rho: 1, alpha: 0.3},
 		{L: 3, a: 0.5, rho: 1, alpha: 0.2},
 	})
-	res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 100000, Seed: 5})
+	res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 100000, Seed: 5})
 	for k, want := range []float64{30.0 / 43, 9.0 / 43, 4.0 / 43} {
 		near(t, "hit", res.Hit[k+1], want)
 	}
@@ -161,7 +161,7 @@ func TestUnequalArms(t *testing.T) {
 		{L: 0.7, a: 0.25, rho: 2, alpha: 0.25},
 	}
 	net := star(kirchhoff, arms)
-	res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 100000, Seed: 7})
+	res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 100000, Seed: 7})
 	var sw, sh float64
 	for _, a := range arms {
 		sw += math.Sqrt(a.a * a.rho)
@@ -226,7 +226,7 @@ func TestNodeLaws(t *testing.T) {
 			}
 			net := star(c.law, base)
 			net.nodes[0].split = c.split
-			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 50000, Seed: 9})
+			res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 50000, Seed: 9})
 			beta, gamma, cap := c.law.Leak, c.law.Inject, c.law.Capacity
 			near(t, "value", res.Value, starCentre(beta, gamma, arms))
 			near(t, "E tau", res.ExitTime, starCentre(beta, cap, timeArms(arms)))
@@ -272,7 +272,7 @@ func TestDecaySource(t *testing.T) {
 		net := &tNet{}
 		a, b := net.node(fixed(1)), net.node(kirchhoff)
 		net.edge(tEdge{from: a, to: b, L: 1, a: 1, c: 1})
-		res := run(t, net, montecarlo.Start{Node: b}, montecarlo.Settings{Particles: 100000, Seed: 12})
+		res := run(t, net, vertex.AtNode(b), montecarlo.Settings{Particles: 100000, Seed: 12})
 		near(t, "V(L)/V0", res.Value, 0.6480543)
 	})
 	for _, cs := range []struct {
@@ -296,7 +296,7 @@ func TestDecaySource(t *testing.T) {
 				arms[k].c = cs.rates[k] * arms[k].rho
 			}
 			net := star(cs.law, arms)
-			res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 100000, Seed: 13})
+			res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 100000, Seed: 13})
 			l := cs.law
 			near(t, "value", res.Value, starCentre(l.Leak, l.Inject, arms))
 			near(t, "E lifetime", res.ExitTime, starCentre(l.Leak, l.Capacity, timeArms(arms)))
@@ -367,7 +367,7 @@ func TestReproducible(t *testing.T) {
 	}{{mixedNet(), 1}, {sticky, 0}} {
 		var ref *montecarlo.Result
 		for _, w := range []int{1, 2, 3} {
-			res := run(t, c.net, montecarlo.Start{Node: c.start}, montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w, Step: 0.005})
+			res := run(t, c.net, vertex.AtNode(c.start), montecarlo.Settings{Particles: 5*montecarlo.BlockSize + 17, Seed: 42, Workers: w, Step: 0.005})
 			res.Stats.Elapsed = 0
 			if ref == nil {
 				ref = res
@@ -445,23 +445,24 @@ func TestErrors(t *testing.T) {
 	badSplit := star(kirchhoff, []starArm{{L: 1, a: 1, rho: 1, alpha: 1}, {L: 1, a: 1, rho: 1, alpha: 1}})
 	badSplit.nodes[0].split = []float64{0, 0}
 	badA := interval(tEdge{L: 1, a: 0}, 0, 1)
-	var startErr *montecarlo.StartError
+	var startErr *vertex.PointError
 	var weightErr *montecarlo.WeightError
 	var memErr *montecarlo.MemoryError
 	var coefErr *montecarlo.CoefficientError
 	for _, c := range []struct {
 		name   string
 		net    montecarlo.Network
-		st     montecarlo.Start
+		st     vertex.Point
 		set    montecarlo.Settings
 		target any
 	}{
-		{"no such node", good, montecarlo.Start{Node: 5}, montecarlo.Settings{}, &startErr},
+		{"no such node", good, vertex.AtNode(5), montecarlo.Settings{}, &startErr},
+		{"zero point (node 0 and edge 0)", good, vertex.Point{}, montecarlo.Settings{}, &startErr},
 		{"no such edge", good, onEdge(3, 0.1), montecarlo.Settings{}, &startErr},
 		{"off the edge", good, onEdge(0, 1.5), montecarlo.Settings{}, &startErr},
 		{"NaN position", good, onEdge(0, math.NaN()), montecarlo.Settings{}, &startErr},
 		{"negative weight", badW, onEdge(0, 0.5), montecarlo.Settings{}, &weightErr},
-		{"all-zero split", badSplit, montecarlo.Start{Node: 0}, montecarlo.Settings{}, &weightErr},
+		{"all-zero split", badSplit, vertex.AtNode(0), montecarlo.Settings{}, &weightErr},
 		{"zero diffusivity", badA, onEdge(0, 0.5), montecarlo.Settings{}, &coefErr},
 		{"samples too big", good, onEdge(0, 0.5), montecarlo.Settings{Particles: 1 << 40, KeepSamples: true}, &memErr},
 	} {
@@ -479,7 +480,7 @@ func TestErrors(t *testing.T) {
 		n := &tNet{}
 		a, b := n.node(kirchhoff), n.node(kirchhoff)
 		n.edge(tEdge{from: a, to: b, L: 1, a: 1})
-		res, err := montecarlo.Run(context.Background(), n, montecarlo.Start{Node: 0}, &montecarlo.Settings{Particles: 100, TimeCap: 5})
+		res, err := montecarlo.Run(context.Background(), n, vertex.AtNode(0), &montecarlo.Settings{Particles: 100, TimeCap: 5})
 		var ce *montecarlo.CensoredError
 		if !errors.As(err, &ce) || res == nil || res.Censored != 100 || ce.Censored != 100 {
 			t.Fatalf("err %v, res %+v", err, res)
@@ -499,7 +500,7 @@ func TestSelfLoop(t *testing.T) {
 		a, b := n.node(fixed(1)), n.node(law)
 		n.edge(tEdge{from: a, to: b, L: 1, a: 1})
 		n.edge(tEdge{from: b, to: b, L: 0.9, a: 2})
-		res := run(t, n, montecarlo.Start{Node: b}, montecarlo.Settings{Particles: 40000, Seed: 17})
+		res := run(t, n, vertex.AtNode(b), montecarlo.Settings{Particles: 40000, Seed: 17})
 		den := law.Leak + 1
 		near(t, "E tau", res.ExitTime, (law.Capacity+0.5+2*0.9/2)/den)
 		near(t, "value", res.Value, 1/den)
@@ -515,7 +516,7 @@ func TestSelfLoop(t *testing.T) {
 func TestQuantiles(t *testing.T) {
 	eq := star(kirchhoff, []starArm{{L: 1, a: 0.5, rho: 1, alpha: 0.2}, {L: 1, a: 0.5, rho: 1, alpha: 0.8}})
 	const n = 100000
-	res := run(t, eq, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: n, Seed: 19})
+	res := run(t, eq, vertex.AtNode(0), montecarlo.Settings{Particles: n, Seed: 19})
 	if len(res.Quantiles) != 5 {
 		t.Fatalf("got %d quantiles, want the 5 defaults", len(res.Quantiles))
 	}
@@ -547,7 +548,7 @@ func TestQuantiles(t *testing.T) {
 func TestOneWaySplit(t *testing.T) {
 	net := star(kirchhoff, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, g: 1}, {L: 0.5, a: 1, rho: 1, alpha: 3}})
 	net.nodes[0].split = []float64{1, 0}
-	res, err := montecarlo.Run(context.Background(), net, montecarlo.Start{Node: 0}, &montecarlo.Settings{Particles: 5000, Seed: 3})
+	res, err := montecarlo.Run(context.Background(), net, vertex.AtNode(0), &montecarlo.Settings{Particles: 5000, Seed: 3})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -47,15 +47,9 @@ func fixed(g float64) vertex.Law { return vertex.Law{Kind: vertex.Fixed, Value: 
 
 var kirchhoff = vertex.Law{Kind: vertex.Balance}
 
-func (n *tNet) NumNodes() int            { return len(n.nodes) }
-func (n *tNet) NumEdges() int            { return len(n.edges) }
-func (n *tNet) NodeID(v int) string      { return fmt.Sprintf("n%d", v) }
-func (n *tNet) EdgeID(e int) string      { return fmt.Sprintf("e%d", e) }
-func (n *tNet) NodeLaw(v int) vertex.Law { return n.nodes[v].law }
-func (n *tNet) NodeSplit(v int) []float64 {
-	return n.nodes[v].split
-}
-func (n *tNet) NodeIncident(v int) []vertex.End {
+func (n *tNet) Size() (int, int) { return len(n.nodes), len(n.edges) }
+
+func (n *tNet) WalkNode(v int) (string, vertex.Law, []vertex.End, []float64) {
 	if n.inc == nil {
 		n.inc = make([][]vertex.End, len(n.nodes))
 		for i, e := range n.edges {
@@ -63,11 +57,20 @@ func (n *tNet) NodeIncident(v int) []vertex.End {
 			n.inc[e.to] = append(n.inc[e.to], vertex.End{Edge: i, Side: 1})
 		}
 	}
-	return n.inc[v]
+	return fmt.Sprintf("n%d", v), n.nodes[v].law, n.inc[v], n.nodes[v].split
 }
-func (n *tNet) EdgeNodes(e int) (int, int) { return n.edges[e].from, n.edges[e].to }
-func (n *tNet) EdgeLength(e int) float64   { return n.edges[e].L }
-func (n *tNet) EdgeConstant(e int) bool    { return !n.edges[e].varying && n.edges[e].prof == nil }
+
+func (n *tNet) WalkEdge(e int) (string, int, int, float64, [2]float64, bool) {
+	ed := &n.edges[e]
+	var w [2]float64
+	for side := range w {
+		if w[side] = ed.w[side]; w[side] == 0 {
+			w[side], _, _, _, _ = n.EdgeCoeffs(e, [2]float64{0, ed.L}[side])
+		}
+	}
+	return fmt.Sprintf("e%d", e), ed.from, ed.to, ed.L, w, !ed.varying && ed.prof == nil
+}
+
 func (n *tNet) EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64) {
 	ed := n.edges[e]
 	if ed.prof != nil {
@@ -75,15 +78,7 @@ func (n *tNet) EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64) {
 	}
 	return ed.a, ed.b, ed.c, ed.f, ed.r
 }
-func (n *tNet) EdgeWeight(e, side int) float64 {
-	if w := n.edges[e].w[side]; w != 0 {
-		return w
-	}
-	a, _, _, _, _ := n.EdgeCoeffs(e, [2]float64{0, n.edges[e].L}[side])
-	return a
-}
 
-// interval returns one edge [0, L] between fixed nodes with values g0, gL.
 func interval(e tEdge, g0, gL float64) *tNet {
 	n := &tNet{}
 	e.from, e.to = n.node(fixed(g0)), n.node(fixed(gL))

@@ -21,9 +21,12 @@ const (
 const profileSamples = 33
 
 type edgeInfo struct {
+	id       string
 	from, to int
 	L        float64
-	exact    bool // constant coefficients and no drift: walk on intervals
+	alpha    [2]float64 // end weights α at From and To
+	constant bool       // coefficients constant along the edge
+	exact    bool       // constant coefficients and no drift: walk on intervals
 	// Exact edges: constant coefficients.
 	a, c, f, rho float64
 	kill         float64 // c/ρ, killing rate per unit time
@@ -81,22 +84,21 @@ func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 // rules. Cost O(nodes + edges·profileSamples).
 func prepare(net Network, set *Settings) (*model, error) {
 	m := &model{net: net, exact: true}
-	ne, nn := net.NumEdges(), net.NumNodes()
+	nn, ne := net.Size()
 	m.edges = make([]edgeInfo, ne)
 	var capTot, resTot, lossTot float64
 	for e := range ne {
 		ed := &m.edges[e]
-		ed.from, ed.to = net.EdgeNodes(e)
-		ed.L = net.EdgeLength(e)
+		ed.id, ed.from, ed.to, ed.L, ed.alpha, ed.constant = net.WalkEdge(e)
 		if !finite(ed.L) || ed.L <= 0 {
-			return nil, &CoefficientError{Edge: net.EdgeID(e), Field: "length", Value: ed.L, Reason: "must be a finite number > 0"}
+			return nil, &CoefficientError{Edge: ed.id, Field: "length", Value: ed.L, Reason: "must be a finite number > 0"}
 		}
 		var a0, taken float64
 		var aMin, aoMax, rhoMean, cMean, tDiff, tDrift = math.Inf(1), 0.0, 0.0, 0.0, math.Inf(1), math.Inf(1)
 		for i := range profileSamples {
 			x := ed.L * float64(i) / (profileSamples - 1)
 			a, b, c, f, rho := net.EdgeCoeffs(e, x)
-			if err := checkCoeffs(net.EdgeID(e), x, a, b, c, f, rho); err != nil {
+			if err := checkCoeffs(ed.id, x, a, b, c, f, rho); err != nil {
 				return nil, err
 			}
 			if i == 0 {
@@ -116,11 +118,11 @@ func prepare(net Network, set *Settings) (*model, error) {
 			if b != 0 {
 				tDrift = math.Min(tDrift, ed.L*rho/math.Abs(b))
 			}
-			if net.EdgeConstant(e) {
+			if ed.constant {
 				break
 			}
 		}
-		if !net.EdgeConstant(e) {
+		if !ed.constant {
 			ed.exact = false
 		}
 		rhoMean /= taken
@@ -145,10 +147,10 @@ func prepare(net Network, set *Settings) (*model, error) {
 	m.nodes = make([]nodeInfo, nn)
 	anyFixed := false
 	for v := range nn {
-		law := net.NodeLaw(v)
+		id, law, ends, split := net.WalkNode(v)
 		if err := law.Validate(); err != nil {
 			le := err.(*vertex.LawError)
-			return nil, &NodeError{Node: net.NodeID(v), Field: le.Field, Value: le.Value, Reason: le.Reason}
+			return nil, &NodeError{Node: id, Field: le.Field, Value: le.Value, Reason: le.Reason}
 		}
 		nd := &m.nodes[v]
 		switch law.Kind {
@@ -160,7 +162,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 		case vertex.Balance:
 			capTot += law.Capacity
 			lossTot += law.Leak
-			if err := m.prepareBalance(v, law, set); err != nil {
+			if err := m.prepareBalance(v, id, law, ends, split, set); err != nil {
 				return nil, err
 			}
 		default:
@@ -236,10 +238,10 @@ func (m *model) aPrime(e int, x float64) float64 {
 	return (ah - al) / (hi - lo)
 }
 
-func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
-	net := m.net
+// prepareBalance builds the visit rule of balance node v (id, law, incident
+// ends and walker-only split as the network reports them).
+func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.End, split []float64, set *Settings) error {
 	nd := &m.nodes[v]
-	ends := net.NodeIncident(v)
 	n := len(ends)
 	nd.depOff = m.nDep
 	m.nDep += n
@@ -250,26 +252,26 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 	}
 	alpha := make([]float64, n)
 	for k, end := range ends {
-		alpha[k] = net.EdgeWeight(end.Edge, end.Side)
+		alpha[k] = m.edges[end.Edge].alpha[end.Side]
 		if !finite(alpha[k]) || alpha[k] <= 0 {
-			return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(end.Edge), Field: "weight", Value: alpha[k]}
+			return &WeightError{Node: id, Edge: m.edges[end.Edge].id, Field: "weight", Value: alpha[k]}
 		}
 	}
-	if split := net.NodeSplit(v); split != nil {
+	if split != nil {
 		if len(split) != n {
-			panic("montecarlo: NodeSplit not aligned with NodeIncident")
+			panic("montecarlo: the split of a node is not aligned with its ends")
 		}
 		// A zero entry is legal: walkers never leave along that end. The
 		// entries must not all be zero.
 		var sum float64
 		for k, p := range split {
 			if !finite(p) || p < 0 {
-				return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(ends[k].Edge), Field: "split", Value: p}
+				return &WeightError{Node: id, Edge: m.edges[ends[k].Edge].id, Field: "split", Value: p}
 			}
 			sum += p
 		}
 		if !(sum > 0) {
-			return &WeightError{Node: net.NodeID(v), Edge: net.EdgeID(ends[0].Edge), Field: "split", Value: sum}
+			return &WeightError{Node: id, Edge: m.edges[ends[0].Edge].id, Field: "split", Value: sum}
 		}
 		vertex.ApplySplit(alpha, alpha, split)
 	}
@@ -289,7 +291,7 @@ func (m *model) prepareBalance(v int, law vertex.Law, set *Settings) error {
 		switch {
 		case !ed.exact:
 			allExact = false
-			varying = varying || !net.EdgeConstant(end.Edge)
+			varying = varying || !ed.constant
 			ac.max = ed.hz * s
 		case self:
 			ac.max = ed.L * s / 2

@@ -6,10 +6,11 @@ import (
 	"runtime"
 	"slices"
 	"sort"
-	"strconv"
 	"sync"
 	"sync/atomic"
 	"time"
+
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // moments accumulates a count, mean and sum of squared deviations, merged
@@ -119,24 +120,20 @@ func checkSettings(s *Settings) error {
 	return nil
 }
 
-func (m *model) startPlace(s Start) (place, error) {
-	nn, ne := len(m.nodes), len(m.edges)
+// startPlace checks the start point (a *vertex.PointError if it is not on
+// the network) and turns a point at an edge's end into its node.
+func (m *model) startPlace(s vertex.Point) (place, error) {
+	if err := s.Check(len(m.nodes), len(m.edges), func(e int) float64 { return m.edges[e].L }); err != nil {
+		return place{}, err
+	}
 	if s.Node >= 0 {
-		if s.Node >= nn {
-			return place{}, &StartError{Start: s, Reason: "no such node"}
-		}
 		return place{node: s.Node, edge: -1}, nil
 	}
-	if s.Edge < 0 || s.Edge >= ne {
-		return place{}, &StartError{Start: s, Reason: "no such edge"}
-	}
 	ed := &m.edges[s.Edge]
-	switch {
-	case !finite(s.X) || s.X < 0 || s.X > ed.L:
-		return place{}, &StartError{Start: s, Reason: "x is off the edge (length " + formatG(ed.L) + ")"}
-	case s.X == 0:
+	switch s.X {
+	case 0:
 		return place{node: ed.from, edge: -1}, nil
-	case s.X == ed.L:
+	case ed.L:
 		return place{node: ed.to, edge: -1}, nil
 	}
 	return place{node: -1, edge: s.Edge, x: s.X}, nil
@@ -152,13 +149,13 @@ func (m *model) startPlace(s Start) (place, error) {
 // live for ever) and returns the estimates of the completed prefix of
 // blocks with Status Cancelled and no error.
 //
-// Errors: *StartError, *WeightError, *CoefficientError, *NodeError,
+// Errors: *vertex.PointError (a start off the network, or the zero Point), *WeightError, *CoefficientError, *NodeError,
 // *SettingsError, *MemoryError (before any allocation), and *CensoredError,
 // returned with the result, when walkers finished but none exited. Run does
 // not modify net or set. Cost: O(steps) time, O(nodes + edges) memory per
 // worker, plus 16 bytes per walker with KeepSamples and 8 bytes per walker
 // (at most 2²² walkers) for the quantiles.
-func Run(ctx context.Context, net Network, start Start, set *Settings) (*Result, error) {
+func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*Result, error) {
 	t0 := time.Now()
 	s := defaults(set)
 	if err := checkSettings(&s); err != nil {
@@ -494,5 +491,3 @@ func selectKth(a []float64, k int) {
 	}
 	slices.Sort(a[lo : hi+1])
 }
-
-func formatG(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }

@@ -5,6 +5,7 @@ import (
 	"math"
 	"testing"
 
+	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/vertex/vertextest"
 )
@@ -18,9 +19,8 @@ func TestSharedCases(t *testing.T) {
 	const k = 4.5
 	for ci, c := range vertextest.Cases() {
 		t.Run(c.Name, func(t *testing.T) {
-			net := vertextest.NewNetwork(&c)
-			start := montecarlo.Start{Node: c.StartNode, Edge: c.StartEdge, X: c.StartX}
-			res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 200000, Seed: uint64(40 + ci)})
+			net := caseNetwork(t, &c)
+			res, err := montecarlo.Run(context.Background(), net, c.Start, &montecarlo.Settings{Particles: 200000, Seed: uint64(40 + ci)})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -41,4 +41,23 @@ func TestSharedCases(t *testing.T) {
 			within("mean exit time", res.ExitTime, c.MeanExit)
 		})
 	}
+}
+
+// caseNetwork builds the network of a shared analytic case, as the PDE
+// side's test does.
+func caseNetwork(t *testing.T, c *vertextest.Case) *graphpde.Network {
+	t.Helper()
+	net := &graphpde.Network{Name: c.Name}
+	for _, n := range c.Nodes {
+		if _, err := net.AddNode(graphpde.Node{ID: n.ID, Law: n.Law}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for _, e := range c.Edges {
+		if _, err := net.AddEdge(graphpde.Edge{ID: e.ID, From: e.From, To: e.To, Length: e.Length,
+			A: e.A, C: e.C, F: e.F, Rho: e.Rho, Weight: [2]float64{e.WFrom, e.WTo}}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return net
 }

@@ -5,6 +5,7 @@ import (
 	"testing"
 
 	"github.com/ramify-dev/ramify/montecarlo"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // tsBias is the allowance for the time-stepping bias at the default step,
@@ -38,7 +39,7 @@ func TestTimeStepping(t *testing.T) {
 		for i := range net.edges {
 			net.edges[i].varying = true
 		}
-		res := run(t, net, montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 20000, Seed: 21})
+		res := run(t, net, vertex.AtNode(0), montecarlo.Settings{Particles: 20000, Seed: 21})
 		if res.Stats.Exact {
 			t.Errorf("time-stepping run reported exact")
 		}
@@ -63,7 +64,7 @@ func TestTimeStepping(t *testing.T) {
 		net.edge(tEdge{from: c, to: e1, L: 1, a: 0.5, b: 1})
 		net.edge(tEdge{from: e2, to: c, L: 1, a: 0.5})
 		phi := 0.5 * -math.Expm1(-2) / 1
-		res := run(t, net, montecarlo.Start{Node: c}, montecarlo.Settings{Particles: 20000, Seed: 24})
+		res := run(t, net, vertex.AtNode(c), montecarlo.Settings{Particles: 20000, Seed: 24})
 		nearTS(t, "P(drift end)", res.Hit[e1], (1/phi)/(1/phi+1))
 	})
 	t.Run("varying diffusivity", func(t *testing.T) {

@@ -136,7 +136,7 @@ func TestLeakyStartLaw(t *testing.T) {
 				}
 			}
 			cdf := starCDF(c.law.Leak, c.law.Capacity, c.arms)
-			res := run(t, star(c.law, c.arms), montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 1000000, Seed: c.seed, KeepSamples: true})
+			res := run(t, star(c.law, c.arms), vertex.AtNode(0), montecarlo.Settings{Particles: 1000000, Seed: c.seed, KeepSamples: true})
 			x := make([]float64, len(res.Samples))
 			for i, s := range res.Samples {
 				x[i] = s.Time
@@ -187,7 +187,7 @@ func TestDriftStartLaw(t *testing.T) {
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			cdf := starCDF(c.law.Leak, c.law.Capacity, arms)
-			res := run(t, star(c.law, arms), montecarlo.Start{Node: 0}, montecarlo.Settings{Particles: 1000000, Seed: c.seed, KeepSamples: true, Step: 1e-3})
+			res := run(t, star(c.law, arms), vertex.AtNode(0), montecarlo.Settings{Particles: 1000000, Seed: c.seed, KeepSamples: true, Step: 1e-3})
 			x := make([]float64, len(res.Samples))
 			for i, s := range res.Samples {
 				x[i] = s.Time

@@ -9,6 +9,7 @@ import (
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
 	"github.com/ramify-dev/ramify/montecarlo"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 const benchExamples = `  ramify bench                 # small sizes, about half a minute
@@ -45,7 +46,7 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	star := gen.Star([]float64{1, 2, 3}, []float64{0.5, 0.3, 0.2})
 	c, _ := star.NodeIndex("c")
 	rate := func(workers int) (float64, error) {
-		r, err := montecarlo.Run(ctx, star, montecarlo.Start{Node: c, Edge: -1}, &montecarlo.Settings{Particles: *walkers, Seed: 1, Workers: workers})
+		r, err := montecarlo.Run(ctx, star, vertex.AtNode(c), &montecarlo.Settings{Particles: *walkers, Seed: 1, Workers: workers})
 		if err != nil {
 			return 0, err
 		}

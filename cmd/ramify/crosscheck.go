@@ -216,7 +216,7 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			return nil, solErr
 		}
 	}
-	res, err := montecarlo.Run(ctx, net, startOf(p), wset)
+	res, err := montecarlo.Run(ctx, net, p, wset)
 	if err != nil {
 		return nil, err
 	}
@@ -236,7 +236,11 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 		case solErr != nil:
 			return nil, solErr
 		default:
-			c := compare.Mean("value", sol.At(p), res.Value.Mean, res.Value.StdErr)
+			u, err := sol.At(p)
+			if err != nil {
+				return nil, err
+			}
+			c := compare.Mean("value", u, res.Value.Mean, res.Value.StdErr)
 			c.Scale = payoffScale(net, c.PDE)
 			checks = append(checks, c)
 		}

@@ -135,7 +135,7 @@ func solveJSON(net *graphpde.Network, sol *graphpde.Solution, specs []string, pt
 			Flux: [2]num{num(sol.Flux[i][0]), num(sol.Flux[i][1])}}
 	}
 	for i, p := range pts {
-		out.Probes[i] = probeOut{At: specs[i], U: num(sol.At(p))}
+		out.Probes[i] = probeOut{At: specs[i], U: num(probe(sol, p))}
 	}
 	return out
 }
@@ -229,7 +229,7 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 		fmt.Fprintln(tw, "probe\tu")
 		for i, p := range pts {
-			fmt.Fprintf(tw, "%s\t%.6g\n", specs[i], sol.At(p))
+			fmt.Fprintf(tw, "%s\t%.6g\n", specs[i], probe(sol, p))
 		}
 		tw.Flush()
 	}
@@ -261,4 +261,15 @@ func writeField(path, input string, sol *graphpde.Solution, stderr io.Writer) er
 	}
 	wrote(stderr, "solve", path, replaced, fmt.Sprintf("field at %d points on %s", rows, plural(len(sol.Net.Edges), "edge")))
 	return nil
+}
+
+// probe returns the solution at a point parsed from the command line
+// (always on the network); a point that is not on it gives NaN, printed as
+// NaN or a JSON null.
+func probe(sol *graphpde.Solution, p graphpde.Point) float64 {
+	u, err := sol.At(p)
+	if err != nil {
+		return math.NaN()
+	}
+	return u
 }

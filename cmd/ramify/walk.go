@@ -68,10 +68,6 @@ func (f *walkFlags) settings(stderr io.Writer) (*montecarlo.Settings, error) {
 	return set, nil
 }
 
-func startOf(p graphpde.Point) montecarlo.Start {
-	return montecarlo.Start{Node: p.Node, Edge: p.Edge, X: p.X}
-}
-
 func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("walk", "walk [flags] FILE --from POINT", walkExamples, stderr)
 	wf := addWalkFlags(fs)
@@ -98,7 +94,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
-	res, err := montecarlo.Run(ctx, net, startOf(p), set)
+	res, err := montecarlo.Run(ctx, net, p, set)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}

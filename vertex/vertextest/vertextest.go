@@ -6,8 +6,7 @@
 // readings of every node law in package vertex are tested against the same
 // numbers.
 //
-// Network is a ready-made implementation of the accessors the walker side
-// needs; the PDE side builds its own network from the same data.
+// Both sides build their network (a graphpde.Network) from the same data.
 package vertextest
 
 import (
@@ -34,17 +33,15 @@ type EdgeSpec struct {
 
 // Case is an analytic network with its answers.
 type Case struct {
-	Name   string
-	Source string // where the closed form comes from
-	Nodes  []NodeSpec
-	Edges  []EdgeSpec
-	// Start: a node (StartEdge < 0) or the point at StartX on StartEdge.
-	StartNode, StartEdge int
-	StartX               float64
-	Value                float64            // u(start)
-	Hit                  map[string]float64 // P(absorbed at node)
-	Killed               float64            // P(killed by decay or leak)
-	MeanExit             float64            // E τ, τ the lifetime
+	Name     string
+	Source   string // where the closed form comes from
+	Nodes    []NodeSpec
+	Edges    []EdgeSpec
+	Start    vertex.Point       // where the walkers start
+	Value    float64            // u(start)
+	Hit      map[string]float64 // P(absorbed at node)
+	Killed   float64            // P(killed by decay or leak)
+	MeanExit float64            // E τ, τ the lifetime
 }
 
 // Cases returns the shared analytic cases. Each call returns fresh values.
@@ -67,7 +64,7 @@ func Cases() []Case {
 			{ID: "a2", From: 0, To: 2, Length: 2, A: 0.5, Rho: 1, WFrom: 0.3},
 			{ID: "a3", From: 0, To: 3, Length: 3, A: 0.5, Rho: 1, WFrom: 0.2},
 		},
-		StartNode: 0, StartEdge: -1,
+		Start:    vertex.AtNode(0),
 		Value:    30.0 / 43,
 		Hit:      map[string]float64{"e1": 30.0 / 43, "e2": 9.0 / 43, "e3": 4.0 / 43},
 		MeanExit: 102.0 / 43,
@@ -88,8 +85,8 @@ func Cases() []Case {
 			Source: "derived from the balance law of docs/node-laws.md §2",
 			Nodes: []NodeSpec{{ID: "c", Law: vertex.Law{Kind: vertex.Balance, Leak: beta, Inject: gamma, Capacity: rhoV}},
 				fixed("e1", 1), fixed("e2", 0), fixed("e3", 0)},
-			StartNode: 0, StartEdge: -1,
-			Hit: map[string]float64{},
+			Start: vertex.AtNode(0),
+			Hit:   map[string]float64{},
 		}
 		D, num, tnum := beta, gamma, rhoV
 		for k, ar := range arms {
@@ -117,11 +114,11 @@ func Cases() []Case {
 		a, cc, L := 0.5, 2.0, 0.5 // κL = 1
 		k := math.Sqrt(cc / a)
 		cs = append(cs, Case{
-			Name:      "sealed cable",
-			Source:    "docs/references.md C2 (cable theory); mean lifetime derived",
-			Nodes:     []NodeSpec{fixed("base", 1), {ID: "tip", Law: vertex.Law{Kind: vertex.Balance}}},
-			Edges:     []EdgeSpec{{ID: "cable", From: 0, To: 1, Length: L, A: a, C: cc, Rho: 1}},
-			StartNode: 1, StartEdge: -1,
+			Name:     "sealed cable",
+			Source:   "docs/references.md C2 (cable theory); mean lifetime derived",
+			Nodes:    []NodeSpec{fixed("base", 1), {ID: "tip", Law: vertex.Law{Kind: vertex.Balance}}},
+			Edges:    []EdgeSpec{{ID: "cable", From: 0, To: 1, Length: L, A: a, C: cc, Rho: 1}},
+			Start:    vertex.AtNode(1),
 			Value:    1 / math.Cosh(k*L),
 			Hit:      map[string]float64{"base": 1 / math.Cosh(k*L)},
 			Killed:   1 - 1/math.Cosh(k*L),
@@ -134,60 +131,14 @@ func Cases() []Case {
 	// Karatzas & Shreve 2nd ed. §2.8, from memory). A source f = 1 adds
 	// E ∫ f/ρ dt = E τ to the value: u = 0.3 + 0.21.
 	cs = append(cs, Case{
-		Name:      "interval with a source",
-		Source:    "docs/references.md B1",
-		Nodes:     []NodeSpec{fixed("left", 0), fixed("right", 1)},
-		Edges:     []EdgeSpec{{ID: "i", From: 0, To: 1, Length: 1, A: 0.5, F: 1, Rho: 1}},
-		StartNode: -1, StartEdge: 0, StartX: 0.3,
+		Name:     "interval with a source",
+		Source:   "docs/references.md B1",
+		Nodes:    []NodeSpec{fixed("left", 0), fixed("right", 1)},
+		Edges:    []EdgeSpec{{ID: "i", From: 0, To: 1, Length: 1, A: 0.5, F: 1, Rho: 1}},
+		Start:    vertex.OnEdge(0, 0.3),
 		Value:    0.3 + 0.21,
 		Hit:      map[string]float64{"left": 0.7, "right": 0.3},
 		MeanExit: 0.21,
 	})
 	return cs
-}
-
-// Network implements the network accessors of the walker side for a Case.
-type Network struct {
-	c   *Case
-	inc [][]vertex.End
-}
-
-// NewNetwork returns the accessors for c. It does not copy c.
-func NewNetwork(c *Case) *Network {
-	n := &Network{c: c, inc: make([][]vertex.End, len(c.Nodes))}
-	for i, e := range c.Edges {
-		n.inc[e.From] = append(n.inc[e.From], vertex.End{Edge: i, Side: 0})
-		n.inc[e.To] = append(n.inc[e.To], vertex.End{Edge: i, Side: 1})
-	}
-	return n
-}
-
-func (n *Network) NumNodes() int                   { return len(n.c.Nodes) }
-func (n *Network) NumEdges() int                   { return len(n.c.Edges) }
-func (n *Network) NodeID(v int) string             { return n.c.Nodes[v].ID }
-func (n *Network) EdgeID(e int) string             { return n.c.Edges[e].ID }
-func (n *Network) NodeLaw(v int) vertex.Law        { return n.c.Nodes[v].Law }
-func (n *Network) NodeIncident(v int) []vertex.End { return n.inc[v] }
-func (n *Network) NodeSplit(int) []float64         { return nil }
-func (n *Network) EdgeNodes(e int) (int, int)      { return n.c.Edges[e].From, n.c.Edges[e].To }
-func (n *Network) EdgeLength(e int) float64        { return n.c.Edges[e].Length }
-func (n *Network) EdgeConstant(int) bool           { return true }
-
-// EdgeCoeffs returns a, 0, c, f, ρ of edge e (no drift in the shared cases).
-func (n *Network) EdgeCoeffs(e int, _ float64) (a, b, c, f, rho float64) {
-	ed := &n.c.Edges[e]
-	return ed.A, 0, ed.C, ed.F, ed.Rho
-}
-
-// EdgeWeight returns α at the given side, the diffusivity by default.
-func (n *Network) EdgeWeight(e, side int) float64 {
-	ed := &n.c.Edges[e]
-	w := ed.WFrom
-	if side == 1 {
-		w = ed.WTo
-	}
-	if w == 0 {
-		return ed.A
-	}
-	return w
 }
