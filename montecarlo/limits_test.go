@@ -64,7 +64,7 @@ func TestCancelInsideWalker(t *testing.T) {
 	var res *montecarlo.Result
 	var err error
 	go func() {
-		res, err = montecarlo.Run(ctx, n, montecarlo.Start{Node: v, Edge: -1}, &montecarlo.Settings{Particles: 10, Seed: 1, TimeCap: 1e300})
+		res, err = montecarlo.Run(ctx, n, vertex.AtNode(v), &montecarlo.Settings{Particles: 10, Seed: 1, TimeCap: 1e300})
 		done <- time.Now()
 	}()
 	time.Sleep(100 * time.Millisecond)
