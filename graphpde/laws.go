@@ -51,7 +51,10 @@ type Coef struct {
 	// no parameter is a constant and is stored in the plain field instead.
 	// One that reads parameters only (UsesP, not X, U or T) is kept as a Coef
 	// so that a parameter sweep sees the change; the plain field then holds
-	// its value at the parameters it was read with.
+	// its value at the parameters the network was read with, for engines
+	// that read constants. (The file reader puts a coefficient that depends
+	// on x and parameters only in Edge.Profile, which every linear engine
+	// reads, not here.)
 	UsesX, UsesU, UsesT bool
 	UsesP               bool   // reads a parameter (Params)
 	Src                 string // the expression as written, for messages and writers
@@ -93,9 +96,13 @@ type NodeNonlinear struct {
 	Src     string
 }
 
-// NodeTime holds node data that depend on time t (nil: the constants of the
-// node's vertex.Law).
+// NodeTime holds node data that depend on time t or on parameters (nil: the
+// constants of the node's vertex.Law). Fixed is set on a fixed node, Inject
+// on a balance node. The node's Law.Value or Law.Inject holds the value at
+// t = 0 with the parameters the network was read with; a steady solver that
+// follows a parameter (a sweep) evaluates the function at t = 0.
 type NodeTime struct {
 	Fixed, Inject func(t float64) float64
-	Src           string
+	UsesT         bool   // depends on t (false: on parameters only)
+	Src           string // the expression as written
 }

@@ -32,6 +32,10 @@ type Node struct {
 // constant value is used for that coefficient.
 type Profile struct {
 	A, B, C, F, Rho func(x float64) float64
+	// The expressions the functions were compiled from, as written (a
+	// reader fills them, a writer writes them back); "" for a function that
+	// was not compiled from an expression.
+	SrcA, SrcB, SrcC, SrcF, SrcRho string
 }
 
 // Edge is a thin conductor of length Length between two nodes, carrying
@@ -168,6 +172,19 @@ func (n *Network) AddNode(nd Node) (int, error) {
 		le := err.(*vertex.LawError)
 		return -1, &ModelError{Object: "node", ID: nd.ID, Field: le.Field, Reason: fmt.Sprintf("= %g %s", le.Value, le.Reason)}
 	}
+	if nl := nd.Nonlinear; nl != nil {
+		switch {
+		case nd.Law.Kind != vertex.Balance:
+			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law needs a balance node, not a fixed one"}
+		case nd.Law.Leak != 0 || nd.Law.Inject != 0:
+			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law replaces leak and inject; they must be 0"}
+		case (nl.Loss == nil) == (nl.General == nil):
+			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law needs exactly one of Loss and General"}
+		}
+	}
+	if nd.Initial != nil && (math.IsNaN(*nd.Initial) || math.IsInf(*nd.Initial, 0)) {
+		return -1, &ModelError{Object: "node", ID: nd.ID, Field: "initial", Reason: fmt.Sprintf("= %g must be a finite number", *nd.Initial)}
+	}
 	n.nodeIndex[nd.ID] = len(n.Nodes)
 	n.Nodes = append(n.Nodes, nd)
 	n.incident = nil
@@ -178,7 +195,10 @@ func (n *Network) AddNode(nd Node) (int, error) {
 // and returns its index. A zero Rho is taken as the default capacity 1. It
 // rejects an illegal or duplicate id, unknown nodes, a non-positive or
 // non-finite length, diffusivity, capacity or weight, negative decay, and
-// non-finite drift or source.
+// non-finite drift or source. A coefficient given by e.Law is not checked
+// here (its plain field is ignored; solvers check the law where they
+// evaluate it); an edge with an equation must have both end weights, and its
+// A, B, C and F are stored as 0.
 func (n *Network) AddEdge(e Edge) (int, error) {
 	bad := func(field, reason string) (int, error) {
 		return -1, &ModelError{Object: "edge", ID: e.ID, Field: field, Reason: reason}
@@ -199,18 +219,32 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 		e.Rho = 1
 	}
 	fin := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+	// A coefficient given by a law (EdgeLaw) is checked where a solver
+	// evaluates it; the plain field is checked otherwise. An equation
+	// replaces a, b, c and f.
+	var law EdgeLaw
+	if e.Law != nil {
+		law = *e.Law
+		if law.Equation != nil {
+			if e.Weight[0] == 0 || e.Weight[1] == 0 {
+				return bad("weight", "must be given on an edge with an equation (weight or weights)")
+			}
+			e.A, e.B, e.C, e.F = 0, 0, 0, 0
+		}
+	}
+	eq := law.Equation != nil
 	switch {
 	case !fin(e.Length) || e.Length <= 0:
 		return bad("length", fmt.Sprintf("= %g must be a finite number > 0", e.Length))
-	case !fin(e.A) || e.A <= 0:
+	case law.A == nil && !eq && (!fin(e.A) || e.A <= 0):
 		return bad("diffusivity", fmt.Sprintf("= %g must be a finite number > 0", e.A))
-	case !fin(e.Rho) || e.Rho <= 0:
+	case law.Rho == nil && (!fin(e.Rho) || e.Rho <= 0):
 		return bad("capacity", fmt.Sprintf("= %g must be a finite number > 0", e.Rho))
-	case !fin(e.C) || e.C < 0:
+	case law.C == nil && !eq && (!fin(e.C) || e.C < 0):
 		return bad("decay", fmt.Sprintf("= %g must be a finite number ≥ 0", e.C))
-	case !fin(e.B):
+	case law.B == nil && !eq && !fin(e.B):
 		return bad("drift", fmt.Sprintf("= %g must be a finite number", e.B))
-	case !fin(e.F):
+	case law.F == nil && !eq && !fin(e.F):
 		return bad("source", fmt.Sprintf("= %g must be a finite number", e.F))
 	case e.Cells < 0:
 		return bad("cells", fmt.Sprintf("= %d must be ≥ 0", e.Cells))

@@ -15,6 +15,7 @@ import (
 	"github.com/BurntSushi/toml"
 
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/formula"
 	"github.com/ramify-dev/ramify/graphpde/units"
 	"github.com/ramify-dev/ramify/vertex"
 )
@@ -22,10 +23,10 @@ import (
 // Keys accepted in each table, in the order the documentation lists them.
 var (
 	networkKeys  = []string{"name", "description"}
-	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split", "initial"}
-	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells", "initial"}
+	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split", "loss", "law", "initial"}
+	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells", "equation", "initial"}
 	defaultsKeys = edgeKeys[3:]
-	topKeys      = []string{"network", "defaults", "node", "edge"}
+	topKeys      = []string{"network", "parameters", "defaults", "node", "edge"}
 )
 
 // ReadFile reads the network in path, choosing the format by the extension:
@@ -94,6 +95,9 @@ type reader struct {
 	nodeLine map[string]int // node id → line of its id key
 	edgeLine map[string]int
 	cells    int64 // cells so far, for the memory guard
+
+	params *graphpde.Params // the [parameters] table (nil: none)
+	laws   []lawSpec        // general node laws, compiled once the edges are known
 }
 
 // tbl is one table of the file being read: [network], [defaults], one
@@ -362,8 +366,10 @@ type edgeVals struct {
 	length, a, b, c, f, rho float64
 	w                       [2]float64 // 0: default weight
 	cells                   int
-	line                    [9]int  // line each of defaultsKeys was given on
-	given                   [9]bool // whether each of defaultsKeys was given
+	initial                 float64
+	line                    [maxEdgeKeys]int           // line each of defaultsKeys was given on
+	given                   [maxEdgeKeys]bool          // whether each of defaultsKeys was given
+	ex                      [maxEdgeKeys]*formula.Expr // the expression given for a key, if any (netfile/expr.go)
 }
 
 // lineOf returns the line edge key k was given on, 0 if not given.
@@ -375,9 +381,18 @@ func (ev *edgeVals) lineOf(k string) int {
 }
 
 // edgeValue reads one edge key other than id, from and to into ev.
-func (t *tbl) edgeValue(k string, ev *edgeVals) error {
+func (t *tbl) edgeValue(key string, ev *edgeVals) error {
+	k := key
 	var err error
+	if i := slices.Index(defaultsKeys, k); i >= 0 {
+		ev.ex[i] = nil
+	}
+	if src, isExpr := exprString(t.m[k]); isExpr || k == "equation" {
+		err = t.edgeExpr(k, src, ev)
+		k = "" // read
+	}
 	switch k {
+	case "":
 	case "length":
 		ev.length, err = t.ruled(k, positive)
 	case "diffusivity":
@@ -400,14 +415,16 @@ func (t *tbl) edgeValue(k string, ev *edgeVals) error {
 		ev.given[slices.Index(defaultsKeys, "weight")] = false
 	case "cells":
 		ev.cells, err = t.cells(k)
+	case "initial":
+		ev.initial, err = t.ruled(k, finite)
 	default:
 		panic("netfile: edgeValue of " + k)
 	}
 	if err != nil {
 		return err
 	}
-	i := slices.Index(defaultsKeys, k)
-	ev.line[i], ev.given[i] = t.line(k), true
+	i := slices.Index(defaultsKeys, key)
+	ev.line[i], ev.given[i] = t.line(key), true
 	return nil
 }
 
@@ -424,7 +441,7 @@ func (t *tbl) edgeValues(ev *edgeVals) error {
 	}
 	for _, k := range t.keys() {
 		switch k {
-		case "id", "from", "to", "initial":
+		case "id", "from", "to":
 		default:
 			if err := t.edgeValue(k, ev); err != nil {
 				return err
@@ -448,9 +465,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			continue
 		}
 		if _, isTable := root[k].(map[string]any); isTable {
-			return nil, top.fail(k, fmt.Sprintf("unknown table [%s] (the tables are [network], [defaults], [[node]] and [[edge]])", k))
+			return nil, top.fail(k, fmt.Sprintf("unknown table [%s] (the tables are [network], [parameters], [defaults], [[node]] and [[edge]])", k))
 		}
-		return nil, top.fail(k, unknownKey(k, topKeys)+" at the top level (the tables are [network], [defaults], [[node]] and [[edge]])")
+		return nil, top.fail(k, unknownKey(k, topKeys)+" at the top level (the tables are [network], [parameters], [defaults], [[node]] and [[edge]])")
 	}
 	net := &graphpde.Network{}
 	if v, ok := root["network"]; ok {
@@ -473,6 +490,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 				return nil, err
 			}
 		}
+	}
+	if err := rd.parameters(top, root, net); err != nil {
+		return nil, err
 	}
 	def := edgeVals{rho: 1}
 	if v, ok := root["defaults"]; ok {
@@ -535,6 +555,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			return nil, err
 		}
 	}
+	if err := rd.generalLaws(net); err != nil {
+		return nil, err
+	}
 	return net, nil
 }
 
@@ -593,8 +616,17 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 		nd.Law.Kind = vertex.Fixed
 	}
 	var split map[string]any
+	if err := t.nodeExclusions(fixed); err != nil {
+		return nd, nil, err
+	}
 	for _, k := range t.keys() {
 		var err error
+		if src, isExpr := exprString(t.m[k]); isExpr && (k == "fixed" || k == "inject") || k == "loss" || k == "law" || k == "initial" {
+			if err := t.nodeExpr(rd, k, src, &nd); err != nil {
+				return nd, nil, err
+			}
+			continue
+		}
 		switch k {
 		case "id":
 		case "xy":
@@ -603,10 +635,6 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 			nd.XY = &xy
 		case "fixed":
 			nd.Law.Value, err = t.ruled(k, finite)
-		case "initial":
-			var v float64
-			v, err = t.ruled(k, finite)
-			nd.Initial = &v
 		case "leak", "inject", "capacity", "split":
 			if fixed {
 				return nd, nil, t.fail(k, k+" is not allowed on a fixed node (it has no balance law; remove fixed or "+k+")")
@@ -659,7 +687,13 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	if err := t.edgeValues(&ev); err != nil {
 		return err
 	}
+	if err := t.equationRules(&ev); err != nil {
+		return err
+	}
 	for _, k := range []string{"length", "diffusivity"} {
+		if k == "diffusivity" && ev.ex[slices.Index(defaultsKeys, "equation")] != nil {
+			continue
+		}
 		if !ev.given[slices.Index(defaultsKeys, k)] {
 			return t.fail("", fmt.Sprintf("missing key %q (give it here or in [defaults])", k))
 		}
@@ -671,13 +705,8 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 		}
 	}
 	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
-	if _, ok := t.m["initial"]; ok {
-		// a number for now; expressions in x come with the formula reader
-		v, err := t.ruled("initial", finite)
-		if err != nil {
-			return err
-		}
-		e.Law = &graphpde.EdgeLaw{Initial: &graphpde.Coef{Fn: func(x, u, t float64) (float64, float64) { return v, 0 }, Src: strconv.FormatFloat(v, 'g', -1, 64)}}
+	if err := t.edgeLaws(&e, &ev); err != nil {
+		return err
 	}
 	if _, err := net.AddEdge(e); err != nil {
 		return rd.modelError(t, err, func(field string) int {

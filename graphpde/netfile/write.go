@@ -24,10 +24,16 @@ import (
 // normalised. An empty split is left out, as are the balance fields of a
 // fixed node (which its law ignores).
 //
+// Laws compiled from expressions (Edge.Law, Edge.Profile functions with
+// their sources, Node.Nonlinear, Node.Time) are written as the expressions
+// they came from, and net.Params as a [parameters] table, so a file read
+// with expressions reads back to the same laws.
+//
 // Write returns an *Error, before writing anything, if net holds what the file
-// cannot express: coefficient profiles (Edge.Profile), a node kind other than
-// fixed and balance, non-finite values or invalid ids. Its cost is linear in
-// the size of the network.
+// cannot express: coefficient profiles or laws without an expression
+// (Edge.Profile functions set in Go), a node kind other than fixed and
+// balance, non-finite values or invalid ids. Its cost is linear in the size
+// of the network.
 func Write(w io.Writer, net *graphpde.Network) error {
 	if err := writable(net); err != nil {
 		return err
@@ -43,6 +49,7 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		}
 		b.WriteString("\n")
 	}
+	writeParams(b, net.Params)
 	for _, nd := range net.Nodes {
 		fmt.Fprintf(b, "[[node]]\nid = %s\n", quote(nd.ID))
 		if nd.XY != nil {
@@ -51,16 +58,26 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		l := nd.Law
 		switch l.Kind {
 		case vertex.Fixed:
-			fmt.Fprintf(b, "fixed = %s\n", num(l.Value))
+			if nd.Time != nil {
+				fmt.Fprintf(b, "fixed = %s\n", quote(nd.Time.Src))
+			} else {
+				fmt.Fprintf(b, "fixed = %s\n", num(l.Value))
+			}
 		case vertex.Balance:
 			for _, kv := range []struct {
 				k string
 				v float64
 			}{{"leak", l.Leak}, {"inject", l.Inject}, {"capacity", l.Capacity}} {
-				if kv.v != 0 || math.Signbit(kv.v) {
+				if kv.k == "inject" && nd.Time != nil {
+					fmt.Fprintf(b, "inject = %s\n", quote(nd.Time.Src))
+				} else if kv.v != 0 || math.Signbit(kv.v) {
 					fmt.Fprintf(b, "%s = %s\n", kv.k, num(kv.v))
 				}
 			}
+			writeNodeLaw(b, nd.Nonlinear)
+		}
+		if nd.Initial != nil {
+			fmt.Fprintf(b, "initial = %s\n", num(*nd.Initial))
 		}
 		if len(nd.Split) > 0 {
 			keys := slices.Sorted(maps.Keys(nd.Split))
@@ -73,13 +90,27 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		b.WriteString("\n")
 	}
 	for _, e := range net.Edges {
-		fmt.Fprintf(b, "[[edge]]\nid = %s\nfrom = %s\nto = %s\nlength = %s\ndiffusivity = %s\n",
-			quote(e.ID), quote(net.Nodes[e.From].ID), quote(net.Nodes[e.To].ID), num(e.Length), num(e.A))
+		fmt.Fprintf(b, "[[edge]]\nid = %s\nfrom = %s\nto = %s\nlength = %s\n",
+			quote(e.ID), quote(net.Nodes[e.From].ID), quote(net.Nodes[e.To].ID), num(e.Length))
+		if eq := lawEquation(&e); eq != "" {
+			fmt.Fprintf(b, "equation = %s\n", quote(eq))
+		} else if src := coefSrc(&e, "diffusivity"); src != "" {
+			fmt.Fprintf(b, "diffusivity = %s\n", quote(src))
+		} else {
+			fmt.Fprintf(b, "diffusivity = %s\n", num(e.A))
+		}
 		for _, kv := range []struct {
 			k    string
 			v    float64
 			zero float64
 		}{{"drift", e.B, 0}, {"decay", e.C, 0}, {"source", e.F, 0}, {"capacity", e.Rho, 1}} {
+			if src := coefSrc(&e, kv.k); src != "" {
+				fmt.Fprintf(b, "%s = %s\n", kv.k, quote(src))
+				continue
+			}
+			if lawEquation(&e) != "" && kv.k != "capacity" {
+				continue
+			}
 			if kv.v != kv.zero || (kv.zero == 0 && math.Signbit(kv.v)) {
 				if kv.k == "capacity" && kv.v == 0 {
 					continue // AddEdge stores 0 as 1; nothing to write
@@ -97,6 +128,9 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		}
 		if e.Cells > 0 {
 			fmt.Fprintf(b, "cells = %d\n", e.Cells)
+		}
+		if e.Law != nil && e.Law.Initial != nil {
+			fmt.Fprintf(b, "initial = %s\n", exprOrNumber(e.Law.Initial.Src))
 		}
 		b.WriteString("\n")
 	}
@@ -124,6 +158,9 @@ func writable(net *graphpde.Network) error {
 		if err := nd.Law.Validate(); err != nil {
 			return &Error{Object: obj, Msg: "cannot write: " + err.Error(), Err: err}
 		}
+		if msg := nodeLawsWritable(&nd); msg != "" {
+			return &Error{Object: obj, Msg: msg}
+		}
 		if nd.XY != nil && !fin(nd.XY[0], nd.XY[1]) {
 			return &Error{Object: obj, Msg: "cannot write a non-finite xy"}
 		}
@@ -150,8 +187,10 @@ func writable(net *graphpde.Network) error {
 		switch {
 		case !graphpde.ValidID(e.ID):
 			return &Error{Object: fmt.Sprintf("edge #%d", i+1), Msg: fmt.Sprintf("cannot write id %q", e.ID)}
-		case !e.Constant():
-			return &Error{Object: obj, Msg: "cannot write coefficient profiles: the network file holds constant coefficients only"}
+		case profileMsg(&e) != "":
+			return &Error{Object: obj, Msg: profileMsg(&e)}
+		case edgeLawMsg(&e) != "":
+			return &Error{Object: obj, Msg: edgeLawMsg(&e)}
 		case e.From < 0 || e.From >= len(net.Nodes) || e.To < 0 || e.To >= len(net.Nodes):
 			return &Error{Object: obj, Msg: "cannot write: unknown node"}
 		case !fin(e.Length, e.A, e.B, e.C, e.F, e.Rho, e.Weight[0], e.Weight[1]):
