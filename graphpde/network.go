@@ -176,8 +176,6 @@ func (n *Network) AddNode(nd Node) (int, error) {
 		switch {
 		case nd.Law.Kind != vertex.Balance:
 			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law needs a balance node, not a fixed one"}
-		case nd.Law.Leak != 0 || nd.Law.Inject != 0:
-			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law replaces leak and inject; they must be 0"}
 		case (nl.Loss == nil) == (nl.General == nil):
 			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law needs exactly one of Loss and General"}
 		}
@@ -197,8 +195,8 @@ func (n *Network) AddNode(nd Node) (int, error) {
 // non-finite length, diffusivity, capacity or weight, negative decay, and
 // non-finite drift or source. A coefficient given by e.Law is not checked
 // here (its plain field is ignored; solvers check the law where they
-// evaluate it); an edge with an equation must have both end weights, and its
-// A, B, C and F are stored as 0.
+// evaluate it); an edge with an equation has its A, B, C and F stored as 0
+// (its end weights are checked by the solver, which needs them).
 func (n *Network) AddEdge(e Edge) (int, error) {
 	bad := func(field, reason string) (int, error) {
 		return -1, &ModelError{Object: "edge", ID: e.ID, Field: field, Reason: reason}
@@ -226,9 +224,6 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 	if e.Law != nil {
 		law = *e.Law
 		if law.Equation != nil {
-			if e.Weight[0] == 0 || e.Weight[1] == 0 {
-				return bad("weight", "must be given on an edge with an equation (weight or weights)")
-			}
 			e.A, e.B, e.C, e.F = 0, 0, 0, 0
 		}
 	}

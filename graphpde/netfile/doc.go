@@ -89,6 +89,57 @@
 // than MaxCellsPerEdge (10^8) cells or if the cells of all edges together,
 // at BytesPerCell (64) bytes each, exceed MemoryLimit (16 GiB, 2^28 cells).
 //
+// # Parameters and expressions
+//
+// [parameters] (optional): named numbers, name = number (or a quantity).
+// Names are ASCII letters, digits and '_', not starting with a digit, and
+// not a variable or function of the expressions (formula.Reserved). They
+// become Network.Params, which compiled laws read at every evaluation.
+//
+// Where a coefficient may vary, its value may be a string holding an
+// expression (package formula; a string that is a quantity "NUMBER UNIT" is
+// a number instead). Each key may use these variables besides parameters:
+//
+//	edge diffusivity, drift, decay, source   x, u, t
+//	edge capacity                            x, t
+//	edge equation                            x, u, ux, uxx
+//	edge initial                             x
+//	node fixed, inject                       t
+//	node loss                                u
+//	node law                                 u, d.EDGE
+//	node initial                             (parameters only)
+//
+// Any other variable is an error naming the line, the key, the variable
+// and its column; the cause is a *formula.Error. An expression without
+// variables or parameters is stored as the number it evaluates to, and is
+// checked like one. Otherwise:
+//
+//   - an edge coefficient in u or t becomes a graphpde.Coef in Edge.Law
+//     (plain field 0); one in x (and parameters) becomes an Edge.Profile
+//     function, which every linear engine reads, checked at 65 points along
+//     the edge; one in parameters only becomes a Coef in Edge.Law with its
+//     current value in the plain field;
+//   - equation (an expression, never a number) becomes Edge.Law.Equation,
+//     E(x, u, ux, uxx) = 0 in generator sign. It replaces diffusivity,
+//     drift, decay and source: giving one of them on the same edge is an
+//     error, and their [defaults] do not apply. The edge must give weight
+//     or weights;
+//   - initial (number or expression) becomes Edge.Law.Initial;
+//   - node fixed and inject in t or parameters set Node.Time, with the
+//     value at t = 0 in the node's law;
+//   - loss = "..." (u) on a balance node makes Σ_e J_e + loss(u) = 0
+//     (Node.Nonlinear.Loss); it excludes leak, inject and law, and a fixed
+//     node. A constant loss is stored as inject = −loss;
+//   - law = "..." on a balance node is a general law G(u, d_1…d_k) = 0 with
+//     d.EDGE the derivative leaving the node along EDGE (d["EDGE"] for ids
+//     with '-' or '.'; d.EDGE.from and d.EDGE.to for the two ends of a
+//     self-loop), compiled once the edges are known
+//     (Node.Nonlinear.General, in Network.Incident order); it excludes leak,
+//     inject and loss, and a fixed node;
+//   - node initial (number or parameters) becomes Node.Initial.
+//
+// Laws in u are checked by the solvers where they evaluate them.
+//
 // # CSV edge lists
 //
 // ReadCSV reads large networks from CSV (RFC 4180: comma separated, fields
