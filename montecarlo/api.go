@@ -166,6 +166,13 @@ type Result struct {
 	// Departures[v][k] counts the walkers that left node v along its k-th
 	// incident end (NodeIncident order); nil for nodes never visited.
 	Departures [][]int64
+	// SplitExact[v] reports that departures from balance node v follow
+	// its star weights w_e/Σw exactly (docs/walkers.md): every edge at v is
+	// walked on intervals (constant coefficients, no drift) and all decay
+	// at one rate c/ρ. Only there can the split frequencies be compared
+	// with the weights; elsewhere they lean towards the arms that decay
+	// less, or carry the error of freezing coefficients at the node.
+	SplitExact []bool
 	Samples    []Sample // with KeepSamples: per walker, in walker order
 	Stats      Stats
 }

@@ -50,11 +50,14 @@ type arm struct {
 }
 
 type nodeInfo struct {
-	mode   int
-	value  float64 // fixed value
-	arms   []arm
-	depOff int // offset of the node's ends in the departure counts
-	r      float64
+	mode int
+	// splitExact: departures follow w_e/Σw exactly (every arm walked on
+	// intervals, all decaying at one rate).
+	splitExact bool
+	value      float64 // fixed value
+	arms       []arm
+	depOff     int // offset of the node's ends in the departure counts
+	r          float64
 	// modeLaw
 	dscale float64 // r²/2: the visit lasts dscale·τ₁
 	kill   float64 // common killing rate c/ρ on the arms
@@ -306,6 +309,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		}
 		co[k] = ac
 	}
+	nd.splitExact = allExact && sameKill
 	free := math.Inf(1)
 	for _, ac := range co {
 		free = math.Min(free, ac.max)

@@ -326,7 +326,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	res.Hit = make([]Estimate, nn)
 	res.Visits = make([]Estimate, nn)
 	res.Departures = make([][]int64, nn)
+	res.SplitExact = make([]bool, nn)
 	for v := range nn {
+		res.SplitExact[v] = m.nodes[v].splitExact
 		if m.nodes[v].mode == modeFixed {
 			res.Hit[v] = proportion(hits[v], done)
 		}

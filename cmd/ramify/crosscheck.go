@@ -5,17 +5,14 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
-	"slices"
 	"text/tabwriter"
-
-	"gonum.org/v1/gonum/interp"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/montecarlo/compare"
+	"github.com/ramify-dev/ramify/montecarlo/crosscheck"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -67,7 +64,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
-	cc, err := crosscheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{fit: *fit, occupation: *occ})
+	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ})
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
@@ -99,25 +96,16 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 
 // crossResult holds both engines' answers and their comparison.
 type crossResult struct {
-	from   string
-	walk   *montecarlo.Result
-	exit   *graphpde.ExitStats
-	report compare.Report
-	fits   []weightFit
-	notes  []string
-	level  float64
-	// lawCompared is set when the exit-time law was compared (and can be
-	// drawn).
-	lawCompared bool
+	from string
+	walk *montecarlo.Result
+	exit *graphpde.ExitStats
+	*crosscheck.Result
 }
 
 // crossOptions selects the optional parts of a cross-check.
-type crossOptions struct {
-	fit        bool // estimate node weights from the walkers' departures
-	occupation bool // compare edge occupation times too
-}
+type crossOptions = crosscheck.Options
 
-// weightFit is the fitted weight of one edge end at a node.
+// weightFit is the fitted weight of one edge end at a node, as printed.
 type weightFit struct {
 	Node   string `json:"node"`
 	Edge   string `json:"edge"`
@@ -142,61 +130,7 @@ func hasPayoff(net *graphpde.Network) bool {
 	return false
 }
 
-// payoffScale is the magnitude against which the resolution of the value
-// u(start) is read: the largest fixed value, or |u| itself if larger, so that
-// a small probability-like value of payoffs in [0, 1] is judged on the
-// payoffs' scale and not relative to its own size.
-func payoffScale(net *graphpde.Network, u float64) float64 {
-	s := math.Abs(u)
-	for _, nd := range net.Nodes {
-		if nd.Law.Kind == vertex.Fixed {
-			s = math.Max(s, math.Abs(nd.Law.Value))
-		}
-	}
-	return s
-}
-
-// splitComparable reports whether the walkers' departures from v follow the
-// star rule w_e/Σw exactly, so that their frequencies can be compared with
-// the weights: every edge at v is stepped exactly (constant coefficients, no
-// drift) and all of them decay at one rate c/ρ (with different rates the
-// departures at a finite star radius lean towards the arms that decay less).
-func splitComparable(net *graphpde.Network, v int) bool {
-	rate := math.NaN()
-	for _, end := range net.Incident(v) {
-		e := &net.Edges[end.Edge]
-		if !e.Constant() || e.B != 0 {
-			return false
-		}
-		k := e.C / e.Rho
-		if !math.IsNaN(rate) && math.Abs(k-rate) > 1e-12*math.Max(k, rate) {
-			return false
-		}
-		rate = k
-	}
-	return true
-}
-
-// starWeights returns the weights w_e = α_e·sqrt(ρ_e/a_e) of the ends at v
-// (docs/walkers.md §3) and the scales sqrt(a_e/ρ_e) that turn them back into α.
-func starWeights(net *graphpde.Network, v int) (w, scale, alpha []float64) {
-	inc := net.Incident(v)
-	w, scale, alpha = make([]float64, len(inc)), make([]float64, len(inc)), make([]float64, len(inc))
-	for k, end := range inc {
-		e := &net.Edges[end.Edge]
-		x := 0.0
-		if end.Side == 1 {
-			x = e.Length
-		}
-		a, _, _, _, rho := e.Coeffs(x)
-		alpha[k] = e.EndWeight(end.Side)
-		scale[k] = math.Sqrt(a / rho)
-		w[k] = alpha[k] / scale[k]
-	}
-	return w, scale, alpha
-}
-
-func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
+func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
 	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions) (*crossResult, error) {
 	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
 		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m})
@@ -220,11 +154,10 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	if err != nil {
 		return nil, err
 	}
-	cc := &crossResult{from: from, walk: res, exit: x, level: cset.Level}
-	if cc.level == 0 {
-		cc.level = 0.01
+	pde := &crosscheck.PDE{Hit: x.Hit, Killed: x.Killed, Mean: x.Mean, Occupation: x.Occupation}
+	if x.HasDistribution {
+		pde.Survival = x.SurvivalAt
 	}
-	var checks []compare.Check
 	if hasPayoff(net) {
 		var floating *graphpde.UnanchoredError
 		switch {
@@ -232,7 +165,7 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			// Another component floats: the steady problem as a whole has
 			// no unique solution, though the walkers' value from this start
 			// is well defined. Say so rather than fail the whole check.
-			cc.notes = append(cc.notes, "value not compared: "+solErr.Error())
+			pde.ValueNote = "value not compared: " + solErr.Error()
 		case solErr != nil:
 			return nil, solErr
 		default:
@@ -240,107 +173,14 @@ func crosscheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			if err != nil {
 				return nil, err
 			}
-			c := compare.Mean("value", u, res.Value.Mean, res.Value.StdErr)
-			c.Scale = payoffScale(net, c.PDE)
-			checks = append(checks, c)
+			pde.HasValue, pde.Value = true, u
 		}
 	}
-	// Probabilities of where walkers end, as proportions of all finished
-	// walkers (censored ones included: they ended nowhere).
-	count := func(e montecarlo.Estimate) int64 { return int64(math.Round(e.Mean * float64(res.Finished))) }
-	for v, nd := range net.Nodes {
-		if nd.Law.Kind == vertex.Fixed {
-			checks = append(checks, compare.Proportion("hit:"+nd.ID, x.Hit[v], count(res.Hit[v]), res.Finished))
-		}
+	r, err := crosscheck.Run(net, p, pde, res, cset, opt)
+	if err != nil {
+		return nil, err
 	}
-	if x.Killed > 1e-9 || res.Killed.Mean > 0 {
-		checks = append(checks, compare.Proportion("killed", x.Killed, count(res.Killed), res.Finished))
-	}
-	if res.Censored == 0 {
-		checks = append(checks, compare.Mean("exit-time:mean", x.Mean, res.ExitTime.Mean, res.ExitTime.StdErr))
-	} else {
-		cc.notes = append(cc.notes, fmt.Sprintf("%d walkers were still out at the time cap %g: the mean exit time of the others is biased and is not compared; the distribution check accounts for them", res.Censored, res.TimeCap))
-	}
-	atFixed := p.Edge < 0 && net.Nodes[p.Node].Law.Kind == vertex.Fixed
-	switch {
-	case atFixed:
-		cc.notes = append(cc.notes, "the start is a fixed node: every walker is absorbed at once, so the exit-time law is a point mass at 0 and is not compared")
-	case x.HasDistribution:
-		cc.lawCompared = true
-		times := exitTimes(res)
-		sv := survivalFunc{at: x.SurvivalAt}
-		ch := compare.Distribution("exit-time:distribution", times, res.TimeCap, int(res.Censored), survivalTable(sv.eval, times))
-		if sv.err != nil {
-			return nil, fmt.Errorf("exit-time law from the PDE: %w", sv.err)
-		}
-		checks = append(checks, ch)
-	default:
-		cc.notes = append(cc.notes, "the exit-time distribution is not available from the PDE for this network; it is not compared")
-	}
-	for e := range net.Edges {
-		if e < len(res.Occupation) && e < len(x.Occupation) && res.Censored == 0 && opt.occupation {
-			checks = append(checks, compare.Mean("occupation:"+net.Edges[e].ID, x.Occupation[e], res.Occupation[e].Mean, res.Occupation[e].StdErr))
-		}
-	}
-	// Split frequencies are compared at junctions with enough departures to
-	// resolve the resolution: a binomial frequency near ½ has standard error
-	// 0.5/sqrt(n), and 4 of them must fit within it. Rarely visited
-	// junctions would only make the verdict inconclusive; they are counted
-	// in a note (their effect still shows in the hitting probabilities).
-	res2 := compare.DefaultResolution
-	if cset.Resolution != 0 {
-		res2 = cset.Resolution
-	}
-	minDepartures := int64(math.Ceil(4 * 0.5 / res2 * 4 * 0.5 / res2))
-	sparse := 0
-	for v, nd := range net.Nodes {
-		if nd.Law.Kind != vertex.Balance || v >= len(res.Departures) || res.Departures[v] == nil || len(net.Incident(v)) < 2 || !splitComparable(net, v) {
-			continue
-		}
-		var departed int64
-		for _, d := range res.Departures[v] {
-			departed += d
-		}
-		enough := departed >= minDepartures
-		if !enough {
-			sparse++
-			if !opt.fit {
-				continue
-			}
-		}
-		w, scale, alpha := starWeights(net, v)
-		var sw float64
-		for _, x := range w {
-			sw += x
-		}
-		implied := make([]float64, len(w))
-		ends := make([]string, len(w))
-		for k, end := range net.Incident(v) {
-			implied[k] = w[k] / sw
-			ends[k] = net.Edges[end.Edge].ID
-			if net.Edges[end.Edge].From == net.Edges[end.Edge].To {
-				ends[k] += [2]string{"(from end)", "(to end)"}[end.Side]
-			}
-		}
-		if enough {
-			checks = append(checks, compare.SplitChecks(nd.ID, ends, res.Departures[v], implied)...)
-		}
-		if opt.fit {
-			var total float64
-			for _, a := range alpha {
-				total += a
-			}
-			fw, fse := compare.FitWeights(res.Departures[v], scale, total)
-			for k := range fw {
-				cc.fits = append(cc.fits, weightFit{Node: nd.ID, Edge: ends[k], File: num(alpha[k]), Fitted: num(fw[k]), StdErr: num(fse[k])})
-			}
-		}
-	}
-	if sparse > 0 {
-		cc.notes = append(cc.notes, fmt.Sprintf("split frequencies not compared at %d junctions that walkers left fewer than %d times", sparse, minDepartures))
-	}
-	cc.report = compare.Decide(checks, cset)
-	return cc, nil
+	return &crossResult{from: from, walk: res, exit: x, Result: r}, nil
 }
 
 type crossOut struct {
@@ -358,8 +198,8 @@ type crossOut struct {
 
 func (cc *crossResult) json() crossOut {
 	return crossOut{Start: cc.from, Particles: cc.walk.Particles, Finished: cc.walk.Finished, Partial: cc.walk.Status == montecarlo.Cancelled,
-		Seed: cc.walk.Seed, Checks: cc.report.Checks, Verdict: string(cc.report.Verdict), Explanation: cc.report.Explain,
-		Notes: cc.notes, Weights: cc.fits}
+		Seed: cc.walk.Seed, Checks: cc.Report.Checks, Verdict: string(cc.Report.Verdict), Explanation: cc.Report.Explain,
+		Notes: cc.Notes, Weights: cc.fits()}
 }
 
 func (cc *crossResult) print(w io.Writer) {
@@ -371,7 +211,7 @@ func (cc *crossResult) print(w io.Writer) {
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "quantity\tPDE\twalkers\t± stderr\tz or KS\tp\t")
-	for _, c := range cc.report.Checks {
+	for _, c := range cc.Report.Checks {
 		mark := "ok"
 		if !c.Pass {
 			mark = "DIFFERS"
@@ -383,15 +223,15 @@ func (cc *crossResult) print(w io.Writer) {
 		fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%.2g\t%+.2f\t%.3g\t%s\n", c.Quantity, c.PDE, c.Walker, c.StdErr, c.Z, c.P, mark)
 	}
 	tw.Flush()
-	for _, n := range cc.notes {
+	for _, n := range cc.Notes {
 		fmt.Fprintln(w, "note:", n)
 	}
-	fmt.Fprintf(w, "\nverdict: %s\n%s\n", cc.report.Verdict, cc.report.Explain)
-	if len(cc.fits) > 0 {
+	fmt.Fprintf(w, "\nverdict: %s\n%s\n", cc.Report.Verdict, cc.Report.Explain)
+	if len(cc.Fits) > 0 {
 		fmt.Fprintln(w, "\nweights that best explain the walkers' departures (same total as the file's):")
 		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 		fmt.Fprintln(tw, "node\tedge\tfile\tfitted\t± stderr")
-		for _, f := range cc.fits {
+		for _, f := range cc.fits() {
 			fmt.Fprintf(tw, "%s\t%s\t%.4g\t%.4g\t%.2g\n", f.Node, f.Edge, f.File, f.Fitted, f.StdErr)
 		}
 		tw.Flush()
@@ -422,18 +262,18 @@ func (cc *crossResult) plot(dir string, inputs []string, net *graphpde.Network, 
 		return err
 	}
 	wrote(stderr, "crosscheck", path, replaced, "hitting probabilities, PDE and walkers")
-	if !cc.lawCompared {
+	if !cc.LawCompared {
 		return nil
 	}
-	times := exitTimes(cc.walk)
+	times := crosscheck.ExitTimes(cc.walk)
 	path = filepath.Join(dir, "survival.svg")
-	sv := survivalFunc{at: cc.exit.SurvivalAt}
+	sv := crosscheck.Survival{At: cc.exit.SurvivalAt}
 	replaced, err = saveByName(path, inputs, func(tmp string) error {
-		if err := compare.PlotSurvival(tmp, sv.eval, times, cc.level); err != nil {
+		if err := compare.PlotSurvival(tmp, sv.Eval, times, cc.Level); err != nil {
 			return err
 		}
-		if sv.err != nil {
-			return fmt.Errorf("survival plot: %w", sv.err)
+		if sv.Err != nil {
+			return fmt.Errorf("survival plot: %w", sv.Err)
 		}
 		return nil
 	})
@@ -444,76 +284,11 @@ func (cc *crossResult) plot(dir string, inputs []string, net *graphpde.Network, 
 	return nil
 }
 
-// survivalFunc adapts ExitStats.SurvivalAt to the plain functions of
-// package compare: eval returns 0 after a failure and keeps the first error
-// in err, which the caller must check before using what eval fed.
-type survivalFunc struct {
-	at  func(float64) (float64, error)
-	err error
-}
-
-func (s *survivalFunc) eval(t float64) float64 {
-	if s.err != nil {
-		return 0
+// fits returns the fitted weights as printed (null for a non-finite value).
+func (cc *crossResult) fits() []weightFit {
+	var out []weightFit
+	for _, f := range cc.Fits {
+		out = append(out, weightFit{Node: f.Node, Edge: f.Edge, File: num(f.File), Fitted: num(f.Fitted), StdErr: num(f.StdErr)})
 	}
-	v, err := s.at(t)
-	if err != nil {
-		s.err = err
-		return 0
-	}
-	return v
-}
-
-// exitTimes returns the exit times of the walkers that were absorbed or
-// killed (censored walkers excluded).
-func exitTimes(r *montecarlo.Result) []float64 {
-	times := make([]float64, 0, len(r.Samples))
-	for _, s := range r.Samples {
-		if s.Node >= -1 {
-			times = append(times, s.Time)
-		}
-	}
-	return times
-}
-
-// survivalTable returns a monotone cubic interpolant of the survival function
-// s on knots that follow the walkers' exit times (1024 quantiles of the
-// sample plus 256 equispaced points), so that a KS test over 10⁶ sample
-// points costs about 1300 Laplace inversions instead of one per point. Between
-// knots the law changes by at most about 1/1024 in probability, where a cubic
-// interpolant of a smooth function errs by far less than the statistical
-// resolution 1/sqrt(n). Beyond the last knot s itself is called.
-func survivalTable(s func(float64) float64, times []float64) func(float64) float64 {
-	if len(times) < 64 {
-		return s
-	}
-	sorted := slices.Clone(times)
-	slices.Sort(sorted)
-	tmax := sorted[len(sorted)-1]
-	if !(tmax > 0) {
-		return s
-	}
-	knots := []float64{0}
-	for i := 1; i <= 256; i++ {
-		knots = append(knots, tmax*float64(i)/256)
-	}
-	for i := 1; i < 1024; i++ {
-		knots = append(knots, sorted[i*(len(sorted)-1)/1024])
-	}
-	slices.Sort(knots)
-	knots = slices.CompactFunc(knots, func(a, b float64) bool { return math.Abs(b-a) <= 1e-12*tmax })
-	vals := make([]float64, len(knots))
-	for i, t := range knots {
-		vals[i] = s(t)
-	}
-	var f interp.FritschButland
-	if err := f.Fit(knots, vals); err != nil {
-		return s
-	}
-	return func(t float64) float64 {
-		if t < 0 || t > tmax {
-			return s(t)
-		}
-		return f.Predict(t)
-	}
+	return out
 }

@@ -82,7 +82,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if isTerminal(stderr) {
 		set.Recorder = newProgressBar(stderr, "walkers")
 	}
-	cc, err := crosscheck(ctx, net, start, "well", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
+	cc, err := crossCheck(ctx, net, start, "well", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
@@ -107,9 +107,9 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 
 	// 4. Verdict.
-	fmt.Fprintf(w, "\n4. Cross-check of %d quantities (z-scores, split frequencies at the junctions,\n", len(cc.report.Checks))
+	fmt.Fprintf(w, "\n4. Cross-check of %d quantities (z-scores, split frequencies at the junctions,\n", len(cc.Report.Checks))
 	fmt.Fprintln(w, "   and a Kolmogorov–Smirnov test of the transit-time law):")
-	fmt.Fprintf(w, "   verdict: %s — %s\n", cc.report.Verdict, cc.report.Explain)
+	fmt.Fprintf(w, "   verdict: %s — %s\n", cc.Report.Verdict, cc.Report.Explain)
 	fmt.Fprintln(w, "\nNext: ramify solve examples/karst.toml --probe east-a@15")
 	fmt.Fprintln(w, "      ramify crosscheck examples/fork.toml --from fork --plot figures")
 	return partialCode(r.Status == montecarlo.Cancelled)

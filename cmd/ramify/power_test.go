@@ -77,14 +77,14 @@ func TestCrosscheckPower(t *testing.T) {
 			hits := 0
 			for seed := range uint64(seeds) {
 				set := &montecarlo.Settings{Particles: 100000, Seed: 1000 + seed, KeepSamples: true}
-				cc, err := crosscheck(context.Background(), net, start, "fork", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
+				cc, err := crossCheck(context.Background(), net, start, "fork", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
 				if err != nil {
 					t.Fatal(err)
 				}
-				if cc.report.Verdict == c.want {
+				if cc.Report.Verdict == c.want {
 					hits++
 				} else {
-					t.Logf("seed %d: %s (%s)", 1000+seed, cc.report.Verdict, cc.report.Explain)
+					t.Logf("seed %d: %s (%s)", 1000+seed, cc.Report.Verdict, cc.Report.Explain)
 				}
 			}
 			if hits < c.atLeast {
@@ -142,21 +142,21 @@ capacity = 2.0
 	}
 	start, _ := net.ParsePoint("c")
 	set := &montecarlo.Settings{Particles: 200000, Seed: 9, KeepSamples: true}
-	cc, err := crosscheck(context.Background(), net, start, "c", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{fit: true})
+	cc, err := crossCheck(context.Background(), net, start, "c", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{Fit: true})
 	if err != nil {
 		t.Fatal(err)
 	}
 	want := map[string]float64{"a1": 1.05, "a2": 2.625, "a3": 1.575}
-	if len(cc.fits) != 3 {
-		t.Fatalf("fitted %d weights, want 3", len(cc.fits))
+	if len(cc.Fits) != 3 {
+		t.Fatalf("fitted %d weights, want 3", len(cc.Fits))
 	}
-	for _, f := range cc.fits {
+	for _, f := range cc.Fits {
 		t.Logf("edge %s: fitted %.4f ± %.4f, want %.4f", f.Edge, f.Fitted, f.StdErr, want[f.Edge])
 		if d := float64(f.Fitted) - want[f.Edge]; d*d > 16*float64(f.StdErr)*float64(f.StdErr) {
 			t.Errorf("edge %s: fitted %.4f ± %.4f, want %.4f", f.Edge, f.Fitted, f.StdErr, want[f.Edge])
 		}
 	}
-	if cc.report.Verdict != compare.Disagree {
-		t.Errorf("verdict %s: the split contradicts the file's weights (1, 4, 0.25)", cc.report.Verdict)
+	if cc.Report.Verdict != compare.Disagree {
+		t.Errorf("verdict %s: the split contradicts the file's weights (1, 4, 0.25)", cc.Report.Verdict)
 	}
 }

@@ -89,13 +89,13 @@ func TestRandomNetworks(t *testing.T) {
 			start = graphpde.Point{Node: -1, Edge: e, X: net.Edges[e].Length * (0.1 + 0.8*r.Float64())}
 		}
 		set := &montecarlo.Settings{Particles: 100000, Seed: uint64(i), KeepSamples: true}
-		cc, err := crosscheck(context.Background(), net, start, "start", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
+		cc, err := crossCheck(context.Background(), net, start, "start", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{})
 		if err != nil {
 			t.Fatalf("network %d: %v", i, err)
 		}
-		counts[cc.report.Verdict]++
-		if cc.report.Verdict != compare.Agree {
-			t.Logf("network %d: %s: %s", i, cc.report.Verdict, cc.report.Explain)
+		counts[cc.Report.Verdict]++
+		if cc.Report.Verdict != compare.Agree {
+			t.Logf("network %d: %s: %s", i, cc.Report.Verdict, cc.Report.Explain)
 		}
 	}
 	t.Logf("verdicts: %v", counts)
