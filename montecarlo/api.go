@@ -147,11 +147,16 @@ type Result struct {
 	Status Status
 	Seed   uint64
 
-	Value    Estimate // Feynman–Kac value u(start)
-	ExitTime Estimate // lifetime over walkers absorbed or killed
-	ExitSD   float64  // sample standard deviation of those lifetimes
-	// Quantiles of the lifetime of walkers absorbed or killed, from the
-	// first min(Finished, 2²²) walkers (all of them with KeepSamples).
+	Value Estimate // Feynman–Kac value u(start)
+	// ExitTime is the mean lifetime of the walkers absorbed or killed: with
+	// censored walkers, the mean of τ given τ ≤ TimeCap, not E τ.
+	ExitTime Estimate
+	ExitSD   float64 // sample standard deviation of those lifetimes
+	// Quantiles of the lifetime τ, from the first min(Finished, 2²²)
+	// walkers (all of them with KeepSamples). Censored walkers count as
+	// living longer than TimeCap, so these are quantiles of τ itself, not
+	// of τ given an exit; one that lies beyond the cap (P above the
+	// fraction that exited) is NaN.
 	Quantiles []Quantile
 	Hit       []Estimate // per node: P(absorbed there); zero for balance nodes
 	Killed    Estimate   // P(killed by decay or leak)

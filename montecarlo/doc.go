@@ -199,8 +199,11 @@
 // Value, Hit, Killed, Occupation and Visits average over all finished
 // walkers; a censored walker (still out at TimeCap) contributes what it had
 // collected, so a run with censored walkers must be read with
-// CensoredFraction in mind. ExitTime, ExitSD and Quantiles are over the
-// walkers that exited (absorbed or killed) only. Standard errors are
+// CensoredFraction in mind (a hitting probability P then lies between Hit
+// and Hit + CensoredFraction). ExitTime and ExitSD are over the walkers that
+// exited (absorbed or killed) only: the moments of τ given τ ≤ TimeCap.
+// Quantiles are of τ itself, censored walkers counting as longer lives; one
+// beyond the cap is NaN. Standard errors are
 // sqrt(s²/N). The default TimeCap is DefaultTimeCap of the network's
 // capacity, resistance and loss. Departures counts the moves out of each node
 // along each end, for fitting junction weights.

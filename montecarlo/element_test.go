@@ -19,6 +19,9 @@ func TestDefaultTimeCap(t *testing.T) {
 	if want := 1000 * 6.0 * 12; math.Abs(m.timeCap-want) > roundoff*want {
 		t.Errorf("default time cap %g, want %g", m.timeCap, want)
 	}
+	if rc, err := RCTime(s1Net{}); err != nil || math.Abs(rc-6*12) > roundoff*72 {
+		t.Errorf("RCTime = %g, %v; want C·R = 72", rc, err)
+	}
 }
 
 // s1Net is the S1 star as a bare Network: centre 0, ends 1–3.

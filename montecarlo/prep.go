@@ -77,6 +77,7 @@ type model struct {
 	nodes   []nodeInfo
 	nDep    int
 	timeCap float64
+	rc      float64 // the RC time C·R of DefaultTimeCap
 	exact   bool
 	fin     *starlaw.Table // T_f table when a node is in modeStar
 }
@@ -172,6 +173,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 			panic("montecarlo: unknown node kind")
 		}
 	}
+	m.rc = capTot * resTot
 	m.timeCap = set.TimeCap
 	if m.timeCap == 0 {
 		m.timeCap = DefaultTimeCap(capTot, resTot, lossTot, anyFixed)

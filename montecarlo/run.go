@@ -344,10 +344,11 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	}
 	if samples != nil {
 		res.Samples = samples[:done]
-		ts := make([]float64, 0, exited)
-		for _, sm := range res.Samples {
-			if sm.Node != Censored {
-				ts = append(ts, sm.Time)
+		ts := make([]float64, len(res.Samples))
+		for i, sm := range res.Samples {
+			ts[i] = sm.Time
+			if sm.Node == Censored {
+				ts[i] = math.Inf(1)
 			}
 		}
 		res.Quantiles = quantiles(ts, s.Quantiles)
@@ -362,8 +363,10 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	return res, nil
 }
 
-// quantiles sorts ts in place and returns the empirical quantiles with
-// linear interpolation between order statistics (Hyndman and Fan's type 7).
+// quantiles reorders ts and returns the empirical quantiles with linear
+// interpolation between order statistics (Hyndman and Fan's type 7). ts may
+// hold +Inf for censored walkers (longer than any finite lifetime); a
+// quantile that needs one of them is NaN: it lies beyond the time cap.
 func quantiles(ts []float64, ps []float64) []Quantile {
 	if len(ts) == 0 {
 		return nil
@@ -390,26 +393,39 @@ func quantiles(ts []float64, ps []float64) []Quantile {
 		h := (n - 1) * p
 		lo := int(math.Floor(h))
 		hi := min(lo+1, len(ts)-1)
-		out[i] = Quantile{P: p, T: ts[lo] + (h-float64(lo))*(ts[hi]-ts[lo])}
+		out[i] = Quantile{P: p, T: interpolate(ts[lo], ts[hi], h-float64(lo))}
 	}
 	return out
 }
 
-// blockQuantiles returns the same quantiles as quantiles of the finite
-// elements of ts, for ts made of consecutive sorted blocks of length block
-// (the last may be shorter) with +Inf for censored walkers. Each order
+// interpolate returns lo + f·(hi − lo), lo itself when f = 0, and NaN when
+// an order statistic it needs is +Inf (a censored walker).
+func interpolate(lo, hi, f float64) float64 {
+	if f == 0 {
+		hi = lo
+	}
+	if math.IsInf(lo, 1) || math.IsInf(hi, 1) {
+		return math.NaN()
+	}
+	return lo + f*(hi-lo)
+}
+
+// blockQuantiles returns the same quantiles as quantiles of ts, for ts made
+// of consecutive sorted blocks of length block (the last may be shorter) with
+// +Inf for censored walkers. Each order
 // statistic is found by bisection on the values' bit patterns (non-negative
 // float64s order like their bits), counting with a binary search in every
 // block: O(64·(len(ts)/block)·log block) per order statistic and no serial
 // sort of the whole sample.
 func blockQuantiles(ts []float64, block int, ps []float64) []Quantile {
 	var blocks [][]float64
-	n := 0
+	finite := 0
 	for lo := 0; lo < len(ts); lo += block {
 		b := ts[lo:min(lo+block, len(ts))]
 		blocks = append(blocks, b)
-		n += sort.SearchFloat64s(b, math.Inf(1))
+		finite += sort.SearchFloat64s(b, math.Inf(1))
 	}
+	n := len(ts)
 	if n == 0 {
 		return nil
 	}
@@ -424,6 +440,9 @@ func blockQuantiles(ts []float64, block int, ps []float64) []Quantile {
 	// kth returns the k-th smallest finite element (0-based): the least x
 	// with countLE(x) > k.
 	kth := func(k int) float64 {
+		if k >= finite {
+			return math.Inf(1)
+		}
 		lo, hi := uint64(0), math.Float64bits(math.MaxFloat64)
 		for lo < hi {
 			mid := lo + (hi-lo)/2
@@ -445,7 +464,7 @@ func blockQuantiles(ts []float64, block int, ps []float64) []Quantile {
 		if hi != lo {
 			th = kth(hi)
 		}
-		out[i] = Quantile{P: p, T: tl + (h-float64(lo))*(th-tl)}
+		out[i] = Quantile{P: p, T: interpolate(tl, th, h-float64(lo))}
 	}
 	return out
 }

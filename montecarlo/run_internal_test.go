@@ -34,10 +34,13 @@ func TestQuantilesBySelection(t *testing.T) {
 }
 
 // TestBlockQuantiles checks the quantiles of block-sorted lifetimes with
-// censored walkers (+Inf) against the quantiles of the finite values.
+// censored walkers (+Inf) against the selection-based quantiles of the same
+// values, and that a quantile beyond the censored ones is NaN while one
+// below them is the order statistic of the whole sample (censored walkers
+// count as longer lives, not as missing ones).
 func TestBlockQuantiles(t *testing.T) {
 	rnd := rand.New(rand.NewPCG(3, 4))
-	ps := []float64{0, 0.1, 0.5, 0.9, 1}
+	ps := []float64{0, 0.1, 0.5, 0.85, 0.95, 1}
 	for _, n := range []int{1, 5, 100, 5000} {
 		ts := make([]float64, n)
 		var finite []float64
@@ -49,21 +52,21 @@ func TestBlockQuantiles(t *testing.T) {
 				finite = append(finite, ts[i])
 			}
 		}
+		all := slices.Clone(ts)
 		const block = 64
 		for lo := 0; lo < n; lo += block {
 			slices.Sort(ts[lo:min(lo+block, n)])
 		}
 		got := blockQuantiles(ts, block, ps)
-		want := quantiles(finite, ps)
-		if len(finite) == 0 {
-			if got != nil {
-				t.Errorf("n=%d: quantiles of nothing: %v", n, got)
+		want := quantiles(all, ps)
+		for i, p := range ps {
+			if got[i] != want[i] && !(math.IsNaN(got[i].T) && math.IsNaN(want[i].T)) {
+				t.Errorf("n=%d p=%g: %v, want %v", n, p, got[i], want[i])
 			}
-			continue
-		}
-		for i := range ps {
-			if got[i] != want[i] {
-				t.Errorf("n=%d p=%g: %v, want %v", n, ps[i], got[i], want[i])
+			h := float64(n-1) * p
+			beyond := int(math.Ceil(h)) >= len(finite)
+			if beyond != math.IsNaN(got[i].T) {
+				t.Errorf("n=%d p=%g: %v with %d of %d exited", n, p, got[i].T, len(finite), n)
 			}
 		}
 	}

@@ -150,6 +150,16 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			return nil, solErr
 		}
 	}
+	var capNote string
+	if wset.TimeCap == 0 {
+		tcap, note, err := autoTimeCap(net, x, nil)
+		if err != nil {
+			return nil, err
+		}
+		set := *wset
+		set.TimeCap, capNote = tcap, note
+		wset = &set
+	}
 	res, err := montecarlo.Run(ctx, net, p, wset)
 	if err != nil {
 		return nil, err
@@ -179,6 +189,9 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	r, err := crosscheck.Run(net, p, pde, res, cset, opt)
 	if err != nil {
 		return nil, err
+	}
+	if capNote != "" {
+		r.Notes = append([]string{capNote}, r.Notes...)
 	}
 	return &crossResult{from: from, walk: res, exit: x, Result: r}, nil
 }
@@ -218,6 +231,10 @@ func (cc *crossResult) print(w io.Writer) {
 		}
 		if c.Kind == compare.KindLaw {
 			fmt.Fprintf(tw, "%s\t\t\t\tD=%.4f\t%.3g\t%s\n", c.Quantity, c.Stat, c.P, mark)
+			continue
+		}
+		if c.Bounded {
+			fmt.Fprintf(tw, "%s\t%.6g\t%.4g – %.4g\t%.2g\t%+.2f\t%.3g\t%s\n", c.Quantity, c.PDE, c.Walker, c.Upper, c.StdErr, c.Z, c.P, mark)
 			continue
 		}
 		fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%.2g\t%+.2f\t%.3g\t%s\n", c.Quantity, c.PDE, c.Walker, c.StdErr, c.Z, c.P, mark)

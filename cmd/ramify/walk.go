@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"strconv"
 	"text/tabwriter"
 
@@ -39,7 +40,7 @@ func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
 		particles: newCount(fs, "particles", 100000, "number of walkers (1e6 works too)"),
 		seed:      fs.Uint64("seed", 1, "random seed; the same seed gives the same numbers for any --workers"),
 		workers:   fs.Int("workers", 0, "parallel workers (0: all cores)"),
-		timeCap:   fs.Float64("time-cap", 0, "time after which a walker still out is reported as censored (0: automatic)"),
+		timeCap:   fs.Float64("time-cap", 0, "time after which a walker still out is reported as censored (0: automatic, 50 mean exit times of the PDE + 10 sd, at most 1000 RC times of the network)"),
 		step:      fs.Float64("step", 0, "time step on edges that need time stepping (0: automatic)"),
 		star:      fs.Float64("star-fraction", 0, "star radius, as a fraction of the free radius, at nodes next to edges whose coefficients vary along them or that decay at different rates (0: 1/8)"),
 		samples:   fs.String("samples", "", "write every walker's exit time and exit node to this CSV file"),
@@ -49,6 +50,9 @@ func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
 func (f *walkFlags) settings(stderr io.Writer) (*montecarlo.Settings, error) {
 	if *f.particles <= 0 {
 		return nil, fmt.Errorf("--particles %d: must be > 0", *f.particles)
+	}
+	if t := *f.timeCap; !(t >= 0) || math.IsInf(t, 1) {
+		return nil, fmt.Errorf("--time-cap %g: must be a finite time ≥ 0 (0: automatic)", t)
 	}
 	if *f.workers < 0 {
 		return nil, fmt.Errorf("--workers %d: must be ≥ 0", *f.workers)
@@ -94,6 +98,23 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
+	var notes []string
+	if set.TimeCap == 0 {
+		x, xerr := interruptible(ctx, func() (*graphpde.ExitStats, error) {
+			return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Quantiles: []float64{}})
+		})
+		if errors.Is(xerr, errInterrupted) {
+			return fail(stderr, "walk", xerr)
+		}
+		tcap, note, err := autoTimeCap(net, x, xerr)
+		if err != nil {
+			return fail(stderr, "walk", err)
+		}
+		set.TimeCap = tcap
+		if note != "" {
+			notes = append(notes, note)
+		}
+	}
 	res, err := montecarlo.Run(ctx, net, p, set)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
@@ -110,11 +131,11 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
 	}
 	if *asJSON {
-		if err := writeJSON(stdout, walkJSON(net, *wf.from, res)); err != nil {
+		if err := writeJSON(stdout, walkJSON(net, *wf.from, res, notes)); err != nil {
 			return fail(stderr, "walk", err)
 		}
 	} else {
-		printWalk(stdout, net, *wf.from, res)
+		printWalk(stdout, net, *wf.from, res, notes)
 	}
 	return partialCode(res.Status == montecarlo.Cancelled)
 }
@@ -138,23 +159,53 @@ type estOut struct {
 	StdErr num `json:"stderr"`
 }
 
-type probOut struct {
-	P      num `json:"p"`
-	StdErr num `json:"stderr"`
+// valueOut is the value u(start). With censored walkers Mean is null unless
+// the censoring is negligible, Lower and Upper bound u (null when sources
+// make the payoff unbounded), and ByCap is what the walkers collected by
+// the time cap.
+type valueOut struct {
+	Mean   num     `json:"mean"`
+	StdErr num     `json:"stderr"`
+	Lower  *num    `json:"lower,omitempty"`
+	Upper  *num    `json:"upper,omitempty"`
+	ByCap  *estOut `json:"by_cap,omitempty"`
 }
 
+// probOut is a probability. With censored walkers P is null unless the
+// censoring is negligible, and [Lower, Upper] holds it.
+type probOut struct {
+	P      num  `json:"p"`
+	StdErr num  `json:"stderr"`
+	Lower  *num `json:"lower,omitempty"`
+	Upper  *num `json:"upper,omitempty"`
+}
+
+// timeOut is the lifetime τ. With censored walkers Mean, StdErr and SD are
+// null (E τ is not estimated), AtLeast = E min(τ, cap) bounds E τ from
+// below, GivenExit holds the moments of τ given τ ≤ cap, and a quantile
+// beyond the cap is null.
 type timeOut struct {
 	Mean      num            `json:"mean"`
 	StdErr    num            `json:"stderr"`
 	SD        num            `json:"sd"`
 	Quantiles map[string]num `json:"quantiles"`
+	AtLeast   *num           `json:"at_least,omitempty"`
+	GivenExit *givenExitOut  `json:"given_exit,omitempty"`
+}
+
+type givenExitOut struct {
+	Mean   num `json:"mean"`
+	StdErr num `json:"stderr"`
+	SD     num `json:"sd"`
 }
 
 type exitOut struct {
-	Time     timeOut            `json:"time"`
-	Hit      map[string]probOut `json:"hit"`
-	Killed   probOut            `json:"killed"`
-	Censored int64              `json:"censored"`
+	Time             timeOut            `json:"time"`
+	Hit              map[string]probOut `json:"hit"`
+	Killed           probOut            `json:"killed"`
+	Censored         int64              `json:"censored"`
+	CensoredFraction num                `json:"censored_fraction"`
+	TimeCap          num                `json:"time_cap"`
 }
 
 type walkOut struct {
@@ -163,38 +214,84 @@ type walkOut struct {
 	Partial    bool              `json:"partial"`
 	Seed       uint64            `json:"seed"`
 	Start      string            `json:"start"`
-	Value      estOut            `json:"value"`
+	Value      valueOut          `json:"value"`
 	Exit       exitOut           `json:"exit"`
 	Occupation map[string]estOut `json:"occupation"`
 	Visits     map[string]estOut `json:"visits"`
 	Steps      int64             `json:"steps"`
 	Seconds    float64           `json:"seconds"`
+	Notes      []string          `json:"notes,omitempty"`
 }
 
 func quantKey(p float64) string { return strconv.FormatFloat(p, 'g', -1, 64) }
 
-func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result) walkOut {
+func numPtr(x float64) *num { n := num(x); return &n }
+
+// nothing is the JSON null of an estimate that is not made.
+var nothing = num(math.NaN())
+
+func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []string) walkOut {
+	q := r.CensoredFraction()
 	out := walkOut{
 		Particles: r.Particles, Finished: r.Finished, Partial: r.Status == montecarlo.Cancelled, Seed: r.Seed, Start: from,
-		Value: estOut{num(r.Value.Mean), num(r.Value.StdErr)},
+		Value: valueOut{Mean: num(r.Value.Mean), StdErr: num(r.Value.StdErr)},
 		Exit: exitOut{
 			Time: timeOut{Mean: num(r.ExitTime.Mean), StdErr: num(r.ExitTime.StdErr), SD: num(r.ExitSD),
 				Quantiles: map[string]num{}},
-			Hit:      map[string]probOut{},
-			Killed:   probOut{num(r.Killed.Mean), num(r.Killed.StdErr)},
-			Censored: r.Censored,
+			Hit:              map[string]probOut{},
+			Killed:           probOut{P: num(r.Killed.Mean), StdErr: num(r.Killed.StdErr)},
+			Censored:         r.Censored,
+			CensoredFraction: num(q),
+			TimeCap:          num(r.TimeCap),
 		},
 		Occupation: map[string]estOut{},
 		Visits:     map[string]estOut{},
 		Steps:      r.Stats.Steps,
 		Seconds:    r.Stats.Elapsed.Seconds(),
+		Notes:      notes,
 	}
-	for _, q := range r.Quantiles {
-		out.Exit.Time.Quantiles[quantKey(q.P)] = num(q.T)
+	if r.Finished == 0 {
+		nan := nothing
+		out.Value = valueOut{Mean: nan, StdErr: nan}
+		out.Exit.Time = timeOut{Mean: nan, StdErr: nan, SD: nan, Quantiles: map[string]num{}}
+		out.Exit.Killed = probOut{P: nan, StdErr: nan}
+		out.Exit.CensoredFraction = nan
+	}
+	for _, qt := range r.Quantiles {
+		out.Exit.Time.Quantiles[quantKey(qt.P)] = num(qt.T)
+	}
+	bound := func(e montecarlo.Estimate) probOut {
+		o := probOut{P: num(e.Mean), StdErr: num(e.StdErr)}
+		if r.Finished == 0 {
+			return probOut{P: nothing, StdErr: nothing}
+		}
+		if r.Censored > 0 {
+			o.Lower, o.Upper = numPtr(e.Mean), numPtr(math.Min(1, e.Mean+q))
+			if !negligible(q, 1, e.StdErr) {
+				o.P = nothing
+			}
+		}
+		return o
+	}
+	if r.Censored > 0 && r.Finished > 0 {
+		lo, hi, ok := valueBounds(net, r)
+		v := &out.Value
+		v.ByCap = &estOut{num(r.Value.Mean), num(r.Value.StdErr)}
+		if ok {
+			v.Lower, v.Upper = numPtr(lo), numPtr(hi)
+		}
+		if !ok || !negligible(1, hi-lo, r.Value.StdErr) {
+			v.Mean, v.StdErr = nothing, nothing
+		}
+		tm := &out.Exit.Time
+		tm.GivenExit = &givenExitOut{Mean: tm.Mean, StdErr: tm.StdErr, SD: tm.SD}
+		tm.AtLeast = numPtr((1-q)*r.ExitTime.Mean + q*r.TimeCap)
+		tm.Mean, tm.StdErr, tm.SD = nothing, nothing, nothing
+		out.Exit.Killed = bound(r.Killed)
 	}
 	for v, nd := range net.Nodes {
 		if nd.Law.Kind == vertex.Fixed {
-			out.Exit.Hit[nd.ID] = probOut{num(r.Hit[v].Mean), num(r.Hit[v].StdErr)}
+			out.Exit.Hit[nd.ID] = bound(r.Hit[v])
 		} else if v < len(r.Visits) {
 			out.Visits[nd.ID] = estOut{num(r.Visits[v].Mean), num(r.Visits[v].StdErr)}
 		}
@@ -207,7 +304,7 @@ func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result) walkOut 
 	return out
 }
 
-func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Result) {
+func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Result, notes []string) {
 	mode := "exact stepping"
 	if !r.Stats.Exact {
 		mode = "time stepping on some edges"
@@ -216,31 +313,64 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 	if r.Status == montecarlo.Cancelled {
 		fmt.Fprintf(w, "PARTIAL: interrupted after %d of %d walkers\n", r.Finished, r.Particles)
 	}
-	fmt.Fprintf(w, "\nvalue u(%s) = %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
-	fmt.Fprintf(w, "exit time    = %.6g ± %.2g (sd %.4g)", r.ExitTime.Mean, r.ExitTime.StdErr, r.ExitSD)
-	if r.Censored > 0 {
-		fmt.Fprintf(w, "  — %d walkers (%.2g%%) still out at the time cap, excluded", r.Censored, 100*float64(r.Censored)/float64(max(r.Finished, 1)))
+	if r.Finished == 0 {
+		fmt.Fprintln(w, "\nno walker finished: there are no estimates")
+		return
 	}
-	fmt.Fprintln(w)
+	q := r.CensoredFraction()
+	fmt.Fprintf(w, "time cap %.4g", r.TimeCap)
+	if r.Censored > 0 {
+		fmt.Fprintf(w, ": %d walkers (%.3g%%) still out at the cap. The value and the hitting\n", r.Censored, 100*q)
+		fmt.Fprintln(w, "probabilities are only bounded, and exit-time figures are for the walkers that exited.")
+	} else {
+		fmt.Fprintln(w, ": every walker ended before it")
+	}
+	for _, n := range notes {
+		fmt.Fprintln(w, "note:", n)
+	}
+	if r.Censored == 0 {
+		fmt.Fprintf(w, "\nvalue u(%s) = %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
+		fmt.Fprintf(w, "exit time    = %.6g ± %.2g (sd %.4g)\n", r.ExitTime.Mean, r.ExitTime.StdErr, r.ExitSD)
+	} else {
+		if lo, hi, ok := valueBounds(net, r); ok {
+			fmt.Fprintf(w, "\nvalue u(%s) in [%.6g, %.6g] ± %.2g (collected by the cap: %.6g)\n", from, lo, hi, r.Value.StdErr, r.Value.Mean)
+		} else {
+			fmt.Fprintf(w, "\nvalue u(%s): not estimated (sources keep paying walkers still out); collected by the cap %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
+		}
+		fmt.Fprintf(w, "exit time    ≥ %.6g; of the walkers that exited: %.6g ± %.2g (sd %.4g)\n", (1-q)*r.ExitTime.Mean+q*r.TimeCap, r.ExitTime.Mean, r.ExitTime.StdErr, r.ExitSD)
+	}
 	if len(r.Quantiles) > 0 {
 		fmt.Fprint(w, "quantiles   ")
-		for _, q := range r.Quantiles {
-			fmt.Fprintf(w, "  %g: %.4g", q.P, q.T)
+		for _, qt := range r.Quantiles {
+			if math.IsNaN(qt.T) {
+				fmt.Fprintf(w, "  %g: beyond the cap", qt.P)
+				continue
+			}
+			fmt.Fprintf(w, "  %g: %.4g", qt.P, qt.T)
 		}
 		fmt.Fprintln(w)
 	}
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	prob := func(e montecarlo.Estimate) string {
+		if r.Censored == 0 {
+			return fmt.Sprintf("%.5f", e.Mean)
+		}
+		return fmt.Sprintf("%.5f – %.5f", e.Mean, math.Min(1, e.Mean+q))
+	}
 	fmt.Fprintln(tw, "exit at\tprobability\t± stderr")
 	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return r.Hit[v].Mean })
 	for _, v := range rows {
-		fmt.Fprintf(tw, "%s\t%.5f\t%.2g\n", net.Nodes[v].ID, r.Hit[v].Mean, r.Hit[v].StdErr)
+		fmt.Fprintf(tw, "%s\t%s\t%.2g\n", net.Nodes[v].ID, prob(r.Hit[v]), r.Hit[v].StdErr)
 	}
 	if n := len(fixedNodes(net)) - len(rows); n > 0 {
 		fmt.Fprintf(tw, "(%d more fixed nodes)\t%.5f\t\n", n, rest)
 	}
 	if r.Killed.Mean > 0 {
-		fmt.Fprintf(tw, "(killed by decay or leak)\t%.5f\t%.2g\n", r.Killed.Mean, r.Killed.StdErr)
+		fmt.Fprintf(tw, "(killed by decay or leak)\t%s\t%.2g\n", prob(r.Killed), r.Killed.StdErr)
+	}
+	if r.Censored > 0 {
+		fmt.Fprintf(tw, "(still out at the cap)\t%.5f\t\n", q)
 	}
 	tw.Flush()
 	fmt.Fprintln(w, "(± one standard error)")

@@ -77,6 +77,11 @@ type Check struct {
 	// nothing was censored), which sets the null law of D.
 	Censored float64 `json:"-"`
 	CensorAt float64 `json:"-"`
+	// Bounded marks a check made by Bounds: the walkers only bound the
+	// quantity, to [Walker, Upper] (Censored is then the fraction of walkers
+	// whose end is unknown, Upper − Walker for a probability).
+	Bounded bool    `json:"-"`
+	Upper   float64 `json:"-"`
 
 	// lnP is ln P computed in log space, so that checks whose p-values
 	// underflow to 0 can still be ranked; 0 means "not set, use ln P".
@@ -114,6 +119,9 @@ func (c Check) MarshalJSON() ([]byte, error) {
 	}
 	num("pde", c.PDE)
 	num("walker", c.Walker)
+	if c.Bounded {
+		num("walker_upper", c.Upper)
+	}
 	num("stderr", c.StdErr)
 	if c.Kind == KindLaw {
 		num("ks", c.Stat)
@@ -125,7 +133,7 @@ func (c Check) MarshalJSON() ([]byte, error) {
 	if c.N > 0 {
 		b.WriteString(`,"n":` + strconv.FormatInt(c.N, 10))
 	}
-	if c.Kind == KindLaw && c.Censored > 0 {
+	if (c.Kind == KindLaw || c.Bounded) && c.Censored > 0 {
 		num("censored", c.Censored)
 	}
 	b.WriteString(`,"pass":` + strconv.FormatBool(c.Pass))
@@ -198,6 +206,45 @@ func Proportion(quantity string, pde float64, hits, n int64) Check {
 	p := float64(hits) / float64(n)
 	c := zCheck(quantity, KindProbability, pde, p, BinomialStdErr(p, n))
 	c.N = n
+	return c
+}
+
+// Bounds is the check of a PDE value against an interval that the walkers
+// give instead of an estimate: when a fraction censored of them is still out
+// at the time cap, a hitting probability is only known to lie in [h, h +
+// censored] (h the fraction that ended there by the cap), and a value
+// of bounded payoffs in a similar interval. lower and upper are the walker
+// estimates of the interval's ends, stderr the larger of their standard
+// errors. The check is a z-test of the distance from pde to the interval:
+//
+//	z = (lower − pde)/stderr if pde < lower,  (upper − pde)/stderr if pde > upper,  0 inside,
+//
+// with the two-sided p-value erfc(|z|/√2) (conservative: the one-sided one is
+// half of it). Decide adds the width upper − lower to the detectable
+// difference, so a wide interval makes the verdict inconclusive, never agree
+// (Walker holds lower, Upper holds upper). k is KindValue or
+// KindProbability. It panics if upper < lower. Cost O(1).
+func Bounds(quantity string, k Kind, pde, lower, upper, stderr, censored float64) Check {
+	if upper < lower {
+		panic(fmt.Sprintf("compare: Bounds(%q): upper %g below lower %g", quantity, upper, lower))
+	}
+	var c Check
+	switch {
+	case pde < lower:
+		c = zCheck(quantity, k, pde, lower, stderr)
+	case pde > upper:
+		c = zCheck(quantity, k, pde, upper, stderr)
+	default:
+		c = zCheck(quantity, k, pde, pde, stderr)
+		if !math.IsNaN(c.P) {
+			c.Z, c.P, c.lnP, c.Pass = 0, 1, 0, true
+			c.Note = ""
+		}
+	}
+	c.Walker, c.Upper, c.Bounded, c.Censored = lower, upper, true, censored
+	if c.Note == "" {
+		c.Note = fmt.Sprintf("bounds only: %.3g%% of the walkers were still out at the time cap", 100*censored)
+	}
 	return c
 }
 

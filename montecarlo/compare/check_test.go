@@ -214,3 +214,42 @@ func TestRoundoffFloor(t *testing.T) {
 		t.Errorf("a 1e-6 difference passed: z = %g", c.Z)
 	}
 }
+
+// TestBounds checks the comparison of a PDE value with walker bounds: inside
+// the interval it passes with z = 0; outside, z is the distance to the near
+// end in standard errors, with its sign; an interval wider than the
+// resolution makes the verdict inconclusive (never agree) and the
+// explanation names the time cap; a narrow one can agree; and the JSON
+// carries both ends and the censored fraction.
+func TestBounds(t *testing.T) {
+	const roundoff = 1e-12
+	in := Bounds("hit:a", KindProbability, 0.5, 0.1, 0.9, 0.01, 0.8)
+	if in.Z != 0 || in.P != 1 || !in.Pass {
+		t.Errorf("inside: %+v", in)
+	}
+	below := Bounds("hit:a", KindProbability, 0.05, 0.1, 0.9, 0.01, 0.8)
+	above := Bounds("hit:a", KindProbability, 0.95, 0.1, 0.9, 0.01, 0.8)
+	if math.Abs(below.Z-5) > roundoff || math.Abs(above.Z+5) > roundoff || below.Pass || above.Pass {
+		t.Errorf("outside: z %g and %g, want +5 and −5", below.Z, above.Z)
+	}
+	r := Decide([]Check{in}, nil)
+	if r.Verdict != Inconclusive || !strings.Contains(r.Explain, "time cap") {
+		t.Errorf("wide bounds: %s (%s)", r.Verdict, r.Explain)
+	}
+	narrow := Bounds("hit:a", KindProbability, 0.5, 0.499, 0.5005, 0.001, 0.0015)
+	if r := Decide([]Check{narrow}, nil); r.Verdict != Agree {
+		t.Errorf("narrow bounds: %s (%s)", r.Verdict, r.Explain)
+	}
+	if r := Decide([]Check{in, below}, nil); r.Verdict != Disagree || !strings.Contains(r.Explain, "bound it to") {
+		t.Errorf("bounds that miss: %s (%s)", r.Verdict, r.Explain)
+	}
+	b, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`"walker":0.1`, `"walker_upper":0.9`, `"censored":0.8`} {
+		if !strings.Contains(string(b), want) {
+			t.Errorf("JSON %s lacks %s", b, want)
+		}
+	}
+}

@@ -182,9 +182,13 @@ func Decide(checks []Check, set *Settings) Report {
 		if c.Kind == KindValue && (c.Scale > 0 || c.PDE != 0) {
 			what, tol = percent(det), percent(res)
 		}
-		if math.IsInf(det, 1) {
+		switch {
+		case math.IsInf(det, 1):
 			r.Explain = fmt.Sprintf("no disagreement found, but %s has no walker data", c.Quantity)
-		} else {
+		case c.Bounded && c.inResolutionUnits(c.Upper-c.Walker) > res:
+			r.Explain = fmt.Sprintf("no disagreement found, but %.3g%% of the walkers were still out at the time cap, so %s is only bounded, to [%.4g, %.4g]; a longer time cap would settle it",
+				100*c.Censored, c.Quantity, c.Walker, c.Upper)
+		default:
 			more := math.Ceil(det * det / (res * res))
 			r.Explain = fmt.Sprintf("no disagreement found, but the walker error bars are too wide: %s could hide a difference of %s (resolution %s); about %g times more walkers would settle it", c.Quantity, what, tol, more)
 		}
@@ -232,6 +236,15 @@ func (c *Check) detectable(zc, threshold float64) float64 {
 		return CriticalD(threshold, int(c.N), c.CensorAt)
 	}
 	h := zc * c.StdErr
+	if c.Bounded {
+		h += c.Upper - c.Walker
+	}
+	return c.inResolutionUnits(h)
+}
+
+// inResolutionUnits divides a difference h by the scale against which
+// Resolution is read: Scale or |PDE| for KindValue, 1 otherwise.
+func (c *Check) inResolutionUnits(h float64) float64 {
 	if c.Kind == KindValue {
 		switch {
 		case c.Scale > 0:
@@ -262,6 +275,10 @@ func sentence(c Check) string {
 	zs := ""
 	if !math.IsNaN(c.Z) {
 		zs = fmt.Sprintf("; z = %.3g", c.Z)
+	}
+	if c.Bounded {
+		return fmt.Sprintf("%s: the walkers bound it to [%.4g, %.4g] ± %.2g (%.3g%% were still out at the time cap); the PDE gives %.4g, outside%s",
+			c.Quantity, c.Walker, c.Upper, c.StdErr, 100*c.Censored, c.PDE, zs)
 	}
 	switch {
 	case name == "split":

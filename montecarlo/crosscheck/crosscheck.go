@@ -81,30 +81,67 @@ func Run(net montecarlo.Network, start vertex.Point, pde *PDE, res *montecarlo.R
 	if pde.ValueNote != "" {
 		cc.Notes = append(cc.Notes, pde.ValueNote)
 	}
+	// Walkers still out at the time cap ended nowhere yet: where their
+	// share q could move an estimate by more than a tenth of its error bar
+	// (Negligible), the walkers only bound the value and the hitting and
+	// killing probabilities (compare.Bounds: inconclusive when the bounds
+	// are wider than the resolution, never a false disagreement), and the
+	// share itself is compared with the PDE's survival P(τ > cap).
+	q := res.CensoredFraction()
+	if res.Censored > 0 {
+		cc.Notes = append(cc.Notes, fmt.Sprintf("%.3g%% of the walkers (%d) were still out at the time cap %.4g: where that matters the value and the hitting probabilities are compared as bounds", 100*q, res.Censored, res.TimeCap))
+	}
 	if pde.HasValue {
-		c := compare.Mean("value", pde.Value, res.Value.Mean, res.Value.StdErr)
-		c.Scale = payoffScale(net, c.PDE)
-		checks = append(checks, c)
+		lo, hi, bounded := ValueBounds(net, res)
+		switch {
+		case bounded && !Negligible(1, hi-lo, res.Value.StdErr):
+			c := compare.Bounds("value", compare.KindValue, pde.Value, lo, hi, res.Value.StdErr, q)
+			c.Scale = payoffScale(net, c.PDE)
+			checks = append(checks, c)
+		case !bounded && res.Censored > 0:
+			cc.Notes = append(cc.Notes, "value not compared: sources keep paying the walkers still out at the time cap, so it cannot even be bounded")
+		default:
+			c := compare.Mean("value", pde.Value, res.Value.Mean, res.Value.StdErr)
+			c.Scale = payoffScale(net, c.PDE)
+			checks = append(checks, c)
+		}
 	}
 	// Probabilities of where walkers end, as proportions of all finished
-	// walkers (censored ones included: they ended nowhere).
+	// walkers (censored ones in the denominator: they ended nowhere yet, so
+	// the frequency is a lower bound and the frequency plus q an upper one).
 	count := func(e montecarlo.Estimate) int64 { return int64(math.Round(e.Mean * float64(res.Finished))) }
+	prob := func(name string, pde float64, e montecarlo.Estimate) compare.Check {
+		k := count(e)
+		if Negligible(q, 1, e.StdErr) {
+			return compare.Proportion(name, pde, k, res.Finished)
+		}
+		n := res.Finished
+		se := math.Max(compare.BinomialStdErr(float64(k)/float64(n), n), compare.BinomialStdErr(float64(k+res.Censored)/float64(n), n))
+		return compare.Bounds(name, compare.KindProbability, pde, float64(k)/float64(n), float64(k+res.Censored)/float64(n), se, q)
+	}
 	ids := make([]string, nn)
 	laws := make([]vertex.Law, nn)
 	ends := make([][]vertex.End, nn)
 	for v := range nn {
 		ids[v], laws[v], ends[v], _ = net.WalkNode(v)
 		if laws[v].Kind == vertex.Fixed {
-			checks = append(checks, compare.Proportion("hit:"+ids[v], pde.Hit[v], count(res.Hit[v]), res.Finished))
+			checks = append(checks, prob("hit:"+ids[v], pde.Hit[v], res.Hit[v]))
 		}
 	}
 	if pde.Killed > killedEps || res.Killed.Mean > 0 {
-		checks = append(checks, compare.Proportion("killed", pde.Killed, count(res.Killed), res.Finished))
+		checks = append(checks, prob("killed", pde.Killed, res.Killed))
+	}
+	if res.Censored > 0 && pde.Survival != nil {
+		if s, err := pde.Survival(res.TimeCap); err == nil {
+			checks = append(checks, compare.Proportion("censored", s, res.Censored, res.Finished))
+		} else {
+			cc.Notes = append(cc.Notes, "the censored fraction is not compared: "+err.Error())
+		}
 	}
 	if res.Censored == 0 {
 		checks = append(checks, compare.Mean("exit-time:mean", pde.Mean, res.ExitTime.Mean, res.ExitTime.StdErr))
 	} else {
-		cc.Notes = append(cc.Notes, fmt.Sprintf("%d walkers were still out at the time cap %g: the mean exit time of the others is biased and is not compared; the distribution check accounts for them", res.Censored, res.TimeCap))
+		cc.Notes = append(cc.Notes, "the mean exit time is not compared (the walkers still out would lengthen it by an unknown amount); the distribution check accounts for them")
 	}
 	atFixed := start.Edge < 0 && laws[start.Node].Kind == vertex.Fixed
 	switch {
@@ -309,4 +346,56 @@ func SurvivalTable(s func(float64) float64, times []float64) func(float64) float
 		}
 		return f.Predict(t)
 	}
+}
+
+// PayoffRange returns the least and the greatest payoff that a walker still
+// out at the time cap could yet collect: a fixed node's value, or 0 if it is
+// killed. ok is false when sources or injections make it unbounded (the
+// payoff then grows with the rest of the walker's life). Edges whose
+// coefficients vary are checked at 33 points. Cost O(nodes + edges).
+func PayoffRange(net montecarlo.Network) (lo, hi float64, ok bool) {
+	nn, ne := net.Size()
+	for v := range nn {
+		_, law, _, _ := net.WalkNode(v)
+		switch {
+		case law.Kind == vertex.Fixed:
+			lo, hi = math.Min(lo, law.Value), math.Max(hi, law.Value)
+		case law.Inject != 0:
+			return 0, 0, false
+		}
+	}
+	const samples = 33
+	for e := range ne {
+		_, _, _, length, _, constant := net.WalkEdge(e)
+		for i := range samples {
+			if _, _, _, f, _ := net.EdgeCoeffs(e, length*float64(i)/(samples-1)); f != 0 {
+				return 0, 0, false
+			}
+			if constant {
+				break
+			}
+		}
+	}
+	return lo, hi, true
+}
+
+// ValueBounds returns the interval in which u(start) lies, up to Monte Carlo
+// error, given what the walkers of res collected by the time cap and the
+// share of them still out then; ok is false when PayoffRange is unbounded.
+func ValueBounds(net montecarlo.Network, res *montecarlo.Result) (lo, hi float64, ok bool) {
+	plo, phi, ok := PayoffRange(net)
+	if !ok {
+		return math.NaN(), math.NaN(), false
+	}
+	q := res.CensoredFraction()
+	return res.Value.Mean + q*plo, res.Value.Mean + q*phi, true
+}
+
+// Negligible reports whether censoring at fraction q can move an estimate
+// by at most a tenth of its standard error se (bias bound q·width, width the
+// range of what a censored walker could still add), so that the estimate can
+// be used as it is (common practice, no source: a tenth of an error bar
+// changes a z-score by at most 0.1).
+func Negligible(q, width, se float64) bool {
+	return q == 0 || q*width <= 0.1*se
 }
