@@ -118,6 +118,9 @@ type Network struct {
 	Edges       []Edge
 	// Params are the named numbers that the network's laws read (nil: none).
 	Params *Params
+	// Physical, when non-nil, says what the numbers mean physically (set by
+	// a reader from the file's physical models).
+	Physical *Physical
 
 	nodeIndex map[string]int
 	edgeIndex map[string]int

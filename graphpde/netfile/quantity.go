@@ -31,5 +31,18 @@ func (t *tbl) quantity(key, s string) (float64, error) {
 		}
 		return 0, t.fail(key, key+": "+err.Error())
 	}
+	if key == "fixed" && q.Unit.Dim[units.Length] == -3 {
+		d := q.Unit.Dim
+		t.rd.phys().concDim = &d
+	}
+	if q.Unit.Dim == units.DimTemperature {
+		switch q.Unit.Offset {
+		case 273.15:
+			t.rd.phys().celsius = true
+		case 0:
+		default:
+			t.rd.phys().fahr = true
+		}
+	}
 	return q.SI(), nil
 }

@@ -98,6 +98,7 @@ type reader struct {
 
 	params *graphpde.Params // the [parameters] table (nil: none)
 	laws   []lawSpec        // general node laws, compiled once the edges are known
+	ph     *physState       // physical models met so far (models.go)
 }
 
 // tbl is one table of the file being read: [network], [defaults], one
@@ -558,6 +559,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	if err := rd.generalLaws(net); err != nil {
 		return nil, err
 	}
+	if err := rd.physical(net); err != nil {
+		return nil, err
+	}
 	return net, nil
 }
 
@@ -608,6 +612,9 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 		return nd, nil, err
 	}
 	nd.ID = t.id
+	if err := rd.nodeElement(t); err != nil {
+		return nd, nil, err
+	}
 	if err := t.checkKeys(nodeKeys, nil); err != nil {
 		return nd, nil, err
 	}
@@ -663,6 +670,9 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 // edge reads one [[edge]] table and adds it to net.
 func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	if err := rd.id(t, rd.edgeLine); err != nil {
+		return err
+	}
+	if err := rd.edgeModel(t); err != nil {
 		return err
 	}
 	if err := t.checkKeys(edgeKeys, nil); err != nil {
