@@ -19,8 +19,8 @@ type Extreme struct {
 // A e^{r₁x} + B e^{r₂x} + (a particular part that is constant or linear),
 // with r₁ ≠ r₂ real, or a parabola when b = c = 0, so u' has at most one zero
 // on the edge: when u' changes sign between the ends, the interior extremum
-// is the root of u', found by bisection safeguarded Newton steps (u” is
-// available in closed form from the equation, a u” = −b u' + c u − f) to
+// is the root of u', found by bisection safeguarded Newton steps (uxx is
+// available in closed form from the equation, a·uxx = −b·ux + c·u − f) to
 // round-off in x. Cost O(1) on exact edges (about 60 evaluations at most);
 // O(cells) on grid edges.
 func (s *Solution) Extremes(e int) Extreme {

@@ -74,9 +74,10 @@ wire = { conductivity = "398 W/(m*K)", diameter = "5 mm", film = "100 W/(m^2*K)"
 // TestWireJoule checks Joule heating in a wire with no film, both ends held
 // at T₀: T − T₀ = q'x(L − x)/(2kA) with q' = I²ρ_e/A (derived: uniform
 // generation in a rod, Incropera 6th ed. §3.5.3 for the slab form), and
-// with a linear temperature coefficient the problem stays linear:
-// kA T” + (I²ρ₀/A)(1 + α(T − T₀)) = 0, whose midpoint rise is
-// (1/(α·cos(mL/2)) − 1/α) with m² = I²ρ₀α/(kA²) (derived).
+// with a linear temperature coefficient and a film to air at T₀ the
+// problem stays linear: kA·θxx − c'θ + q' = 0 with θ = T − T₀,
+// c' = hP − q'α, whose midpoint rise is (q'/c')(1 − 1/cosh(mL/2)),
+// m² = c'/(kA) (derived). A slope that outgrows the film is refused.
 func TestWireJoule(t *testing.T) {
 	const wire = `[[node]]
 id = "a"
@@ -192,7 +193,7 @@ rc = { resistance = "10 kohm/m", capacitance = "0.2 pF/mm" }
 
 // TestChannel checks the channel model: steady advection–dispersion with
 // decay in a long channel, C(x) = C₀ e^{rx}, r = (v − √(v² + 4DRk))/(2D)
-// (derived from D C” − v C' − Rk C = 0; the standard steady solution, e.g.
+// (derived from D·Cxx − v·Cx − Rk·C = 0; the standard steady solution, e.g.
 // Bear, Dynamics of Fluids in Porous Media, 1972, from memory). The far end
 // is 50 decay lengths away, so the end condition does not show at x = 1 m.
 func TestChannel(t *testing.T) {
