@@ -7,6 +7,10 @@ import "math"
 type Extreme struct {
 	Max, Min     float64
 	AtMax, AtMin float64 // distance from the edge's From node
+	// Flat is set when the field is so flat around an interior extremum
+	// that points more than 1 % of the edge's length away agree with it to
+	// 1e-9 (relative): the value is sharp but its place is not.
+	Flat bool
 	// Exact is true when the places are located on the closed-form solution
 	// of an exact element (to round-off); false on a grid edge, where they are
 	// the best grid vertex refined by the parabola through its neighbours.
@@ -71,7 +75,10 @@ func (s *Solution) Extremes(e int) Extreme {
 	x.Exact = true
 	_, d0 := s.eval(e, 0)
 	_, dL := s.eval(e, L)
-	if d0 == 0 || dL == 0 || math.Signbit(d0) == math.Signbit(dL) {
+	// A slope that is round-off against the other end's (a sealed end,
+	// u' = 0 there) counts as zero: the extremum is then at that end.
+	const flatEnd = 1e-10
+	if d, m := math.Abs(d0), math.Abs(dL); d <= flatEnd*m || m <= flatEnd*d || math.Signbit(d0) == math.Signbit(dL) {
 		return x // monotone: the extremes are at the ends
 	}
 	// One interior zero of u' in (0, L): bisection on the sign of u',
@@ -98,7 +105,12 @@ func (s *Solution) Extremes(e int) Extreme {
 		}
 		xm = next
 	}
-	um, _ := s.eval(e, xm)
+	um, dum := s.eval(e, xm)
+	scale := math.Max(math.Max(math.Abs(um), math.Abs(u0)), math.Abs(uL))
+	curv := math.Abs((-el.b*dum + el.c*um - el.f) / el.a)
+	if flat := 2 * 1e-9 * scale; curv*(0.01*L)*(0.01*L) < flat {
+		x.Flat = true
+	}
 	if um > x.Max {
 		x.Max, x.AtMax = um, xm
 	}

@@ -27,6 +27,19 @@ type Physical struct {
 	// Edges holds, per edge index, the physical split of the edge's decay
 	// and source terms and any flow carried along it.
 	Edges []PhysicalEdge
+	// Nodes holds, per node index, the physical reading of a balance node's
+	// leak and injection.
+	Nodes []PhysicalNode
+}
+
+// PhysicalNode reads a node's β u − γ physically: a loss K·(u − Ref) (a
+// convecting surface, a soma's membrane) when Set, or a Driver, a source
+// behind a resistance that supplies γ − β u. The zero value means loss β u
+// and source γ.
+type PhysicalNode struct {
+	K, Ref float64
+	Set    bool
+	Driver bool
 }
 
 // PhysicalEdge splits an edge's −c u + f into a physical loss

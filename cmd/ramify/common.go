@@ -20,9 +20,10 @@ import (
 	"github.com/ramify-dev/ramify/vertex"
 )
 
-// caution is printed with every human-readable result and carried in JSON
-// output: results of this tool can feed decisions about wire heating and
-// current loads.
+// caution is printed under results of models of heat or electric current
+// (graphpde.Physical.Hazard: wires, RC lines) and carried once in their JSON
+// output: such results can feed decisions about wire heating and current
+// loads.
 const caution = "ramify is a modelling aid: it is no substitute for local electrical and building codes or licensed engineering review."
 
 // newFlags returns a flag set for command name that reports its own errors

@@ -100,7 +100,9 @@ type solveOut struct {
 	Edges   []edgeOut  `json:"edges"`
 	Probes  []probeOut `json:"probes"`
 	Stats   statsOut   `json:"stats"`
-	Caution string     `json:"caution"`
+	Summary summaryOut `json:"summary"`
+	Units   *unitsOut  `json:"units,omitempty"`
+	Caution string     `json:"caution,omitempty"`
 }
 
 type statsOut struct {
@@ -124,7 +126,11 @@ func solveJSON(net *graphpde.Network, sol *graphpde.Solution, specs []string, pt
 			ExactEdges: sol.Stats.ExactEdges, GridEdges: sol.Stats.GridEdges,
 			Fill: sol.Stats.FillNNZ, Seconds: sol.Stats.Elapsed.Seconds(),
 		},
-		Caution: caution,
+		Summary: summarize(net, sol),
+		Units:   physicalUnits(net.Physical),
+	}
+	if hazard(net) {
+		out.Caution = caution
 	}
 	out.Method = methodSummary(sol)
 	for v, nd := range net.Nodes {
@@ -197,7 +203,8 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 	}
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
-	fmt.Fprintln(tw, "node\tcondition\tu\tbalance residual")
+	ph := net.Physical
+	fmt.Fprintf(tw, "node\tcondition\t%s\tbalance residual\n", fieldHeader(ph))
 	for v, nd := range net.Nodes[:limit(len(net.Nodes))] {
 		res := "—"
 		cond := "fixed"
@@ -205,13 +212,13 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 			res = fmt.Sprintf("%.2e", sol.Residual[v])
 			cond = "balance"
 			if nd.Law.Leak > 0 {
-				cond += fmt.Sprintf(", leak %g", nd.Law.Leak)
+				cond += ", leak " + fmtNum(nd.Law.Leak)
 			}
 			if nd.Law.Inject != 0 {
-				cond += fmt.Sprintf(", inject %g", nd.Law.Inject)
+				cond += ", inject " + fmtNum(nd.Law.Inject)
 			}
 		}
-		fmt.Fprintf(tw, "%s\t%s\t%.6g\t%s\n", nd.ID, cond, sol.U[v], res)
+		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\n", nd.ID, cond, fmtNum(ph.Shown(sol.U[v])), res)
 	}
 	tw.Flush()
 	more(w, limit(len(net.Nodes)), len(net.Nodes), "nodes")
@@ -219,22 +226,41 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 	tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "edge\tfrom → to\tflux at from\tflux at to")
 	for i, e := range net.Edges[:limit(len(net.Edges))] {
-		fmt.Fprintf(tw, "%s\t%s → %s\t%.6g\t%.6g\n", e.ID, net.Nodes[e.From].ID, net.Nodes[e.To].ID, sol.Flux[i][0], sol.Flux[i][1])
+		fmt.Fprintf(tw, "%s\t%s → %s\t%s\t%s\n", e.ID, net.Nodes[e.From].ID, net.Nodes[e.To].ID, fmtNum(sol.Flux[i][0]), fmtNum(sol.Flux[i][1]))
 	}
 	tw.Flush()
 	more(w, limit(len(net.Edges)), len(net.Edges), "edges")
-	fmt.Fprintln(w, "(flux: diffusive flux −a·u' along the edge's from → to direction)")
+	if ph != nil {
+		note := ""
+		if ph.Model == "channel" {
+			note = "; dispersive part only, the summary adds the flow-carried part"
+		}
+		fmt.Fprintf(w, "(flux: %s in %s along the edge's from → to direction%s)\n", ph.Flux, orDash(ph.FluxUnit), note)
+	} else {
+		fmt.Fprintln(w, "(flux: diffusive flux −a·u' along the edge's from → to direction)")
+	}
 	if len(pts) > 0 {
 		fmt.Fprintln(w)
 		tw = tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
-		fmt.Fprintln(tw, "probe\tu")
+		fmt.Fprintf(tw, "probe\t%s\n", fieldHeader(ph))
 		for i, p := range pts {
-			fmt.Fprintf(tw, "%s\t%.6g\n", specs[i], probe(sol, p))
+			fmt.Fprintf(tw, "%s\t%s\n", specs[i], fmtNum(ph.Shown(probe(sol, p))))
 		}
 		tw.Flush()
 	}
-	fmt.Fprintln(w)
-	fmt.Fprintln(w, caution)
+	printSummary(w, net, summarize(net, sol), rows)
+	if hazard(net) {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, caution)
+	}
+}
+
+// fieldHeader names the field column: "u", or "temperature [°C]".
+func fieldHeader(ph *graphpde.Physical) string {
+	if ph == nil {
+		return "u"
+	}
+	return ph.Field + bracket(ph.ShownUnit())
 }
 
 // writeField writes edge,x,u rows for every edge to path (never over the

@@ -183,4 +183,18 @@
 // The TOML format is specified by T. Preston-Werner et al., TOML v1.0.0
 // (2021), and parsed by github.com/BurntSushi/toml; CSV by RFC 4180 (2005)
 // as read by encoding/csv.
+//
+// # Physical models
+//
+// An edge may give one model sub-table instead of the raw coefficients:
+// wire (conductivity, diameter or area and perimeter, film, ambient, current,
+// resistivity, resistivity_slope, resistivity_at, density, heat_capacity),
+// cable (diameter, axial_resistivity, membrane_resistance,
+// membrane_capacitance, resting), rc (resistance, capacitance, leakage) or
+// channel (area, porosity, velocity, dispersion or dispersivity and
+// diffusion, decay or half_life, retardation). A balance node may carry the
+// elements convection, driver, soma and load. The reader maps them to the
+// raw coefficients (the formulas and their sources are on wireModel,
+// cableModel, channelModel and nodeElement) and sets Network.Physical, which
+// names the field and flux and splits the terms physically.
 package netfile

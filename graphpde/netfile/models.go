@@ -55,7 +55,9 @@ type physState struct {
 	celsius  bool // a temperature was written in degC
 	fahr     bool
 	concDim  *units.Dim // dimension of concentrations given with units
+	concUnit units.Unit // the unit of the first of them, for display
 	carry    map[string]float64
+	nodes    map[string]graphpde.PhysicalNode
 	hasModel bool
 }
 
@@ -144,7 +146,7 @@ func (t *tbl) rule(key string, v float64, r rule) error {
 
 func (rd *reader) phys() *physState {
 	if rd.ph == nil {
-		rd.ph = &physState{edges: map[string]graphpde.PhysicalEdge{}, carry: map[string]float64{}}
+		rd.ph = &physState{edges: map[string]graphpde.PhysicalEdge{}, carry: map[string]float64{}, nodes: map[string]graphpde.PhysicalNode{}}
 	}
 	return rd.ph
 }
@@ -469,7 +471,8 @@ func channelModel(mt *tbl) (a, b, c, rho float64, pe graphpde.PhysicalEdge, err 
 //	load:       capacity C (a lumped capacitance)
 //
 // Several elements add up; none may be combined with fixed or with the
-// raw leak, inject or capacity keys it sets.
+// raw leak or capacity keys; a raw inject (an electrode, a heater) adds to
+// the injection the elements imply.
 func (rd *reader) nodeElement(t *tbl) error {
 	var found []string
 	for _, k := range t.keys() {
@@ -483,12 +486,13 @@ func (rd *reader) nodeElement(t *tbl) error {
 	if _, fixed := t.m["fixed"]; fixed {
 		return t.fail(found[0], found[0]+" is not allowed on a fixed node (it has no balance law)")
 	}
-	for _, k := range []string{"leak", "inject", "capacity"} {
+	for _, k := range []string{"leak", "capacity"} {
 		if _, ok := t.m[k]; ok {
 			return t.fail(k, fmt.Sprintf("%s is set by %s; remove one of them", k, strings.Join(found, " and ")))
 		}
 	}
 	var leak, inject, capacity float64
+	var pn graphpde.PhysicalNode
 	for _, k := range found {
 		if k == "load" {
 			lt := &tbl{rd: rd, obj: t.obj, kind: t.kind, id: t.id, path: t.path, m: t.m}
@@ -525,6 +529,7 @@ func (rd *reader) nodeElement(t *tbl) error {
 			}
 			leak += h * area
 			inject += h * area * tinf
+			pn.Set, pn.K, pn.Ref = true, pn.K+h*area, tinf
 		case "driver":
 			r, err := st.need("resistance", units.DimResistance, positive)
 			if err != nil {
@@ -536,6 +541,7 @@ func (rd *reader) nodeElement(t *tbl) error {
 			}
 			leak += 1 / r
 			inject += v / r
+			pn.Driver = true
 		case "soma":
 			d, err := st.need("diameter", units.DimLength, positive)
 			if err != nil {
@@ -557,14 +563,33 @@ func (rd *reader) nodeElement(t *tbl) error {
 			leak += area / rm
 			inject += area * e / rm
 			capacity += cm * area
+			pn.Set, pn.K, pn.Ref = true, pn.K+area/rm, e
 		}
 		delete(t.m, k)
 	}
 	delete(t.m, "load")
+	if pn.Set && pn.Driver {
+		return t.fail(found[0], "a driver cannot share a node with convection or a soma")
+	}
+	if pn.Set && pn.K != leak {
+		pn.Set = false // two surfaces at different ambients: report plain leak and inject
+	}
+	rd.phys().nodes[t.id] = pn
 	if leak != 0 {
 		t.m["leak"] = leak
 	}
 	if inject != 0 {
+		if _, ok := t.m["inject"]; ok { // an electrode or heater adds to it
+			lt := &tbl{rd: rd, obj: t.obj, kind: t.kind, id: t.id, path: t.path, m: t.m}
+			v, err := lt.number("inject")
+			if err != nil {
+				return err
+			}
+			if err := lt.rule("inject", v, finite); err != nil {
+				return err
+			}
+			inject += v
+		}
 		t.m["inject"] = inject
 	}
 	if capacity != 0 {
@@ -613,14 +638,21 @@ func (rd *reader) physical(net *graphpde.Network) error {
 		p.Hazard = true
 	case "concentration":
 		if ph.concDim != nil {
-			p.FieldUnit = strings.ReplaceAll(ph.concDim.String(), "*", "·")
-			p.FluxUnit = strings.ReplaceAll(ph.concDim.Mul(units.Dim{units.Length: 3, units.Time: -1}).String(), "*", "·")
+			p.FieldUnit = ph.concDim.Pretty()
+			p.FluxUnit = ph.concDim.Mul(units.Dim{units.Length: 3, units.Time: -1}).Pretty()
+			if u := ph.concUnit; u.Scale != 1 && u.Offset == 0 {
+				p.ShowUnit, p.ShowScale = u.Text, u.Scale
+			}
 		}
 	}
 	for i, e := range net.Edges {
 		if pe, ok := ph.edges[e.ID]; ok {
 			p.Edges[i] = pe
 		}
+	}
+	p.Nodes = make([]graphpde.PhysicalNode, len(net.Nodes))
+	for i, nd := range net.Nodes {
+		p.Nodes[i] = ph.nodes[nd.ID]
 	}
 	// Flow balance of the channels at balance nodes.
 	if ph.models[0] == "channel" {

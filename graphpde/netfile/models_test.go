@@ -107,7 +107,10 @@ wire = { conductivity = "400 W/(m*K)", area = "1 mm^2", current = "10 A", resist
 		}()},
 	} {
 		_, sol := solveText(t, fmt.Sprintf(wire, c.extra))
-		mid := sol.At(graphpde.Point{Node: -1, Edge: 0, X: 0.5})
+		mid, err := sol.At(graphpde.Point{Node: -1, Edge: 0, X: 0.5})
+		if err != nil {
+			t.Fatal(err)
+		}
 		if rise := mid - 293.15; math.Abs(rise-c.rise) > 1e-9*c.rise {
 			t.Errorf("%s: midpoint rise %.10g K, want %.10g", c.name, rise, c.rise)
 		}
@@ -215,12 +218,15 @@ channel = { area = "0.01 m^2", porosity = 0.3, velocity = "1 m/d", dispersivity 
 	k := math.Ln2 / (10 * 86400)
 	r := (v - math.Sqrt(v*v+4*D*2*k)) / (2 * D)
 	want := 2e-3 * math.Exp(r*1)
-	got := sol.At(graphpde.Point{Node: -1, Edge: 0, X: 1})
+	got, err := sol.At(graphpde.Point{Node: -1, Edge: 0, X: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
 	if math.Abs(got-want) > 1e-9*want {
 		t.Errorf("C(1 m) = %.10g kg/m^3, want %.10g", got, want)
 	}
 	p := net.Physical
-	if p == nil || p.Hazard || p.FieldUnit != "m^-3·kg" || math.Abs(p.Edges[0].Carry-0.003*v) > 1e-20 {
+	if p == nil || p.Hazard || p.FieldUnit != "kg/m^3" || p.ShownUnit() != "mg/L" || math.Abs(p.Edges[0].Carry-0.003*v) > 1e-20 {
 		t.Errorf("channel physical description %+v", p)
 	}
 }

@@ -32,8 +32,10 @@ func (t *tbl) quantity(key, s string) (float64, error) {
 		return 0, t.fail(key, key+": "+err.Error())
 	}
 	if key == "fixed" && q.Unit.Dim[units.Length] == -3 {
-		d := q.Unit.Dim
-		t.rd.phys().concDim = &d
+		if ph := t.rd.phys(); ph.concDim == nil {
+			d := q.Unit.Dim
+			ph.concDim, ph.concUnit = &d, q.Unit
+		}
 	}
 	if q.Unit.Dim == units.DimTemperature {
 		switch q.Unit.Offset {

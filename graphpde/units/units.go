@@ -88,6 +88,38 @@ func (d Dim) String() string {
 	return strings.Join(parts, "*")
 }
 
+// Pretty writes d for people: "kg/m^3", "W/(m*K)" style, with the base
+// units in the order kg, m, s, A, K, mol, cd; "1" when dimensionless.
+func (d Dim) Pretty() string {
+	order := []int{Mass, Length, Time, Current, Temperature, Amount, Luminous}
+	var num, den []string
+	for _, i := range order {
+		e := int(d[i])
+		switch {
+		case e == 1:
+			num = append(num, baseSymbols[i])
+		case e > 1:
+			num = append(num, baseSymbols[i]+"^"+strconv.Itoa(e))
+		case e == -1:
+			den = append(den, baseSymbols[i])
+		case e < -1:
+			den = append(den, baseSymbols[i]+"^"+strconv.Itoa(-e))
+		}
+	}
+	out := strings.Join(num, "*")
+	if out == "" {
+		out = "1"
+	}
+	switch len(den) {
+	case 0:
+	case 1:
+		out += "/" + den[0]
+	default:
+		out += "/(" + strings.Join(den, "*") + ")"
+	}
+	return out
+}
+
 // Unit is a parsed unit expression: a value v in this unit is v*Scale (+
 // Offset for an absolute temperature) in SI base units of dimension Dim.
 // Offset is non-zero only for a unit that is one affine temperature scale

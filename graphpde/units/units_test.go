@@ -211,6 +211,11 @@ func TestDimString(t *testing.T) {
 	if s := DimResistance.String(); s != "m^2*kg*s^-3*A^-2" {
 		t.Errorf("ohm: %s", s)
 	}
+	for d, want := range map[Dim]string{DimConcentration.Mul(Dim{Amount: -1, Mass: 1}): "kg/m^3", DimConductivity: "kg*m/(s^3*K)", DimRate: "1/s", DimLength: "m"} {
+		if got := d.Pretty(); got != want {
+			t.Errorf("Pretty(%v) = %q, want %q", d, got, want)
+		}
+	}
 	if s := None.String(); s != "1" {
 		t.Errorf("none: %s", s)
 	}
