@@ -36,6 +36,7 @@ func commands() []command {
 		{"walk", "random walkers: value, hitting probabilities, exit times", runWalk},
 		{"exit", "first-passage statistics from the PDE", runExit},
 		{"crosscheck", "PDE and walkers side by side, with a verdict", runCrosscheck},
+		{"evolve", "transient field from the initial one: probe time series, crossing times, snapshots", runEvolve},
 		{"spectrum", "smallest eigenvalues (decay rates) and the slowest relaxation time", runSpectrum},
 		{"demo", "the built-in example network, end to end", runDemo},
 		{"bench", "performance figures of the solvers on generated networks", runBench},

@@ -17,6 +17,7 @@ type progressBar struct {
 	start time.Time
 	last  time.Time
 	drawn bool
+	unit  string // of the rate; "" means walkers/s
 }
 
 func newProgressBar(w io.Writer, label string) *progressBar {
@@ -48,7 +49,11 @@ func (p *progressBar) Progress(done, total int64) {
 	if rate > 0 {
 		left = (time.Duration(float64(total-done) / rate * float64(time.Second))).Round(time.Second).String()
 	}
-	fmt.Fprintf(p.w, "\r%s [%s] %3.0f%%  %.3g walkers/s  %s left ", p.label, bar, 100*frac, rate, left)
+	unit := p.unit
+	if unit == "" {
+		unit = "walkers/s"
+	}
+	fmt.Fprintf(p.w, "\r%s [%s] %3.0f%%  %.3g %s  %s left ", p.label, bar, 100*frac, rate, unit, left)
 	p.drawn = true
 }
 

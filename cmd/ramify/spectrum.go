@@ -43,14 +43,14 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 		return code
 	}
 	if *count < 1 {
-		return fail(stderr, "spectrum", fmt.Errorf("--count %d: must be ≥ 1", *count))
+		return badFlag(stderr, "spectrum", fmt.Errorf("--count %d: must be ≥ 1", *count))
 	}
 	if *cells < 0 {
-		return fail(stderr, "spectrum", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
+		return badFlag(stderr, "spectrum", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
 	}
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
-		return fail(stderr, "spectrum", err)
+		return badFlag(stderr, "spectrum", err)
 	}
 	net, err := load(ctx, file)
 	if err != nil {

@@ -79,7 +79,7 @@ to = "t3"
 	if code != 0 || !strings.Contains(out, "slowest relaxation time 1/λ₁ = 0.4052847") {
 		t.Errorf("human output lacks the relaxation time:\n%s", out)
 	}
-	if code, _, _ := runCLI(t, context.Background(), "spectrum", "--count", "0", f); code != 1 {
-		t.Errorf("--count 0: exit %d, want 1", code)
+	if code, _, _ := runCLI(t, context.Background(), "spectrum", "--count", "0", f); code != 2 {
+		t.Errorf("--count 0: exit %d, want 2 (usage error)", code)
 	}
 }

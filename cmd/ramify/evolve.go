@@ -1,0 +1,343 @@
+package main
+
+import (
+	"context"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"text/tabwriter"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/plotutil"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgsvg"
+
+	"github.com/ramify-dev/ramify/graphpde"
+)
+
+const evolveExamples = `  ramify evolve examples/handrail.toml --until 3600 --probe mid --every 60
+  ramify evolve line.toml --until 2 --probe far --crossing 0.5 --json
+  ramify evolve line.toml --until 2 --probe far --csv far.csv --plot far.svg
+`
+
+type evolveProbeOut struct {
+	At       string `json:"at"`
+	U        []num  `json:"u"`
+	Steady   *num   `json:"steady,omitempty"`
+	Crossing *num   `json:"crossing,omitempty"`
+}
+
+type evolveOut struct {
+	Network        string           `json:"network"`
+	Times          []num            `json:"times"`
+	Probes         []evolveProbeOut `json:"probes"`
+	Status         string           `json:"status"`
+	Method         string           `json:"method"`
+	CrossingLevel  *num             `json:"crossing_fraction,omitempty"`
+	Tol            num              `json:"tol"`
+	Steps          int              `json:"steps"`
+	Rejected       int              `json:"rejected"`
+	Factorizations int              `json:"factorizations"`
+	Unknowns       int              `json:"unknowns"`
+	ErrEstimate    num              `json:"max_error_estimate"`
+	Seconds        float64          `json:"seconds"`
+	Caution        string           `json:"caution"`
+}
+
+func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("evolve", "evolve [flags] FILE --until T", evolveExamples, stderr)
+	until := fs.Float64("until", 0, "final time T (required)")
+	probes := fs.StringArray("probe", nil, "record the value at POINT (NODE or EDGE@X); repeatable (default: every node)")
+	every := fs.Float64("every", 0, "output every DT (default: at every accepted step)")
+	method := fs.String("method", "auto", "grid (TR-BDF2 on the finite-volume grid; auto is grid) or exact (Laplace inversion; constant coefficients)")
+	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
+	tol := fs.Float64("tol", 1e-4, "tolerance of the local error per step, relative to |u| + the largest initial or fixed value")
+	step := fs.Float64("step", 0, "fixed step size instead of adaptive steps")
+	crossing := fs.Float64("crossing", 0, "report when each probe first covers this fraction of the way from its initial to its steady value (e.g. 0.5)")
+	csvOut := fs.String("csv", "", "write the probe time series to this CSV file (t, then one column per probe)")
+	snaps := fs.String("snapshots", "", "write the whole field at every output time to this CSV file (t, edge, x, u)")
+	plotOut := fs.String("plot", "", "draw the probe curves into this SVG file")
+	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	file, code, ok := parseFlags(fs, args, stderr, true)
+	if !ok {
+		return code
+	}
+	if !(*until > 0) || math.IsInf(*until, 0) {
+		return badFlag(stderr, "evolve", fmt.Errorf("--until %g: give a final time > 0", *until))
+	}
+	m, err := graphpde.ParseMethod(*method)
+	if err != nil {
+		return badFlag(stderr, "evolve", err)
+	}
+	if *cells < 0 {
+		return badFlag(stderr, "evolve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
+	}
+	if !(*tol > 0) {
+		return badFlag(stderr, "evolve", fmt.Errorf("--tol %g: must be > 0", *tol))
+	}
+	if *every < 0 || *step < 0 {
+		return badFlag(stderr, "evolve", fmt.Errorf("--every and --step must be ≥ 0"))
+	}
+	if *crossing != 0 && !(*crossing > 0 && *crossing < 1) {
+		return badFlag(stderr, "evolve", fmt.Errorf("--crossing %g: must be between 0 and 1", *crossing))
+	}
+	if err := checkOutputs([]string{file}, outTarget{flag: "--csv", path: *csvOut}, outTarget{flag: "--snapshots", path: *snaps}, outTarget{flag: "--plot", path: *plotOut}); err != nil {
+		return badFlag(stderr, "evolve", err)
+	}
+	net, err := load(ctx, file)
+	if err != nil {
+		return fail(stderr, "evolve", err)
+	}
+	specs := *probes
+	if len(specs) == 0 {
+		for _, nd := range net.Nodes {
+			specs = append(specs, nd.ID)
+		}
+	}
+	pts, err := parsePoints(net, specs)
+	if err != nil {
+		return fail(stderr, "evolve", err)
+	}
+	set := &graphpde.EvolveSettings{Until: *until, Every: *every, Probes: pts, Fields: *snaps != "", Method: m,
+		Cells: *cells, Tol: *tol, Step: *step, Crossing: *crossing, Context: ctx}
+	var bar *progressBar
+	if isTerminal(stderr) && !*asJSON {
+		bar = newProgressBar(stderr, "time")
+		bar.unit = "‰ of the run/s"
+		set.Progress = func(t, T float64) { bar.Progress(int64(t/T*1000), 1000) }
+	}
+	r, err := graphpde.Evolve(net, set)
+	if bar != nil {
+		bar.Done()
+	}
+	if err != nil {
+		return fail(stderr, "evolve", fmt.Errorf("%s: %w", file, err))
+	}
+	if *csvOut != "" {
+		if _, err := saveFile(*csvOut, []string{file}, func(w io.Writer) error { return writeProbeCSV(w, specs, r) }); err != nil {
+			return fail(stderr, "evolve", err)
+		}
+	}
+	if *snaps != "" {
+		if _, err := saveFile(*snaps, []string{file}, func(w io.Writer) error { return writeSnapshots(w, net, r) }); err != nil {
+			return fail(stderr, "evolve", err)
+		}
+	}
+	if *plotOut != "" {
+		if _, err := saveFile(*plotOut, []string{file}, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) }); err != nil {
+			return fail(stderr, "evolve", err)
+		}
+	}
+	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Tol: num(*tol),
+		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
+		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds(), Caution: caution}
+	if m == graphpde.MethodExact {
+		out.Method = "exact"
+	}
+	if *crossing > 0 {
+		c := num(*crossing)
+		out.CrossingLevel = &c
+	}
+	for _, t := range r.Times {
+		out.Times = append(out.Times, num(t))
+	}
+	for k, s := range specs {
+		p := evolveProbeOut{At: s}
+		for _, v := range r.Probes[k] {
+			p.U = append(p.U, num(v))
+		}
+		if r.Crossing != nil {
+			c, st := num(r.Crossing[k]), num(r.Steady[k])
+			p.Crossing, p.Steady = &c, &st
+		}
+		out.Probes = append(out.Probes, p)
+	}
+	if *asJSON {
+		if err := writeJSON(stdout, out); err != nil {
+			return fail(stderr, "evolve", err)
+		}
+		if r.Status == graphpde.IterationLimit {
+			return 130
+		}
+		return 0
+	}
+	printEvolve(stdout, net, specs, r, &out, *crossing)
+	if r.Status == graphpde.IterationLimit {
+		return 130
+	}
+	return 0
+}
+
+func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde.EvolveResult, out *evolveOut, crossing float64) {
+	name := net.Name
+	if name == "" {
+		name = "network"
+	}
+	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), r.Status)
+	if out.Method == "exact" {
+		fmt.Fprintf(w, "method exact: Laplace transform of the exact elements inverted on Talbot contours, %.3g s\n", r.Stats.Time.Seconds())
+	} else {
+		fmt.Fprintf(w, "method grid: TR-BDF2 on %d unknowns, %d steps (%d rejected, %s), %d factorisations, largest local error estimate %.2g of --tol %g (time stepping only: refine --cells to see the grid's error), %.3g s\n",
+			r.Stats.Unknowns, r.Stats.Steps, r.Stats.Rejected, stepRange(r), r.Stats.Factorizations, r.Stats.ErrEstimate, out.Tol, r.Stats.Time.Seconds())
+	}
+	if r.Status == graphpde.IterationLimit {
+		fmt.Fprintf(w, "stopped early at t = %g: the values below are those reached\n", r.Times[len(r.Times)-1])
+	}
+	fmt.Fprintln(w)
+	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+	fmt.Fprint(tw, "t")
+	for _, s := range specs {
+		fmt.Fprintf(tw, "\t%s", s)
+	}
+	fmt.Fprintln(tw)
+	rows := rowsToShow(len(r.Times), tableRows/4)
+	for _, i := range rows {
+		if i < 0 {
+			fmt.Fprintln(tw, "…")
+			continue
+		}
+		fmt.Fprintf(tw, "%.6g", r.Times[i])
+		for k := range specs {
+			fmt.Fprintf(tw, "\t%.6g", r.Probes[k][i])
+		}
+		fmt.Fprintln(tw)
+	}
+	tw.Flush()
+	if len(rows) < len(r.Times) {
+		fmt.Fprintf(w, "(%d of %d output times shown; --csv or --json give all)\n", len(r.Times)-countNeg(rows), len(r.Times))
+	}
+	if r.Crossing != nil {
+		fmt.Fprintln(w)
+		fmt.Fprintf(w, "first time each probe covers %g of the way from its initial to its steady value:\n", crossing)
+		tw = tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
+		fmt.Fprintln(tw, "probe\tinitial\tsteady\tcrossing time")
+		for k, s := range specs {
+			c := "not reached by --until"
+			if !math.IsNaN(r.Crossing[k]) {
+				c = fmt.Sprintf("%.6g", r.Crossing[k])
+			}
+			fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%s\n", s, r.Probes[k][0], r.Steady[k], c)
+		}
+		tw.Flush()
+	}
+	fmt.Fprintln(w)
+	fmt.Fprintln(w, caution)
+}
+
+func stepRange(r *graphpde.EvolveResult) string {
+	if r.Stats.Steps == 0 {
+		return "no step"
+	}
+	return fmt.Sprintf("step %.3g to %.3g", r.Stats.MinStep, r.Stats.MaxStep)
+}
+
+// rowsToShow returns all of 0…n−1 when n ≤ limit, otherwise the first and
+// last limit/2 with −1 for the gap.
+func rowsToShow(n, limit int) []int {
+	var out []int
+	if n <= limit {
+		for i := range n {
+			out = append(out, i)
+		}
+		return out
+	}
+	for i := range limit / 2 {
+		out = append(out, i)
+	}
+	out = append(out, -1)
+	for i := n - limit/2; i < n; i++ {
+		out = append(out, i)
+	}
+	return out
+}
+
+func countNeg(xs []int) int {
+	c := 0
+	for _, x := range xs {
+		if x < 0 {
+			c++
+		}
+	}
+	return c
+}
+
+func fmtF(v float64) string { return strconv.FormatFloat(v, 'g', 10, 64) }
+
+func writeProbeCSV(w io.Writer, specs []string, r *graphpde.EvolveResult) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write(append([]string{"t"}, specs...)); err != nil {
+		return err
+	}
+	row := make([]string, len(specs)+1)
+	for i, t := range r.Times {
+		row[0] = fmtF(t)
+		for k := range specs {
+			row[k+1] = fmtF(r.Probes[k][i])
+		}
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+func writeSnapshots(w io.Writer, net *graphpde.Network, r *graphpde.EvolveResult) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write([]string{"t", "edge", "x", "u"}); err != nil {
+		return err
+	}
+	for _, sn := range r.Snapshots {
+		for e, vals := range sn.Edges {
+			L := net.Edges[e].Length
+			n := len(vals) - 1
+			for i, v := range vals {
+				if err := cw.Write([]string{fmtF(sn.T), net.Edges[e].ID, fmtF(L * float64(i) / float64(n)), fmtF(v)}); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
+
+// plotProbes draws the probe curves (and the crossing times) as SVG.
+func plotProbes(w io.Writer, specs []string, r *graphpde.EvolveResult, crossing float64) error {
+	p := plot.New()
+	p.Title.Text = "probe values in time"
+	p.X.Label.Text = "t"
+	p.Y.Label.Text = "u"
+	p.Legend.Top = true
+	for k, s := range specs {
+		xy := make(plotter.XYs, len(r.Times))
+		for i, t := range r.Times {
+			xy[i] = plotter.XY{X: t, Y: r.Probes[k][i]}
+		}
+		l, err := plotter.NewLine(xy)
+		if err != nil {
+			return err
+		}
+		l.Color = plotutil.Color(k)
+		l.Dashes = plotutil.Dashes(k)
+		p.Add(l)
+		p.Legend.Add(s, l)
+		if r.Crossing != nil && !math.IsNaN(r.Crossing[k]) {
+			lev := r.Probes[k][0] + crossing*(r.Steady[k]-r.Probes[k][0])
+			sc, err := plotter.NewScatter(plotter.XYs{{X: r.Crossing[k], Y: lev}})
+			if err != nil {
+				return err
+			}
+			sc.Color = plotutil.Color(k)
+			p.Add(sc)
+		}
+	}
+	c := vgsvg.NewWith(vgsvg.UseWH(6*vg.Inch, 4*vg.Inch), vgsvg.EmbedFonts(true))
+	p.Draw(draw.New(c))
+	_, err := c.WriteTo(w)
+	return err
+}

@@ -1,0 +1,523 @@
+package graphpde
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+)
+
+// EvolveSettings controls Evolve. Until is required; the zero value of
+// every other field means its default.
+type EvolveSettings struct {
+	// Until is the final time T > 0.
+	Until float64
+	// Every is the spacing of the output times 0, Every, 2·Every, …, T;
+	// 0 means the times of the accepted steps (grid method) or 100
+	// equal intervals (exact method).
+	Every float64
+	// Probes are the points whose values are recorded at the output times.
+	Probes []Point
+	// Fields keeps the whole field at every output time (Snapshots).
+	Fields bool
+	// Method: MethodAuto and MethodGrid step the finite-volume grid in time
+	// (TR-BDF2, adaptive); MethodExact inverts the Laplace transform of the
+	// exact elements (constant coefficients; probes only).
+	Method Method
+	// Cells is the number of grid cells of an edge whose Edge.Cells is 0;
+	// 0 means DefaultCells.
+	Cells int
+	// Tol is the tolerance of the adaptive steps, for the error of the time
+	// stepping accumulated up to any time (not the grid's own error): the
+	// estimated local error of a step of size h is kept below
+	// Tol·max(h/T, 1/200)·(|u| + scale) in the root mean square over the
+	// unknowns, scale the largest |u| of the initial and fixed values (1 if
+	// all are 0), so that the local errors add up to about Tol. 0 means 1e-4.
+	Tol float64
+	// Step, when > 0, switches adaptivity off: every step has this size
+	// (shortened to land on output times). For convergence studies.
+	Step float64
+	// Crossing, when in (0, 1), asks for the first time at which each probe
+	// has covered that fraction of the way from its initial value to its
+	// steady value (the steady solution of the network with its values at
+	// t = 0). Grid method only.
+	Crossing float64
+	// MaxGridUnknowns bounds the unknowns of the grid (0: DefaultMaxGridUnknowns).
+	MaxGridUnknowns int
+	// Context stops the run early (Status IterationLimit, the output so far
+	// kept). nil means never.
+	Context context.Context
+	// Progress, when non-nil, is called with the time reached and T after
+	// steps, at most a few hundred times per run.
+	Progress func(t, until float64)
+}
+
+// Snapshot is the whole field at one output time: the node values and the
+// values at the grid vertices of every edge (x_i = i·Length/cells).
+type Snapshot struct {
+	T     float64
+	Nodes []float64
+	Edges [][]float64
+}
+
+// EvolveResult is the outcome of Evolve.
+type EvolveResult struct {
+	// Times are the output times, from 0 to Until.
+	Times []float64
+	// Probes[k][i] is the value at probe k at Times[i].
+	Probes [][]float64
+	// Snapshots, when asked for, one per output time.
+	Snapshots []Snapshot
+	// Crossing[k] is the crossing time of probe k (NaN when it is not
+	// reached by Until), when Settings.Crossing was set.
+	Crossing []float64
+	// Steady[k] is the steady value of probe k used for the crossing.
+	Steady []float64
+	Status Status
+	Stats  EvolveStats
+}
+
+// EvolveStats describes the work of Evolve.
+type EvolveStats struct {
+	Steps, Rejected int     // accepted and rejected steps
+	Factorizations  int     // of M + (γh/2)K
+	Unknowns        int     // of the grid
+	MinStep         float64 // smallest and largest accepted step
+	MaxStep         float64
+	// ErrEstimate is the largest estimated local error of an accepted step
+	// in the norm of Settings.Tol (≤ 1 when adaptive).
+	ErrEstimate float64
+	Time        time.Duration
+}
+
+// minShare: a step's local error may use at least 1/minShare of the
+// tolerance (see evolveGrid).
+const minShare = 200
+
+// trGamma is γ = 2 − √2 of TR-BDF2.
+var trGamma = 2 - math.Sqrt2
+
+// Evolve solves the transient problem
+//
+//	ρ ∂_t u = ∂_x(a ∂_x u) + b ∂_x u − c u + f   on the edges,
+//	Σ J + β u + ρ_v ∂_t u = γ                     at balance nodes,
+//	u = g(t)                                       at fixed nodes,
+//
+// from the network's initial field up to Settings.Until
+// (docs/time-and-spectrum.md). The grid method discretises the edges by
+// finite volumes and steps with TR-BDF2 (Bank et al., IEEE Trans. CAD 4
+// (1985) 436; Hosea & Shampine, Appl. Numer. Math. 20 (1996) 21 — both from
+// memory): second order, L-stable, both stages with the matrix M + (γh/2)K,
+// whose factorisations are kept for the last few step sizes; the local
+// error is estimated from the third divided difference of the stages and
+// filtered by that matrix (Hosea & Shampine), and drives the step size.
+// The exact method is in evolveExact.
+func Evolve(net *Network, set *EvolveSettings) (*EvolveResult, error) {
+	if set == nil {
+		return nil, errors.New("evolve: no settings (Until is required)")
+	}
+	s := *set
+	if !(s.Until > 0) || math.IsInf(s.Until, 0) {
+		return nil, fmt.Errorf("until = %g must be a finite number > 0", s.Until)
+	}
+	if s.Every < 0 || math.IsNaN(s.Every) || math.IsInf(s.Every, 0) {
+		return nil, fmt.Errorf("every = %g must be a finite number ≥ 0", s.Every)
+	}
+	if s.Tol == 0 {
+		s.Tol = 1e-4
+	}
+	if !(s.Tol > 0) || s.Step < 0 || math.IsNaN(s.Step) {
+		return nil, fmt.Errorf("tol = %g and step = %g must be > 0 and ≥ 0", s.Tol, s.Step)
+	}
+	if s.Crossing != 0 && !(s.Crossing > 0 && s.Crossing < 1) {
+		return nil, fmt.Errorf("crossing = %g must be between 0 and 1", s.Crossing)
+	}
+	if s.Context == nil {
+		s.Context = context.Background()
+	}
+	if err := linearTimeInvariant(net, "evolve"); err != nil {
+		return nil, err
+	}
+	t0 := time.Now()
+	var res *EvolveResult
+	var err error
+	if s.Method == MethodExact {
+		res, err = evolveExact(net, &s)
+	} else {
+		res, err = evolveGrid(net, &s)
+	}
+	if res != nil {
+		res.Stats.Time = time.Since(t0)
+	}
+	return res, err
+}
+
+// outputTimes returns 0, every, 2·every, …, until (until always last).
+func outputTimes(every, until float64) []float64 {
+	ts := []float64{0}
+	if every <= 0 {
+		return append(ts, until)
+	}
+	for k := 1; ; k++ {
+		t := float64(k) * every
+		if t >= until*(1-1e-12) {
+			break
+		}
+		ts = append(ts, t)
+	}
+	return append(ts, until)
+}
+
+// stepFactor is a factorisation of M + (γh/2)K for one step size.
+type stepFactor struct {
+	h   float64
+	fac *nodesys.Factor[float64]
+	mat *nodesys.Matrix[float64]
+	use int
+}
+
+// tridf2 holds the state of the TR-BDF2 integrator on an fvSystem.
+type trbdf2 struct {
+	sys     *fvSystem
+	cache   []*stepFactor
+	facts   int
+	g0, g1  []float64 // −K u + r at the step's ends
+	gg      []float64 // at the TR stage
+	rhs, tm []float64
+	rn      []float64 // r(t) scratch
+}
+
+const keepFactors = 4
+
+// factorFor returns the factorisation for step h, from the cache or new
+// (evicting the least used).
+func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
+	for _, f := range ig.cache {
+		if f.h == h {
+			f.use++
+			return f, nil
+		}
+	}
+	var f *stepFactor
+	if len(ig.cache) < keepFactors {
+		f = &stepFactor{mat: nodesys.NewMatrix[float64](ig.sys.n), fac: nodesys.NewFactor[float64](nil)}
+		ig.cache = append(ig.cache, f)
+	} else {
+		f = ig.cache[0]
+		for _, c := range ig.cache[1:] {
+			if c.use < f.use {
+				f = c
+			}
+		}
+	}
+	f.h, f.use = h, 1
+	// M + (γh/2)K into f.mat: copy K's entries, scaled, then the diagonal.
+	sys := ig.sys
+	d := trGamma * h / 2
+	f.mat.ZeroValues()
+	for i := 0; i < sys.n; i++ {
+		f.mat.Add(i, i, sys.M[i])
+	}
+	for k, i := range sys.kI {
+		f.mat.Add(i, sys.kJ[k], d*sys.kV[k])
+	}
+	ig.facts++
+	if err := f.fac.Factorize(f.mat); err != nil {
+		f.h = math.NaN()
+		return nil, err
+	}
+	return f, nil
+}
+
+// residual sets dst = −K u + r(t).
+func (ig *trbdf2) residual(dst, u []float64, t float64) {
+	ig.sys.mulK(dst, u)
+	ig.sys.load(ig.rn, t)
+	for i := range dst {
+		dst[i] = ig.rn[i] - dst[i]
+	}
+}
+
+// step advances u (g0 = −K u + r(t) given) by h. It writes the TR stage
+// into ug, the new value into u1, g1 and the filtered error estimate into
+// est.
+func (ig *trbdf2) step(u, ug, u1, est []float64, t, h float64) error {
+	sys := ig.sys
+	f, err := ig.factorFor(h)
+	if err != nil {
+		return err
+	}
+	g := trGamma
+	d := g * h / 2
+	M := sys.M
+	// TR stage: (M + dK) u_γ = M u_n + d(g_n + r_γ)   [since −dK u_n = d(g_n − r_n)]
+	sys.load(ig.rn, t+g*h)
+	for i := range ig.rhs {
+		ig.rhs[i] = M[i]*u[i] + d*(ig.g0[i]+ig.rn[i])
+	}
+	f.fac.SolveTo(ug, ig.rhs)
+	ig.residual(ig.gg, ug, t+g*h)
+	// BDF2 stage: (M + dK) u_{n+1} = [M u_γ − (1−γ)² M u_n]/(γ(2−γ)) + d r_{n+1}
+	sys.load(ig.rn, t+h)
+	c := 1 / (g * (2 - g))
+	q := (1 - g) * (1 - g)
+	for i := range ig.rhs {
+		ig.rhs[i] = c*M[i]*(ug[i]-q*u[i]) + d*ig.rn[i]
+	}
+	f.fac.SolveTo(u1, ig.rhs)
+	ig.residual(ig.g1, u1, t+h)
+	// Error: 2k h f[0,γ,1], k = (−3γ² + 4γ − 2)/(12(2 − γ)), filtered by
+	// (M + dK)⁻¹ M (in terms of g = M f, the M cancels).
+	k := (-3*g*g + 4*g - 2) / (12 * (2 - g))
+	for i := range ig.rhs {
+		ig.rhs[i] = 2 * k * h * (ig.g0[i]/g - ig.gg[i]/(g*(1-g)) + ig.g1[i]/(1-g))
+	}
+	f.fac.SolveTo(est, ig.rhs)
+	return nil
+}
+
+// evolveGrid runs TR-BDF2 on the finite-volume grid.
+func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
+	maxU := int64(s.MaxGridUnknowns)
+	if maxU == 0 {
+		maxU = DefaultMaxGridUnknowns
+	}
+	sys, err := newFV(net, s.Cells, maxU)
+	if err != nil {
+		return nil, err
+	}
+	n := sys.n
+	ig := &trbdf2{sys: sys, g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
+		rhs: make([]float64, n), tm: make([]float64, n), rn: make([]float64, n)}
+	u := make([]float64, n)
+	ug := make([]float64, n)
+	u1 := make([]float64, n)
+	est := make([]float64, n)
+	nodeVals := sys.initial(u)
+	res := &EvolveResult{Status: Converged, Probes: make([][]float64, len(s.Probes))}
+	res.Stats.Unknowns = n
+	res.Stats.MinStep = math.Inf(1)
+
+	// Error weights: Tol·(|u_i| + scale).
+	scale := 0.0
+	for _, v := range u {
+		scale = math.Max(scale, math.Abs(v))
+	}
+	for _, v := range nodeVals {
+		scale = math.Max(scale, math.Abs(v))
+	}
+	if scale == 0 {
+		scale = 1
+	}
+
+	// Crossing levels from the steady solution at t = 0 data.
+	var level, start []float64
+	var crossed []bool
+	if s.Crossing > 0 {
+		sol, err := Solve(net, &Settings{Method: MethodGrid, Cells: s.Cells})
+		if err != nil {
+			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
+		}
+		res.Steady = make([]float64, len(s.Probes))
+		res.Crossing = make([]float64, len(s.Probes))
+		level = make([]float64, len(s.Probes))
+		start = make([]float64, len(s.Probes))
+		crossed = make([]bool, len(s.Probes))
+		for k, p := range s.Probes {
+			res.Steady[k] = sol.At(p)
+			start[k] = sys.at(u, p, 0)
+			level[k] = start[k] + s.Crossing*(res.Steady[k]-start[k])
+			res.Crossing[k] = math.NaN()
+		}
+	}
+
+	record := func(t float64, v []float64) {
+		res.Times = append(res.Times, t)
+		for k, p := range s.Probes {
+			res.Probes[k] = append(res.Probes[k], sys.at(v, p, t))
+		}
+		if s.Fields {
+			sn := Snapshot{T: t, Nodes: make([]float64, len(net.Nodes)), Edges: make([][]float64, len(net.Edges))}
+			for nd := range net.Nodes {
+				sn.Nodes[nd] = sys.at(v, Point{Node: nd, Edge: -1}, t)
+			}
+			for e := range net.Edges {
+				sn.Edges[e] = sys.edgeField(v, e, t)
+			}
+			res.Snapshots = append(res.Snapshots, sn)
+		}
+	}
+	outs := outputTimes(s.Every, s.Until)
+	next := 1 // index of the next output time
+	record(0, u)
+	tmp := make([]float64, n)
+	// interpolate writes into tmp the field at fraction θ of the step from
+	// u (t) through ug (t + γh) to u1 (t + h): the quadratic through the
+	// stages, second order like the method.
+	interpolate := func(th float64) {
+		g := trGamma
+		l0 := (th - g) * (th - 1) / g
+		lg := th * (th - 1) / (g * (g - 1))
+		l1 := th * (th - g) / (1 - g)
+		for i := range tmp {
+			tmp[i] = l0*u[i] + lg*ug[i] + l1*u1[i]
+		}
+	}
+
+	// Step sizes are Until·2^(−k/2) (adaptive), so that sizes repeat and
+	// their factorisations are reused.
+	quantize := func(x float64) float64 {
+		k := math.Ceil(-2 * math.Log2(x/s.Until))
+		return s.Until * math.Pow(2, -k/2)
+	}
+	// The error norm grows like h² (h³ where the share is at its floor).
+	expo := func(hs float64) float64 {
+		if hs/s.Until >= 1.0/minShare {
+			return -0.5
+		}
+		return -1.0 / 3
+	}
+	h := s.Step
+	adaptive := h == 0
+	if adaptive {
+		h = quantize(s.Until * 1e-4)
+	}
+	t := 0.0
+	ig.residual(ig.g0, u, 0)
+	lastProgress := time.Now()
+	for t < s.Until {
+		if s.Context.Err() != nil {
+			res.Status = IterationLimit
+			break
+		}
+		hs := h
+		landing := false
+		if t+hs >= s.Until*(1-1e-13) {
+			hs = s.Until - t
+			landing = true
+		}
+		if err := ig.step(u, ug, u1, est, t, hs); err != nil {
+			return nil, fmt.Errorf("at t = %g, step %g: %w", t, hs, err)
+		}
+		// Error per unit step: the local error of a step may use the share
+		// hs/T of the tolerance, so that the local errors of all steps add
+		// up to about Tol (the global error of the time stepping), but at
+		// least 1/minShare of it: the short steps of an initial layer (a
+		// step response) would otherwise be held to a bound far below what
+		// their errors, which decay with the layer, contribute at later
+		// times.
+		errNorm := 0.0
+		share := math.Max(hs/s.Until, 1.0/minShare)
+		for i, e := range est {
+			w := s.Tol * share * (math.Abs(u1[i]) + scale)
+			errNorm += (e / w) * (e / w)
+		}
+		errNorm = math.Sqrt(errNorm / float64(max(n, 1)))
+		if math.IsNaN(errNorm) {
+			return nil, fmt.Errorf("at t = %g: the field is not finite (step %g)", t, hs)
+		}
+		if adaptive && errNorm > 1 {
+			res.Stats.Rejected++
+			h = quantize(hs * math.Max(0.2, 0.9*math.Pow(errNorm, expo(hs))))
+			if h < s.Until*1e-14 {
+				return nil, fmt.Errorf("at t = %g: step size underflow (%g)", t, h)
+			}
+			continue
+		}
+		// Accepted.
+		res.Stats.Steps++
+		res.Stats.ErrEstimate = math.Max(res.Stats.ErrEstimate, errNorm)
+		res.Stats.MinStep = math.Min(res.Stats.MinStep, hs)
+		res.Stats.MaxStep = math.Max(res.Stats.MaxStep, hs)
+		if crossed != nil {
+			for k, p := range s.Probes {
+				if crossed[k] {
+					continue
+				}
+				a, m, b := sys.at(u, p, t), sys.at(ug, p, t+trGamma*hs), sys.at(u1, p, t+hs)
+				if tc, ok := crossingIn(a, m, b, level[k], start[k]); ok {
+					crossed[k] = true
+					res.Crossing[k] = t + tc*hs
+				}
+			}
+		}
+		tEnd := t + hs
+		if landing {
+			tEnd = s.Until
+		}
+		// Output times inside this step, by interpolation.
+		if s.Every > 0 {
+			for next < len(outs)-1 && outs[next] <= tEnd {
+				interpolate((outs[next] - t) / hs)
+				record(outs[next], tmp)
+				next++
+			}
+		}
+		t = tEnd
+		u, u1 = u1, u
+		ig.g0, ig.g1 = ig.g1, ig.g0
+		if s.Every == 0 || landing {
+			record(t, u)
+		}
+		if adaptive {
+			ratio := 0.9 * math.Pow(math.Max(errNorm, 1e-10), expo(hs))
+			if !landing || hs >= h {
+				h = quantize(hs * math.Min(ratio, 2))
+			}
+		}
+		if s.Progress != nil && time.Since(lastProgress) > 100*time.Millisecond {
+			s.Progress(t, s.Until)
+			lastProgress = time.Now()
+		}
+	}
+	if s.Progress != nil {
+		s.Progress(t, s.Until)
+	}
+	res.Stats.Factorizations = ig.facts
+	return res, nil
+}
+
+// crossingIn returns the fraction τ ∈ (0, 1] of a step at which the
+// quadratic through (0, a), (γ, m), (1, b) first reaches level, moving away
+// from start, if it does within the step.
+func crossingIn(a, m, b, level, start float64) (float64, bool) {
+	up := level >= start
+	reached := func(v float64) bool {
+		if up {
+			return v >= level
+		}
+		return v <= level
+	}
+	if reached(a) {
+		return 0, true
+	}
+	if !reached(b) && !reached(m) {
+		return 0, false
+	}
+	// p(τ) = a + c1 τ + c2 τ², through the three points.
+	g := trGamma
+	// divided differences
+	d1 := (m - a) / g
+	d2 := ((b-m)/(1-g) - d1) / 1
+	// p(τ) = a + d1 τ + d2 τ(τ − γ)
+	c1 := d1 - d2*g
+	c2 := d2
+	// first root of p(τ) − level in (0, 1]: bisection on the quadratic
+	p := func(x float64) float64 { return a + c1*x + c2*x*x }
+	lo, hi := 0.0, 1.0
+	if reached(m) {
+		hi = g
+	}
+	for range 60 {
+		mid := 0.5 * (lo + hi)
+		if reached(p(mid)) {
+			hi = mid
+		} else {
+			lo = mid
+		}
+	}
+	return hi, true
+}
