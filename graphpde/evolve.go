@@ -327,7 +327,9 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		start = make([]float64, len(s.Probes))
 		crossed = make([]bool, len(s.Probes))
 		for k, p := range s.Probes {
-			res.Steady[k] = sol.At(p)
+			if res.Steady[k], err = sol.At(p); err != nil {
+				return nil, err
+			}
 			start[k] = sys.at(u, p, 0)
 			level[k] = start[k] + s.Crossing*(res.Steady[k]-start[k])
 			res.Crossing[k] = math.NaN()
