@@ -60,16 +60,21 @@ type ExitStats struct {
 	// Killed is the probability of being killed before absorption,
 	// 1 − Σ Hit.
 	Killed float64
-	// Moments[n−1] = E τⁿ, n = 1 … Settings.Moments.
+	// Moments[n−1] = E τⁿ, n = 1 … Settings.Moments. Moments beyond the
+	// first and SD are NaN, with a note, when they could not be computed
+	// reliably (a Cauchy integral that does not reproduce the mean, or
+	// E τ² < (E τ)² beyond rounding).
 	Moments  []float64
 	Mean, SD float64
 	// Occupation[e] is the expected time spent inside edge e before death.
 	// The rest of the mean is held in node capacities.
 	Occupation []float64
-	// Survival holds P(τ > t) at Settings.Times, in their order.
+	// Survival holds P(τ > t) at Settings.Times, in their order; P is NaN
+	// (with a note) where the inversion could not be verified, and every P
+	// is NaN when the values are not non-increasing in t.
 	Survival []TimeProb
 	// Quantiles holds the lifetime quantiles, in the order of
-	// Settings.Quantiles.
+	// Settings.Quantiles; NaN (with a note) like Survival.
 	Quantiles []Quantile
 	// HasDistribution reports whether the law of τ (Survival, Quantiles,
 	// SurvivalAt) is available. It is true on both paths; on the grid path
@@ -96,8 +101,12 @@ type ExitStats struct {
 // factorisations, O(edges) each on a tree, later calls in the same octave
 // O(InversionNodes). On the grid path each new t costs 16 grid solves
 // (Gaver–Stehfest, about 1e−5). It is safe for concurrent use (calls are
-// serialised). It returns an error when HasDistribution is false or a
-// transform evaluation fails.
+// serialised). When the lifetime is nearly a delay (strong drift) the
+// transform of τ − T_s is inverted instead (findDelay); the result is NaN
+// where the inversion cannot be verified (contours that disagree, a value
+// far outside [0, 1], a transform that overflows on the contour). It
+// returns an error when HasDistribution is false or a transform evaluation
+// fails.
 func (x *ExitStats) SurvivalAt(t float64) (float64, error) {
 	if x.law == nil {
 		return 0, errors.New("the law of the lifetime is not available (see Notes)")
@@ -254,6 +263,9 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		if err := x.gridStatistics(net, start, &s); err != nil {
 			return nil, fail("grid path", err)
 		}
+		if err := x.law.findDelay(x.Mean); err != nil {
+			return nil, fail("lifetime distribution", err)
+		}
 		x.HasDistribution = true
 		if err := x.fillDistribution(&s); err != nil {
 			return nil, fail("lifetime distribution", err)
@@ -287,13 +299,20 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 	if err := x.moments(sys.supMean(T1)); err != nil {
 		return nil, fail("moments", err)
 	}
+	if err := x.law.findDelay(x.Mean); err != nil {
+		return nil, fail("lifetime distribution", err)
+	}
 	x.HasDistribution = true
 	if err := x.fillDistribution(&s); err != nil {
 		return nil, fail("lifetime distribution", err)
 	}
 	x.Transforms = x.law.tr.n
 	if len(x.law.suspects) > 0 {
-		x.Notes = append(x.Notes, fmt.Sprintf("the law of τ is unreliable for t in %v: drift or skewed weights around a cycle give complex decay rates that the Talbot contours do not enclose (contours disagree by up to %.2g)", x.law.suspects, x.law.worst))
+		why := "drift or skewed weights around a cycle give complex decay rates that the Talbot contours do not enclose"
+		if x.law.delay > 0 {
+			why = "the lifetime is nearly a delay (strong drift) and the inversion of the shifted transform could not be verified"
+		}
+		x.Notes = append(x.Notes, fmt.Sprintf("the law of τ is unreliable for t in %v and is not reported there (NaN): %s (contours disagree by up to %.2g)", x.law.suspectTimes(), why, x.law.worst))
 	}
 	return x, nil
 }
@@ -394,7 +413,13 @@ func (x *ExitStats) moments(sup float64) error {
 			break
 		}
 		if try == 5 {
-			x.Notes = append(x.Notes, fmt.Sprintf("moments: the Cauchy integral did not reproduce the mean (%.10g vs %.10g); higher moments are unreliable", -coef[1], x.Mean))
+			x.Notes = append(x.Notes, fmt.Sprintf("moments: the Cauchy integral did not reproduce the mean (%.10g vs %.10g); the higher moments and the standard deviation are not reported (NaN)", -coef[1], x.Mean))
+			for k := 1; k < n; k++ {
+				x.Moments[k] = math.NaN()
+			}
+			x.Moments[0] = x.Mean
+			x.SD = math.NaN()
+			return nil
 		}
 		R /= 4
 	}
@@ -408,11 +433,37 @@ func (x *ExitStats) moments(sup float64) error {
 		x.Moments[k-1] = m
 	}
 	x.Moments[0] = x.Mean
-	x.SD = math.Sqrt(math.Max(0, x.Moments[1]-x.Mean*x.Mean))
+	x.setSD(momentAgreement)
 	return nil
 }
 
-// fillDistribution fills Survival and Quantiles.
+// setSD sets SD from the first two moments, or NaN with a note when
+// E τ² < (E τ)² beyond the relative accuracy rel of the moments (rounding
+// can make a tiny variance slightly negative, which is reported as 0).
+func (x *ExitStats) setSD(rel float64) {
+	m1, m2 := x.Moments[0], x.Moments[1]
+	v := m2 - m1*m1
+	switch {
+	case math.IsNaN(v):
+		x.SD = math.NaN()
+	case v >= 0:
+		x.SD = math.Sqrt(v)
+	case -v <= 4*rel*m2:
+		x.SD = 0
+	default:
+		x.SD = math.NaN()
+		for k := 1; k < len(x.Moments); k++ {
+			x.Moments[k] = math.NaN()
+		}
+		x.Notes = append(x.Notes, fmt.Sprintf("moments: E τ² = %.6g is below (E τ)² = %.6g, so the higher moments and the standard deviation are not reported (NaN)", m2, m1*m1))
+	}
+}
+
+// fillDistribution fills Survival and Quantiles, then checks what no
+// correct law can violate: P(τ > t) non-increasing in t and quantiles
+// non-decreasing in p (values are in [0, 1] by survival). A violation
+// beyond the inversion's accuracy turns the whole list into NaN with a
+// note.
 func (x *ExitStats) fillDistribution(s *ExitSettings) error {
 	x.Survival = make([]TimeProb, len(s.Times))
 	for i, t := range s.Times {
@@ -430,7 +481,147 @@ func (x *ExitStats) fillDistribution(s *ExitSettings) error {
 		}
 		x.Quantiles[i] = Quantile{P: p, T: t}
 	}
+	var nanT, nanP []float64
+	for _, sp := range x.Survival {
+		if math.IsNaN(sp.P) {
+			nanT = append(nanT, sp.T)
+		}
+	}
+	for _, q := range x.Quantiles {
+		if math.IsNaN(q.T) {
+			nanP = append(nanP, q.P)
+		}
+	}
+	if len(nanT)+len(nanP) > 0 {
+		x.Notes = append(x.Notes, fmt.Sprintf("the Laplace inversion could not be verified for P(τ > t) at t = %v and the quantiles %v (the law is too sharp or has complex decay rates there): those are not reported (NaN)", nanT, nanP))
+	}
+	tol := x.law.tolerance()
+	for i := range x.Survival {
+		for j := range x.Survival {
+			a, b := x.Survival[i], x.Survival[j]
+			if a.T < b.T && a.P < b.P-tol {
+				x.Notes = append(x.Notes, fmt.Sprintf("P(τ > t) from the Laplace inversion increases from t = %g to %g (%.6g to %.6g): the survival values are not reported (NaN)", a.T, b.T, a.P, b.P))
+				for k := range x.Survival {
+					x.Survival[k].P = math.NaN()
+				}
+				break
+			}
+		}
+	}
+	for i := range x.Quantiles {
+		for j := range x.Quantiles {
+			a, b := x.Quantiles[i], x.Quantiles[j]
+			if a.P < b.P && a.T > b.T*(1+tol) {
+				x.Notes = append(x.Notes, fmt.Sprintf("the quantiles from the Laplace inversion are out of order (%g: %.6g, %g: %.6g): they are not reported (NaN)", a.P, a.T, b.P, b.T))
+				for k := range x.Quantiles {
+					x.Quantiles[k].T = math.NaN()
+				}
+				break
+			}
+		}
+	}
 	return nil
+}
+
+// delayMass is the probability the shifted inversion may ignore: the
+// lifetime is below the delay T_s with at most this probability, and
+// P(τ > t) is reported as 1 for t ≤ T_s.
+const delayMass = 1e-14
+
+// minDelay is the delay, relative to the mean, from which the inversion is
+// shifted: below it the law is not delay-like and the plain contours work.
+const minDelay = 0.25
+
+// findDelay finds a time T_s below which the lifetime lies with probability
+// at most delayMass, by the Chernoff bound P(τ ≤ T) ≤ e^{sT}·E e^{−sτ} for
+// every s > 0 (derived from Markov's inequality applied to e^{−sτ}):
+//
+//	T_s = max_s (ln delayMass − ln L(s))/s
+//
+// over s = 2^k/mean, k = 0 … 40 (L at real s; the maximum of this unimodal
+// function is approached from below, so a coarse lattice only gives a
+// smaller, still valid T_s). With a strong drift towards the exit the
+// lifetime is nearly a delay (inverse Gaussian with a small coefficient of
+// variation: T_s ≈ mean − 6.5 sd at Péclet number 500) and L(s) ≈ e^{−s·mean}
+// for moderate s, which no contour of fixed shape inverts in float64
+// (e^{s(t − mean)} grows on the left half of the contour for t < mean).
+// When T_s ≥ minDelay·mean, the law is inverted for τ − T_s instead: the
+// transform e^{sT_s}L(s), times t − T_s, and octave windows from
+// mean − T_s; every window is then also checked on a second contour.
+func (lw *lifetimeLaw) findDelay(mean float64) error {
+	if lw.zero || !(mean > 0) || math.IsInf(mean, 0) {
+		return nil
+	}
+	logEps := math.Log(delayMass)
+	best := math.Inf(-1)
+	down := 0
+	for k := 0; k <= 40; k++ {
+		s := math.Exp2(float64(k)) / mean
+		L, err := lw.realValue(s)
+		if err != nil {
+			return err
+		}
+		if !(L > 1e-280) || L > 1 {
+			break
+		}
+		lw.chernoff = append(lw.chernoff, [2]float64{s, math.Log(L)})
+		phi := (logEps - math.Log(L)) / s
+		if phi > best {
+			best, down = phi, 0
+		} else if best > 0 {
+			if down++; down == 3 {
+				break
+			}
+		}
+	}
+	if best >= minDelay*mean && best < mean {
+		lw.delay = best
+		lw.base = mean - best
+		lw.check = true
+	}
+	return nil
+}
+
+// realValue returns L(s) at a real s > 0 on either path. The caller must
+// not hold lw.mu.
+func (lw *lifetimeLaw) realValue(s float64) (float64, error) {
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	if lw.real != nil {
+		return lw.real(s)
+	}
+	v, err := lw.tr.at(complex(s, 0))
+	return real(v), err
+}
+
+// shifted returns e^{s·delay}·L, the transform of τ − delay, without
+// overflow (L = 0 stays 0: the mass the shift ignores is below delayMass).
+func (lw *lifetimeLaw) shifted(s, L complex128) complex128 {
+	if lw.delay == 0 {
+		return L
+	}
+	if L == 0 {
+		return 0
+	}
+	return cmplx.Exp(s*complex(lw.delay, 0) + cmplx.Log(L))
+}
+
+// tolerance is the accuracy of the inversion, with a margin: what the
+// consistency checks of fillDistribution allow.
+func (lw *lifetimeLaw) tolerance() float64 {
+	if lw.real != nil {
+		return stehfestQuantileTol * 50
+	}
+	return 1e-7
+}
+
+// suspectTimes returns the windows whose contours disagree, in times of τ.
+func (lw *lifetimeLaw) suspectTimes() [][2]float64 {
+	out := make([][2]float64, len(lw.suspects))
+	for i, w := range lw.suspects {
+		out[i] = [2]float64{w[0] + lw.delay, w[1] + lw.delay}
+	}
+	return out
 }
 
 // lifetimeLaw evaluates the law of τ from its Laplace transform. Times are
@@ -452,14 +643,44 @@ type lifetimeLaw struct {
 
 	real     func(s float64) (float64, error)
 	stehfest []float64
-	cache    map[float64][2]float64
+	// stehfestCheck are the weights of a shorter Gaver–Stehfest sum on the
+	// first of the same shifts: where the two differ by more than
+	// stehfestAgreement the law is too sharp for the method and the value
+	// is NaN.
+	stehfestCheck []float64
+	cache         map[float64][2]float64
 
 	// check: evaluate every window also on a check contour, climbing the
 	// levels of laplace.TalbotWindowLevel until the two agree, and record
 	// where they never do (non-reversible problems only).
 	check    bool
-	suspects [][2]float64 // windows [t0, 2t0] whose contours disagree
+	suspects [][2]float64 // windows [t0, 2t0] whose contours disagree (times of τ − delay)
 	worst    float64      // largest disagreement seen
+
+	// delay is T_s of findDelay (0 when not shifted): the law is inverted
+	// for τ − delay.
+	delay float64
+	// chernoff holds (s, ln L(s)) at the real shifts findDelay evaluated:
+	// P(τ ≤ t) ≤ min e^{st + ln L(s)} (see leftTail).
+	chernoff [][2]float64
+}
+
+// leftTailTol is the probability below which leftTail reports P(τ > t) = 1:
+// the accuracy of the Talbot inversion (about 1e−11) with a margin.
+const leftTailTol = 1e-10
+
+// leftTail reports whether the Chernoff bound of findDelay puts
+// P(τ ≤ t) below leftTailTol, so that P(τ > t) = 1 to that accuracy
+// without an inversion (far in the left tail the shifted transform is
+// needed at |s| so large that its values lose their digits).
+func (lw *lifetimeLaw) leftTail(t float64) bool {
+	lt := math.Log(leftTailTol)
+	for _, c := range lw.chernoff {
+		if c[0]*t+c[1] <= lt {
+			return true
+		}
+	}
+	return false
 }
 
 // contourAgreement is the largest difference between the window and check
@@ -472,6 +693,7 @@ const contourAgreement = 2e-7
 type lawWindow struct {
 	c      laplace.Contour
 	fl, fs []complex128
+	bad    bool // the check contour disagrees: values here are not reported
 }
 
 // window returns the octave window that contains t > 0, computing it if
@@ -512,6 +734,10 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 		if err != nil {
 			return nil, err
 		}
+		if w.bad || wc.bad {
+			d = math.Inf(1)
+			continue
+		}
 		d = 0
 		for _, tt := range []float64{t0, t0 * math.Sqrt2, 2 * t0} {
 			d = math.Max(d, math.Abs(w.c.Apply(tt, w.fs)-wc.c.Apply(tt, wc.fs)))
@@ -523,6 +749,7 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 	lw.worst = math.Max(lw.worst, d)
 	if d > contourAgreement {
 		lw.suspects = append(lw.suspects, [2]float64{t0, 2 * t0})
+		w.bad = true
 	}
 	lw.store(k, w)
 	return w, nil
@@ -534,9 +761,17 @@ func (lw *lifetimeLaw) evalWindow(c laplace.Contour) (*lawWindow, error) {
 	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
 	for j, s := range c.S {
 		L, err := lw.tr.at(s)
+		if err != nil && lw.delay > 0 {
+			// The shifted inversion reaches far into the left half
+			// plane, where the transform itself may overflow: the
+			// window is not reported.
+			w.bad = true
+			return w, nil
+		}
 		if err != nil {
 			return nil, err
 		}
+		L = lw.shifted(s, L)
 		w.fl[j] = L
 		w.fs[j] = (1 - L) / s
 	}
@@ -589,9 +824,10 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	if lw.zero {
 		return 0, 0, nil
 	}
-	if t <= 0 {
+	if t <= lw.delay || (lw.delay > 0 && lw.leftTail(t)) {
 		return 1, 0, nil
 	}
+	t -= lw.delay
 	lw.mu.Lock()
 	defer lw.mu.Unlock()
 	if lw.real != nil {
@@ -601,7 +837,15 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	if err != nil {
 		return math.NaN(), math.NaN(), err
 	}
-	S = math.Min(1, math.Max(0, w.c.Apply(t, w.fs)))
+	if w.bad {
+		return math.NaN(), math.NaN(), nil
+	}
+	S = w.c.Apply(t, w.fs)
+	if S < -clampSlack || S > 1+clampSlack {
+		// Far outside [0, 1]: the inversion failed here.
+		return math.NaN(), math.NaN(), nil
+	}
+	S = math.Min(1, math.Max(0, S))
 	return S, w.c.Apply(t, w.fl), nil
 }
 
@@ -614,6 +858,17 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 // bisects noise. quantileWidth is the relative width of the bracket at which
 // the search stops in any case.
 const (
+	// clampSlack is how far outside [0, 1] an inverted P(τ > t) may fall
+	// and still be clamped (the Talbot error is about 1e−11; Gaver–Stehfest
+	// about 1e−5); beyond it the value is NaN.
+	clampSlack         = 1e-6
+	stehfestClampSlack = 1e-3
+	// stehfestAgreement: Gaver–Stehfest with 16 and with stehfestCheckN
+	// terms differ by about 1e−4 on smooth laws (measured on the grid
+	// tests); a larger difference means the law is too sharp (strong drift)
+	// for real-axis inversion.
+	stehfestAgreement   = 1e-3
+	stehfestCheckN      = 12
 	quantileTol         = 1e-9
 	stehfestQuantileTol = 2e-5
 	quantileWidth       = 1e-12
@@ -636,58 +891,74 @@ func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
 	}
 	y := 1 - p
 	lo, hi := mean, mean
-	slo, _, err := lw.survival(mean)
-	if err != nil {
-		return 0, err
-	}
-	shi := slo
-	const maxOctaves = 200 // t from mean·2^−200 to mean·2^200
-	if slo > y {
-		for k := 1; shi > y; k++ {
-			if k > maxOctaves {
-				return 0, fmt.Errorf("quantile %g: P(τ > t) stays above %g up to t = %g", p, y, hi)
-			}
-			lo, slo = hi, shi
-			hi = mean * math.Exp2(float64(k))
-			if shi, _, err = lw.survival(hi); err != nil {
-				return 0, err
-			}
+	// surv is lw.survival; a NaN (an unverified inversion) ends the search
+	// with a NaN quantile.
+	errNaN := errors.New("NaN")
+	surv := func(t float64) (float64, float64, error) {
+		S, d, err := lw.survival(t)
+		if err == nil && math.IsNaN(S) {
+			err = errNaN
 		}
-	} else {
-		for k := 1; slo <= y; k++ {
-			if k > maxOctaves {
-				return 0, fmt.Errorf("quantile %g: P(τ > t) stays below %g down to t = %g", p, y, lo)
-			}
-			hi, shi = lo, slo
-			lo = mean * math.Exp2(-float64(k))
-			if slo, _, err = lw.survival(lo); err != nil {
-				return 0, err
-			}
-		}
+		return S, d, err
 	}
-	// Start from linear interpolation in log t.
-	t := math.Exp(math.Log(lo) + (slo-y)/(slo-shi)*math.Log(hi/lo))
-	for it := 0; it < 100; it++ {
-		st, ft, err := lw.survival(t)
+	q, err := func() (float64, error) {
+		slo, _, err := surv(mean)
 		if err != nil {
 			return 0, err
 		}
-		if math.Abs(st-y) <= tol {
-			return t, nil
-		}
-		if st > y {
-			lo = t
+		shi := slo
+		const maxOctaves = 200 // t from mean·2^−200 to mean·2^200
+		if slo > y {
+			for k := 1; shi > y; k++ {
+				if k > maxOctaves {
+					return 0, fmt.Errorf("quantile %g: P(τ > t) stays above %g up to t = %g", p, y, hi)
+				}
+				lo, slo = hi, shi
+				hi = mean * math.Exp2(float64(k))
+				if shi, _, err = surv(hi); err != nil {
+					return 0, err
+				}
+			}
 		} else {
-			hi = t
+			for k := 1; slo <= y; k++ {
+				if k > maxOctaves {
+					return 0, fmt.Errorf("quantile %g: P(τ > t) stays below %g down to t = %g", p, y, lo)
+				}
+				hi, shi = lo, slo
+				lo = mean * math.Exp2(-float64(k))
+				if slo, _, err = surv(lo); err != nil {
+					return 0, err
+				}
+			}
 		}
-		if hi-lo <= width*hi {
-			return t, nil
+		// Start from linear interpolation in log t.
+		t := math.Exp(math.Log(lo) + (slo-y)/(slo-shi)*math.Log(hi/lo))
+		for it := 0; it < 100; it++ {
+			st, ft, err := surv(t)
+			if err != nil {
+				return 0, err
+			}
+			if math.Abs(st-y) <= tol {
+				return t, nil
+			}
+			if st > y {
+				lo = t
+			} else {
+				hi = t
+			}
+			if hi-lo <= width*hi {
+				return t, nil
+			}
+			next := t + (st-y)/ft
+			if !(ft > 0) || !(next > lo && next < hi) {
+				next = math.Sqrt(lo * hi)
+			}
+			t = next
 		}
-		next := t + (st-y)/ft
-		if !(ft > 0) || !(next > lo && next < hi) {
-			next = math.Sqrt(lo * hi)
-		}
-		t = next
+		return t, nil
+	}()
+	if err == errNaN {
+		return math.NaN(), nil
 	}
-	return t, nil
+	return q, err
 }

@@ -13,6 +13,11 @@ import (
 // NaN with a note (about a second of solves at this size).
 const gridOccupationBudget = 2e7
 
+// gridMomentRounding is the relative rounding of the grid moment hierarchy
+// allowed by setSD before a negative variance is reported as NaN (common
+// practice, no source: a few thousand ε for a chain of solves).
+const gridMomentRounding = 1e-12
+
 // componentNetwork returns a copy of the connected component of p as a
 // network of its own (nodes and edges in their original order, Profiles
 // shared), the maps from its node and edge indices to those of net, and p
@@ -206,7 +211,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		prev = snapshot(sol)
 	}
 	x.Mean = x.Moments[0]
-	x.SD = math.Sqrt(math.Max(0, x.Moments[1]-x.Mean*x.Mean))
+	x.setSD(gridMomentRounding)
 
 	// Occupations: the mean problem with the source on one edge only.
 	clear(nv.NodeInject)
@@ -274,7 +279,7 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 			return 0, err
 		}
 		return sol.at(g.start), nil
-	}, stehfest: laplace.StehfestWeights(laplace.DefaultStehfestN)}
+	}, stehfest: laplace.StehfestWeights(laplace.DefaultStehfestN), stehfestCheck: laplace.StehfestWeights(stehfestCheckN)}
 	x.Notes = append(x.Notes,
 		"grid elements: moments from the hierarchy T_n (source nρT_{n−1}), second order in the cell size",
 		fmt.Sprintf("grid elements: the law of τ by Gaver–Stehfest inversion (%d real shifts per time, error about 1e−5) of the grid transform", laplace.DefaultStehfestN))
@@ -289,17 +294,26 @@ func (lw *lifetimeLaw) stehfestAt(t float64) (S, dens float64, err error) {
 		return v[0], v[1], nil
 	}
 	a := math.Ln2 / t
+	var S2 float64 // the same with stehfestCheckN terms (the first shifts)
 	for k, w := range lw.stehfest {
 		s := float64(k+1) * a
 		L, err := lw.real(s)
 		if err != nil {
 			return math.NaN(), math.NaN(), err
 		}
+		L = real(lw.shifted(complex(s, 0), complex(L, 0)))
 		S += w * (1 - L) / s
 		dens += w * L
+		if k < len(lw.stehfestCheck) {
+			S2 += lw.stehfestCheck[k] * (1 - L) / s
+		}
 	}
-	S, dens = a*S, a*dens
-	S = math.Min(1, math.Max(0, S))
+	S, dens, S2 = a*S, a*dens, a*S2
+	if S < -stehfestClampSlack || S > 1+stehfestClampSlack || math.Abs(S-S2) > stehfestAgreement {
+		S, dens = math.NaN(), math.NaN() // the inversion failed here
+	} else {
+		S = math.Min(1, math.Max(0, S))
+	}
 	if lw.cache == nil {
 		lw.cache = make(map[float64][2]float64)
 	}

@@ -130,16 +130,23 @@ func exitJSON(net *graphpde.Network, from string, x *graphpde.ExitStats) exitSta
 
 func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.ExitStats) {
 	fmt.Fprintf(w, "first passage from %s (PDE)\n\n", from)
-	fmt.Fprintf(w, "exit time: mean %.6g, sd %.6g\n", x.Mean, x.SD)
+	// g prints a number, or "not reported" for NaN (see the notes).
+	g := func(format string, v float64) string {
+		if math.IsNaN(v) {
+			return "not reported"
+		}
+		return fmt.Sprintf(format, v)
+	}
+	fmt.Fprintf(w, "exit time: mean %s, sd %s\n", g("%.6g", x.Mean), g("%.6g", x.SD))
 	if len(x.Quantiles) > 0 {
 		fmt.Fprint(w, "quantiles:")
 		for _, q := range x.Quantiles {
-			fmt.Fprintf(w, "  %g: %.5g", q.P, q.T)
+			fmt.Fprintf(w, "  %g: %s", q.P, g("%.5g", q.T))
 		}
 		fmt.Fprintln(w)
 	}
 	for _, s := range x.Survival {
-		fmt.Fprintf(w, "P(τ > %g) = %.6g\n", s.T, s.P)
+		fmt.Fprintf(w, "P(τ > %g) = %s\n", s.T, g("%.6g", s.P))
 	}
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
