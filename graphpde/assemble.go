@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"slices"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
 	"github.com/ramify-dev/ramify/vertex"
@@ -58,8 +57,9 @@ type system struct {
 	unk   []int                    // node → unknown, −1 for fixed nodes
 	nodes []int                    // unknown → node
 	mat   *nodesys.Matrix[float64] // pattern from s.pattern, fixed
-	dslot []int                    // unknown → slot of its diagonal entry in mat
-	eslot [][2]int                 // edge → slots of (From,To) and (To,From), −1 at a fixed end
+	pat   *nodePattern             // numbering, pattern and slots
+	dslot []int                    // unknown → slot of its diagonal entry in mat (pat.dslot)
+	eslot [][2]int                 // edge → slots of (From,To) and (To,From), −1 at a fixed end (pat.eslot)
 	fac   *nodesys.Factor[float64]
 	rhs   []float64
 	x     []float64
@@ -240,88 +240,16 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	return s, nil
 }
 
-// pattern returns the pattern of the node system in compressed rows: row r
-// holds the diagonal and the unknowns joined to r by an edge, sorted and
-// without repeats. It records where the entries go: s.dslot[r] is the slot
-// of (r,r), s.eslot[e] the slots of edge e's entries (From row, To column)
-// and (To row, From column), −1 where an end is fixed. Cost O(nodes + edges),
-// plus sorting the rows of nodes of high degree.
+// pattern returns the pattern of the node system (newNodePattern over the
+// network's edges) and records its slots in s.dslot and s.eslot.
 func (s *system) pattern() (rowPtr, col []int) {
-	m := len(s.nodes)
-	edges := s.net.Edges
-	s.dslot = make([]int, m)
-	s.eslot = make([][2]int, len(edges))
-	rowPtr = make([]int, m+1)
-	for r := 0; r < m; r++ {
-		rowPtr[r+1] = 1
+	ends := make([][2]int, len(s.net.Edges))
+	for e := range s.net.Edges {
+		ends[e] = [2]int{s.net.Edges[e].From, s.net.Edges[e].To}
 	}
-	for e := range edges {
-		ed := &edges[e]
-		if r0, r1 := s.unk[ed.From], s.unk[ed.To]; r0 >= 0 && r1 >= 0 && r0 != r1 {
-			rowPtr[r0+1]++
-			rowPtr[r1+1]++
-		}
-	}
-	for r := 0; r < m; r++ {
-		rowPtr[r+1] += rowPtr[r]
-	}
-	// Entries tagged with their origin: −1 the diagonal, 2e and 2e+1 the
-	// From and To rows of edge e.
-	type entry struct{ col, tag int }
-	ent := make([]entry, rowPtr[m])
-	fill := make([]int, m)
-	for r := 0; r < m; r++ {
-		ent[rowPtr[r]] = entry{r, -1}
-		fill[r] = rowPtr[r] + 1
-	}
-	for e := range edges {
-		ed := &edges[e]
-		r0, r1 := s.unk[ed.From], s.unk[ed.To]
-		s.eslot[e] = [2]int{-1, -1}
-		if r0 >= 0 && r1 >= 0 && r0 != r1 {
-			ent[fill[r0]] = entry{r1, 2 * e}
-			fill[r0]++
-			ent[fill[r1]] = entry{r0, 2*e + 1}
-			fill[r1]++
-		}
-	}
-	// Sort every row, merge repeats (parallel edges) and note the slots.
-	col = make([]int, len(ent))
-	w := 0
-	start := 0
-	for r := 0; r < m; r++ {
-		c := ent[start:rowPtr[r+1]]
-		start = rowPtr[r+1]
-		if len(c) <= 16 {
-			for a := 1; a < len(c); a++ {
-				for b := a; b > 0 && c[b].col < c[b-1].col; b-- {
-					c[b], c[b-1] = c[b-1], c[b]
-				}
-			}
-		} else {
-			slices.SortFunc(c, func(x, y entry) int { return x.col - y.col })
-		}
-		for a, x := range c {
-			if a == 0 || x.col != c[a-1].col {
-				col[w] = x.col
-				w++
-			}
-			if x.tag < 0 {
-				s.dslot[r] = w - 1
-			} else {
-				s.eslot[x.tag/2][x.tag%2] = w - 1
-			}
-		}
-		rowPtr[r+1] = w
-	}
-	// A loop edge's entries are diagonal ones.
-	for e := range edges {
-		ed := &edges[e]
-		if r := s.unk[ed.From]; r >= 0 && ed.From == ed.To {
-			s.eslot[e] = [2]int{s.dslot[r], s.dslot[r]}
-		}
-	}
-	return rowPtr, col[:w:w]
+	p := newNodePattern(s.unk, s.nodes, ends)
+	s.pat, s.dslot, s.eslot = p, p.dslot, p.eslot
+	return p.rowPtr, p.col
 }
 
 // constantEdge reports whether edge ed has constant coefficients for this
@@ -480,48 +408,45 @@ func (s *system) assemble(shift float64) {
 }
 
 // addEdge adds the rows of edge e's end map (s.maps[e]) to the node system,
-// whose values (in the pattern of s.pattern) are val.
+// whose values (in the pattern of s.pattern) are val, and to s.rhs.
 func (s *system) addEdge(val []float64, e int) {
 	ed := &s.net.Edges[e]
 	m := &s.maps[e]
-	v0, v1 := ed.From, ed.To
-	r0, r1 := s.unk[v0], s.unk[v1]
+	a0, aL := ed.EndWeight(0), ed.EndWeight(1)
+	addMatrix(s.pat, val, e, a0, aL, &m.d, &m.rs, false)
+	s.addEdgeRHS(e, a0, aL)
+}
+
+// addEdgeRHS adds edge e's right-hand side terms (sources and fixed end
+// values) with end weights a0, aL.
+func (s *system) addEdgeRHS(e int, a0, aL float64) {
+	ed := &s.net.Edges[e]
+	m := &s.maps[e]
 	var g0, g1 float64 // fixed end values
-	if r0 < 0 {
-		g0 = s.fixedValue(v0)
+	if s.unk[ed.From] < 0 {
+		g0 = s.fixedValue(ed.From)
 	}
-	if r1 < 0 {
-		g1 = s.fixedValue(v1)
+	if s.unk[ed.To] < 0 {
+		g1 = s.fixedValue(ed.To)
 	}
-	sl := s.eslot[e]
-	if v0 == v1 {
-		// A self-loop: U0 = UL, so only the row sums enter.
-		if r0 >= 0 {
-			a0, aL := ed.EndWeight(0), ed.EndWeight(1)
-			val[s.dslot[r0]] += -a0*m.rs[0] + aL*m.rs[1]
-			s.rhs[r0] += a0*m.g[0] - aL*m.g[1]
+	addRHS(s.pat, s.rhs, e, a0, aL, &m.d, &m.g, g0, g1)
+}
+
+// assembleRHS recomputes the right-hand side alone from the element maps of
+// the last assemble, for new node data (Variant.NodeInject, FixedValue) with
+// the matrix and the element maps unchanged. Cost O(nodes + edges).
+func (s *system) assembleRHS() {
+	clear(s.rhs)
+	for e := range s.net.Edges {
+		ed := &s.net.Edges[e]
+		s.addEdgeRHS(e, ed.EndWeight(0), ed.EndWeight(1))
+	}
+	for r, i := range s.nodes {
+		_, rhs := s.net.Nodes[i].Law.Row(s.shift)
+		if s.v.NodeInject != nil {
+			rhs = s.v.NodeInject[i]
 		}
-		return
-	}
-	if r0 >= 0 {
-		a0 := ed.EndWeight(0)
-		val[s.dslot[r0]] += -a0 * m.d[0][0]
-		if r1 >= 0 {
-			val[sl[0]] += -a0 * m.d[0][1]
-		} else {
-			s.rhs[r0] -= -a0 * m.d[0][1] * g1
-		}
-		s.rhs[r0] += a0 * m.g[0]
-	}
-	if r1 >= 0 {
-		aL := ed.EndWeight(1)
-		if r0 >= 0 {
-			val[sl[1]] += aL * m.d[1][0]
-		} else {
-			s.rhs[r1] -= aL * m.d[1][0] * g0
-		}
-		val[s.dslot[r1]] += aL * m.d[1][1]
-		s.rhs[r1] -= aL * m.g[1]
+		s.rhs[r] += rhs
 	}
 }
 

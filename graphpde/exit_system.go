@@ -23,6 +23,7 @@ type exitSystem struct {
 	orig  []int        // system node → network node, −1 for the split point
 	unk   []int        // system node → unknown, −1 for fixed nodes
 	nUnk  int
+	pat   *nodePattern // pattern and slots of the node system
 	start int // system node of the start point
 
 	// anchored reports whether the component can absorb or kill: a fixed
@@ -111,11 +112,25 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 			sys.nUnk++
 		}
 	}
+	nodes := make([]int, 0, sys.nUnk)
+	for v, i := range sys.unk {
+		if i >= 0 {
+			nodes = append(nodes, v)
+		}
+	}
+	ends := make([][2]int, len(sys.el))
 	for k := range sys.el {
 		el := &sys.el[k]
 		el.d, el.g = exactElement(el.a, el.b, el.c, 1.0, el.L)
+		ends[k] = [2]int{el.from, el.to}
 	}
+	sys.pat = newNodePattern(sys.unk, nodes, ends)
 	return sys
+}
+
+// newMatrix returns a matrix of values over the system's pattern.
+func newMatrix[T scalar](sys *exitSystem) *nodesys.Matrix[T] {
+	return nodesys.NewMatrixPattern[T](sys.nUnk, sys.pat.rowPtr, sys.pat.col)
 }
 
 // exitLoad says which problem to assemble: the shift s (decay c + sρ on
@@ -127,23 +142,19 @@ type exitLoad[T scalar] struct {
 	fixedG func(v int) T      // value at a fixed node
 }
 
-// assemble fills m (zeroed first) and rhs with the node system of ld:
+// assemble fills m (zeroed first; made by newMatrix) and rhs with the
+// node system of ld:
 //
 //	Σ_e J_e(v) + (β_v + sρ_v) u(v) = γ_v,   J_e(v) = −α_e ∂_e u(v),
 //
-// with the fixed values moved to the right-hand side. With transpose it adds
-// every matrix entry at the transposed position (the right-hand side is then
+// with the fixed values moved to the right-hand side (addMatrix, addRHS,
+// the same assembly as the steady solve's). With transpose it adds every
+// matrix entry at the transposed position (the right-hand side is then
 // meaningless and left as the forward one). Cost O(edges + nodes).
 func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitLoad[T], transpose bool) {
 	m.ZeroValues()
 	clear(rhs)
-	add := func(i, j int, v T) {
-		if transpose {
-			m.Add(j, i, v)
-		} else {
-			m.Add(i, j, v)
-		}
-	}
+	val := m.Values()
 	var zero T
 	for k := range sys.el {
 		el := &sys.el[k]
@@ -153,44 +164,31 @@ func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitL
 			f = ld.edgeF(el)
 		}
 		d, g := exitElementT(el.a, el.b, c, f, el.L)
-		i, j := sys.unk[el.from], sys.unk[el.to]
 		w0, w1 := fromF[T](el.w0), fromF[T](el.w1)
+		var rs [2]T
+		var fix0, fix1 T
 		if el.from == el.to {
-			// A self-loop: only the row sums of its map enter (see
-			// edgeMap), as −g of the element with source c.
-			if i >= 0 {
-				_, gc := exitElementT(el.a, el.b, c, c, el.L)
-				add(i, i, w0*gc[0]-w1*gc[1])
-				rhs[i] += w0*g[0] - w1*g[1]
+			// A self-loop: only the row sums of its map enter, −g of the
+			// element with source c (see exactRowSums).
+			_, gc := exitElementT(el.a, el.b, c, c, el.L)
+			rs = [2]T{-gc[0], -gc[1]}
+		} else {
+			if sys.unk[el.from] < 0 {
+				fix0 = ld.fixedG(el.from)
 			}
-			continue
-		}
-		// From end: J = −α0 u'(0); to end: J = +α1 u'(L).
-		if i >= 0 {
-			add(i, i, -w0*d[0][0])
-			if j >= 0 {
-				add(i, j, -w0*d[0][1])
-			} else {
-				rhs[i] += w0 * d[0][1] * ld.fixedG(el.to)
+			if sys.unk[el.to] < 0 {
+				fix1 = ld.fixedG(el.to)
 			}
-			rhs[i] += w0 * g[0]
 		}
-		if j >= 0 {
-			add(j, j, w1*d[1][1])
-			if i >= 0 {
-				add(j, i, w1*d[1][0])
-			} else {
-				rhs[j] -= w1 * d[1][0] * ld.fixedG(el.from)
-			}
-			rhs[j] -= w1 * g[1]
-		}
+		addMatrix(sys.pat, val, k, w0, w1, &d, &rs, transpose)
+		addRHS(sys.pat, rhs, k, w0, w1, &d, &g, fix0, fix1)
 	}
 	for v, l := range sys.law {
 		i := sys.unk[v]
 		if i < 0 {
 			continue
 		}
-		add(i, i, fromF[T](l.Leak)+ld.s*fromF[T](l.Capacity))
+		val[sys.pat.dslot[i]] += fromF[T](l.Leak) + ld.s*fromF[T](l.Capacity)
 		if ld.nodeG != nil {
 			rhs[i] += ld.nodeG(v)
 		}
@@ -222,7 +220,7 @@ type adjoint struct {
 
 // steadyAdjoint factors the transposed s = 0 system and solves for w.
 func (sys *exitSystem) steadyAdjoint() (*adjoint, error) {
-	m := nodesys.NewMatrix[float64](sys.nUnk)
+	m := newMatrix[float64](sys)
 	rhs := make([]float64, sys.nUnk)
 	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, true)
 	f := nodesys.NewFactor[float64](nil)
@@ -268,7 +266,7 @@ func (ad *adjoint) hitInto(sys *exitSystem, el *exitEl) (atFrom, atTo float64) {
 // steadyMean solves the forward mean-lifetime problem (f = ρ, γ = ρ_v, g = 0)
 // at every node and returns the values per system node (0 at fixed nodes).
 func (sys *exitSystem) steadyMean() ([]float64, error) {
-	m := nodesys.NewMatrix[float64](sys.nUnk)
+	m := newMatrix[float64](sys)
 	rhs := make([]float64, sys.nUnk)
 	assemble(sys, m, rhs, exitLoad[float64]{
 		edgeF:  func(el *exitEl) float64 { return el.rho },
@@ -333,7 +331,7 @@ type transformer struct {
 func newTransformer(sys *exitSystem) *transformer {
 	tr := &transformer{
 		sys: sys,
-		m:   nodesys.NewMatrix[complex128](sys.nUnk),
+		m:   newMatrix[complex128](sys),
 		f:   nodesys.NewFactor[complex128](nil),
 		rhs: make([]complex128, sys.nUnk),
 		u:   make([]complex128, sys.nUnk),
