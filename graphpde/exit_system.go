@@ -24,7 +24,7 @@ type exitSystem struct {
 	unk   []int        // system node → unknown, −1 for fixed nodes
 	nUnk  int
 	pat   *nodePattern // pattern and slots of the node system
-	start int // system node of the start point
+	start int          // system node of the start point
 
 	// anchored reports whether the component can absorb or kill: a fixed
 	// node, a leak or a decay. Without one the node system is singular.
