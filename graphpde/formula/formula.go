@@ -90,7 +90,8 @@ func (e *Expr) Const() (float64, bool) {
 }
 
 // Value returns the value of the expression at the given point, ignoring the
-// variables it does not use. For a node law use EvalLaw.
+// variables it does not use. For a node law use EvalLaw (Value and Eval see
+// its d.EDGE as NaN).
 func (e *Expr) Value(x, u, ux, uxx, t float64) float64 {
 	if e.root.konst {
 		return e.root.c
@@ -197,8 +198,9 @@ func (e *Expr) OfT() func(t float64) float64 {
 //
 //	log(u) = NaN at u = -0.5 (column 3)
 //
-// It returns "" when the value of the whole expression is finite there. It
-// is meant for error messages and is not fast.
+// It returns "" when the value of the whole expression is finite there. d
+// holds a node law's derivatives (nil for other expressions). It is meant
+// for error messages and is not fast.
 func (e *Expr) Explain(x, u, ux, uxx, t float64, d []float64) string {
 	p := point{x: x, u: u, ux: ux, uxx: uxx, t: t, d: d, dir: -1}
 	bad := e.root.firstBad(p)
@@ -213,7 +215,7 @@ func (e *Expr) Explain(x, u, ux, uxx, t float64, d []float64) string {
 			at = append(at, fmt.Sprintf("%s = %g", varNames[i], vals[vr]))
 		}
 	}
-	if bad.uses&D != 0 {
+	if bad.uses&D != 0 && len(d) >= len(e.spec.Ends) {
 		for j, n := range e.spec.Ends {
 			at = append(at, fmt.Sprintf("d.%s = %g", n, d[j]))
 		}

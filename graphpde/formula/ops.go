@@ -88,6 +88,9 @@ func leafParam(vals *[]float64, i int) fn {
 
 func leafD(j int) fn {
 	return func(p point) Dual {
+		if j >= len(p.d) {
+			return Dual{V: math.NaN()} // evaluated without the law's d (Value, Eval)
+		}
 		if p.dir == j {
 			return Dual{V: p.d[j], DUX: 1}
 		}

@@ -49,6 +49,7 @@ func FuzzRead(f *testing.F) {
 	seedFiles(f, ".toml")
 	f.Add([]byte("[[node]]\nid = \"a\"\nsplit = { e = 1 }\n[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"a\"\nlength = 1\ndiffusivity = 1\n"))
 	f.Add([]byte("node = [{id = \"a\"}]\n[defaults]\nweights = [1, 2]\n"))
+	f.Add([]byte(exprFile))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		net, err := Read(bytes.NewReader(data), "fuzz.toml")
 		checkOutcome(t, err, func() ([]byte, error) {

@@ -342,6 +342,9 @@ func diffNetworks(got, want *graphpde.Network, tol float64) string {
 		if g.ID != w.ID || g.Law != w.Law || (g.XY == nil) != (w.XY == nil) || (g.XY != nil && *g.XY != *w.XY) {
 			return fmt.Sprintf("node %d: got %+v (xy %v), want %+v (xy %v)", i, g, g.XY, w, w.XY)
 		}
+		if gs, ws := nodeLawSig(&g), nodeLawSig(&w); gs != ws {
+			return fmt.Sprintf("node %q: laws %s, want %s", w.ID, gs, ws)
+		}
 		if len(g.Split) != len(w.Split) || (g.Split == nil) != (w.Split == nil) {
 			return fmt.Sprintf("node %q: split %v, want %v", w.ID, g.Split, w.Split)
 		}
@@ -355,9 +358,48 @@ func diffNetworks(got, want *graphpde.Network, tol float64) string {
 		g, w := got.Edges[i], want.Edges[i]
 		gw, ww := [2]float64{g.EndWeight(0), g.EndWeight(1)}, [2]float64{w.EndWeight(0), w.EndWeight(1)}
 		g.Weight, w.Weight = [2]float64{}, [2]float64{}
+		if gs, ws := edgeLawSig(&g), edgeLawSig(&w); gs != ws {
+			return fmt.Sprintf("edge %q: laws %s, want %s", w.ID, gs, ws)
+		}
+		g.Law, w.Law, g.Profile, w.Profile = nil, nil, nil, nil
 		if g != w || gw != ww {
 			return fmt.Sprintf("edge %d: got %+v weights %v, want %+v weights %v", i, g, gw, w, ww)
 		}
 	}
 	return ""
+}
+
+// edgeLawSig describes an edge's laws and profiles by their expressions, for
+// comparing networks.
+func edgeLawSig(e *graphpde.Edge) string {
+	var b strings.Builder
+	if l := e.Law; l != nil {
+		for i, c := range []*graphpde.Coef{l.A, l.B, l.C, l.F, l.Rho, l.Initial} {
+			if c != nil {
+				fmt.Fprintf(&b, "law%d=%q(%v%v%v%v) ", i, c.Src, c.UsesX, c.UsesU, c.UsesT, c.UsesP)
+			}
+		}
+		if l.Equation != nil {
+			fmt.Fprintf(&b, "equation=%q ", l.Equation.Src)
+		}
+	}
+	if p := e.Profile; p != nil {
+		fmt.Fprintf(&b, "profile=%q,%q,%q,%q,%q", p.SrcA, p.SrcB, p.SrcC, p.SrcF, p.SrcRho)
+	}
+	return b.String()
+}
+
+// nodeLawSig describes a node's nonlinear and time laws and initial value.
+func nodeLawSig(n *graphpde.Node) string {
+	var b strings.Builder
+	if nl := n.Nonlinear; nl != nil {
+		fmt.Fprintf(&b, "nonlinear=%q loss=%v ", nl.Src, nl.Loss != nil)
+	}
+	if tm := n.Time; tm != nil {
+		fmt.Fprintf(&b, "time=%q fixed=%v t=%v ", tm.Src, tm.Fixed != nil, tm.UsesT)
+	}
+	if n.Initial != nil {
+		fmt.Fprintf(&b, "initial=%g", *n.Initial)
+	}
+	return b.String()
 }
