@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"fmt"
 	"math"
 	"testing"
 
@@ -49,8 +50,6 @@ func TestEvolveWarmRod(t *testing.T) {
 		t.Logf("tol %g: times %v, worst error %.2e, steps %d (+%d rejected), %d factorisations, max est %.2f", tol, r.Times, worst, r.Stats.Steps, r.Stats.Rejected, r.Stats.Factorizations, r.Stats.ErrEstimate)
 	}
 }
-
-var _ = vertex.Fixed
 
 // sineRod is the rod (0, 1) with both ends held at 0 and u(x, 0) = sin(πx):
 // u = e^{−π² t} sin(πx), smooth in time and space.
@@ -123,5 +122,130 @@ func TestEvolveAdaptive(t *testing.T) {
 			t.Errorf("tol %g: error %.2e did not shrink (was %.2e)", tol, worst, prev)
 		}
 		prev = worst
+	}
+}
+
+// rcLine is a distributed RC line of total resistance and capacitance 1
+// (a = 1, ρ = 1, length 1, so RC = 1): the near end is driven by a unit step
+// from t = 0, the far end is open (a balance node with nothing).
+func rcLine(t testing.TB) *Network {
+	b := newNetBuilder(t)
+	x, y := b.fixed("drive", 1), b.balance("far")
+	b.edge(Edge{ID: "line", From: x, To: y, Length: 1, A: 1})
+	return b.net
+}
+
+// TestEvolveRCLine: the step response at the open end of a distributed RC
+// line reaches 50% at 0.3787478·RC, 1 − 1/e ≈ 63.2% at 0.5031806·RC, 90% at
+// 1.0311050·RC, and rises from 10% to 90% in 0.9009461·RC (Rabaey,
+// Chandrakasan & Nikolić, Digital Integrated Circuits, 2nd ed. 2003, §4.4.4
+// — values to 7 digits as derived from the series there). The exact method
+// inverts the transform to about 1e-9 (roundoff of the contour and the
+// bisection), so it must match to the 7 given digits; the grid (200 cells,
+// tol 1e-6) to 2e-4·RC (its discretisation error, measured 3e-5).
+func TestEvolveRCLine(t *testing.T) {
+	const digits = 1e-6
+	far := Point{Node: 1, Edge: -1}
+	for _, tc := range []struct {
+		frac, want float64
+	}{{0.5, 0.3787478}, {1 - 1/math.E, 0.5031806}, {0.9, 1.0311050}, {0.1, 1.0311050 - 0.9009461}} {
+		for _, m := range []Method{MethodExact, MethodGrid} {
+			set := &EvolveSettings{Until: 1.5, Every: 0.05, Probes: []Point{far}, Crossing: tc.frac, Method: m}
+			tol := digits
+			if m == MethodGrid {
+				set.Cells, set.Tol, tol = 200, 1e-6, 2e-4
+			}
+			r, err := Evolve(rcLine(t), set)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := r.Crossing[0]; !(math.Abs(got-tc.want) <= tol) {
+				t.Errorf("%v: %g crossing at %.7f RC, want %.7f", m, tc.frac, got, tc.want)
+			}
+		}
+	}
+}
+
+// TestEvolveExactReference: the exact transient of the warm rod matches its
+// Fourier series to 1e-9, and the grid stepper matches the exact transient
+// within its tolerance plus the grid's error (200 cells: h²-small, measured
+// below 4e-5).
+func TestEvolveExactReference(t *testing.T) {
+	mid := Point{Node: -1, Edge: 0, X: 0.5}
+	ex, err := Evolve(warmRod(t), &EvolveSettings{Until: 0.2, Every: 0.02, Probes: []Point{mid}, Method: MethodExact})
+	if err != nil {
+		t.Fatal(err)
+	}
+	gr, err := Evolve(warmRod(t), &EvolveSettings{Until: 0.2, Every: 0.02, Probes: []Point{mid}, Cells: 200, Tol: 1e-5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, tt := range ex.Times {
+		if tt == 0 {
+			continue
+		}
+		if d := math.Abs(ex.Probes[0][i] - rodMid(tt)); d > 1e-9 {
+			t.Errorf("exact at t = %g: %.12f, series %.12f", tt, ex.Probes[0][i], rodMid(tt))
+		}
+		if d := math.Abs(gr.Probes[0][i] - ex.Probes[0][i]); d > 1e-5+4e-5 {
+			t.Errorf("grid at t = %g: %.7f, exact %.7f", tt, gr.Probes[0][i], ex.Probes[0][i])
+		}
+	}
+}
+
+// TestEvolveCable: a current step into a semi-infinite passive cable
+// (a = c = ρ = 1: unit length and time constants, input resistance 1) gives
+// V(0, T) = erf(√T) (Hodgkin & Rushton, Proc. R. Soc. B 133 (1946) 444 —
+// from memory): 0.6826895, 0.8427008, 0.9544997 at T = 0.5, 1, 2. A cable
+// of length 30 is semi-infinite to e^{−30}; the exact method gives 7
+// digits.
+func TestEvolveCable(t *testing.T) {
+	b := newNetBuilder(t)
+	x := b.node("inject", vertex.Law{Kind: vertex.Balance, Inject: 1})
+	y := b.balance("end")
+	b.edge(Edge{ID: "cable", From: x, To: y, Length: 30, A: 1, C: 1})
+	r, err := Evolve(b.net, &EvolveSettings{Until: 2, Every: 0.5, Probes: []Point{{Node: x, Edge: -1}}, Method: MethodExact})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := map[float64]float64{0.5: 0.6826895, 1: 0.8427008, 2: 0.9544997}
+	for i, tt := range r.Times {
+		if w, ok := want[tt]; ok && math.Abs(r.Probes[0][i]-w) > 1e-7 {
+			t.Errorf("V(0, %g) = %.8f, want %.7f", tt, r.Probes[0][i], w)
+		}
+	}
+}
+
+// TestEvolveElmore: the Elmore delay (the first moment of the impulse
+// response, ∫₀^∞ (1 − v(t)) dt for a step) at the end of an N-section RC
+// ladder of total R and C is RC(N+1)/(2N) (Rabaey, Chandrakasan & Nikolić,
+// Digital Integrated Circuits, 2nd ed. 2003, §4.4.4). The ladder is built of
+// edges of diffusivity 1 and length R/N (resistors; capacity 1e-9 per
+// length, negligible) and nodes of capacity C/N. The integral is taken by
+// the trapezoid rule on the exact transient up to 30·RC, where 1 − v is
+// below e^{−30/(RC·0.6)}: accurate to the trapezoid's (Δt)²/12·|v”|,
+// about 1e-5 with Δt = 0.01.
+func TestEvolveElmore(t *testing.T) {
+	const N = 4
+	b := newNetBuilder(t)
+	prev := b.fixed("drive", 1)
+	for i := 1; i <= N; i++ {
+		v := b.node(fmt.Sprintf("n%d", i), vertex.Law{Kind: vertex.Balance, Capacity: 1.0 / N})
+		b.edge(Edge{ID: fmt.Sprintf("r%d", i), From: prev, To: v, Length: 1.0 / N, A: 1, Rho: 1e-9})
+		prev = v
+	}
+	dt := 0.01
+	r, err := Evolve(b.net, &EvolveSettings{Until: 30, Every: dt, Probes: []Point{{Node: prev, Edge: -1}}, Method: MethodExact})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sum := 0.0
+	u := r.Probes[0]
+	for i := 1; i < len(u); i++ {
+		sum += 0.5 * (r.Times[i] - r.Times[i-1]) * ((1 - u[i-1]) + (1 - u[i]))
+	}
+	want := float64(N+1) / (2 * N)
+	if math.Abs(sum-want) > 1e-4 {
+		t.Errorf("Elmore delay %.6f, want %.6f", sum, want)
 	}
 }
