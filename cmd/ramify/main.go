@@ -37,6 +37,7 @@ func commands() []command {
 		{"exit", "first-passage statistics from the PDE", runExit},
 		{"crosscheck", "PDE and walkers side by side, with a verdict", runCrosscheck},
 		{"evolve", "transient field from the initial one: probe time series, crossing times, snapshots", runEvolve},
+		{"sweep", "follow a steady solution in a parameter, through folds", runSweep},
 		{"spectrum", "smallest eigenvalues (decay rates) and the slowest relaxation time", runSpectrum},
 		{"demo", "the built-in example network, end to end", runDemo},
 		{"bench", "performance figures of the solvers on generated networks", runBench},

@@ -48,9 +48,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
-	sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
-		return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: *cells})
-	})
+	sol, nl, err := solveField(ctx, net, m, *cells)
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
@@ -60,7 +58,9 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		}
 	}
 	if *asJSON {
-		if err := writeJSON(stdout, solveJSON(net, sol, *probes, pts)); err != nil {
+		out := solveJSON(net, sol, *probes, pts)
+		out.nonlinearOut = nonlinearJSON(nl)
+		if err := writeJSON(stdout, out); err != nil {
 			return fail(stderr, "solve", err)
 		}
 		return 0
@@ -69,7 +69,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if *all {
 		rows = -1
 	}
-	printSolve(stdout, net, sol, *probes, pts, m, rows)
+	printSolve(stdout, net, sol, nl, *probes, pts, m, rows)
 	return 0
 }
 
@@ -103,6 +103,7 @@ type solveOut struct {
 	Summary summaryOut `json:"summary"`
 	Units   *unitsOut  `json:"units,omitempty"`
 	Caution string     `json:"caution,omitempty"`
+	nonlinearOut
 }
 
 type statsOut struct {
@@ -175,7 +176,7 @@ func more(w io.Writer, shown, total int, what string) {
 }
 
 // printSolve writes the human-readable result; rows < 0 prints every row.
-func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point, m graphpde.Method, rows int) {
+func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *graphpde.NonlinearResult, specs []string, pts []graphpde.Point, m graphpde.Method, rows int) {
 	limit := func(n int) int {
 		if rows < 0 || n < rows {
 			return n
@@ -201,6 +202,7 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, spec
 	if at >= 0 {
 		fmt.Fprintf(w, "largest balance residual %.2e, at node %s\n", worst, net.Nodes[at].ID)
 	}
+	printNonlinear(w, nl)
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	ph := net.Physical

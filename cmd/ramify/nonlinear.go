@@ -1,0 +1,64 @@
+package main
+
+import (
+	"context"
+	"fmt"
+	"io"
+
+	"github.com/ramify-dev/ramify/graphpde"
+)
+
+// solveField solves the steady problem of net: the linear solve, or Newton
+// (graphpde.SolveNonlinear) when the network has laws that depend on u or
+// fully nonlinear equations or node laws. nl is nil for a linear solve. A
+// nonlinear solve that ends without converging returns an error that says
+// why (never the unconverged field) together with its result.
+func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, cells int) (*graphpde.Solution, *graphpde.NonlinearResult, error) {
+	if !graphpde.HasLaws(net) {
+		sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
+			return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: cells})
+		})
+		return sol, nil, err
+	}
+	res, err := interruptible(ctx, func() (*graphpde.NonlinearResult, error) {
+		return graphpde.SolveNonlinear(net, &graphpde.NonlinearSettings{Method: m, Cells: cells})
+	})
+	if err != nil {
+		return nil, res, err
+	}
+	if res.Status != graphpde.Converged {
+		why := fmt.Sprintf("Newton did not converge (%v after %d iterations, scaled residual %.3g)", res.Status, res.Iterations, res.Residual)
+		for _, n := range res.Notes {
+			why += "; " + n
+		}
+		return nil, res, fmt.Errorf("%s", why)
+	}
+	return res.Solution, res, nil
+}
+
+// nonlinearOut is what a nonlinear solve adds to the JSON of a steady solve.
+type nonlinearOut struct {
+	Iterations *int     `json:"iterations,omitempty"`
+	Residual   *num     `json:"residual,omitempty"`
+	Unique     *bool    `json:"unique,omitempty"`
+	Notes      []string `json:"notes,omitempty"`
+}
+
+func nonlinearJSON(nl *graphpde.NonlinearResult) nonlinearOut {
+	if nl == nil {
+		return nonlinearOut{}
+	}
+	it, r, u := nl.Iterations, num(nl.Residual), nl.Unique
+	return nonlinearOut{Iterations: &it, Residual: &r, Unique: &u, Notes: nl.Notes}
+}
+
+// printNonlinear adds the Newton summary to a human-readable solve.
+func printNonlinear(w io.Writer, nl *graphpde.NonlinearResult) {
+	if nl == nil {
+		return
+	}
+	fmt.Fprintf(w, "nonlinear: Newton converged in %s, scaled residual %.2e\n", plural(nl.Iterations, "iteration"), nl.Residual)
+	for _, n := range nl.Notes {
+		fmt.Fprintln(w, "note:", n)
+	}
+}
