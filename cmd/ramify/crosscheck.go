@@ -29,6 +29,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	fit := fs.Bool("fit-weights", false, "estimate from the walkers the node weights that best explain them")
 	occ := fs.Bool("occupation", false, "also compare the time spent on every edge")
 	plot := fs.String("plot", "", "write SVG figures into this directory")
+	draw := fs.String("draw", "", "draw the network coloured by its steady field, start marked, into this SVG file")
 	method := fs.String("method", "auto", "PDE edge elements: exact, grid, or auto")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
@@ -53,7 +54,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	}
 	inputs := []string{file}
 	if err := checkOutputs(inputs, outTarget{flag: "--samples", path: *wf.samples},
-		outTarget{flag: "--plot", path: *plot, dir: true}); err != nil {
+		outTarget{flag: "--plot", path: *plot, dir: true}, outTarget{flag: "--draw", path: *draw}); err != nil {
 		return badFlag(stderr, "crosscheck", err)
 	}
 	net, err := load(ctx, file)
@@ -79,6 +80,11 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if *plot != "" {
 		if err := cc.plot(*plot, inputs, net, stderr); err != nil {
 			return fail(stderr, "crosscheck", fmt.Errorf("--plot %s: %w", *plot, err))
+		}
+	}
+	if *draw != "" {
+		if err := drawCrosscheck(ctx, *draw, inputs, net, p, *wf.from, m, stderr); err != nil {
+			return fail(stderr, "crosscheck", err)
 		}
 	}
 	if cc.walk.Status == montecarlo.Cancelled {
@@ -308,4 +314,32 @@ func (cc *crossResult) fits() []weightFit {
 		out = append(out, weightFit{Node: f.Node, Edge: f.Edge, File: num(f.File), Fitted: num(f.Fitted), StdErr: num(f.StdErr)})
 	}
 	return out
+}
+
+// drawCrosscheck draws the network coloured by its steady field (the value
+// the walkers estimate) with the start point marked; a network with no
+// steady field (a component with no fixed node, leak or decay) is drawn in
+// grey.
+func drawCrosscheck(ctx context.Context, path string, inputs []string, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method, stderr io.Writer) error {
+	sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
+		return graphpde.Solve(net, &graphpde.Settings{Method: m})
+	})
+	title := net.Name
+	if title == "" {
+		title = inputs[0]
+	}
+	marks := []mark{{at: p, label: "start " + from}}
+	var d *drawing
+	if err != nil {
+		if errors.Is(err, errInterrupted) {
+			return err
+		}
+		d = &drawing{net: net, title: title + " (no steady field: " + err.Error() + ")", marks: marks, unit: "no field",
+			value: func(int, float64) (float64, bool) { return 0, false },
+			node:  func(int) (float64, bool) { return 0, false },
+			show:  func(u float64) float64 { return u }}
+	} else {
+		d = fieldDrawing(net, sol, title, marks)
+	}
+	return writeDrawing(path, inputs, d, "crosscheck", stderr)
 }

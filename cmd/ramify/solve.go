@@ -24,6 +24,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
 	probes := fs.StringArray("probe", nil, "report the value at POINT (NODE or EDGE@X); repeatable")
 	field := fs.String("field", "", "write the field sampled along every edge to this CSV file")
+	draw := fs.String("draw", "", "draw the network coloured by the field into this SVG file")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	all := fs.Bool("all", false, fmt.Sprintf("print every node and edge (the tables stop at %d rows otherwise)", tableRows))
 	file, code, ok := parseFlags(fs, args, stderr, true)
@@ -37,7 +38,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if *cells < 0 {
 		return badFlag(stderr, "solve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
 	}
-	if err := checkOutputs([]string{file}, outTarget{flag: "--field", path: *field}); err != nil {
+	if err := checkOutputs([]string{file}, outTarget{flag: "--field", path: *field}, outTarget{flag: "--draw", path: *draw}); err != nil {
 		return badFlag(stderr, "solve", err)
 	}
 	net, err := load(ctx, file)
@@ -54,6 +55,19 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	}
 	if *field != "" {
 		if err := writeField(*field, file, sol, stderr); err != nil {
+			return fail(stderr, "solve", err)
+		}
+	}
+	if *draw != "" {
+		marks := make([]mark, len(pts))
+		for i, p := range pts {
+			marks[i] = mark{at: p, label: (*probes)[i]}
+		}
+		title := net.Name
+		if title == "" {
+			title = file
+		}
+		if err := writeDrawing(*draw, []string{file}, fieldDrawing(net, sol, title, marks), "solve", stderr); err != nil {
 			return fail(stderr, "solve", err)
 		}
 	}
