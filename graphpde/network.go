@@ -200,6 +200,13 @@ func (n *Network) AddNode(nd Node) (int, error) {
 // here (its plain field is ignored; solvers check the law where they
 // evaluate it); an edge with an equation has its A, B, C and F stored as 0
 // (its end weights are checked by the solver, which needs them).
+// minScale bounds the lengths and the conductances a/L of edges: the
+// element maps have entries of size a/L (more with drift or decay), and
+// 1e−280 … 1e280 leaves float64 room for products of a few of them and for
+// the pivots of the node system (common practice, no source). A length of
+// 5e−324 used to reach the node system as an infinite pivot.
+const minScale = 1e-280
+
 func (n *Network) AddEdge(e Edge) (int, error) {
 	bad := func(field, reason string) (int, error) {
 		return -1, &ModelError{Object: "edge", ID: e.ID, Field: field, Reason: reason}
@@ -246,6 +253,10 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 		return bad("source", fmt.Sprintf("= %g must be a finite number", e.F))
 	case e.Cells < 0:
 		return bad("cells", fmt.Sprintf("= %d must be ≥ 0", e.Cells))
+	case e.Length < minScale || e.Length > 1/minScale:
+		return bad("length", fmt.Sprintf("= %g is out of range: lengths from %g to %g keep the edge's element finite in float64", e.Length, minScale, 1/minScale))
+	case law.A == nil && !eq && (e.A/e.Length < minScale || e.A/e.Length > 1/minScale):
+		return bad("diffusivity", fmt.Sprintf("= %g with length %g gives a/L = %g, out of range: the edge's element (entries of size a/L) would underflow or overflow; a/L from %g to %g is allowed", e.A, e.Length, e.A/e.Length, minScale, 1/minScale))
 	}
 	for s, w := range e.Weight {
 		if !fin(w) || w < 0 || (w == 0 && math.Signbit(w)) {

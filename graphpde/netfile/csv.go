@@ -120,6 +120,10 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 			return nil, err
 		}
 	}
+	if len(c.net.Nodes) == 0 {
+		// A header and no rows (or only comments): nothing to solve.
+		return nil, &Error{File: name, Msg: "the edge list has no rows after its header"}
+	}
 	return c.net, nil
 }
 

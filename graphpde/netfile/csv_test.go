@@ -227,3 +227,15 @@ func TestReadCSVFileErrors(t *testing.T) {
 		t.Errorf("got %v", err)
 	}
 }
+
+// TestReadCSVNoRows: a header with no rows (or only comments) is an error
+// naming the file, not an empty network that every command would report as
+// "0 nodes, 0 edges; converged".
+func TestReadCSVNoRows(t *testing.T) {
+	for _, src := range []string{"id,from,to,length,diffusivity\n", "id,from,to,length,diffusivity\n# none\n"} {
+		net, err := ReadCSV(strings.NewReader(src), "e.csv")
+		if err == nil || !strings.HasPrefix(err.Error(), "e.csv: ") {
+			t.Errorf("%q: got %v, %v; want an error naming the file", src, net, err)
+		}
+	}
+}

@@ -85,7 +85,13 @@ func Read(r io.Reader, name string) (*graphpde.Network, error) {
 		return nil, e
 	}
 	rd := &reader{file: name, loc: locate(src), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
-	return rd.network(root)
+	net, err := rd.network(root)
+	if err == nil && len(net.Nodes) == 0 {
+		// Nothing to solve: an empty file, or one with only [network]
+		// or [defaults]. Every command would report "0 nodes; converged".
+		return nil, &Error{File: name, Msg: "the file defines no nodes (add [[node]] tables)"}
+	}
+	return net, err
 }
 
 // reader holds the state of one Read.

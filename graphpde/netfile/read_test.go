@@ -61,6 +61,10 @@ func TestReadErrors(t *testing.T) {
 		{"unknown to node", twoNodes + "[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"c\"\nlength = 1\ndiffusivity = 1\n", 10, `edge "e"`, `to: no node "c"`},
 		{"missing from", twoNodes + "\n[[edge]]\nid = \"e\"\nto = \"b\"\nlength = 1\ndiffusivity = 1\n", 8, `edge "e"`, `missing key "from"`},
 		{"negative length", twoNodes + "[[edge]]\nid = \"arm1\"\nfrom = \"a\"\nto = \"b\"\nlength = -1\ndiffusivity = 1\n", 11, `edge "arm1"`, "length = -1 must be a finite number > 0"},
+		// A length whose element would overflow (it used to reach the node
+		// system as "singular at node …, pivot +Inf" with no file or edge).
+		{"subnormal length", twoNodes + "[[edge]]\nid = \"arm1\"\nfrom = \"a\"\nto = \"b\"\nlength = 5e-324\ndiffusivity = 1\n", 11, `edge "arm1"`, "length = 5e-324 is out of range"},
+		{"conductance overflow", twoNodes + "[[edge]]\nid = \"arm1\"\nfrom = \"a\"\nto = \"b\"\nlength = 1e-200\ndiffusivity = 1e100\n", 12, `edge "arm1"`, "diffusivity = 1e+100 with length 1e-200 gives a/L = 1e+300, out of range"},
 		{"missing length", twoNodes + "[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\ndiffusivity = 1\n", 7, `edge "e"`, `missing key "length"`},
 		{"missing diffusivity", twoNodes + "[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\n", 7, `edge "e"`, `missing key "diffusivity" (give it here or in [defaults])`},
 		{"zero diffusivity", twoNodes + "[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 0\n", 12, `edge "e"`, "diffusivity = 0 must be a finite number > 0"},
@@ -263,8 +267,11 @@ func TestReadForms(t *testing.T) {
 		src          string
 		nodes, edges int
 	}{
-		{"empty", "", 0, 0},
-		{"comments only", "# nothing\n\n", 0, 0},
+		// No nodes is an error (nothing to solve; it used to give
+		// "0 nodes, 0 edges; converged"): nodes = −1 wants one.
+		{"empty", "", -1, 0},
+		{"comments only", "# nothing\n\n", -1, 0},
+		{"network table only", "[network]\nname = \"x\"\n", -1, 0},
 		{"nodes only", "[[node]]\nid = \"a\"\n[[node]]\nid = \"b\"\nfixed = 1\n", 2, 0},
 		{"inline array of tables", "node = [{id = \"a\"}, {id = \"b\", leak = 1}]\nedge = [\n  {id = \"e\", from = \"a\", to = \"b\", length = 1, diffusivity = 1},\n]\n", 2, 1},
 		{"dotted split", "[[node]]\nid = \"a\"\nsplit.e = 2\n[[node]]\nid = \"b\"\n[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1\n", 2, 1},
@@ -273,6 +280,12 @@ func TestReadForms(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			net, err := Read(strings.NewReader(tc.src), "f.toml")
+			if tc.nodes < 0 {
+				if err == nil || !strings.HasPrefix(err.Error(), "f.toml: ") {
+					t.Errorf("got %v, want an error naming the file", err)
+				}
+				return
+			}
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -60,7 +60,10 @@ func TestRoundTrip(t *testing.T) {
 	}
 	edges := []graphpde.Edge{
 		{ID: "a", From: 0, To: 1, Length: 1, A: 1, B: math.Copysign(0, -1), Cells: 12},
-		{ID: "b.x", From: 1, To: 2, Length: math.MaxFloat64, A: math.SmallestNonzeroFloat64, C: 1e-7, F: -2.5, Rho: 3, Weight: [2]float64{2, 0}},
+		// The extremes an edge may have: lengths and a/L within 1e±280
+		// (graphpde.Network.AddEdge); 5e−324 and MaxFloat64 stay in XY
+		// and the leak.
+		{ID: "b.x", From: 1, To: 2, Length: 9.999999999999999e269, A: 1.0000000000000002e5, C: 1e-7, F: -2.5, Rho: 3, Weight: [2]float64{2, 0}},
 		{ID: "c", From: 2, To: 1, Length: 0.7, A: 4, Weight: [2]float64{1.5, 1.5}},
 		{ID: "loop", From: 3, To: 3, Length: 2, A: 1, Weight: [2]float64{0.25, 8}},
 	}
