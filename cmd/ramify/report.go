@@ -57,9 +57,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		return fail(stderr, "report", err)
 	}
 	// The steady field (when the network has one) for the drawing and tables.
-	sol, solErr := interruptible(ctx, func() (*graphpde.Solution, error) {
-		return graphpde.Solve(net, &graphpde.Settings{Method: m})
-	})
+	sol, nl, solErr := solveField(ctx, net, m, 0)
 	if errors.Is(solErr, errInterrupted) {
 		return fail(stderr, "report", solErr)
 	}
@@ -70,7 +68,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if err != nil {
 		return fail(stderr, "report", walkError(err, "the exit-time comparison keeps"))
 	}
-	page := reportPage(net, file, *wf.from, p, sol, solErr, cc)
+	page := reportPage(net, file, *wf.from, p, sol, nl, solErr, cc)
 	if *out == "" {
 		if _, err := io.WriteString(stdout, page); err != nil {
 			return fail(stderr, "report", err)
@@ -89,7 +87,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 }
 
 // reportPage assembles the HTML page.
-func reportPage(net *graphpde.Network, file, from string, p graphpde.Point, sol *graphpde.Solution, solErr error, cc *crossResult) string {
+func reportPage(net *graphpde.Network, file, from string, p graphpde.Point, sol *graphpde.Solution, nl *graphpde.NonlinearResult, solErr error, cc *crossResult) string {
 	title := net.Name
 	if title == "" {
 		title = file
@@ -125,7 +123,7 @@ svg{max-width:100%;height:auto}
 		}
 		b.WriteString("<h2>Steady field</h2>\n<pre>")
 		var t bytes.Buffer
-		printSolve(&t, net, sol, []string{from}, []graphpde.Point{p}, graphpde.MethodAuto, tableRows)
+		printSolve(&t, net, sol, nl, []string{from}, []graphpde.Point{p}, graphpde.MethodAuto, tableRows)
 		b.WriteString(html.EscapeString(strings.TrimSuffix(strings.TrimSpace(t.String()), caution)))
 		b.WriteString("</pre>\n")
 	} else {
