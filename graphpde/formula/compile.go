@@ -83,6 +83,9 @@ func Compile(src string, spec Spec) (*Expr, error) {
 		return nil, fromExpr(src, err)
 	}
 	c := &compiler{src: src, spec: spec}
+	if spec.Vars&D != 0 {
+		c.law = &lawState{dir: -1}
+	}
 	root, err := c.node(tree.Node)
 	if err != nil {
 		return nil, err
@@ -95,7 +98,7 @@ func Compile(src string, spec Spec) (*Expr, error) {
 	if root.konst && !Finite(root.c) {
 		return nil, &Error{Src: src, Msg: fmt.Sprintf("the expression evaluates to %g", root.c)}
 	}
-	e := &Expr{src: src, spec: spec, uses: root.uses, params: root.params, root: root}
+	e := &Expr{src: src, spec: spec, uses: root.uses, params: root.params, root: root, law: c.law}
 	return e, nil
 }
 
@@ -161,6 +164,7 @@ func fromExpr(src string, err error) *Error {
 type compiler struct {
 	src  string
 	spec Spec
+	law  *lawState // where d.EDGE leaves read (Spec.Vars has D)
 }
 
 func (c *compiler) fail(n ast.Node, token, msg string) *Error {
@@ -277,7 +281,7 @@ func (c *compiler) combine(n ast.Node, kids []*cnode, build func() fn) (*cnode, 
 		allConst = allConst && k.konst
 	}
 	if allConst {
-		v := out.f(point{dir: -1}).V
+		v := out.f(point{}).V
 		out.konst, out.c = true, v
 		out.f = func(point) Dual { return Dual{V: v} }
 	}
@@ -298,7 +302,9 @@ func (c *compiler) ident(n *ast.IdentifierNode) (*cnode, error) {
 		case X:
 			return leaf(leafX, X, name, col), nil
 		case U:
-			return leaf(leafU, U, name, col), nil
+			l := leaf(leafU, U, name, col)
+			l.isU = true
+			return l, nil
 		case UX:
 			return leaf(leafUX, UX, name, col), nil
 		case UXX:
@@ -313,6 +319,7 @@ func (c *compiler) ident(n *ast.IdentifierNode) (*cnode, error) {
 		if i := p.Index(name); i >= 0 {
 			l := leaf(leafParam(&p.Values, i), 0, name, col)
 			l.params = []int{i}
+			l.pv, l.pi = &p.Values, i
 			return l, nil
 		}
 	}
@@ -354,7 +361,7 @@ func (c *compiler) member(n *ast.MemberNode) (*cnode, error) {
 	if j < 0 {
 		return nil, c.fail(n, name, fmt.Sprintf("d.%s: no edge %q meets this node (its edges: %s)", name, name, strings.Join(c.spec.Ends, ", ")))
 	}
-	return leaf(leafD(j), D, "d."+name, n.Location().From+1), nil
+	return leaf(leafD(c.law, j), D, "d."+name, n.Location().From+1), nil
 }
 
 func (c *compiler) call(n *ast.CallNode) (*cnode, error) {

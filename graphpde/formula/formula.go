@@ -65,6 +65,7 @@ type Expr struct {
 	uses   Var
 	params []int // indices of the parameters used
 	root   *cnode
+	law    *lawState // for a node law (Spec.Vars has D); nil otherwise
 }
 
 // Src returns the expression as written.
@@ -93,10 +94,7 @@ func (e *Expr) Const() (float64, bool) {
 // variables it does not use. For a node law use EvalLaw (Value and Eval see
 // its d.EDGE as NaN).
 func (e *Expr) Value(x, u, ux, uxx, t float64) float64 {
-	if e.root.konst {
-		return e.root.c
-	}
-	return e.root.f(point{x: x, u: u, ux: ux, uxx: uxx, t: t, dir: -1}).V
+	return e.Eval(x, u, ux, uxx, t).V
 }
 
 // Eval returns the value of the expression and its partial derivatives in
@@ -105,13 +103,18 @@ func (e *Expr) Eval(x, u, ux, uxx, t float64) Dual {
 	if e.root.konst {
 		return Dual{V: e.root.c}
 	}
-	return e.root.f(point{x: x, u: u, ux: ux, uxx: uxx, t: t, dir: -1})
+	if e.law != nil {
+		e.law.mu.Lock()
+		defer e.law.mu.Unlock()
+	}
+	return e.root.f(point{x: x, u: u, ux: ux, uxx: uxx, t: t})
 }
 
 // EvalLaw evaluates a node law G(u, d_1, …, d_k) with d[j] the derivative
 // named Spec.Ends[j]. It writes ∂G/∂d_j into dd[j] and returns G and ∂G/∂u.
 // It panics if len(d) or len(dd) differs from len(Spec.Ends). Its cost is k
-// evaluations of the expression (one forward sweep per d).
+// evaluations of the expression (one forward sweep per d). Evaluations of
+// the same node law are serialised (a lock held during the call).
 func (e *Expr) EvalLaw(u float64, d, dd []float64) (g, du float64) {
 	k := len(e.spec.Ends)
 	if len(d) != k || len(dd) != k {
@@ -121,16 +124,22 @@ func (e *Expr) EvalLaw(u float64, d, dd []float64) (g, du float64) {
 		clear(dd)
 		return e.root.c, 0
 	}
-	if k == 0 || e.uses&D == 0 {
+	if e.law == nil || e.uses&D == 0 {
 		clear(dd)
-		r := e.root.f(point{u: u, d: d, dir: -1})
+		r := e.Eval(0, u, 0, 0, 0)
 		return r.V, r.DU
 	}
+	st := e.law
+	st.mu.Lock()
+	defer st.mu.Unlock()
+	st.d = d
 	var r Dual
 	for j := range k {
-		r = e.root.f(point{u: u, d: d, dir: j})
+		st.dir = j
+		r = e.root.f(point{u: u})
 		dd[j] = r.DUX
 	}
+	st.d, st.dir = nil, -1
 	return r.V, r.DU
 }
 
@@ -145,7 +154,7 @@ func (e *Expr) Coef() *graphpde.Coef {
 	}
 	f := e.root.f
 	c.Fn = func(x, u, t float64) (float64, float64) {
-		r := f(point{x: x, u: u, t: t, dir: -1})
+		r := f(point{x: x, u: u, t: t})
 		return r.V, r.DU
 	}
 	return c
@@ -162,7 +171,7 @@ func (e *Expr) Equation() *graphpde.Equation {
 	}
 	f := e.root.f
 	q.Fn = func(x, u, ux, uxx float64) (float64, float64, float64, float64) {
-		r := f(point{x: x, u: u, ux: ux, uxx: uxx, dir: -1})
+		r := f(point{x: x, u: u, ux: ux, uxx: uxx})
 		return r.V, r.DU, r.DUX, r.DUXX
 	}
 	return q
@@ -177,7 +186,7 @@ func (e *Expr) OfU() func(u float64) (v, du float64) {
 	}
 	f := e.root.f
 	return func(u float64) (float64, float64) {
-		r := f(point{u: u, dir: -1})
+		r := f(point{u: u})
 		return r.V, r.DU
 	}
 }
@@ -190,7 +199,7 @@ func (e *Expr) OfT() func(t float64) float64 {
 		return func(float64) float64 { return v }
 	}
 	f := e.root.f
-	return func(t float64) float64 { return f(point{t: t, dir: -1}).V }
+	return func(t float64) float64 { return f(point{t: t}).V }
 }
 
 // Explain names the innermost subexpression whose value is not finite at
@@ -202,7 +211,15 @@ func (e *Expr) OfT() func(t float64) float64 {
 // holds a node law's derivatives (nil for other expressions). It is meant
 // for error messages and is not fast.
 func (e *Expr) Explain(x, u, ux, uxx, t float64, d []float64) string {
-	p := point{x: x, u: u, ux: ux, uxx: uxx, t: t, d: d, dir: -1}
+	p := point{x: x, u: u, ux: ux, uxx: uxx, t: t}
+	if e.law != nil {
+		e.law.mu.Lock()
+		defer e.law.mu.Unlock()
+		if len(d) >= len(e.spec.Ends) {
+			e.law.d = d
+			defer func() { e.law.d = nil }()
+		}
+	}
 	bad := e.root.firstBad(p)
 	if bad == nil {
 		return ""

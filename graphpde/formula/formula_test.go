@@ -305,3 +305,35 @@ func TestAdapters(t *testing.T) {
 		t.Errorf("Coef flags: %+v", c)
 	}
 }
+
+// TestConcurrent evaluates one coefficient and one node law from several
+// goroutines at once (run with -race): the results must equal the
+// sequential ones.
+func TestConcurrent(t *testing.T) {
+	p := params()
+	c, _ := Compile("k0*(1 + b*u) + sin(x)", Spec{Vars: X | U | T, Params: p})
+	law, _ := Compile("-(d.a + 2*d.b) + u^3", Spec{Vars: U | D, Ends: []string{"a", "b"}})
+	fn := c.Coef().Fn
+	done := make(chan string)
+	for w := range 4 {
+		go func() {
+			msg := ""
+			d, dd := []float64{float64(w), 1}, make([]float64, 2)
+			for i := range 1000 {
+				u := float64(i) * 1e-3
+				if v, du := fn(0.5, u, 0); v != 2.5*(1+0.3*u)+math.Sin(0.5) || du != 2.5*0.3 {
+					msg = "coefficient"
+				}
+				if g, du := law.EvalLaw(u, d, dd); !near(g, -(float64(w)+2)+u*u*u, roundoff) || !near(du, 3*u*u, roundoff) || dd[0] != -1 || dd[1] != -2 {
+					msg = "node law"
+				}
+			}
+			done <- msg
+		}()
+	}
+	for range 4 {
+		if msg := <-done; msg != "" {
+			t.Errorf("concurrent evaluation of the %s differs", msg)
+		}
+	}
+}

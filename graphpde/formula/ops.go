@@ -1,13 +1,22 @@
 package formula
 
-import "math"
+import (
+	"math"
+	"sync"
+)
 
 // point is where an expression is evaluated. It is passed by value so that
-// evaluation allocates nothing (the fields travel in registers).
+// evaluation allocates nothing (the five fields travel in registers).
 type point struct {
 	x, u, ux, uxx, t float64
-	d                []float64 // a node law's derivatives d.EDGE
-	dir              int       // the d seeded for differentiation (into DUX), or -1
+}
+
+// lawState holds the derivatives d.EDGE of a node law while EvalLaw (or
+// another method, under mu) evaluates it: the closures read them from here.
+type lawState struct {
+	mu  sync.Mutex
+	d   []float64 // nil outside an evaluation: d.EDGE is then NaN
+	dir int       // the d seeded for differentiation (into DUX), or -1
 }
 
 // fn is a compiled subexpression.
@@ -23,6 +32,11 @@ type cnode struct {
 	text   string
 	col    int // 1-based column of the node's token
 	kids   []*cnode
+
+	// Leaves that operators read in place instead of calling them.
+	pv  *[]float64 // a parameter: (*pv)[pi]
+	pi  int
+	isU bool // the variable u
 }
 
 // active reports whether the subexpression can have a non-zero derivative.
@@ -86,15 +100,15 @@ func leafParam(vals *[]float64, i int) fn {
 	return func(point) Dual { return Dual{V: (*vals)[i]} }
 }
 
-func leafD(j int) fn {
-	return func(p point) Dual {
-		if j >= len(p.d) {
+func leafD(st *lawState, j int) fn {
+	return func(point) Dual {
+		if j >= len(st.d) {
 			return Dual{V: math.NaN()} // evaluated without the law's d (Value, Eval)
 		}
-		if p.dir == j {
-			return Dual{V: p.d[j], DUX: 1}
+		if st.dir == j {
+			return Dual{V: st.d[j], DUX: 1}
 		}
-		return Dual{V: p.d[j]}
+		return Dual{V: st.d[j]}
 	}
 }
 
@@ -111,6 +125,12 @@ func neg(a *cnode) fn {
 
 func add(a, b *cnode) fn {
 	switch {
+	case a.pv != nil && !b.konst:
+		pv, i, fb := a.pv, a.pi, b.f
+		return func(p point) Dual { r := fb(p); r.V = (*pv)[i] + r.V; return r }
+	case b.pv != nil && !a.konst:
+		fa, pv, i := a.f, b.pv, b.pi
+		return func(p point) Dual { r := fa(p); r.V += (*pv)[i]; return r }
 	case a.konst:
 		c, fb := a.c, b.f
 		return func(p point) Dual { r := fb(p); r.V = c + r.V; return r }
@@ -153,11 +173,23 @@ func scaleBy(c float64, fb fn) fn {
 }
 
 func mul(a, b *cnode) fn {
+	if b.pv != nil && !a.konst {
+		a, b = b, a // a parameter times anything: the parameter first
+	}
 	switch {
 	case a.konst:
 		return scaleBy(a.c, b.f)
 	case b.konst:
 		return scaleBy(b.c, a.f)
+	case a.pv != nil && b.isU:
+		pv, i := a.pv, a.pi
+		return func(p point) Dual { c := (*pv)[i]; return Dual{V: c * p.u, DU: c} }
+	case a.pv != nil:
+		pv, i, fb := a.pv, a.pi, b.f
+		return func(p point) Dual {
+			c, r := (*pv)[i], fb(p)
+			return Dual{c * r.V, c * r.DU, c * r.DUX, c * r.DUXX}
+		}
 	case !a.active() && !b.active():
 		fa, fb := a.f, b.f
 		return func(p point) Dual { return Dual{V: fa(p).V * fb(p).V} }
