@@ -364,3 +364,62 @@ func TestWriteExpressions(t *testing.T) {
 		t.Errorf("writing a Go law: %v", err)
 	}
 }
+
+// TestDefaultsExpressions: expressions in [defaults] apply to every edge
+// that does not give the key; an edge's own number replaces a default
+// expression; an equation in [defaults] makes every edge nonlinear.
+func TestDefaultsExpressions(t *testing.T) {
+	net, err := Read(strings.NewReader(twoNodes+`[parameters]
+k = 2
+[defaults]
+length = 1
+diffusivity = "k*(1 + u)"
+[[edge]]
+id = "e1"
+from = "a"
+to = "b"
+[[edge]]
+id = "e2"
+from = "a"
+to = "b"
+diffusivity = 3
+`), "d.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if l := net.Edges[0].Law; l == nil || l.A == nil || l.A.Src != "k*(1 + u)" {
+		t.Errorf("e1: law %+v, want the default diffusivity", l)
+	}
+	if e := net.Edges[1]; e.Law != nil || e.A != 3 {
+		t.Errorf("e2: law %+v, A = %g; want the plain 3", e.Law, e.A)
+	}
+	net, err = Read(strings.NewReader(twoNodes+`[defaults]
+length = 1
+diffusivity = 1
+equation = "uxx - u^3"
+weight = 1
+[[edge]]
+id = "e1"
+from = "a"
+to = "b"
+`), "d.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if l := net.Edges[0].Law; l == nil || l.Equation == nil || l.A != nil {
+		t.Errorf("default equation: law %+v", l)
+	}
+	_, err = Read(strings.NewReader(twoNodes+`[defaults]
+length = 1
+equation = "uxx - u^3"
+weight = 1
+[[edge]]
+id = "e1"
+from = "a"
+to = "b"
+source = 1
+`), "d.toml")
+	if err == nil || !strings.Contains(err.Error(), "d.toml:15: edge \"e1\": source is not allowed with equation") {
+		t.Errorf("edge source with a default equation: %v", err)
+	}
+}
