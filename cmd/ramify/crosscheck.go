@@ -31,6 +31,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	plot := fs.String("plot", "", "write SVG figures into this directory")
 	draw := fs.String("draw", "", "draw the network coloured by its steady field, start marked, into this SVG file")
 	method := fs.String("method", "auto", "PDE edge elements: exact, grid, or auto")
+	probes := fs.StringArray("probe", nil, "nonlinear files: also compare the field with walkers started at POINT; repeatable")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -60,6 +61,12 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
+	}
+	if graphpde.HasLaws(net) {
+		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *asJSON, stdout, stderr)
+	}
+	if len(*probes) > 0 {
+		return badFlag(stderr, "crosscheck", fmt.Errorf("--probe is for files with nonlinear laws (a linear file is compared from --from)"))
 	}
 	p, err := net.ParsePoint(*wf.from)
 	if err != nil {

@@ -51,6 +51,9 @@ func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "exit", err)
 	}
+	if err := nonlinearRefusal(net, file, "exit statistics are defined for linear problems only"); err != nil {
+		return fail(stderr, "exit", err)
+	}
 	p, err := net.ParsePoint(*from)
 	if err != nil {
 		return fail(stderr, "exit", err)

@@ -62,3 +62,13 @@ func printNonlinear(w io.Writer, nl *graphpde.NonlinearResult) {
 		fmt.Fprintln(w, "note:", n)
 	}
 }
+
+// nonlinearRefusal returns the error of a command whose quantities have no
+// meaning for a network with nonlinear laws, naming the file and what to
+// use instead, or nil for a linear network.
+func nonlinearRefusal(net *graphpde.Network, file, what string) error {
+	if !graphpde.HasLaws(net) {
+		return nil
+	}
+	return fmt.Errorf("%s has laws that depend on u (or nonlinear node laws): %s; 'ramify solve' gives the field and 'ramify crosscheck --from POINT' checks it with the walkers of the linear problem it solves", file, what)
+}

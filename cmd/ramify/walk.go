@@ -94,6 +94,9 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
+	if err := nonlinearRefusal(net, file, "walkers have no law of their own there (their rules would depend on the unknown field)"); err != nil {
+		return fail(stderr, "walk", err)
+	}
 	p, err := net.ParsePoint(*wf.from)
 	if err != nil {
 		return fail(stderr, "walk", err)
