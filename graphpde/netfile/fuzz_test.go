@@ -7,6 +7,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/ramify-dev/ramify/graphpde"
 )
 
 // seedFiles adds every file in testdata/netfile with the given extension to
@@ -52,6 +54,7 @@ func FuzzRead(f *testing.F) {
 	f.Add([]byte(exprFile))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		net, err := Read(bytes.NewReader(data), "fuzz.toml")
+		sameAsWhole(t, data, net, err)
 		checkOutcome(t, err, func() ([]byte, error) {
 			var buf bytes.Buffer
 			if err := Write(&buf, net); err != nil {
@@ -81,4 +84,26 @@ func FuzzReadCSV(f *testing.F) {
 			return buf.Bytes(), Write(&buf, net)
 		})
 	})
+}
+
+// sameAsWhole checks that reading data table by table (the [[node]] and
+// [[edge]] tables decoded one at a time) accepts what decoding the whole
+// file at once accepts, and gives an equal network. Both fail on the same
+// files, though not always with the same message: a file with several
+// errors can be stopped at a different one first (table by table meets the
+// other tables' errors before a syntax error in a later [[edge]]).
+func sameAsWhole(t *testing.T, data []byte, net *graphpde.Network, err error) {
+	t.Helper()
+	decodeWhole = true
+	wnet, werr := Read(bytes.NewReader(data), "fuzz.toml")
+	decodeWhole = false
+	switch {
+	case (err == nil) != (werr == nil):
+		t.Fatalf("table by table: %v; whole: %v", err, werr)
+	case err != nil:
+	default:
+		if d := diffNetworks(net, wnet, 0); d != "" {
+			t.Fatalf("networks differ: %s", d)
+		}
+	}
 }

@@ -62,30 +62,13 @@ func errMsg(err error) string {
 // Read parses a network file (TOML 1.0, keys in the package documentation)
 // and returns the network it describes. name is the file name used in error
 // messages. Every error is an *Error carrying the line of the offending key.
-// Read holds the whole file in memory; its cost is linear in the file size.
+// Values nested deeper than MaxNesting are refused before anything is
+// decoded. Read holds the file's text in memory and decodes the [[node]]
+// and [[edge]] tables one at a time (files with other sub-tables are decoded
+// whole), so that its memory is the text plus the network it builds plus
+// one table; its cost is linear in the file size.
 func Read(r io.Reader, name string) (*graphpde.Network, error) {
-	data, err := io.ReadAll(r)
-	if err != nil {
-		return nil, &Error{File: name, Msg: "cannot read: " + errMsg(err), Err: err}
-	}
-	src := string(data)
-	var root map[string]any
-	if _, err := toml.Decode(src, &root); err != nil {
-		e := &Error{File: name, Msg: "invalid TOML: " + err.Error(), Err: err}
-		var pe toml.ParseError
-		if errors.As(err, &pe) {
-			// The library counts a newline it failed at as the next line;
-			// counting up to the error's byte offset gives the line it is on.
-			e.Line = pe.Position.Line
-			if st := pe.Position.Start; st >= 0 && st <= len(src) {
-				e.Line = 1 + strings.Count(src[:st], "\n")
-			}
-			e.Msg = "invalid TOML: " + pe.Message
-		}
-		return nil, e
-	}
-	rd := &reader{file: name, loc: locate(src), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
-	net, err := rd.network(root)
+	net, err := read(r, name)
 	if err == nil && len(net.Nodes) == 0 {
 		// Nothing to solve: an empty file, or one with only [network]
 		// or [defaults]. Every command would report "0 nodes; converged".
@@ -94,10 +77,55 @@ func Read(r io.Reader, name string) (*graphpde.Network, error) {
 	return net, err
 }
 
+// read is Read without the check for an empty network.
+func read(r io.Reader, name string) (*graphpde.Network, error) {
+	var b strings.Builder
+	if size := inputSize(r); size > 0 {
+		b.Grow(int(size))
+	}
+	if _, err := io.Copy(&b, r); err != nil {
+		return nil, &Error{File: name, Msg: "cannot read: " + errMsg(err), Err: err}
+	}
+	src := b.String()
+	lay, err := prescan(src, name)
+	if err != nil {
+		return nil, err
+	}
+	rd := &reader{file: name, nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	if lay.simple && len(lay.nodes)+len(lay.edges) > 0 && !decodeWhole {
+		// One table at a time: the head (every other table) whole, each
+		// [[node]] and [[edge]] when it is read.
+		head := headText(src, lay)
+		var root map[string]any
+		if _, err := toml.Decode(head, &root); err != nil {
+			return nil, tomlError(head, name, err)
+		}
+		_, hasNodes := root["node"]
+		_, hasEdges := root["edge"]
+		if !hasNodes && !hasEdges {
+			rd.loc = locate(head)
+			rd.sections = newSectionIndex(src, name, lay)
+			return rd.network(root)
+		}
+		// node = [...] beside [[node]]: let the library say what is wrong.
+	}
+	var root map[string]any
+	if _, err := toml.Decode(src, &root); err != nil {
+		return nil, tomlError(src, name, err)
+	}
+	rd.loc = locate(src)
+	return rd.network(root)
+}
+
+// decodeWhole makes Read decode every file whole, as files with other
+// table headers are (tests compare the two ways).
+var decodeWhole = false
+
 // reader holds the state of one Read.
 type reader struct {
 	file     string
 	loc      *locator
+	sections *sectionIndex  // when [[node]] and [[edge]] are decoded one at a time
 	nodeLine map[string]int // node id → line of its id key
 	edgeLine map[string]int
 	cells    int64 // cells so far, for the memory guard
@@ -127,12 +155,18 @@ func (t *tbl) line(key ...string) int {
 	if t.pk == "" && len(t.path) > 0 {
 		t.pk = pathKey(t.path)
 	}
+	loc := t.rd.loc
+	if t.rd.sections != nil {
+		if l := t.rd.sections.locatorFor(t.path); l != nil {
+			loc = l
+		}
+	}
 	if len(key) > 0 {
-		if ln, ok := t.rd.loc.lines[join(t.pk, key...)]; ok {
+		if ln, ok := loc.lines[join(t.pk, key...)]; ok {
 			return ln
 		}
 	}
-	return t.rd.loc.lineOf(append(slices.Clip(t.path), key...)...)
+	return loc.lineOf(append(slices.Clip(t.path), key...)...)
 }
 
 // fail returns an *Error at the line of key (the table header if key is "").
@@ -458,6 +492,13 @@ func (t *tbl) edgeValues(ev *edgeVals) error {
 	return nil
 }
 
+// tables are the [[node]] or [[edge]] tables of a file: n of them, the i-th
+// decoded by get(i) (at once, or only when it is read).
+type tables struct {
+	n   int
+	get func(i int) (map[string]any, error)
+}
+
 // splitSpec is a node's split table, checked once the edges are known.
 type splitSpec struct {
 	t    *tbl
@@ -521,11 +562,18 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			return nil, err
 		}
 	}
-	var nodes, edges []map[string]any
+	var nodes, edges tables
 	for _, sec := range []struct {
 		key string
-		dst *[]map[string]any
+		dst *tables
 	}{{"node", &nodes}, {"edge", &edges}} {
+		if rd.sections != nil {
+			kind := sec.key
+			*sec.dst = tables{n: len(rd.sections.sections(kind)), get: func(i int) (map[string]any, error) {
+				return rd.sections.table(kind, i)
+			}}
+			continue
+		}
 		v, ok := root[sec.key]
 		if !ok {
 			continue
@@ -534,10 +582,14 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if !isArr {
 			return nil, top.fail(sec.key, fmt.Sprintf("%s must be an array of tables: write [[%s]] before each one", sec.key, sec.key))
 		}
-		*sec.dst = arr
+		*sec.dst = tables{n: len(arr), get: func(i int) (map[string]any, error) { return arr[i], nil }}
 	}
 	var splits []splitSpec
-	for i, m := range nodes {
+	for i := range nodes.n {
+		m, err := nodes.get(i)
+		if err != nil {
+			return nil, err
+		}
 		t := &tbl{rd: rd, obj: fmt.Sprintf("node #%d", i+1), kind: "node", path: []string{"node", index(i)}, m: m}
 		nd, split, err := rd.node(t)
 		if err != nil {
@@ -551,7 +603,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			splits = append(splits, splitSpec{t: t, node: v, m: split})
 		}
 	}
-	for i, m := range edges {
+	for i := range edges.n {
+		m, err := edges.get(i)
+		if err != nil {
+			return nil, err
+		}
 		t := &tbl{rd: rd, obj: fmt.Sprintf("edge #%d", i+1), kind: "edge", path: []string{"edge", index(i)}, m: m}
 		if err := rd.edge(net, t, &def); err != nil {
 			return nil, err

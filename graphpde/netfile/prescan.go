@@ -1,0 +1,362 @@
+package netfile
+
+import (
+	"errors"
+	"fmt"
+	"slices"
+	"strconv"
+	"strings"
+
+	"github.com/BurntSushi/toml"
+)
+
+// A network file is read in two passes. The first, prescan, is a cheap
+// lexical pass over the text (strings, comments, brackets and table headers;
+// no values are decoded) that
+//
+//   - refuses values nested deeper than MaxNesting before the TOML library
+//     sees them: the format never needs more than an array of inline tables
+//     (depth 2), and the library's cost, and the line scanner's, grows with
+//     the square of the depth (a file of 10 000 nested inline tables took
+//     19 s and 3.9 GB);
+//   - finds the top-level [[node]] and [[edge]] tables, so that the second
+//     pass can decode them one at a time instead of building one map of the
+//     whole file (which took about 25 times the file's size at its peak).
+//
+// Files with any other table header than [network], [parameters],
+// [defaults], [[node]] and [[edge]] (sub-tables such as [node.split], quoted
+// or dotted headers) are decoded whole, as the TOML library defines them.
+
+// MaxNesting is the deepest nesting of arrays and inline tables in one value
+// that Read accepts.
+const MaxNesting = 4
+
+// section is one top-level [[node]] or [[edge]] table of a file: its text is
+// src[start:end] and its header is on line line.
+type section struct {
+	start, end, line int
+}
+
+// layout is what prescan finds in a file.
+type layout struct {
+	nodes, edges []section
+	// simple is false when a table header other than the five of the format
+	// occurs: the file must then be decoded whole.
+	simple bool
+}
+
+// nestingError reports a value nested deeper than MaxNesting.
+func nestingError(file string, line int) *Error {
+	return &Error{File: file, Line: line, Msg: fmt.Sprintf("arrays or inline tables nested more than %d deep: a network file never needs that many", MaxNesting)}
+}
+
+// prescan runs the lexical pass over src. It fails only on nesting deeper
+// than MaxNesting; any other syntax error is left to the TOML library. Cost
+// O(len(src)), memory O(tables).
+func prescan(src, file string) (*layout, error) {
+	lay := &layout{simple: true}
+	var cur *[]section // the array whose last section is open
+	closeSection := func(at int) {
+		if cur != nil {
+			(*cur)[len(*cur)-1].end = at
+			cur = nil
+		}
+	}
+	pos, line, depth := 0, 1, 0
+	lineStart := true // at the start of a line, outside any value
+	if strings.HasPrefix(src, "\uFEFF") {
+		pos = len("\uFEFF")
+	}
+	n := len(src)
+	for pos < n {
+		c := src[pos]
+		switch {
+		case c == '\n':
+			line++
+			pos++
+			if depth == 0 {
+				lineStart = true
+			}
+			continue
+		case c == ' ' || c == '\t' || c == '\r':
+			pos++
+			continue
+		case c == '#':
+			for pos < n && src[pos] != '\n' {
+				pos++
+			}
+			continue
+		case c == '"' || c == '\'':
+			pos, line = skipString(src, pos, line)
+			lineStart = false
+			continue
+		}
+		if lineStart && c == '[' {
+			// A table header: up to the end of the line.
+			start := pos
+			end := strings.IndexByte(src[pos:], '\n')
+			if end < 0 {
+				end = n
+			} else {
+				end += pos
+			}
+			closeSection(lineStartOf(src, start))
+			switch kind := headerKind(src[start:end]); kind {
+			case "node", "edge":
+				arr := &lay.nodes
+				if kind == "edge" {
+					arr = &lay.edges
+				}
+				*arr = append(*arr, section{start: lineStartOf(src, start), end: n, line: line})
+				cur = arr
+			case "network", "parameters", "defaults":
+			default:
+				lay.simple = false
+			}
+			pos = end
+			continue
+		}
+		lineStart = false
+		switch c {
+		case '[', '{':
+			depth++
+			if depth > MaxNesting {
+				return nil, nestingError(file, line)
+			}
+		case ']', '}':
+			if depth > 0 {
+				depth--
+			}
+		}
+		pos++
+	}
+	closeSection(n)
+	return lay, nil
+}
+
+// lineStartOf returns the offset of the start of the line holding pos.
+func lineStartOf(src string, pos int) int {
+	return strings.LastIndexByte(src[:pos], '\n') + 1
+}
+
+// skipString skips the basic, literal or multi-line string that starts at
+// pos and returns the position after it and the line it ends on. An
+// unterminated string runs to the end of its line (single-line) or of the
+// file (multi-line); the TOML library reports it.
+func skipString(src string, pos, line int) (int, int) {
+	q := src[pos]
+	n := len(src)
+	if pos+2 < n && src[pos+1] == q && src[pos+2] == q {
+		pos += 3
+		for pos < n {
+			switch {
+			case src[pos] == '\\' && q == '"':
+				if pos+1 < n && src[pos+1] == '\n' {
+					line++
+				}
+				pos += 2
+			case src[pos] == q && pos+2 < n && src[pos+1] == q && src[pos+2] == q:
+				pos += 3
+				// Up to two more quotes belong to the string's content.
+				for k := 0; k < 2 && pos < n && src[pos] == q; k++ {
+					pos++
+				}
+				return pos, line
+			case src[pos] == q && pos+2 == n && src[pos+1] == q:
+				return n, line
+			default:
+				if src[pos] == '\n' {
+					line++
+				}
+				pos++
+			}
+		}
+		return pos, line
+	}
+	pos++
+	for pos < n {
+		switch src[pos] {
+		case '\\':
+			if q == '"' {
+				pos++
+			}
+		case '\n':
+			return pos, line
+		case q:
+			return pos + 1, line
+		}
+		pos++
+	}
+	return pos, line
+}
+
+// headerKind returns "node" or "edge" for a header [[node]] or [[edge]],
+// "network", "parameters" or "defaults" for those tables, and "" for any
+// other header (spaces inside the brackets and a comment after them are
+// allowed).
+func headerKind(h string) string {
+	if i := strings.IndexByte(h, '#'); i >= 0 {
+		h = h[:i]
+	}
+	h = strings.TrimSpace(h)
+	if strings.HasPrefix(h, "[[") && strings.HasSuffix(h, "]]") {
+		switch k := strings.TrimSpace(h[2 : len(h)-2]); k {
+		case "node", "edge":
+			return k
+		}
+		return ""
+	}
+	if strings.HasPrefix(h, "[") && strings.HasSuffix(h, "]") && !strings.HasPrefix(h, "[[") {
+		switch k := strings.TrimSpace(h[1 : len(h)-1]); k {
+		case "network", "parameters", "defaults":
+			return k
+		}
+	}
+	return ""
+}
+
+// headText returns src with the text of the [[node]] and [[edge]] sections
+// taken out but their line breaks kept, so that what is left decodes to the
+// other tables with the lines of the whole file.
+func headText(src string, lay *layout) string {
+	var secs []section
+	secs = append(secs, lay.nodes...)
+	secs = append(secs, lay.edges...)
+	sortSections(secs)
+	var b strings.Builder
+	at := 0
+	for _, s := range secs {
+		b.WriteString(src[at:s.start])
+		b.WriteString(strings.Repeat("\n", strings.Count(src[s.start:s.end], "\n")))
+		at = s.end
+	}
+	b.WriteString(src[at:])
+	return b.String()
+}
+
+// sortSections sorts sections by start (they are disjoint).
+func sortSections(s []section) {
+	slices.SortFunc(s, func(a, b section) int { return a.start - b.start })
+}
+
+// batchBytes is about the most text of [[node]] or [[edge]] tables decoded
+// at once: large enough that the TOML library's cost per call does not
+// count, small enough that the decoded maps stay far below the file's size.
+const batchBytes = 64 << 10
+
+// batch returns the end of the run of sections starting at secs[i] that are
+// adjacent in the file and hold at most about batchBytes of text.
+func batch(secs []section, i int) int {
+	j := i + 1
+	for j < len(secs) && secs[j].start == secs[j-1].end && secs[j].end-secs[i].start <= batchBytes {
+		j++
+	}
+	return j
+}
+
+// decodeBatch decodes the [[kind]] sections secs[i:j] (adjacent in src) and
+// returns their tables. Errors carry the line in the whole file.
+func decodeBatch(src, file, kind string, secs []section, i, j int) ([]map[string]any, error) {
+	text := src[secs[i].start:secs[j-1].end]
+	var root map[string]any
+	if _, err := toml.Decode(text, &root); err != nil {
+		e := tomlError(text, file, err)
+		if e.Line > 0 {
+			e.Line += secs[i].line - 1
+		}
+		return nil, e
+	}
+	arr, ok := root[kind].([]map[string]any)
+	if !ok || len(arr) != j-i || len(root) != 1 {
+		return nil, &Error{File: file, Line: secs[i].line, Msg: "invalid TOML: [[" + kind + "]] tables not understood"}
+	}
+	return arr, nil
+}
+
+// tomlError turns an error of the TOML library on text into an *Error with
+// the line it is on.
+func tomlError(text, file string, err error) *Error {
+	e := &Error{File: file, Msg: "invalid TOML: " + err.Error(), Err: err}
+	var pe toml.ParseError
+	if errors.As(err, &pe) {
+		// The library counts a newline it failed at as the next line;
+		// counting up to the error's byte offset gives the line it is on.
+		e.Line = pe.Position.Line
+		if st := pe.Position.Start; st >= 0 && st <= len(text) {
+			e.Line = 1 + strings.Count(text[:st], "\n")
+		}
+		e.Msg = "invalid TOML: " + pe.Message
+	}
+	return e
+}
+
+// sectionIndex decodes the [[node]] and [[edge]] sections and gives their
+// line locators on demand, a batch of adjacent sections at a time, keeping
+// the last batch of each (tables are read in order).
+type sectionIndex struct {
+	src, file    string
+	nodes, edges []section
+	cache        map[string]*sectionBatch // by kind: tables
+	locs         map[string]*sectionBatch // by kind: line locator
+}
+
+// sectionBatch is the decoded tables, or the locator, of sections [lo, hi).
+type sectionBatch struct {
+	lo, hi int
+	tables []map[string]any
+	loc    *locator
+}
+
+func newSectionIndex(src, file string, lay *layout) *sectionIndex {
+	return &sectionIndex{src: src, file: file, nodes: lay.nodes, edges: lay.edges,
+		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch)}
+}
+
+func (x *sectionIndex) sections(kind string) []section {
+	if kind == "edge" {
+		return x.edges
+	}
+	return x.nodes
+}
+
+// table returns the i-th [[kind]] table.
+func (x *sectionIndex) table(kind string, i int) (map[string]any, error) {
+	b := x.cache[kind]
+	if b == nil || i < b.lo || i >= b.hi {
+		secs := x.sections(kind)
+		j := batch(secs, i)
+		tabs, err := decodeBatch(x.src, x.file, kind, secs, i, j)
+		if err != nil {
+			return nil, err
+		}
+		b = &sectionBatch{lo: i, hi: j, tables: tabs}
+		x.cache[kind] = b
+	}
+	return b.tables[i-b.lo], nil
+}
+
+// locatorFor returns the locator of the table at path (node or edge, #i),
+// or nil when path is not such a table.
+func (x *sectionIndex) locatorFor(path []string) *locator {
+	if len(path) < 2 || !strings.HasPrefix(path[1], "#") || (path[0] != "node" && path[0] != "edge") {
+		return nil
+	}
+	kind := path[0]
+	secs := x.sections(kind)
+	i, err := strconv.Atoi(path[1][1:])
+	if err != nil || i < 0 || i >= len(secs) {
+		return nil
+	}
+	b := x.locs[kind]
+	if b == nil || i < b.lo || i >= b.hi {
+		j := batch(secs, i)
+		l := &locator{src: x.src[secs[i].start:secs[j-1].end], line: secs[i].line, lines: make(map[string]int), arrays: map[string]int{kind: i}}
+		if strings.HasPrefix(l.src, "\uFEFF") {
+			l.pos = len("\uFEFF") // the first table right after a byte-order mark
+		}
+		l.scan()
+		b = &sectionBatch{lo: i, hi: j, loc: l}
+		x.locs[kind] = b
+	}
+	return b.loc
+}
