@@ -356,11 +356,10 @@ func edgeDyn(ed *Edge, L, lam float64) (diag, off float64, clamped int, dist flo
 	return diag / L, off / L, clamped, dist
 }
 
-// count returns N(λ) and g(λ) = 1/(eᵀK(λ)⁻¹e). A pivot too small to be
-// trusted means λ is (nearly) an eigenvalue: λ is then moved by a few units
-// of round-off and the count repeated; the value used is returned as
-// lamUsed.
-func (w *wwSystem) count(lam float64) (n int, g, lamUsed float64, err error) {
+// countNudged returns N(λ) and g(λ) of w. A pivot too small to be trusted
+// means λ is (nearly) an eigenvalue: λ is then moved by a few units of
+// round-off and the count repeated; the value used is returned as lamUsed.
+func countNudged(w eigenCounter, lam, scale float64) (n int, g, lamUsed float64, err error) {
 	for try := 0; ; try++ {
 		n, g, err = w.countAt(lam)
 		if err == nil {
@@ -370,7 +369,7 @@ func (w *wwSystem) count(lam float64) (n int, g, lamUsed float64, err error) {
 		if !errors.As(err, &se) || try == 8 {
 			return 0, 0, lam, err
 		}
-		lam += math.Max(math.Abs(lam), w.scale) * 0x1p-46 * float64(int(1)<<try)
+		lam += math.Max(math.Abs(lam), scale) * 0x1p-46 * float64(int(1)<<try)
 	}
 }
 
@@ -481,26 +480,53 @@ func loopDyn(ed *Edge, lam float64) float64 {
 	return 0
 }
 
-// spectrumExact finds the s.Count smallest eigenvalues by the count.
-func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
-	w := newWW(net)
-	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
-	// Scale of the eigenvalues: the smallest clamped eigenvalue of an edge
-	// (or a node's own rate β/ρ_v).
+// eigenCounter counts eigenvalues below λ: N(λ), g(λ) = 1/(eᵀA(λ)⁻¹e)
+// for the secant (NaN if none), and a *nodesys.SingularError when A(λ) is
+// singular to working precision.
+type eigenCounter interface {
+	countAt(lam float64) (int, float64, error)
+	factorizations() int
+}
+
+func (w *wwSystem) factorizations() int { return w.facts }
+
+// eigenScale returns the size of the smallest eigenvalues: the smallest
+// clamped eigenvalue of an edge (with the largest a/ρ along it), or a
+// node's own rate β/ρ_v.
+func eigenScale(net *Network) float64 {
 	scale := math.Inf(1)
 	for e := range net.Edges {
 		ed := &net.Edges[e]
-		scale = math.Min(scale, (ed.C+ed.A*(math.Pi/ed.Length)*(math.Pi/ed.Length))/ed.Rho)
+		a, _, c, _, rho := fvCoefs(ed, 0.5*ed.Length, 0)
+		scale = math.Min(scale, (c+a*(math.Pi/ed.Length)*(math.Pi/ed.Length))/rho)
 	}
 	for v := range net.Nodes {
 		if l := net.Nodes[v].Law; l.Kind == vertex.Balance && l.Capacity > 0 && l.Leak > 0 {
 			scale = math.Min(scale, l.Leak/l.Capacity)
 		}
 	}
-	if math.IsInf(scale, 1) {
+	if math.IsInf(scale, 1) || !(scale > 0) {
 		scale = 1
 	}
-	w.scale = scale
+	return scale
+}
+
+// spectrumExact finds the s.Count smallest eigenvalues by the count.
+func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
+	w := newWW(net)
+	w.scale = eigenScale(net)
+	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
+	if err := byCount(w, w.scale, s, res); err != nil {
+		return nil, err
+	}
+	res.Stats.Unknowns = w.m
+	return res, nil
+}
+
+// byCount finds the s.Count smallest eigenvalues of a self-adjoint problem
+// by bracketing with the counter c and refining each by a secant on g,
+// safeguarded by bisection; scale is the size of the smallest eigenvalues.
+func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumResult) error {
 	absTol := 1e-13 * scale
 	type eval struct {
 		lam, g float64
@@ -512,9 +538,9 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	hi := eval{lam: 1.3 * scale}
 	var err error
 	for {
-		hi.n, hi.g, hi.lam, err = w.count(hi.lam)
+		hi.n, hi.g, hi.lam, err = countNudged(w, hi.lam, scale)
 		if err != nil {
-			return nil, err
+			return err
 		}
 		evals = append(evals, hi)
 		if hi.n >= s.Count || hi.lam > 1e300 {
@@ -608,7 +634,7 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 				// The secant has converged: a bracket of width 2·tol
 				// around it finishes.
 				if _, err := probe(cand, tol); err != nil {
-					return nil, err
+					return err
 				}
 				prev, last = nil, nil
 				continue
@@ -621,7 +647,7 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 				// eigenvalue to about that precision; bracket it.
 				narrowed, err := probe(cand, tol)
 				if err != nil {
-					return nil, err
+					return err
 				}
 				if !narrowed {
 					// singular all across the bracket: this is the
@@ -632,7 +658,7 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 				prev, last = nil, nil
 				continue
 			case err != nil:
-				return nil, err
+				return err
 			}
 			add(eval{lam: cand, n: n, g: g})
 			prev, last = last, &evals[len(evals)-1]
@@ -652,12 +678,6 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 		res.Eigenvalues = append(res.Eigenvalues, Eigenvalue{Value: val, Multiplicity: mult, Err: 0.5*(h.lam-l.lam) + math.Abs(val-lam)})
 		found += mult
 	}
-	res.Stats.Factorizations = w.facts
-	res.Stats.Unknowns = w.m
-	return res, nil
-}
-
-// spectrumGrid solves the eigenproblem on the finite-volume grid.
-func spectrumGrid(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
-	return nil, errors.New("the spectrum of networks with drift, varying coefficients or unequal end weights needs the grid eigen-solver, which is not built yet")
+	res.Stats.Factorizations = w.factorizations()
+	return nil
 }

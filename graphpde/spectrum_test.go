@@ -158,3 +158,75 @@ func TestSpectrumCable(t *testing.T) {
 		}
 	}
 }
+
+// TestSpectrumGrid checks the grid eigen-solvers against closed forms, and
+// that the reported error bars (Richardson: half the difference between
+// the grid and the grid of half its cells) cover the true error.
+//
+//   - ((1+x)² u')' = −λu on (0, 1), u = 0 at both ends (varying
+//     coefficients, counted): with t = ln(1+x) the problem is
+//     u_tt + u_t + λu = 0 on (0, ln 2), so u = e^{−t/2} sin(kt) with
+//     k = nπ/ln 2 and λ = k² + 1/4 (derived).
+//   - u” + 2u' = −λu on (0, 1), u = 0 at both ends (drift: Arnoldi):
+//     λ_n = (nπ)² + 1 (derived: u = e^{−x} sin(nπx)).
+//   - the ring of length 1 with u” + u' = −λu (drift on a cycle): the
+//     modes e^{2πikx} give λ = (2πk)² − 2πik, a complex pair for every k ≥ 1
+//     (derived).
+func TestSpectrumGrid(t *testing.T) {
+	type want struct{ re, im float64 }
+	ln2 := math.Log(2)
+	k := func(n float64) float64 { return n * math.Pi / ln2 }
+	for _, tc := range []struct {
+		name string
+		net  func(*testing.T) *Network
+		want []want // with multiplicities repeated
+	}{
+		{"varying diffusivity", func(t *testing.T) *Network {
+			b := newNetBuilder(t)
+			x, y := b.fixed("a", 0), b.fixed("b", 0)
+			b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, Profile: &Profile{A: func(x float64) float64 { return (1 + x) * (1 + x) }}})
+			return b.net
+		}, []want{{k(1)*k(1) + 0.25, 0}, {k(2)*k(2) + 0.25, 0}, {k(3)*k(3) + 0.25, 0}}},
+		{"drift", func(t *testing.T) *Network {
+			b := newNetBuilder(t)
+			x, y := b.fixed("a", 0), b.fixed("b", 0)
+			b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, B: 2})
+			return b.net
+		}, []want{{math.Pi*math.Pi + 1, 0}, {4*math.Pi*math.Pi + 1, 0}}},
+		{"ring with drift", func(t *testing.T) *Network {
+			b := newNetBuilder(t)
+			v := b.balance("v")
+			b.edge(Edge{ID: "loop", From: v, To: v, Length: 1, A: 1, B: 1})
+			return b.net
+		}, []want{{0, 0}, {4 * math.Pi * math.Pi, -2 * math.Pi}, {4 * math.Pi * math.Pi, 2 * math.Pi}}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			r, err := Spectrum(tc.net(t), &SpectrumSettings{Count: len(tc.want), Cells: 100})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if r.Method != "grid" || r.Status != Converged {
+				t.Fatalf("method %s, status %v", r.Method, r.Status)
+			}
+			var got []Eigenvalue
+			for _, e := range r.Eigenvalues {
+				for range e.Multiplicity {
+					got = append(got, e)
+				}
+			}
+			if len(got) < len(tc.want) {
+				t.Fatalf("%d eigenvalues %v, want %d", len(got), r.Eigenvalues, len(tc.want))
+			}
+			for i, w := range tc.want {
+				e := got[i]
+				d := math.Hypot(e.Value-w.re, e.Imag-w.im)
+				t.Logf("λ_%d = %.8g%+.8gi, want %.8g%+.8gi: error %.2e, bar %.2e", i+1, e.Value, e.Imag, w.re, w.im, d, e.Err)
+				// the bar must cover the error, and not by a factor of
+				// more than 100 (an honest, useful bar); 1e-9 for round-off
+				if d > e.Err+1e-9*math.Max(1, math.Abs(w.re)) || e.Err > 100*d+1e-6 {
+					t.Errorf("λ_%d = %.10g%+.10gi, want %.10g%+.10gi: error %.2e against bar %.2e", i+1, e.Value, e.Imag, w.re, w.im, d, e.Err)
+				}
+			}
+		})
+	}
+}

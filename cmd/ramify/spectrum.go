@@ -82,8 +82,11 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	}
 	fmt.Fprintf(stdout, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), r.Status)
 	how := "exact elements, eigenvalues counted (Wittrick–Williams); none missed, multiplicities exact"
-	if r.Method == "grid" {
-		how = "finite-volume grid, shift-invert Arnoldi; the grid's discretisation error is not included in the error column"
+	switch {
+	case r.Method == "grid" && r.SelfAdjoint:
+		how = "finite-volume grid, eigenvalues counted (inertia of K − λM); error: the bracket plus half the change from a grid of half as many cells"
+	case r.Method == "grid":
+		how = "finite-volume grid, shift-invert Arnoldi (complex eigenvalues possible); error: the Ritz residual plus half the change from a grid of half as many cells"
 	}
 	fmt.Fprintf(stdout, "method %s: %s; %d factorisations, %.3g s\n\n", r.Method, how, r.Stats.Factorizations, r.Stats.Time.Seconds())
 	tw := tabwriter.NewWriter(stdout, 0, 0, 2, ' ', 0)
