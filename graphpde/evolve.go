@@ -47,6 +47,21 @@ type EvolveSettings struct {
 	Crossing float64
 	// MaxGridUnknowns bounds the unknowns of the grid (0: DefaultMaxGridUnknowns).
 	MaxGridUnknowns int
+	// Forward solves for where a tracer is instead of for the field
+	// (docs/time-and-spectrum.md §3): the concentration q per unit
+	// capacity of walkers released into the network, which obeys
+	//
+	//	∂_t(ρ q) = ∂_x(a ∂_x q − b q) − c q
+	//
+	// with the total flux conserved at the nodes, a q/α the same on every
+	// edge at a node (a point mass ρ_v·that value at a node with capacity),
+	// and q = 0 at fixed (absorbing) nodes. Sources and injections are not
+	// used. The initial concentration is the network's initial field, or
+	// a unit amount at Release. Grid method only.
+	Forward bool
+	// Release, with Forward, puts a unit amount of tracer at this point at
+	// t = 0 (at the nearest grid vertex) instead of the initial field.
+	Release *Point
 	// Context stops the run early (Status IterationLimit, the output so far
 	// kept). nil means never.
 	Context context.Context
@@ -144,6 +159,9 @@ func Evolve(net *Network, set *EvolveSettings) (*EvolveResult, error) {
 	t0 := time.Now()
 	var res *EvolveResult
 	var err error
+	if s.Forward && (s.Method == MethodExact || s.Crossing != 0) {
+		return nil, errors.New("forward transport: grid method only, and no crossing times")
+	}
 	if s.Method == MethodExact {
 		res, err = evolveExact(net, &s)
 	} else {
@@ -181,7 +199,8 @@ type stepFactor struct {
 
 // tridf2 holds the state of the TR-BDF2 integrator on an fvSystem.
 type trbdf2 struct {
-	sys     *fvSystem
+	sys     odeSystem
+	rs      *odeRows
 	cache   []*stepFactor
 	facts   int
 	g0, g1  []float64 // −K u + r at the step's ends
@@ -203,7 +222,7 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 	}
 	var f *stepFactor
 	if len(ig.cache) < keepFactors {
-		f = &stepFactor{mat: nodesys.NewMatrix[float64](ig.sys.n), fac: nodesys.NewFactor[float64](nil)}
+		f = &stepFactor{mat: nodesys.NewMatrix[float64](ig.rs.n), fac: nodesys.NewFactor[float64](nil)}
 		ig.cache = append(ig.cache, f)
 	} else {
 		f = ig.cache[0]
@@ -215,7 +234,7 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 	}
 	f.h, f.use = h, 1
 	// M + (γh/2)K into f.mat: copy K's entries, scaled, then the diagonal.
-	sys := ig.sys
+	sys := ig.rs
 	d := trGamma * h / 2
 	f.mat.ZeroValues()
 	for i := 0; i < sys.n; i++ {
@@ -234,7 +253,7 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 
 // residual sets dst = −K u + r(t).
 func (ig *trbdf2) residual(dst, u []float64, t float64) {
-	ig.sys.mulK(dst, u)
+	ig.rs.mulK(dst, u)
 	ig.sys.load(ig.rn, t)
 	for i := range dst {
 		dst[i] = ig.rn[i] - dst[i]
@@ -252,7 +271,7 @@ func (ig *trbdf2) step(u, ug, u1, est []float64, t, h float64) error {
 	}
 	g := trGamma
 	d := g * h / 2
-	M := sys.M
+	M := ig.rs.M
 	// TR stage: (M + dK) u_γ = M u_n + d(g_n + r_γ)   [since −dK u_n = d(g_n − r_n)]
 	sys.load(ig.rn, t+g*h)
 	for i := range ig.rhs {
@@ -285,12 +304,18 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	if maxU == 0 {
 		maxU = DefaultMaxGridUnknowns
 	}
-	sys, err := newFV(net, s.Cells, maxU)
+	var sys odeSystem
+	var err error
+	if s.Forward {
+		sys, err = newForward(net, s.Cells, maxU, s.Release)
+	} else {
+		sys, err = newFV(net, s.Cells, maxU)
+	}
 	if err != nil {
 		return nil, err
 	}
-	n := sys.n
-	ig := &trbdf2{sys: sys, g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
+	n := sys.rows().n
+	ig := &trbdf2{sys: sys, rs: sys.rows(), g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
 		rhs: make([]float64, n), tm: make([]float64, n), rn: make([]float64, n)}
 	u := make([]float64, n)
 	ug := make([]float64, n)

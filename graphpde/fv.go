@@ -29,16 +29,12 @@ import (
 // nodes first, then the interiors of edge e from off[e] (n_e − 1 values, in
 // the direction of the edge).
 type fvSystem struct {
+	odeRows
 	net   *Network
-	n     int   // unknowns
 	nb    int   // balance-node unknowns
 	unk   []int // node → unknown, −1 for fixed nodes
 	cells []int // per edge
 	off   []int // per edge: unknown of its first interior vertex
-	// K as triplets (duplicates summed), in assembly order.
-	kI, kJ []int
-	kV     []float64
-	M      []float64
 	r0     []float64 // the load at t = 0 without fixed values: sources, injections
 	// Couplings to fixed nodes: r_row += coef·g_node(t).
 	fixRow, fixNode []int
@@ -232,15 +228,35 @@ func (s *fvSystem) addEdge(e int) {
 	}
 }
 
+// odeRows is M u̇ = −K u + r(t) without r: the unknowns, the diagonal of M
+// and K as triplets (duplicates summed), in assembly order.
+type odeRows struct {
+	n      int
+	kI, kJ []int
+	kV     []float64
+	M      []float64
+}
+
+func (s *odeRows) rows() *odeRows { return s }
+
+// odeSystem is what the time stepper needs of a discretised network.
+type odeSystem interface {
+	rows() *odeRows
+	load(dst []float64, t float64)                    // dst = r(t)
+	initial(u []float64) (nodeVals []float64)          // u(0); the node values
+	at(u []float64, p Point, t float64) float64        // value at a point
+	edgeField(u []float64, e int, t float64) []float64 // values at the grid vertices
+}
+
 // addK accumulates v into K(i, j).
-func (s *fvSystem) addK(i, j int, v float64) {
+func (s *odeRows) addK(i, j int, v float64) {
 	s.kI = append(s.kI, i)
 	s.kJ = append(s.kJ, j)
 	s.kV = append(s.kV, v)
 }
 
 // mulK sets dst = K x. Cost O(entries).
-func (s *fvSystem) mulK(dst, x []float64) {
+func (s *odeRows) mulK(dst, x []float64) {
 	clear(dst)
 	for k, i := range s.kI {
 		dst[i] += s.kV[k] * x[s.kJ[k]]

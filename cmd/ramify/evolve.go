@@ -37,6 +37,7 @@ type evolveOut struct {
 	Probes         []evolveProbeOut `json:"probes"`
 	Status         string           `json:"status"`
 	Method         string           `json:"method"`
+	Quantity       string           `json:"quantity"`
 	CrossingLevel  *num             `json:"crossing_fraction,omitempty"`
 	Tol            num              `json:"tol"`
 	Steps          int              `json:"steps"`
@@ -61,6 +62,8 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	csvOut := fs.String("csv", "", "write the probe time series to this CSV file (t, then one column per probe)")
 	snaps := fs.String("snapshots", "", "write the whole field at every output time to this CSV file (t, edge, x, u)")
 	plotOut := fs.String("plot", "", "draw the probe curves into this SVG file")
+	forward := fs.Bool("forward", false, "forward transport: where a tracer released into the network is (its concentration per unit capacity), instead of the field")
+	release := fs.String("release", "", "with --forward: release a unit amount of tracer at POINT at t = 0 (default: the file's initial values as concentrations)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -81,6 +84,12 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	}
 	if *every < 0 || *step < 0 {
 		return badFlag(stderr, "evolve", fmt.Errorf("--every and --step must be ≥ 0"))
+	}
+	if *release != "" && !*forward {
+		return badFlag(stderr, "evolve", fmt.Errorf("--release needs --forward"))
+	}
+	if *forward && (m == graphpde.MethodExact || *crossing != 0) {
+		return badFlag(stderr, "evolve", fmt.Errorf("--forward works with the grid method and without --crossing"))
 	}
 	if *crossing != 0 && !(*crossing > 0 && *crossing < 1) {
 		return badFlag(stderr, "evolve", fmt.Errorf("--crossing %g: must be between 0 and 1", *crossing))
@@ -103,7 +112,14 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		return fail(stderr, "evolve", err)
 	}
 	set := &graphpde.EvolveSettings{Until: *until, Every: *every, Probes: pts, Fields: *snaps != "", Method: m,
-		Cells: *cells, Tol: *tol, Step: *step, Crossing: *crossing, Context: ctx}
+		Cells: *cells, Tol: *tol, Step: *step, Crossing: *crossing, Context: ctx, Forward: *forward}
+	if *release != "" {
+		p, err := net.ParsePoint(*release)
+		if err != nil {
+			return fail(stderr, "evolve", err)
+		}
+		set.Release = &p
+	}
 	var bar *progressBar
 	if isTerminal(stderr) && !*asJSON {
 		bar = newProgressBar(stderr, "time")
@@ -132,11 +148,14 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 			return fail(stderr, "evolve", err)
 		}
 	}
-	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Tol: num(*tol),
+	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Quantity: "field", Tol: num(*tol),
 		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
 		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds(), Caution: caution}
 	if m == graphpde.MethodExact {
 		out.Method = "exact"
+	}
+	if *forward {
+		out.Quantity = "concentration"
 	}
 	if *crossing > 0 {
 		c := num(*crossing)
@@ -183,6 +202,9 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 	} else {
 		fmt.Fprintf(w, "method grid: TR-BDF2 on %d unknowns, %d steps (%d rejected, %s), %d factorisations, largest local error estimate %.2g of --tol %g (time stepping only: refine --cells to see the grid's error), %.3g s\n",
 			r.Stats.Unknowns, r.Stats.Steps, r.Stats.Rejected, stepRange(r), r.Stats.Factorizations, r.Stats.ErrEstimate, out.Tol, r.Stats.Time.Seconds())
+	}
+	if out.Quantity == "concentration" {
+		fmt.Fprintln(w, "forward transport: tracer concentration per unit capacity (at a node: a·q/α, the value every edge end shares)")
 	}
 	if r.Status == graphpde.IterationLimit {
 		fmt.Fprintf(w, "stopped early at t = %g: the values below are those reached\n", r.Times[len(r.Times)-1])

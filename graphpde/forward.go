@@ -1,0 +1,226 @@
+package graphpde
+
+import (
+	"math"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// fwdSystem is the finite-volume discretisation of forward transport (the
+// walkers' density; docs/time-and-spectrum.md §3):
+//
+//	ρ ∂_t q = ∂_x(a ∂_x q − b q) − c q   on the edges,
+//
+// with the flux Φ = b q − a q' (along the edge) through cell j by
+// Scharfetter–Gummel, Φ_j = (a_j/h)[B(−P_j) q_j − B(P_j) q_{j+1}], exact for
+// constant a, b. At a balance node v the unknown is Q_v, the common value
+// of a_e q_e/α_e over the edge ends at v (so q_e = (α_e/a_e) Q_v there), and
+// the node balance is
+//
+//	(ρ_v + Σ_e (α_e/a_e) ρ_e h_e/2) Q̇_v = Σ_e (flux from e into v) − β Q_v − Σ_e (α_e/a_e) c_e h_e/2 Q_v,
+//
+// which conserves the total amount Σ_e ∫ρ_e q_e + Σ_v ρ_v Q_v up to decay,
+// leak and absorption at fixed nodes (q = 0 there). This is the adjoint of
+// the backward problem in the pairing ⟨q, u⟩ = Σ_e ∫ ρ_e q_e u_e + Σ_v ρ_v Q_v u_v
+// (derived by integrating by parts; the walkers' law).
+type fwdSystem struct {
+	odeRows
+	net     *Network
+	unk     []int
+	cells   []int
+	off     []int
+	end     [][2]float64 // per edge: α/a at the from and to ends
+	release *Point
+}
+
+func newForward(net *Network, cells int, maxUnknowns int64, release *Point) (*fwdSystem, error) {
+	if cells <= 0 {
+		cells = DefaultCells
+	}
+	s := &fwdSystem{net: net, unk: make([]int, len(net.Nodes)), cells: make([]int, len(net.Edges)),
+		off: make([]int, len(net.Edges)), end: make([][2]float64, len(net.Edges)), release: release}
+	for v := range net.Nodes {
+		s.unk[v] = -1
+		if net.Nodes[v].Law.Kind != vertex.Fixed {
+			s.unk[v] = s.n
+			s.n++
+		}
+	}
+	total := int64(s.n)
+	for e := range net.Edges {
+		s.cells[e] = edgeCells(&net.Edges[e], cells)
+		total += int64(s.cells[e] - 1)
+	}
+	if maxUnknowns > 0 && total > maxUnknowns {
+		return nil, &GridSizeError{Unknowns: total, Max: maxUnknowns}
+	}
+	for e := range net.Edges {
+		s.off[e] = s.n
+		s.n += s.cells[e] - 1
+	}
+	s.M = make([]float64, s.n)
+	for v := range net.Nodes {
+		if i := s.unk[v]; i >= 0 {
+			l := net.Nodes[v].Law
+			s.addK(i, i, l.Leak)
+			s.M[i] += l.Capacity
+		}
+	}
+	for e := range net.Edges {
+		s.addEdge(e)
+	}
+	return s, nil
+}
+
+// vertex returns the unknown of vertex i of edge e and the factor that
+// turns it into q there (α/a at a node end, 1 inside); −1 at a fixed end.
+func (s *fwdSystem) vertex(e, i int) (int, float64) {
+	ed := &s.net.Edges[e]
+	switch i {
+	case 0:
+		return s.unk[ed.From], s.end[e][0]
+	case s.cells[e]:
+		return s.unk[ed.To], s.end[e][1]
+	}
+	return s.off[e] + i - 1, 1
+}
+
+func (s *fwdSystem) addEdge(e int) {
+	ed := &s.net.Edges[e]
+	n := s.cells[e]
+	h := ed.Length / float64(n)
+	a0, _, _, _, _ := fvCoefs(ed, 0, 0)
+	aL, _, _, _, _ := fvCoefs(ed, ed.Length, 0)
+	s.end[e] = [2]float64{ed.EndWeight(0) / a0, ed.EndWeight(1) / aL}
+	// Storage and decay of the vertices' shares (half cells at the ends).
+	for i := 0; i <= n; i++ {
+		row, f := s.vertex(e, i)
+		if row < 0 {
+			continue
+		}
+		_, _, c, _, rho := fvCoefs(ed, float64(i)*h, 0)
+		m := h
+		if i == 0 || i == n {
+			m = h / 2
+		}
+		s.M[row] += m * rho * f
+		s.addK(row, row, m*c*f)
+	}
+	// Fluxes: Φ_j leaves vertex j and enters vertex j+1.
+	for j := 0; j < n; j++ {
+		a, b, _, _, _ := fvCoefs(ed, (float64(j)+0.5)*h, 0)
+		p := b * h / a
+		cl, cr := a/h*sgB(-p), a/h*sgB(p) // Φ = cl q_j − cr q_{j+1}
+		rl, fl := s.vertex(e, j)
+		rr, fr := s.vertex(e, j+1)
+		// row j: −Φ on the right side, i.e. +Φ in K; row j+1: −Φ in K.
+		if rl >= 0 {
+			s.addK(rl, rl, cl*fl)
+			if rr >= 0 {
+				s.addK(rl, rr, -cr*fr)
+			}
+		}
+		if rr >= 0 {
+			if rl >= 0 {
+				s.addK(rr, rl, -cl*fl)
+			}
+			s.addK(rr, rr, cr*fr)
+		}
+	}
+}
+
+// load: forward transport has no sources.
+func (s *fwdSystem) load(dst []float64, _ float64) { clear(dst) }
+
+// initial sets q(0): a unit amount at the release point, or the network's
+// initial field read as a concentration (at nodes: the value of a q/α).
+func (s *fwdSystem) initial(u []float64) []float64 {
+	net := s.net
+	nodeVals := make([]float64, len(net.Nodes))
+	if p := s.release; p != nil {
+		row := -1
+		if p.Edge < 0 {
+			row = s.unk[p.Node]
+		} else {
+			n := s.cells[p.Edge]
+			i := int(math.Round(p.X / net.Edges[p.Edge].Length * float64(n)))
+			row, _ = s.vertex(p.Edge, i)
+		}
+		if row >= 0 && s.M[row] > 0 {
+			u[row] = 1 / s.M[row]
+		}
+		for v := range net.Nodes {
+			if i := s.unk[v]; i >= 0 {
+				nodeVals[v] = u[i]
+			}
+		}
+		return nodeVals
+	}
+	for v := range net.Nodes {
+		if nd := &net.Nodes[v]; nd.Initial != nil && s.unk[v] >= 0 {
+			nodeVals[v] = *nd.Initial
+			u[s.unk[v]] = nodeVals[v]
+		}
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		n := s.cells[e]
+		h := ed.Length / float64(n)
+		for i := 1; i < n; i++ {
+			x := float64(i) * h
+			var v float64
+			if l := ed.Law; l != nil && l.Initial != nil {
+				v, _ = l.Initial.Fn(x, 0, 0)
+			} else {
+				w := x / ed.Length
+				v = (1-w)*s.end[e][0]*nodeVals[ed.From] + w*s.end[e][1]*nodeVals[ed.To]
+			}
+			u[s.off[e]+i-1] = v
+		}
+	}
+	return nodeVals
+}
+
+// at returns q at p: at a node the common value Q_v = a q/α (q itself
+// where the weights are the diffusivities), on an edge q by linear
+// interpolation.
+func (s *fwdSystem) at(u []float64, p Point, _ float64) float64 {
+	if p.Edge < 0 {
+		if i := s.unk[p.Node]; i >= 0 {
+			return u[i]
+		}
+		return 0
+	}
+	n := s.cells[p.Edge]
+	h := s.net.Edges[p.Edge].Length / float64(n)
+	j := min(max(int(math.Floor(p.X/h)), 0), n-1)
+	w := p.X/h - float64(j)
+	val := func(i int) float64 {
+		row, f := s.vertex(p.Edge, i)
+		if row < 0 {
+			return 0
+		}
+		return f * u[row]
+	}
+	return (1-w)*val(j) + w*val(j+1)
+}
+
+func (s *fwdSystem) edgeField(u []float64, e int, _ float64) []float64 {
+	n := s.cells[e]
+	out := make([]float64, n+1)
+	for i := range out {
+		if row, f := s.vertex(e, i); row >= 0 {
+			out[i] = f * u[row]
+		}
+	}
+	return out
+}
+
+// amount returns the total amount Σ M_i u_i of tracer in the network.
+func (s *fwdSystem) amount(u []float64) float64 {
+	t := 0.0
+	for i, v := range u {
+		t += s.M[i] * v
+	}
+	return t
+}
