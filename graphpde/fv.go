@@ -31,11 +31,11 @@ import (
 type fvSystem struct {
 	odeRows
 	net   *Network
-	nb    int   // balance-node unknowns
-	unk   []int // node → unknown, −1 for fixed nodes
-	cells []int // per edge
-	off   []int // per edge: unknown of its first interior vertex
-	r0     []float64 // the load at t = 0 without fixed values: sources, injections
+	nb    int       // balance-node unknowns
+	unk   []int     // node → unknown, −1 for fixed nodes
+	cells []int     // per edge
+	off   []int     // per edge: unknown of its first interior vertex
+	r0    []float64 // the load at t = 0 without fixed values: sources, injections
 	// Couplings to fixed nodes: r_row += coef·g_node(t).
 	fixRow, fixNode []int
 	fixCoef         []float64
@@ -242,7 +242,7 @@ func (s *odeRows) rows() *odeRows { return s }
 // odeSystem is what the time stepper needs of a discretised network.
 type odeSystem interface {
 	rows() *odeRows
-	load(dst []float64, t float64)                    // dst = r(t)
+	load(dst []float64, t float64)                     // dst = r(t)
 	initial(u []float64) (nodeVals []float64)          // u(0); the node values
 	at(u []float64, p Point, t float64) float64        // value at a point
 	edgeField(u []float64, e int, t float64) []float64 // values at the grid vertices

@@ -46,7 +46,7 @@ type evolveOut struct {
 	Unknowns       int              `json:"unknowns"`
 	ErrEstimate    num              `json:"max_error_estimate"`
 	Seconds        float64          `json:"seconds"`
-	Caution        string           `json:"caution"`
+	Caution        string           `json:"caution,omitempty"`
 }
 
 func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -156,6 +156,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	}
 	if *forward {
 		out.Quantity = "concentration"
+		out.Caution = "" // a tracer's whereabouts feed no load or heating decision
 	}
 	if *crossing > 0 {
 		c := num(*crossing)
@@ -246,8 +247,10 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 		}
 		tw.Flush()
 	}
-	fmt.Fprintln(w)
-	fmt.Fprintln(w, caution)
+	if out.Caution != "" {
+		fmt.Fprintln(w)
+		fmt.Fprintln(w, caution)
+	}
 }
 
 func stepRange(r *graphpde.EvolveResult) string {
