@@ -123,21 +123,32 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 		}
 		return in[i-1]
 	}
+	l := ed.Law
+	plain := ed.Profile == nil
 	react := func(x, u float64) (g, dg float64, err error) {
-		_, _, _, _, c, dc, f, df := quasiCoefs(ed, x, u)
+		var c, dc, f, df float64
+		if plain {
+			c, dc = lawCoef(l.C, x, u, ed.C)
+			f, df = lawCoef(l.F, x, u, ed.F)
+		} else {
+			_, _, _, _, c, dc, f, df = quasiCoefs(ed, x, u)
+		}
 		g, dg = f-c*u, df-c-u*dc
 		if !finite(g) || !finite(dg) {
 			return 0, 0, edgeLawError(ed, x, u, "f − c·u", g, "finite", "")
 		}
-		if dg > 0 {
+		if dg > 0 && s.nonMono == "" {
 			s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂(f − c·u)/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(dg)))
 		}
 		return g, dg, nil
 	}
+	// Faces whose a and b are constants are computed once.
+	constFace := plain && l.A == nil && l.B == nil
 	prev, err := s.face(ed, 0, h, U0, val(1))
 	if err != nil {
 		return err
 	}
+	cf := prev
 	dPrev := val(1) - U0
 	// From end.
 	{
@@ -160,9 +171,11 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 	}
 	for i := 1; i < n; i++ {
 		ui, un := in[i-1], val(i+1)
-		cur, err := s.face(ed, i, h, ui, un)
-		if err != nil {
-			return err
+		cur := cf
+		if !constFace {
+			if cur, err = s.face(ed, i, h, ui, un); err != nil {
+				return err
+			}
 		}
 		dCur := un - ui
 		g, dg, err := react(float64(i)*h, ui)
@@ -172,6 +185,7 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 		G := cur.r*dCur - prev.l*dPrev + h*g
 		k := o + i - 1
 		s.ires[k] = -G
+		s.sumsq += G * G
 		s.jc[k] = -(cur.r + cur.dr*dCur)
 		s.jb[k] = -(-cur.r + cur.dr*dCur - prev.l - prev.dl*dPrev + h*dg)
 		s.ja[k] = -(prev.l - prev.dl*dPrev)
@@ -209,7 +223,7 @@ func (s *nlSystem) equation(ed *Edge, x, u, p, X float64) (E, Eu, Ep, EX float64
 	if !(EX > 0) {
 		return 0, 0, 0, 0, edgeLawError(ed, x, u, "∂E/∂uxx", EX, "> 0", "the equation is not elliptic there")
 	}
-	if Eu > 0 {
+	if Eu > 0 && s.nonMono == "" {
 		s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂E/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(Eu)))
 	}
 	return E, Eu, Ep, EX, nil
@@ -260,6 +274,7 @@ func (s *nlSystem) evalEquation(e int, U0, UL float64, w []float64) error {
 		}
 		k := o + i - 1
 		s.ires[k] = -h * E
+		s.sumsq += h * h * E * E
 		s.ja[k], s.jb[k], s.jc[k] = -ga, -gb, -gc
 	}
 	// Ends: the equation on the node's half cell.

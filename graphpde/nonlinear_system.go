@@ -68,10 +68,10 @@ type nlSystem struct {
 	xEnd     [][2]float64       // per equation edge end: last second derivative of the half cell
 	dBuf     []float64
 	rhs, x   []float64
-	bsum     []float64 // scratch: Σ-accumulated elimination
 
-	negPivots int    // negative pivots of the last factorisation (interior + node system)
-	nonMono   string // first place where a law was not monotone in u
+	sumsq     float64 // Σ residual² of the last eval
+	negPivots int     // negative pivots of the last factorisation (interior + node system)
+	nonMono   string  // first place where a law was not monotone in u
 	stats     Stats
 	hasLawOf  []bool
 }
@@ -179,7 +179,7 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	for _, p := range []*[]float64{&s.U, &s.tU, &s.dU, &s.nres, &s.gu} {
 		*p = make([]float64, nn)
 	}
-	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.ja, &s.jb, &s.jc, &s.ires, &s.piv, &s.alpha, &s.b0, &s.bsum} {
+	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.ja, &s.jb, &s.jc, &s.ires, &s.piv, &s.alpha, &s.b0} {
 		*p = make([]float64, ni)
 	}
 	s.vst = make([]float64, 3*linInterior)
@@ -271,6 +271,7 @@ func (s *nlSystem) start(guess func(Point) float64) {
 // node rows. It returns a *LawError where a law fails a check.
 func (s *nlSystem) eval(U, w []float64) error {
 	net := s.net
+	s.sumsq = 0
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		U0, UL := U[ed.From], U[ed.To]
@@ -345,6 +346,7 @@ func (s *nlSystem) evalNodes(U []float64) error {
 				Why: "the node law does not depend on the fluxes"}
 		}
 		s.nres[v], s.gu[v] = g, gu
+		s.sumsq += g * g
 	}
 	return nil
 }
@@ -355,24 +357,13 @@ func (s *nlSystem) noteNonMono(msg string) {
 	}
 }
 
-func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+// finite reports whether v is neither NaN nor ±Inf (v − v is NaN exactly
+// then).
+func finite(v float64) bool { return v-v == 0 }
 
-// merit returns the Euclidean norm of all residuals (flux units).
-func (s *nlSystem) merit() float64 {
-	var sum float64
-	for _, v := range s.nodes {
-		sum += s.nres[v] * s.nres[v]
-	}
-	for e := range s.net.Edges {
-		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
-			o, n := s.off[e], s.n[e]
-			for _, r := range s.ires[o : o+n-1] {
-				sum += r * r
-			}
-		}
-	}
-	return math.Sqrt(sum)
-}
+// merit returns the Euclidean norm of all residuals (flux units) of the
+// last eval.
+func (s *nlSystem) merit() float64 { return math.Sqrt(s.sumsq) }
 
 // condense eliminates the interior of Law edge e from the linearisation
 // (Thomas forward sweep) and sets its condensed end coefficients; linear
