@@ -201,7 +201,7 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		}
 	}
 	if s.Quantiles == nil {
-		s.Quantiles = []float64{0.1, 0.25, 0.5, 0.75, 0.9}
+		s.Quantiles = vertex.DefaultQuantiles()
 	}
 	for _, p := range s.Quantiles {
 		if !(p > 0 && p < 1) {

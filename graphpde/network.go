@@ -312,14 +312,6 @@ func (n *Network) buildIncidence() {
 	n.incident = inc
 }
 
-// EndNode returns the node at the given end of edge e.
-func (n *Network) EndNode(end vertex.End) int {
-	if end.Side == 0 {
-		return n.Edges[end.Edge].From
-	}
-	return n.Edges[end.Edge].To
-}
-
 // Components labels the connected components: comp[v] is the component of
 // node v, numbered from 0 in order of their lowest node index. O(nodes+edges).
 func (n *Network) Components() (comp []int, count int) {

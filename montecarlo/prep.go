@@ -16,6 +16,23 @@ const (
 	modeStarArms        // walk on stars with arms decaying at their own rates
 )
 
+// aPrimeStep is the half-width, relative to the edge length, of the
+// difference quotient for a'(x) on an edge with varying diffusivity: a
+// central difference has error O(d²·a‴) and rounding O(eps·a/d), balanced
+// near d ≈ eps^{1/3} ≈ 6e−6 (common practice, no source).
+const aPrimeStep = 1e-6
+
+// sameRateTol is the relative difference of two arms' decay rates c/ρ below
+// which they count as one rate (their departures then follow the weights
+// exactly): rates read from a file that agree to twelve digits are meant to
+// be equal.
+const sameRateTol = 1e-12
+
+// reachTol is the relative shortfall of a star radius against the edge
+// length below which the step lands on the far node rather than a hair
+// before it (rounding of ε = r/s).
+const reachTol = 1e-12
+
 // profileSamples is the number of points at which a varying edge's
 // coefficients are checked and its scales taken.
 const profileSamples = 33
@@ -236,7 +253,7 @@ func (m *model) armCoeffs(e, side int) (a, bAway, c, f, rho float64) {
 // 2e−6·L (one-sided at the ends).
 func (m *model) aPrime(e int, x float64) float64 {
 	ed := &m.edges[e]
-	d := 1e-6 * ed.L
+	d := aPrimeStep * ed.L
 	lo, hi := math.Max(0, x-d), math.Min(ed.L, x+d)
 	al, _, _, _, _ := m.net.EdgeCoeffs(e, lo)
 	ah, _, _, _, _ := m.net.EdgeCoeffs(e, hi)
@@ -306,7 +323,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		if b != 0 || c != 0 || f != 0 {
 			plain = false
 		}
-		if k > 0 && math.Abs(c/rho-co[0].c/co[0].rho) > 1e-12*(c/rho) {
+		if k > 0 && math.Abs(c/rho-co[0].c/co[0].rho) > sameRateTol*(c/rho) {
 			sameKill = false
 		}
 		co[k] = ac
@@ -464,7 +481,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		a.cum = cum
 		eps := nd.r / co[k].s
 		a.toNode = -1
-		if ed.from != ed.to && eps >= ed.L*(1-1e-12) {
+		if ed.from != ed.to && eps >= ed.L*(1-reachTol) {
 			a.toNode = ed.to
 			if end.Side == 1 {
 				a.toNode = ed.from

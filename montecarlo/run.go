@@ -83,7 +83,7 @@ func defaults(set *Settings) Settings {
 		s.StarFraction = 1.0 / 8
 	}
 	if s.Quantiles == nil {
-		s.Quantiles = []float64{0.1, 0.25, 0.5, 0.75, 0.9}
+		s.Quantiles = vertex.DefaultQuantiles()
 	}
 	return s
 }

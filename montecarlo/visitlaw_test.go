@@ -8,7 +8,6 @@ import (
 
 	"github.com/ramify-dev/ramify/internal/laplace"
 	"github.com/ramify-dev/ramify/montecarlo"
-	"github.com/ramify-dev/ramify/montecarlo/internal/kstest"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -141,8 +140,7 @@ func TestLeakyStartLaw(t *testing.T) {
 			for i, s := range res.Samples {
 				x[i] = s.Time
 			}
-			d := kstest.Statistic(x, cdf)
-			p := kstest.PValue(d, len(x))
+			d, p := ksTest(x, cdf)
 			t.Logf("KS D = %.3g, p = %.3g", d, p)
 			if !res.Stats.Exact {
 				t.Errorf("Exact = false")
@@ -192,8 +190,7 @@ func TestDriftStartLaw(t *testing.T) {
 			for i, s := range res.Samples {
 				x[i] = s.Time
 			}
-			d := kstest.Statistic(x, cdf)
-			p := kstest.PValue(d, len(x))
+			d, p := ksTest(x, cdf)
 			t.Logf("KS D = %.3g, p = %.3g, %.1f steps per walker", d, p, float64(res.Stats.Steps)/float64(len(x)))
 			if res.Stats.Exact {
 				t.Errorf("Exact = true with a time-stepped edge")

@@ -66,3 +66,8 @@ func (p Point) Check(nodes, edges int, length func(e int) float64) error {
 	}
 	return nil
 }
+
+// DefaultQuantiles returns the probabilities at which both engines report
+// exit-time quantiles when the caller names none: 0.1, 0.25, 0.5, 0.75,
+// 0.9 (a fresh slice each call).
+func DefaultQuantiles() []float64 { return []float64{0.1, 0.25, 0.5, 0.75, 0.9} }

@@ -30,7 +30,7 @@
 // inversion of Laplace transforms", J. Inst. Math. Appl. 23 (1979) 97–120,
 // from memory); it encloses singularities off the real axis, which
 // non-reversible diffusions (drift around a cycle) have. A second, taller
-// contour (TalbotWindowCheck) detects singularities that the first misses.
+// contour (the check contour of TalbotWindowLevel) detects singularities that the first misses.
 //
 // The Gaver–Stehfest formula uses N real points s_k = k ln2/t with
 // alternating weights V_k; in float64 N = 16–18 is about the best, with some

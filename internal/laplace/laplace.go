@@ -92,15 +92,6 @@ func TalbotWindow(t0, t1 float64, m int) Contour {
 	return talbotWindow(t0, t1, m, windowScale, windowHeight)
 }
 
-// TalbotWindowCheck returns a second, taller contour for the same window
-// (error about 3e−9 on smooth transforms). Where TalbotWindow and
-// TalbotWindowCheck disagree by more than that, singularities of F lie off
-// the negative real axis between the two contours (complex decay rates of
-// non-reversible problems) and neither result is reliable.
-func TalbotWindowCheck(t0, t1 float64, m int) Contour {
-	return talbotWindow(t0, t1, m, checkScale, checkHeight)
-}
-
 // WindowLevels is the number of levels of TalbotWindowLevel.
 const WindowLevels = 3
 
@@ -121,7 +112,7 @@ var windowLevels = [WindowLevels][2]struct {
 
 // TalbotWindowLevel returns the window and check contours of the given level
 // (0 ≤ level < WindowLevels) for [t0, t1], t1 ≤ WindowRatio·t0. Level 0 is
-// TalbotWindow and TalbotWindowCheck with DefaultWindowM nodes; levels 1 and
+// TalbotWindow and its taller check contour with DefaultWindowM nodes; levels 1 and
 // 2 have 48 and 64 nodes and reach 1.5 and 2 times as far from the real
 // axis. It panics on a bad window or level. Cost O(nodes).
 func TalbotWindowLevel(t0, t1 float64, level int) (c, check Contour) {
@@ -159,21 +150,6 @@ func (c Contour) Apply(t float64, Fs []complex128) float64 {
 	return sum
 }
 
-// Talbot returns f(t) for the transform F by the fixed Talbot rule with m
-// nodes (m ≤ 0 means DefaultM). F is called m times, at points in the upper
-// half plane and at one positive real point. It panics if t ≤ 0.
-func Talbot(F func(s complex128) complex128, t float64, m int) float64 {
-	if m <= 0 {
-		m = DefaultM
-	}
-	c := TalbotContour(t, m)
-	fs := make([]complex128, m)
-	for k, s := range c.S {
-		fs[k] = F(s)
-	}
-	return c.Apply(t, fs)
-}
-
 // StehfestWeights returns the Gaver–Stehfest weights V_1…V_n for an even n,
 // so that f(t) ≈ (ln2/t) Σ_k V_k F(k ln2/t). It panics if n is odd, n < 2 or
 // n > 30 (beyond which the weights lose all digits in float64).
@@ -207,22 +183,3 @@ func StehfestWeights(n int) []float64 {
 // again as the alternating weights (up to 1e8) cancel; measured on the test
 // pairs: 5e−5 at n = 14, 1e−5 at n = 16, 2e−5 at n = 20, 1e−2 at n = 24.
 const DefaultStehfestN = 16
-
-// Stehfest returns f(t) for the transform F by the Gaver–Stehfest formula
-// with n terms (n ≤ 0 means DefaultStehfestN). F is called n times at real
-// s > 0. It panics if t ≤ 0 or n is odd or above 30.
-func Stehfest(F func(s float64) float64, t float64, n int) float64 {
-	if !(t > 0) || math.IsInf(t, 0) {
-		panic(fmt.Sprintf("laplace: Stehfest at t = %g, need 0 < t < ∞", t))
-	}
-	if n <= 0 {
-		n = DefaultStehfestN
-	}
-	v := StehfestWeights(n)
-	a := math.Ln2 / t
-	var sum float64
-	for k, w := range v {
-		sum += w * F(float64(k+1)*a)
-	}
-	return a * sum
-}

@@ -585,68 +585,6 @@ func TestEmpty(t *testing.T) {
 	}
 }
 
-// TestSolveTrans checks Aᵀ·x = b on nonsymmetric real and complex systems by
-// the backward error of x against the explicitly transposed matrix.
-func TestSolveTrans(t *testing.T) {
-	t.Parallel()
-	rnd := rand.New(rand.NewPCG(15, 0))
-	n := 150
-	es := randomCyclic(n, 120, rnd)
-	m := driftSystem(n, es, 0.3, rnd)
-	mt := NewMatrix[float64](n)
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if v := m.At(i, j); v != 0 {
-				mt.Add(j, i, v)
-			}
-		}
-	}
-	f := NewFactor[float64](nil)
-	if err := f.Factorize(m); err != nil {
-		t.Fatal(err)
-	}
-	b := make([]float64, n)
-	for i := range b {
-		b[i] = rnd.NormFloat64()
-	}
-	x := make([]float64, n)
-	f.SolveTransTo(x, b)
-	if r := residual(mt, x, b); r > backward {
-		t.Errorf("real: backward error of the transposed solve %.3g > %.3g", r, backward)
-	}
-	// The check can fail: the direct solution A⁻¹b is far from solving
-	// Aᵀx = b on this system.
-	y := make([]float64, n)
-	f.SolveTo(y, b)
-	if r := residual(mt, y, b); r < 1e6*backward {
-		t.Errorf("system too close to symmetric: A⁻¹b has backward error %.3g for Aᵀ", r)
-	}
-
-	c := laplacian(n, es, 1+5i, rnd)
-	c.Add(es[3].u, es[3].v, 0.2i)
-	ct := NewMatrix[complex128](n)
-	for i := 0; i < n; i++ {
-		for j := 0; j < n; j++ {
-			if v := c.At(i, j); v != 0 {
-				ct.Add(j, i, v)
-			}
-		}
-	}
-	fc := NewFactor[complex128](nil)
-	if err := fc.Factorize(c); err != nil {
-		t.Fatal(err)
-	}
-	bc := make([]complex128, n)
-	for i := range bc {
-		bc[i] = complex(rnd.NormFloat64(), rnd.NormFloat64())
-	}
-	xc := make([]complex128, n)
-	fc.SolveTransTo(xc, bc)
-	if r := residual(ct, xc, bc); r > backward {
-		t.Errorf("complex: backward error of the transposed solve %.3g > %.3g", r, backward)
-	}
-}
-
 // TestSizeLimit: a factor larger than Settings.MaxNNZL is refused before it is
 // allocated, with the size it would have had; one entry more is accepted.
 func TestSizeLimit(t *testing.T) {

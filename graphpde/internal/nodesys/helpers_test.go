@@ -203,3 +203,27 @@ func fromReal[T Scalar](x float64) T {
 	}
 	return v
 }
+
+// Dim returns the dimension n of the matrix.
+func (m *Matrix[T]) Dim() int { return m.n }
+
+// MulVecTo sets dst = m·x. It panics if len(dst) or len(x) differs from the
+// dimension. dst must not alias x. Cost O(nnz).
+func (m *Matrix[T]) MulVecTo(dst, x []T) {
+	if len(dst) != m.n || len(x) != m.n {
+		panic("nodesys: MulVecTo length mismatch")
+	}
+	clear(dst)
+	if m.rowPtr != nil {
+		for i := 0; i < m.n; i++ {
+			var s T
+			for p := m.rowPtr[i]; p < m.rowPtr[i+1]; p++ {
+				s += m.val[p] * x[m.col[p]]
+			}
+			dst[i] = s
+		}
+	}
+	for k := range m.pi {
+		dst[m.pi[k]] += m.pv[k] * x[m.pj[k]]
+	}
+}

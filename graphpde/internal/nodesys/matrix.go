@@ -80,9 +80,6 @@ func NewMatrixPattern[T Scalar](n int, rowPtr, col []int) *Matrix[T] {
 	return &Matrix[T]{n: n, rowPtr: rowPtr, col: col, val: make([]T, len(col)), tr: tr, version: 1}
 }
 
-// Dim returns the dimension n of the matrix.
-func (m *Matrix[T]) Dim() int { return m.n }
-
 func (m *Matrix[T]) check(i, j int) {
 	if uint(i) >= uint(m.n) || uint(j) >= uint(m.n) {
 		panic(fmt.Sprintf("nodesys: index (%d,%d) out of range for dimension %d", i, j, m.n))
@@ -159,27 +156,6 @@ func (m *Matrix[T]) At(i, j int) T {
 		}
 	}
 	return v
-}
-
-// MulVecTo sets dst = m·x. It panics if len(dst) or len(x) differs from the
-// dimension. dst must not alias x. Cost O(nnz).
-func (m *Matrix[T]) MulVecTo(dst, x []T) {
-	if len(dst) != m.n || len(x) != m.n {
-		panic("nodesys: MulVecTo length mismatch")
-	}
-	clear(dst)
-	if m.rowPtr != nil {
-		for i := 0; i < m.n; i++ {
-			var s T
-			for p := m.rowPtr[i]; p < m.rowPtr[i+1]; p++ {
-				s += m.val[p] * x[m.col[p]]
-			}
-			dst[i] = s
-		}
-	}
-	for k := range m.pi {
-		dst[m.pi[k]] += m.pv[k] * x[m.pj[k]]
-	}
 }
 
 // freeze merges the pending entries (and a diagonal entry in every row) into

@@ -69,13 +69,6 @@ func phiPrime(p float64) float64 {
 
 func phiReal(p float64) float64 { return real(Phi(complex(p, 0))) }
 
-// Mixture returns the law of Y for a leak κ ≥ 0, capacity η ≥ 0 and arms
-// with entry probabilities p (Σp = 1) and kill rates q ≥ 0, and μ. It is
-// MixtureDrift without drift.
-func Mixture(kappa, eta float64, p, q []float64) (*Law, float64) {
-	return MixtureDrift(kappa, eta, p, q, nil)
-}
-
 // Drifting arms. An arm whose motion has the drift γ_e (in the scaled
 // coordinates: generator ½d² + γ_e d on [0, 1], γ_e > 0 away from the node)
 // is by Girsanov's theorem the driftless motion weighted by
@@ -285,16 +278,11 @@ func KillLawDrift(q, gam float64) *Law {
 	}
 }
 
-// Rates returns the fate probabilities of a visit with decaying arms: the
-// leak's κ/μ, and per arm the rim exit p_eψ_f(q_e)/μ and the killing
-// p_e[Φ(q_e) + 1 − ψ_f(q_e)]/μ, written into exit and kill (resized).
-func Rates(kappa float64, p, q []float64, exit, kill []float64) (leak float64, ex, ki []float64) {
-	return RatesDrift(kappa, p, q, nil, exit, kill)
-}
-
-// RatesDrift is Rates with arm drifts g (nil: none): the rim exit on e has
-// probability p_e e^{γ_e}ψ_f(Q_e)/μ and the killing on e p_e G_e(q_e)/μ
-// (exactly 0 when q_e = 0), Q_e = q_e + γ_e²/2 (see MixtureDrift).
+// RatesDrift returns the fate probabilities of a visit with decaying arms
+// with drifts g (nil: none): the leak's κ/μ, and per arm the rim exit
+// p_e e^{γ_e}ψ_f(Q_e)/μ and the killing p_e G_e(q_e)/μ (exactly 0 when
+// q_e = 0; without drift p_e[Φ(q_e) + 1 − ψ_f(q_e)]/μ), Q_e = q_e + γ_e²/2
+// (see MixtureDrift), written into exit and kill (resized).
 func RatesDrift(kappa float64, p, q, g []float64, exit, kill []float64) (leak float64, ex, ki []float64) {
 	mu := kappa
 	gam := func(e int) float64 {
@@ -347,12 +335,6 @@ func cached(key string, build func() *Table) *Table {
 	return tb
 }
 
-// MixtureTable returns a shared table of Mixture(kappa, eta, p, q) (see
-// VisitTable).
-func MixtureTable(kappa, eta float64, p, q []float64) *Table {
-	return MixtureDriftTable(kappa, eta, p, q, nil)
-}
-
 // MixtureDriftTable returns a shared table of MixtureDrift(kappa, eta, p, q,
 // g) (see VisitTable).
 func MixtureDriftTable(kappa, eta float64, p, q, g []float64) *Table {
@@ -369,9 +351,6 @@ func ExitTable(q float64) *Table {
 	}
 	return cached(fmt.Sprint("e", q), func() *Table { return NewTable(ExitLaw(q), DefaultKnots, true) })
 }
-
-// KillTable returns a shared table of KillLaw(q), q > 0.
-func KillTable(q float64) *Table { return KillDriftTable(q, 0) }
 
 // KillDriftTable returns a shared table of KillLawDrift(q, g), q > 0.
 func KillDriftTable(q, g float64) *Table {

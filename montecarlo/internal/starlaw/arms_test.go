@@ -97,7 +97,7 @@ func TestDecayingArms(t *testing.T) {
 		}
 	}
 	v := Visit(1.5, 0.3)
-	m, _ := Mixture(0.5, 0.3, []float64{0.4, 0.6}, []float64{0, 0})
+	m, _ := MixtureDrift(0.5, 0.3, []float64{0.4, 0.6}, []float64{0, 0}, nil)
 	if math.Abs(m.Lam1-v.Lam1) > roundoff || math.Abs(m.C1-v.C1) > roundoff || math.Abs(m.Lam2-v.Lam2) > roundoff {
 		t.Errorf("Mixture without decay: poles %g %g %g, Visit %g %g %g", m.Lam1, m.C1, m.Lam2, v.Lam1, v.C1, v.Lam2)
 	}
@@ -111,7 +111,7 @@ func TestDecayingArms(t *testing.T) {
 // stays far below the 1e−6 in probability the walkers need.
 func TestDecayingTables(t *testing.T) {
 	const maxDCDF = 1e-8
-	mix, _ := Mixture(0.7, 0.5, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4})
+	mix, _ := MixtureDrift(0.7, 0.5, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, nil)
 	mixd, _ := MixtureDrift(0.7, 0.5, []float64{0.2, 0.3, 0.5}, []float64{0.3, 0, 4}, []float64{0.4, -1.3, 2.5})
 	for _, c := range []struct {
 		name string

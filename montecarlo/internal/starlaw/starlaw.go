@@ -347,10 +347,6 @@ func (l *Law) quantile(w, lo, hi float64) float64 {
 	return math.Exp(x)
 }
 
-// TailStart returns w_tail: draws with w = −ln(1 − u) above it use the
-// one-pole tail.
-func (tb *Table) TailStart() float64 { return tb.wTail }
-
 // Quantile returns the time at w = −ln(1 − u) ≥ 0. Cost: one square root
 // and a cubic (a logarithm more below u = 1e−3 in a table with a low part);
 // no allocation.
