@@ -27,15 +27,27 @@ var gauss8 = [8][2]float64{
 	{0.9801449282487681, 0.05061426814518813},
 }
 
+// SecantSettings controls SecantNetwork. A nil *SecantSettings means the
+// defaults.
+type SecantSettings struct {
+	// Growth keeps a negative secant decay C on edges as it is (walkers
+	// then need growth weights: montecarlo.Settings.Growth). false (the
+	// default) carries its negative part C⁻ as the source C⁻·û.
+	Growth bool
+}
+
 // SecantInfo describes a secant network.
 type SecantInfo struct {
-	// Moved is true when the secant decay C (or a node's secant leak) was
-	// negative somewhere (a law not monotone in u): its negative part C⁻
-	// is then carried as the source C⁻·û instead of as a growth rate, so
-	// that walkers are killed at rate C⁺ ≥ 0 and collect bounded rewards.
-	// The identity stays exact; the check then tests û against the
-	// linear problem with that part frozen on û.
+	// Moved is true when a negative part of the secant decay C (or of a
+	// node's secant leak) was carried as the source C⁻·û instead of as a
+	// growth rate, so that walkers are killed at rate C⁺ ≥ 0 and collect
+	// bounded rewards. The identity stays exact; the check then tests û
+	// against the linear problem with that part frozen on û. Node leaks
+	// are always treated so.
 	Moved bool
+	// Growth is true when an edge keeps a negative decay (walkers need
+	// growth weights).
+	Growth bool
 	// Note says in words what the linear problem is.
 	Note string
 }
@@ -58,13 +70,15 @@ type SecantInfo struct {
 //     −G(0, 0), along θ ↦ (θû, θd̂);
 //   - linear edges and nodes are copied.
 //
-// Negative parts of C and β are moved into the source (SecantInfo.Moved).
+// Negative parts of β, and of C unless set.Growth, are moved into the
+// source (SecantInfo.Moved).
 // Coefficients between grid vertices are interpolated linearly. The ∫dθ are
 // 8-point Gauss–Legendre sums. net's parameters are read as they are now.
 // Errors: a secant diffusivity A ≤ 0 or a non-finite coefficient, naming the
 // edge and place (*LawError).
-func SecantNetwork(net *Network, sol *Solution) (*Network, *SecantInfo, error) {
+func SecantNetwork(net *Network, sol *Solution, set *SecantSettings) (*Network, *SecantInfo, error) {
 	info := &SecantInfo{}
+	growth := set != nil && set.Growth
 	out := &Network{Name: net.Name + " (secant)", Description: "the linear problem that the computed nonlinear field solves"}
 	weights := make([][2]float64, len(net.Edges))
 	for e := range net.Edges {
@@ -143,7 +157,7 @@ func SecantNetwork(net *Network, sol *Solution) (*Network, *SecantInfo, error) {
 		ed.Weight = weights[e]
 		quasi, eq := lawEdge(&net.Edges[e])
 		if quasi || eq {
-			prof, err := secantProfile(&net.Edges[e], sol, e, quasi, info)
+			prof, err := secantProfile(&net.Edges[e], sol, e, quasi, growth, info)
 			if err != nil {
 				return nil, nil, err
 			}
@@ -158,15 +172,18 @@ func SecantNetwork(net *Network, sol *Solution) (*Network, *SecantInfo, error) {
 	}
 	out.Params = net.Params
 	info.Note = "the linear problem the computed field solves (secant representation, reference u = 0): edge equations by A = ∫∂E/∂uxx, B = ∫∂E/∂ux, C = −∫∂E/∂u; quasilinear edges keep a(x,û), b(x,û), reactions by the secant; node laws by secant weights and leaks"
+	if info.Growth {
+		info.Note += "; where the law grows with u (C < 0) the walkers carry growth weights exp(∫|C|dt)"
+	}
 	if info.Moved {
-		info.Note += "; where the law grows with u, the negative part of the secant decay is carried as the source C⁻·û"
+		info.Note += "; where the law grows with u, the negative part of the secant decay or leak is carried as the source C⁻·û"
 	}
 	return out, info, nil
 }
 
 // secantProfile builds the coefficient profile of law edge e from the grid
 // vertices of sol.
-func secantProfile(ed *Edge, sol *Solution, e int, quasi bool, info *SecantInfo) (*Profile, error) {
+func secantProfile(ed *Edge, sol *Solution, e int, quasi, growth bool, info *SecantInfo) (*Profile, error) {
 	n := sol.els[e].(gridCells).cells()
 	L := ed.Length
 	h := L / float64(n)
@@ -233,7 +250,10 @@ func secantProfile(ed *Edge, sol *Solution, e int, quasi bool, info *SecantInfo)
 		if !finite(B[i]) || !finite(c) || !finite(F[i]) {
 			return nil, bad(x, u, "secant coefficient", B[i]+c+F[i], "finite")
 		}
-		if c < 0 {
+		switch {
+		case c < 0 && growth:
+			info.Growth = true
+		case c < 0:
 			F[i] += -c * u
 			c = 0
 			info.Moved = true

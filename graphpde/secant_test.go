@@ -52,7 +52,7 @@ func TestSecantIdentity(t *testing.T) {
 			const cells = 80
 			net, probe := c.build(cells)
 			res := mustNonlinear(t, net, nil)
-			sec, info, err := SecantNetwork(net, res.Solution)
+			sec, info, err := SecantNetwork(net, res.Solution, nil)
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -76,7 +76,7 @@ func TestSecantIdentity(t *testing.T) {
 				return eps * math.Sin(math.Pi*x/L)
 			}
 			wrong := perturbed(res.Solution, bump, func(int) float64 { return 0 })
-			secW, _, err := SecantNetwork(net, wrong)
+			secW, _, err := SecantNetwork(net, wrong, nil)
 			if err != nil {
 				t.Fatal(err)
 			}

@@ -64,6 +64,17 @@ type Settings struct {
 	Quantiles []float64
 	// Recorder, if not nil, receives progress reports.
 	Recorder Recorder
+	// Growth allows a negative decay c on edges whose coefficients vary
+	// along them (time-stepping edges): there a walker is not killed but
+	// carries the weight exp(∫|c|/ρ dt), which multiplies everything it
+	// collects afterwards (Feynman–Kac with a potential of either sign).
+	// At a node next to such an edge the visit's growth rate is the arms'
+	// |c|/ρ averaged by their star weights (frozen at the node, like the
+	// other coefficients of such a visit). The value estimate and its
+	// standard error include the weights; Result.MaxWeight reports the
+	// largest. Off (the default), a negative decay is an error; on edges
+	// with constant coefficients it is an error either way.
+	Growth bool
 }
 
 // BlockSize is the number of walkers per block: the unit of work, of random
@@ -179,7 +190,11 @@ type Result struct {
 	// less, or carry the error of freezing coefficients at the node.
 	SplitExact []bool
 	Samples    []Sample // with KeepSamples: per walker, in walker order
-	Stats      Stats
+	// MaxWeight is the largest growth weight a walker reached (1 without
+	// Settings.Growth or negative decay): weights far above 1 make the
+	// value's variance large.
+	MaxWeight float64
+	Stats     Stats
 }
 
 // CensoredFraction returns Censored/Finished (0 when nothing finished).

@@ -68,6 +68,9 @@ type arm struct {
 
 type nodeInfo struct {
 	mode int
+	// growth is the growth rate |c|/ρ of a visit next to arms with a
+	// negative decay (Settings.Growth), averaged by the star weights.
+	growth float64
 	// splitExact: departures follow w_e/Σw exactly (every arm walked on
 	// intervals, all decaying at one rate).
 	splitExact bool
@@ -119,7 +122,11 @@ func prepare(net Network, set *Settings) (*model, error) {
 		for i := range profileSamples {
 			x := ed.L * float64(i) / (profileSamples - 1)
 			a, b, c, f, rho := net.EdgeCoeffs(e, x)
-			if err := checkCoeffs(ed.id, x, a, b, c, f, rho); err != nil {
+			cc := c
+			if set.Growth && !ed.constant && c < 0 {
+				cc = 0 // a growth rate, allowed on time-stepping edges
+			}
+			if err := checkCoeffs(ed.id, x, a, b, cc, f, rho); err != nil {
 				return nil, err
 			}
 			if i == 0 {
@@ -300,6 +307,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 
 	type armCo struct{ a, b, c, f, rho, s, w, max float64 }
 	co := make([]armCo, n)
+	grow := make([]float64, n)
 	plain := true // no drift, decay or source on any arm
 	allExact := true
 	varying := false // an arm's coefficients vary along its edge
@@ -307,6 +315,12 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 	for k, end := range ends {
 		ed := &m.edges[end.Edge]
 		a, b, c, f, rho := m.armCoeffs(end.Edge, end.Side)
+		if c < 0 {
+			// Settings.Growth (checked with the edge): the visit law
+			// sees no decay on this arm; the walker grows instead.
+			grow[k] = -c / rho
+			c = 0
+		}
 		s := math.Sqrt(rho / a)
 		ac := armCo{a: a, b: b, c: c, f: f, rho: rho, s: s, w: alpha[k] * s}
 		self := ed.from == ed.to
@@ -327,6 +341,14 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			sameKill = false
 		}
 		co[k] = ac
+	}
+	var gw, wsum float64
+	for k := range co {
+		gw += co[k].w * grow[k]
+		wsum += co[k].w
+	}
+	if gw > 0 {
+		nd.growth = gw / wsum
 	}
 	nd.splitExact = allExact && sameKill
 	free := math.Inf(1)

@@ -268,6 +268,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	hits := make([]int64, nn)
 	dep := make([]int64, m.nDep)
 	var killed, censored, exited, steps, done int64
+	maxW := 0.0
 	pending := make(map[int]*blockAcc)
 	nextFold := 0
 	for acc := range results {
@@ -295,6 +296,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			}
 			killed += b.killed
 			censored += b.censored
+			maxW = max(maxW, b.maxW)
 			exited += b.exited
 			steps += b.steps
 			done += b.n
@@ -316,6 +318,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 		ExitTime:  tim.estimate(exited),
 		Killed:    proportion(killed, done),
 		Censored:  censored,
+		MaxWeight: maxW,
 	}
 	if nextFold < nblocks {
 		res.Status = Cancelled

@@ -17,6 +17,7 @@ type blockAcc struct {
 	exited           int64
 	tS, tQ           float64
 	killed, censored int64
+	maxW             float64 // largest growth weight
 	steps            int64
 	hits             []int64   // per node
 	occS, occQ       []float64 // per edge
@@ -106,6 +107,7 @@ func (w *walker) walk(p place, acc *blockAcc) (float64, int) {
 	tcap := m.timeCap
 	node, e, x := p.node, p.edge, p.x
 	var val, t float64
+	wgt := 1.0 // growth weight (Settings.Growth)
 	var steps int64
 	fate := Censored
 loop:
@@ -121,7 +123,7 @@ loop:
 			w.addVisit(node)
 			switch nd.mode {
 			case modeFixed:
-				val += nd.value
+				val += wgt * nd.value
 				fate = node
 				acc.hits[node]++
 				break loop
@@ -138,7 +140,10 @@ loop:
 					break loop
 				}
 				t += T
-				val += nd.fbar*T + nd.reward
+				val += wgt * (nd.fbar*T + nd.reward)
+				if nd.growth > 0 {
+					wgt *= math.Exp(nd.growth * T)
+				}
 				a := &nd.arms[j]
 				w.addOcc(a.edge, T)
 				if killed {
@@ -172,7 +177,10 @@ loop:
 					break loop
 				}
 				t += T
-				val += nd.reward
+				val += wgt * nd.reward
+				if nd.growth > 0 {
+					wgt *= math.Exp(nd.growth * T)
+				}
 				if nd.hold == 0 {
 					// All of T is diffusive: on the arm of the draw,
 					// independent of T (mean share w_k/W, exact).
@@ -212,7 +220,10 @@ loop:
 					break loop
 				}
 				t += T
-				val += nd.reward
+				val += wgt * nd.reward
+				if nd.growth > 0 {
+					wgt *= math.Exp(nd.growth * T)
+				}
 				for k := range nd.arms {
 					w.addOcc(nd.arms[k].edge, nd.arms[k].occ)
 				}
@@ -232,7 +243,10 @@ loop:
 					break loop
 				}
 				t += T
-				val += nd.reward
+				val += wgt * nd.reward
+				if nd.growth > 0 {
+					wgt *= math.Exp(nd.growth * T)
+				}
 				fate = Killed
 				break loop
 			}
@@ -242,7 +256,7 @@ loop:
 		if !ed.exact {
 			var done bool
 			var how int
-			node, x, t, val, done, how = w.tsStep(e, x, t, val)
+			node, x, t, val, wgt, done, how = w.tsStep(e, x, t, val, wgt)
 			if done {
 				fate = how
 				break loop
@@ -262,7 +276,7 @@ loop:
 			break
 		}
 		t += T
-		val += ed.rate * T
+		val += wgt * ed.rate * T
 		w.addOcc(e, T)
 		if killed {
 			fate = Killed
@@ -290,6 +304,7 @@ loop:
 	}
 	// Per-walker sums into the block.
 	acc.n++
+	acc.maxW = max(acc.maxW, wgt)
 	acc.steps += steps
 	acc.valS += val
 	acc.valQ += val * val
@@ -328,7 +343,7 @@ loop:
 // equation, law of the duration that of the driftless step). It returns the
 // new node (−1 if still on the edge), position, time, value, whether the walk
 // ended, and the fate if it did.
-func (w *walker) tsStep(e int, x, t, val float64) (int, float64, float64, float64, bool, int) {
+func (w *walker) tsStep(e int, x, t, val, wgt float64) (int, float64, float64, float64, float64, bool, int) {
 	m, rng := w.m, w.rng
 	ed := &m.edges[e]
 	a, b, c, f, rho := m.net.EdgeCoeffs(e, x)
@@ -361,13 +376,17 @@ func (w *walker) tsStep(e int, x, t, val float64) (int, float64, float64, float6
 		}
 	}
 	if t+T > m.timeCap {
-		return -1, x, t + T, val, true, Censored
+		return -1, x, t + T, val, wgt, true, Censored
 	}
 	t += T
-	val += f / rho * T
+	val += wgt * f / rho * T
+	if c < 0 {
+		// Settings.Growth: the weight grows at rate |c|/ρ.
+		wgt *= math.Exp(-c / rho * T)
+	}
 	w.addOcc(e, T)
 	if killed {
-		return -1, x, t, val, true, Killed
+		return -1, x, t, val, wgt, true, Killed
 	}
 	if near {
 		// P(exit at x + d) = 1/(1 + e^{−bd/a}) from the scale function.
@@ -375,23 +394,23 @@ func (w *walker) tsStep(e int, x, t, val float64) (int, float64, float64, float6
 		if up == left {
 			// Away from the near node, to distance 2d from it.
 			if left {
-				return -1, x + d, t, val, false, 0
+				return -1, x + d, t, val, wgt, false, 0
 			}
-			return -1, x - d, t, val, false, 0
+			return -1, x - d, t, val, wgt, false, 0
 		}
 		if left {
-			return ed.from, 0, t, val, false, 0
+			return ed.from, 0, t, val, wgt, false, 0
 		}
-		return ed.to, 0, t, val, false, 0
+		return ed.to, 0, t, val, wgt, false, 0
 	}
 	x += b/rho*ed.dt + math.Sqrt(2*a/rho*ed.dt)*rng.NormFloat64()
 	switch {
 	case x <= 0:
-		return ed.from, 0, t, val, false, 0
+		return ed.from, 0, t, val, wgt, false, 0
 	case x >= L:
-		return ed.to, 0, t, val, false, 0
+		return ed.to, 0, t, val, wgt, false, 0
 	}
-	return -1, x, t, val, false, 0
+	return -1, x, t, val, wgt, false, 0
 }
 
 // killClock runs an exponential killing clock of the given rate against a

@@ -32,6 +32,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	draw := fs.String("draw", "", "draw the network coloured by its steady field, start marked, into this SVG file")
 	method := fs.String("method", "auto", "PDE edge elements: exact, grid, or auto")
 	probes := fs.StringArray("probe", nil, "nonlinear files: also compare the field with walkers started at POINT; repeatable")
+	growth := fs.Bool("growth", true, "nonlinear files: where the law grows with u, walkers carry growth weights (false: that part becomes a source on the computed field)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -63,7 +64,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		return fail(stderr, "crosscheck", err)
 	}
 	if graphpde.HasLaws(net) {
-		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *asJSON, stdout, stderr)
+		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *asJSON, stdout, stderr)
 	}
 	if len(*probes) > 0 {
 		return badFlag(stderr, "crosscheck", fmt.Errorf("--probe is for files with nonlinear laws (a linear file is compared from --from)"))

@@ -27,13 +27,15 @@ type nonlinearCheck struct {
 	Residual   num      `json:"residual"`
 	Notes      []string `json:"notes"`
 	Partial    bool     `json:"partial,omitempty"`
+	// MaxWeight is the largest growth weight of any walker (1: none grew).
+	MaxWeight num `json:"max_weight"`
 }
 
 // checkNonlinear solves net by Newton, builds the linear problem that the
 // field solves (graphpde.SecantNetwork) and compares the field with that
 // problem's walkers at every point of specs (the start first).
 func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings) (*nonlinearCheck, error) {
+	wset *montecarlo.Settings, cset *compare.Settings, growth bool) (*nonlinearCheck, error) {
 	pts, err := parsePoints(net, specs)
 	if err != nil {
 		return nil, err
@@ -42,12 +44,15 @@ func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, 
 	if err != nil {
 		return nil, err
 	}
-	sec, info, err := graphpde.SecantNetwork(net, sol)
+	sec, info, err := graphpde.SecantNetwork(net, sol, &graphpde.SecantSettings{Growth: growth})
 	if err != nil {
 		return nil, err
 	}
 	out := &nonlinearCheck{Compared: info.Note, CannotSee: secantCannotSee, Particles: wset.Particles, Seed: wset.Seed,
-		Iterations: nl.Iterations, Residual: num(nl.Residual), Notes: append([]string{}, nl.Notes...)}
+		Iterations: nl.Iterations, Residual: num(nl.Residual), Notes: append([]string{}, nl.Notes...), MaxWeight: 1}
+	if info.Growth {
+		wset.Growth = true
+	}
 	var checks []compare.Check
 	for i, p := range pts {
 		if p.Edge < 0 && net.Nodes[p.Node].Law.Kind == vertex.Fixed {
@@ -65,6 +70,7 @@ func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, 
 		if res.Status == montecarlo.Cancelled {
 			out.Partial = true
 		}
+		out.MaxWeight = num(max(float64(out.MaxWeight), res.MaxWeight))
 		name := "value"
 		if i > 0 {
 			name = "value@" + specs[i]
@@ -91,6 +97,9 @@ func (c *nonlinearCheck) print(w io.Writer, file string) {
 		fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%.2g\t%.2f\t%v\n", k.Quantity, k.PDE, k.Walker, k.StdErr, k.Z, k.Pass)
 	}
 	tw.Flush()
+	if c.MaxWeight > 1 {
+		fmt.Fprintf(w, "\nwalkers carried growth weights where the law grows with u: largest weight %.3g (the error bars above include their variance, which grows as a fold nears)\n", float64(c.MaxWeight))
+	}
 	fmt.Fprintf(w, "\nverdict: %s (%s)\n", c.Verdict, c.Explain)
 	fmt.Fprintln(w, "cannot see:", c.CannotSee)
 	for _, n := range c.Notes {
@@ -100,9 +109,9 @@ func (c *nonlinearCheck) print(w io.Writer, file string) {
 
 // crosscheckNonlinear is ramify crosscheck on a file with nonlinear laws.
 func crosscheckNonlinear(ctx context.Context, net *graphpde.Network, file string, specs []string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings, asJSON bool, stdout, stderr io.Writer) int {
+	wset *montecarlo.Settings, cset *compare.Settings, growth, asJSON bool, stdout, stderr io.Writer) int {
 	wset.KeepSamples = false
-	c, err := checkNonlinear(ctx, net, specs, m, wset, cset)
+	c, err := checkNonlinear(ctx, net, specs, m, wset, cset, growth)
 	if bar, ok := wset.Recorder.(*progressBar); ok {
 		bar.Done()
 	}

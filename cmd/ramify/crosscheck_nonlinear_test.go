@@ -48,6 +48,10 @@ func TestCrosscheckNonlinear(t *testing.T) {
 	if got.Verdict == "disagree" || !strings.Contains(got.Compared, "secant") || !strings.Contains(got.CannotSee, "branch") {
 		t.Errorf("verdict %q, compared %q, cannot see %q", got.Verdict, got.Compared, got.CannotSee)
 	}
+	code, out, errs = runCLI(t, context.Background(), "crosscheck", file, "--from", "s@0.5", "--particles", "20000", "--growth=false")
+	if code != 0 || !strings.Contains(out, "carried as the source") || strings.Contains(out, "growth weights where") {
+		t.Errorf("--growth=false: exit %d, %s%s", code, out, errs)
+	}
 	code, _, errs = runCLI(t, context.Background(), "exit", file, "--from", "s@0.5")
 	if code != 1 || !strings.Contains(errs, "linear problems only") {
 		t.Errorf("exit on a nonlinear file: %d %q", code, errs)
@@ -59,8 +63,9 @@ func TestCrosscheckNonlinear(t *testing.T) {
 // solution at λ = 1: it leaves the residual 0.05·e^û (5 % of the source).
 // The walkers of the secant problem built from it at λ = 1 reproduce the
 // solution of a problem with the right source, not the offered field: the
-// difference (measured 0.0063 at the centre, z = −10.7 at 40 000 walkers)
-// must be more than 6 standard errors.
+// difference (measured 0.0063 at the centre, z = −10.7 at 40 000 walkers
+// with the growth carried as a source, similar with growth weights) must be
+// more than 6 standard errors in both representations.
 func TestCrosscheckCatchesWrongField(t *testing.T) {
 	file := writeFile(t, "bratu.toml", bratuFile)
 	net, err := netfile.ReadFile(file)
@@ -75,19 +80,25 @@ func TestCrosscheckCatchesWrongField(t *testing.T) {
 		t.Fatalf("%v %v", err, res.Status)
 	}
 	net.Params.Set("lambda", 1)
-	sec, _, err := graphpde.SecantNetwork(net, res.Solution)
-	if err != nil {
-		t.Fatal(err)
-	}
 	p, _ := net.ParsePoint("s@0.5")
-	w, err := montecarlo.Run(context.Background(), sec, p, &montecarlo.Settings{Particles: 40000, Seed: 5})
-	if err != nil {
-		t.Fatal(err)
-	}
 	u, _ := res.Solution.At(p)
-	z := (w.Value.Mean - u) / w.Value.StdErr
-	t.Logf("offered %.5f, walkers %.5f ± %.5f, z = %.1f", u, w.Value.Mean, w.Value.StdErr, z)
-	if math.Abs(z) < 6 {
-		t.Errorf("wrong field not caught: z = %.2f", z)
+	for _, growth := range []bool{false, true} {
+		sec, info, err := graphpde.SecantNetwork(net, res.Solution, &graphpde.SecantSettings{Growth: growth})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if info.Growth != growth || info.Moved == growth {
+			t.Errorf("growth %v: info %+v", growth, info)
+		}
+		w, err := montecarlo.Run(context.Background(), sec, p, &montecarlo.Settings{Particles: 40000, Seed: 5, Growth: growth})
+		if err != nil {
+			t.Fatal(err)
+		}
+		z := (w.Value.Mean - u) / w.Value.StdErr
+		t.Logf("growth %v: offered %.5f, walkers %.5f ± %.5f, z = %.1f, max weight %.3g", growth, u, w.Value.Mean, w.Value.StdErr, z, w.MaxWeight)
+		if math.Abs(z) < 6 {
+			t.Errorf("growth %v: wrong field not caught: z = %.2f", growth, z)
+		}
 	}
 }
+
