@@ -58,6 +58,11 @@ type Coef struct {
 	UsesX, UsesU, UsesT bool
 	UsesP               bool   // reads a parameter (Params)
 	Src                 string // the expression as written, for messages and writers
+	// Why, when not nil, names the part of the expression whose value is
+	// not finite at (x, u, t), e.g. "log(u - 0.5) = NaN at u = 0.2
+	// (column 5)", or returns "" when the value is finite: for error
+	// messages, not fast.
+	Why func(x, u, t float64) string
 }
 
 // Equation is a fully nonlinear edge law in generator sign,
@@ -69,6 +74,9 @@ type Coef struct {
 type Equation struct {
 	Fn  func(x, u, ux, uxx float64) (e, du, dux, duxx float64)
 	Src string
+	// Why, when not nil, names the part of the expression whose value is
+	// not finite at (x, u, ux, uxx), or returns "" (see Coef.Why).
+	Why func(x, u, ux, uxx float64) string
 }
 
 // EdgeLaw is the non-constant part of an edge. A nil field means the plain

@@ -78,6 +78,22 @@ func quasiCoefs(ed *Edge, x, u float64) (a, da, b, db, c, dc, f, df float64) {
 }
 
 func edgeLawError(ed *Edge, x, u float64, q string, v float64, want, why string) *LawError {
+	if !finite(v) && ed.Law != nil {
+		// A coefficient compiled from an expression names the part of it
+		// that is not finite there.
+		var c *Coef
+		switch q {
+		case "diffusivity":
+			c = ed.Law.A
+		case "drift":
+			c = ed.Law.B
+		}
+		if c != nil && c.Why != nil {
+			if w := c.Why(x, u, 0); w != "" {
+				why = w
+			}
+		}
+	}
 	return &LawError{Object: "edge", ID: ed.ID, X: x, U: u, Quantity: q, Value: v, Want: want, Why: why}
 }
 
@@ -218,7 +234,11 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 func (s *nlSystem) equation(ed *Edge, x, u, p, X float64) (E, Eu, Ep, EX float64, err error) {
 	E, Eu, Ep, EX = ed.Law.Equation.Fn(x, u, p, X)
 	if !finite(E) || !finite(Eu) || !finite(Ep) || !finite(EX) {
-		return 0, 0, 0, 0, edgeLawError(ed, x, u, "E", E, "finite", "with its derivatives")
+		why := "with its derivatives"
+		if w := ed.Law.Equation.Why; w != nil && w(x, u, p, X) != "" {
+			why = w(x, u, p, X)
+		}
+		return 0, 0, 0, 0, edgeLawError(ed, x, u, "E", E, "finite", why)
 	}
 	if !(EX > 0) {
 		return 0, 0, 0, 0, edgeLawError(ed, x, u, "∂E/∂uxx", EX, "> 0", "the equation is not elliptic there")

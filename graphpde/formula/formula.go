@@ -146,7 +146,8 @@ func (e *Expr) EvalLaw(u float64, d, dd []float64) (g, du float64) {
 // Coef returns the expression as a graphpde coefficient of x, u and t. Its
 // Fn returns the value and the derivative in u.
 func (e *Expr) Coef() *graphpde.Coef {
-	c := &graphpde.Coef{UsesX: e.uses&X != 0, UsesU: e.uses&U != 0, UsesT: e.uses&T != 0, UsesP: e.UsesParams(), Src: e.src}
+	c := &graphpde.Coef{UsesX: e.uses&X != 0, UsesU: e.uses&U != 0, UsesT: e.uses&T != 0, UsesP: e.UsesParams(), Src: e.src,
+		Why: func(x, u, t float64) string { return e.Explain(x, u, 0, 0, t, nil) }}
 	if e.root.konst {
 		v := e.root.c
 		c.Fn = func(x, u, t float64) (float64, float64) { return v, 0 }
@@ -163,7 +164,7 @@ func (e *Expr) Coef() *graphpde.Coef {
 // Equation returns the expression as a fully nonlinear graphpde edge law
 // E(x, u, ux, uxx).
 func (e *Expr) Equation() *graphpde.Equation {
-	q := &graphpde.Equation{Src: e.src}
+	q := &graphpde.Equation{Src: e.src, Why: func(x, u, ux, uxx float64) string { return e.Explain(x, u, ux, uxx, 0, nil) }}
 	if e.root.konst {
 		v := e.root.c
 		q.Fn = func(x, u, ux, uxx float64) (float64, float64, float64, float64) { return v, 0, 0, 0 }

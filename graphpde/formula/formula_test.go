@@ -235,6 +235,13 @@ func TestDomain(t *testing.T) {
 	if want := "log(u) = NaN at u = -0.5 (column 6)"; got != want {
 		t.Errorf("Explain: %q, want %q", got, want)
 	}
+	if got := e.Coef().Why(1, -0.5, 0); got != "log(u) = NaN at u = -0.5 (column 6)" {
+		t.Errorf("Coef.Why: %q", got)
+	}
+	q, _ := Compile("uxx + sqrt(ux - 1)", Spec{Vars: U | UX | UXX})
+	if got := q.Equation().Why(0, 0, 0, 0); got != "sqrt(ux - 1) = NaN at ux = 0 (column 7)" {
+		t.Errorf("Equation.Why: %q", got)
+	}
 	if s := e.Explain(1, 2, 0, 0, 0, nil); s != "" {
 		t.Errorf("Explain at a finite value: %q, want \"\"", s)
 	}

@@ -184,12 +184,32 @@ cells = 8
 	if err == nil {
 		t.Fatalf("no error; status %v", res.Status)
 	}
-	for _, want := range []string{`edge "wire"`, "x = ", "u = "} {
+	for _, want := range []string{`edge "wire"`, "x = ", "u = ", "log(u) = NaN at u = "} {
 		if !strings.Contains(err.Error(), want) {
 			t.Errorf("error %q does not name %q", err, want)
 		}
 	}
 	if res != nil && res.Solution != nil {
 		t.Errorf("a field was returned with the error")
+	}
+}
+
+// TestSolveCoefficientDomainError: a diffusivity outside its domain names
+// the subexpression that fails.
+func TestSolveCoefficientDomainError(t *testing.T) {
+	net, err := Read(strings.NewReader(twoNodes+`[[edge]]
+id = "rod"
+from = "a"
+to = "b"
+length = 1
+diffusivity = "1 + log(u - 0.5)"
+cells = 8
+`), "domain.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, err = graphpde.SolveNonlinear(net, nil)
+	if err == nil || !strings.Contains(err.Error(), `edge "rod"`) || !strings.Contains(err.Error(), "log(u - 0.5) = NaN at u = ") {
+		t.Errorf("error %v, want one naming the edge and log(u - 0.5)", err)
 	}
 }
