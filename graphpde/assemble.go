@@ -65,6 +65,16 @@ type system struct {
 	x     []float64
 	u     []float64 // node values
 	stats Stats
+
+	// Accuracy (accuracy.go): the node matrix pattern, the residual and
+	// refinement step, and the scaled residual after refine.
+	rp, ci  []int
+	res, dx []float64
+	omega   float64
+	omegaAt int
+	// nodesys Stats.MinPivotRatio and MinPivotIndex of the last factor.
+	pivotRatio float64
+	pivotAt    int
 }
 
 // edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
@@ -230,6 +240,7 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	}
 	m := len(s.nodes)
 	rowPtr, col := s.pattern()
+	s.rp, s.ci = rowPtr, col
 	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
 	s.fac = nodesys.NewFactor[float64](nil)
 	s.rhs = make([]float64, m)
@@ -460,6 +471,7 @@ func (s *system) factor() error {
 		return err
 	}
 	fs := s.fac.Stats()
+	s.pivotRatio, s.pivotAt = fs.MinPivotRatio, fs.MinPivotIndex
 	s.stats.FillNNZ = fs.NNZL
 	s.stats.FactorTime = fs.OrderTime + fs.SymbolicTime + fs.NumericTime
 	return nil

@@ -19,6 +19,9 @@ type Solution struct {
 	Residual []float64
 	Status   Status
 	Stats    Stats
+	// Notes explain a Status other than Converged and values that are
+	// not reported (NaN end fluxes that are pure rounding).
+	Notes []string
 
 	els  []element // per edge
 	off  []int     // per edge: its first interior value in gval

@@ -116,6 +116,7 @@ type solveOut struct {
 	Stats   statsOut   `json:"stats"`
 	Summary summaryOut `json:"summary"`
 	Units   *unitsOut  `json:"units,omitempty"`
+	Notes   []string   `json:"notes,omitempty"`
 	Caution string     `json:"caution,omitempty"`
 	nonlinearOut
 }
@@ -127,12 +128,16 @@ type statsOut struct {
 	GridEdges    int     `json:"grid_edges"`
 	Fill         int     `json:"factor_nonzeros"`
 	Seconds      float64 `json:"seconds"`
+	// The node solve's scaled residual after refinement, and the steps.
+	ScaledResidual num `json:"scaled_residual"`
+	Refinements    int `json:"refinements"`
 }
 
 func solveJSON(net *graphpde.Network, sol *graphpde.Solution, specs []string, pts []graphpde.Point) solveOut {
 	out := solveOut{
 		Network: net.Name,
 		Status:  sol.Status.String(),
+		Notes:   sol.Notes,
 		Nodes:   make([]nodeOut, len(net.Nodes)),
 		Edges:   make([]edgeOut, len(net.Edges)),
 		Probes:  make([]probeOut, len(pts)),
@@ -140,6 +145,7 @@ func solveJSON(net *graphpde.Network, sol *graphpde.Solution, specs []string, pt
 			Unknowns: sol.Stats.Unknowns, NodeUnknowns: sol.Stats.NodeUnknowns,
 			ExactEdges: sol.Stats.ExactEdges, GridEdges: sol.Stats.GridEdges,
 			Fill: sol.Stats.FillNNZ, Seconds: sol.Stats.Elapsed.Seconds(),
+			ScaledResidual: num(sol.Stats.ScaledResidual), Refinements: sol.Stats.Refinements,
 		},
 		Summary: summarize(net, sol),
 		Units:   physicalUnits(net.Physical),
@@ -215,6 +221,9 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *
 	}
 	if at >= 0 {
 		fmt.Fprintf(w, "largest balance residual %.2e, at node %s\n", worst, net.Nodes[at].ID)
+	}
+	for _, n := range sol.Notes {
+		fmt.Fprintf(w, "note: %s\n", n)
 	}
 	printNonlinear(w, nl)
 	fmt.Fprintln(w)

@@ -287,6 +287,9 @@ func hazard(net *graphpde.Network) bool { return net.Physical != nil && net.Phys
 // fmtNum prints x with 6 significant digits in the shortest of %g's forms,
 // never as "-0".
 func fmtNum(x float64) string {
+	if math.IsNaN(x) {
+		return "not reported" // the notes say why
+	}
 	if x == 0 || math.Abs(x) < 1e-300 {
 		return "0"
 	}

@@ -97,6 +97,15 @@ type Stats struct {
 	// 0 when the up-looking kernel is (trees, sparse networks).
 	Supernodes int
 
+	// MinPivotRatio is the smallest |d_k| / max(max_j |a_kj|, |a_kk| +
+	// Σ_j |l_kj·d_j·u_jk|) of the last numeric factorisation: the share
+	// of a pivot that survived the cancellation in its elimination (1
+	// without any). About ε/MinPivotRatio of relative accuracy is lost in
+	// the solution; Settings.PivotTol is its floor. MinPivotIndex is that
+	// row in the caller's numbering (−1 for an empty system).
+	MinPivotRatio float64
+	MinPivotIndex int
+
 	// Wall-clock times of the last analysis (ordering and symbolic
 	// factorisation) and of the last numeric factorisation.
 	OrderTime, SymbolicTime, NumericTime time.Duration
@@ -447,6 +456,7 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 	}
 	f.symmetric = sym
 	f.stats.Symmetric = sym
+	f.stats.MinPivotRatio, f.stats.MinPivotIndex = 1, -1
 	if !sym && len(f.ux) != len(f.lx) {
 		f.ux = make([]T, len(f.lx))
 	}
@@ -537,9 +547,18 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 		if a := magMax(dk); !(a > tol*math.Max(scale, cs)) || math.IsInf(a, 0) {
 			return &SingularError{Index: c, Pivot: mag(dk), Scale: math.Max(scale, cs)}
 		}
+		f.notePivot(c, magMax(dk)/math.Max(scale, cs))
 		d[k] = dk
 	}
 	return nil
+}
+
+// notePivot records the pivot ratio r of row c if it is the smallest so
+// far.
+func (f *Factor[T]) notePivot(c int, r float64) {
+	if r < f.stats.MinPivotRatio {
+		f.stats.MinPivotRatio, f.stats.MinPivotIndex = r, c
+	}
 }
 
 // SolveTo solves A·x = b with the last factorisation and stores x in dst. dst

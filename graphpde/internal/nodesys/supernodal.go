@@ -245,6 +245,7 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 			if a := magMax(dj); !(a > tol*math.Max(scale, cs[j])) || math.IsInf(a, 0) {
 				return &SingularError{Index: c, Pivot: mag(dj), Scale: math.Max(scale, cs[j])}
 			}
+			f.notePivot(c, magMax(dj)/math.Max(scale, cs[j]))
 			colL := lx[lp[j]:lp[j+1]] // unscaled: L(r,j)·d_j
 			if sym {
 				for j2 := j + 1; j2 < e; j2++ {

@@ -177,6 +177,7 @@ func (f *Factor[T]) numericTree(m *Matrix[T], sym bool) error {
 		if a := magMax(dk); !(a > tol*math.Max(scale, cs)) || math.IsInf(a, 0) {
 			return &SingularError{Index: c, Pivot: mag(dk), Scale: math.Max(scale, cs)}
 		}
+		f.notePivot(c, magMax(dk)/math.Max(scale, cs))
 		d[k] = dk
 	}
 	return nil

@@ -1,0 +1,133 @@
+package graphpde
+
+import (
+	"fmt"
+	"math"
+	"strings"
+	"testing"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// TestAccuracySeries: diffusivities 1e−12, 1 and 1e12 in series (unit
+// lengths) between u = 0 and u = 1 carry the flux −1/(1e12 + 1 + 1e−12)
+// (derived: resistances in series). The two inner nodes hold 1 − 1e−12
+// and 1 − 1e−24; the second is 1 in float64, so the flux through the
+// stiff edge is rounding (it used to be reported as 0, breaking Kirchhoff
+// at the node). It must come out NaN with a note, and the others right.
+func TestAccuracySeries(t *testing.T) {
+	// seriesFlux: soft's flux is a·(u1 − 0)/L with u1 exact to ε; mid's is
+	// a difference of values 1e−12 apart, so rounding of 1e−16 in them is
+	// 1e−4 of it.
+	const softRel, midRel = 1e-12, 1e-3
+	net := mustNet(t, []Node{{ID: "n0", Law: fixedAt(0)}, {ID: "n1", Law: free}, {ID: "n2", Law: free}, {ID: "n3", Law: fixedAt(1)}},
+		[]edgeSpec{
+			{Edge{ID: "soft", Length: 1, A: 1e-12}, "n0", "n1"},
+			{Edge{ID: "mid", Length: 1, A: 1}, "n1", "n2"},
+			{Edge{ID: "hard", Length: 1, A: 1e12}, "n2", "n3"},
+		})
+	want := -1 / (1e12 + 1 + 1e-12)
+	for _, m := range []Method{MethodExact, MethodGrid} {
+		sol, err := Solve(net, &Settings{Method: m})
+		if err != nil {
+			t.Fatal(err)
+		}
+		f := sol.Flux
+		if math.Abs(f[0][0]-want) > softRel*-want || math.Abs(f[1][0]-want) > midRel*-want {
+			t.Errorf("%v: fluxes %g, %g, want %g", m, f[0][0], f[1][0], want)
+		}
+		if !math.IsNaN(f[2][0]) || !math.IsNaN(f[2][1]) {
+			t.Errorf("%v: flux of the stiff edge %v, want NaN (rounding)", m, f[2])
+		}
+		if len(sol.Notes) == 0 || !strings.Contains(strings.Join(sol.Notes, " "), "hard") {
+			t.Errorf("%v: notes %q, want one naming edge hard", m, sol.Notes)
+		}
+	}
+}
+
+// leakyCycle is a triangle with drift around it, anchored only by a leak
+// at hub, which also gets injection 1: u ≡ 1/leak and no flux (derived:
+// constants solve every edge, and the hub balances leak·u = 1).
+func leakyCycle(t *testing.T, leak float64) *Network {
+	return mustNet(t, []Node{{ID: "hub", Law: vertex.Law{Kind: vertex.Balance, Leak: leak, Inject: 1}}, {ID: "p", Law: free}, {ID: "q", Law: free}},
+		[]edgeSpec{
+			{Edge{ID: "e1", Length: 1, A: 1, B: 3}, "hub", "p"},
+			{Edge{ID: "e2", Length: 2, A: 0.5, B: -2}, "p", "q"},
+			{Edge{ID: "e3", Length: 1, A: 1}, "q", "hub"},
+		})
+}
+
+// TestAccuracyNearlySingular: as the leak falls the node system approaches
+// singularity and its elimination cancels digits. The error of u against
+// 1/leak must stay below the accuracy the solve states (ε over the pivot
+// ratio, in a note), and the status must be Inaccurate once fewer than six
+// digits are left. (Before the row sums of the grid elements were formed
+// without cancellation, leak 1e−11 on grid edges gave u off by 48%,
+// "converged".)
+func TestAccuracyNearlySingular(t *testing.T) {
+	for _, leak := range []float64{1e-3, 1e-6, 1e-8, 1e-9, 1e-10} {
+		net := leakyCycle(t, leak)
+		for _, m := range []Method{MethodExact, MethodGrid} {
+			name := fmt.Sprintf("leak %g %v", leak, m)
+			sys, err := newSystem(net, nil, &Settings{Method: m})
+			if err != nil {
+				t.Fatal(err)
+			}
+			sys.assemble(0)
+			if err := sys.factor(); err != nil {
+				t.Fatalf("%s: %v", name, err)
+			}
+			sys.solve()
+			sys.refine()
+			sol, err := sys.solution()
+			if err != nil {
+				t.Fatal(err)
+			}
+			sys.judge(sol)
+			stated := math.Max(0x1p-52/sys.pivotRatio, 1e-13)
+			for v, u := range sol.U {
+				if rel := math.Abs(u*leak - 1); rel > stated {
+					t.Errorf("%s: u(%s) = %.16g is %.2g off, more than the stated %.2g", name, net.Nodes[v].ID, u, rel, stated)
+				}
+			}
+			if inacc := stated > conditionTol; inacc != (sol.Status == Inaccurate) {
+				t.Errorf("%s: status %v with stated accuracy %.2g", name, sol.Status, stated)
+			}
+			if stated > conditionNote && len(sol.Notes) == 0 {
+				t.Errorf("%s: no note for a stated accuracy of %.2g", name, stated)
+			}
+		}
+	}
+}
+
+// TestAccuracyRefine: a node solution spoiled by 1e−6 (as a factor that
+// lost digits would leave it) is brought back by iterative refinement to a
+// scaled residual of a few ε and to the solution, and the steps are
+// counted.
+func TestAccuracyRefine(t *testing.T) {
+	net := leakyCycle(t, 0.3)
+	sys, err := newSystem(net, nil, &Settings{Method: MethodExact})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sys.assemble(0)
+	if err := sys.factor(); err != nil {
+		t.Fatal(err)
+	}
+	sys.solve()
+	for i := range sys.x {
+		sys.x[i] *= 1 + 1e-6*float64(i+1)
+	}
+	if o, _ := sys.nodeResidual(); o < 1e-8 {
+		t.Fatalf("spoiled solution has ω = %g, want ≥ 1e−8", o)
+	}
+	sys.refine()
+	if sys.omega > 4e-16 || sys.stats.Refinements == 0 {
+		t.Errorf("after refinement ω = %g with %d steps, want ≤ 4e−16 and ≥ 1 step", sys.omega, sys.stats.Refinements)
+	}
+	for i, u := range sys.u {
+		if math.Abs(u*0.3-1) > 1e-14 {
+			t.Errorf("u(%s) = %.16g, want 1/0.3", net.Nodes[i].ID, u)
+		}
+	}
+}
