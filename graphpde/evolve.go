@@ -220,9 +220,20 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 			return f, nil
 		}
 	}
+	sys := ig.rs
+	if sys.rp == nil {
+		sys.compress()
+	}
 	var f *stepFactor
 	if len(ig.cache) < keepFactors {
-		f = &stepFactor{mat: nodesys.NewMatrix[float64](ig.rs.n), fac: nodesys.NewFactor[float64](nil)}
+		// every step size has the pattern of K: the first factor's
+		// analysis is shared by the others (Clone)
+		f = &stepFactor{mat: nodesys.NewMatrixPattern[float64](sys.n, sys.rp, sys.ci)}
+		if len(ig.cache) == 0 {
+			f.fac = nodesys.NewFactor[float64](nil)
+		} else {
+			f.fac = ig.cache[0].fac.Clone()
+		}
 		ig.cache = append(ig.cache, f)
 	} else {
 		f = ig.cache[0]
@@ -233,15 +244,16 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 		}
 	}
 	f.h, f.use = h, 1
-	// M + (γh/2)K into f.mat: copy K's entries, scaled, then the diagonal.
-	sys := ig.rs
+	// M + (γh/2)K, straight into the values of the pattern.
 	d := trGamma * h / 2
-	f.mat.ZeroValues()
+	val := f.mat.Values()
 	for i := 0; i < sys.n; i++ {
-		f.mat.Add(i, i, sys.M[i])
-	}
-	for k, i := range sys.kI {
-		f.mat.Add(i, sys.kJ[k], d*sys.kV[k])
+		for p := sys.rp[i]; p < sys.rp[i+1]; p++ {
+			val[p] = d * sys.cv[p]
+			if sys.ci[p] == i {
+				val[p] += sys.M[i]
+			}
+		}
 	}
 	ig.facts++
 	if err := f.fac.Factorize(f.mat); err != nil {

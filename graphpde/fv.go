@@ -235,6 +235,59 @@ type odeRows struct {
 	kI, kJ []int
 	kV     []float64
 	M      []float64
+	// K in compressed rows, built from the triplets by compress (mulK
+	// builds it on first use).
+	rp, ci []int
+	cv     []float64
+}
+
+// compress builds the compressed rows of K from the triplets: duplicates
+// summed, the diagonal always present, columns increasing (the form
+// nodesys.NewMatrixPattern takes when the pattern is symmetric, as it is
+// for the grids here). Cost O(n + entries).
+func (s *odeRows) compress() {
+	cnt := make([]int, s.n+1)
+	for _, i := range s.kI {
+		cnt[i+1]++
+	}
+	for i := 0; i < s.n; i++ {
+		cnt[i+1] += cnt[i]
+	}
+	tj := make([]int, len(s.kI))
+	tv := make([]float64, len(s.kI))
+	pos := append([]int(nil), cnt[:s.n]...)
+	for k, i := range s.kI {
+		tj[pos[i]] = s.kJ[k]
+		tv[pos[i]] = s.kV[k]
+		pos[i]++
+	}
+	rp := make([]int, s.n+1)
+	ci := make([]int, 0, len(s.kI)+s.n)
+	cv := make([]float64, 0, len(s.kI)+s.n)
+	for i := 0; i < s.n; i++ {
+		start := len(ci)
+		ci = append(ci, i)
+		cv = append(cv, 0)
+		for p := cnt[i]; p < cnt[i+1]; p++ {
+			q := start
+			for ; q < len(ci) && ci[q] != tj[p]; q++ {
+			}
+			if q == len(ci) {
+				ci = append(ci, tj[p])
+				cv = append(cv, 0)
+			}
+			cv[q] += tv[p]
+		}
+		// insertion sort of the short row
+		for x := start + 1; x < len(ci); x++ {
+			for y := x; y > start && ci[y] < ci[y-1]; y-- {
+				ci[y], ci[y-1] = ci[y-1], ci[y]
+				cv[y], cv[y-1] = cv[y-1], cv[y]
+			}
+		}
+		rp[i+1] = len(ci)
+	}
+	s.rp, s.ci, s.cv = rp, ci, cv
 }
 
 func (s *odeRows) rows() *odeRows { return s }
@@ -257,9 +310,16 @@ func (s *odeRows) addK(i, j int, v float64) {
 
 // mulK sets dst = K x. Cost O(entries).
 func (s *odeRows) mulK(dst, x []float64) {
-	clear(dst)
-	for k, i := range s.kI {
-		dst[i] += s.kV[k] * x[s.kJ[k]]
+	if s.rp == nil {
+		s.compress()
+	}
+	ci, cv := s.ci, s.cv
+	for i := 0; i < s.n; i++ {
+		sum := 0.0
+		for p := s.rp[i]; p < s.rp[i+1]; p++ {
+			sum += cv[p] * x[ci[p]]
+		}
+		dst[i] = sum
 	}
 }
 
