@@ -39,6 +39,7 @@ func commands() []command {
 		{"evolve", "transient field from the initial one: probe time series, crossing times, snapshots", runEvolve},
 		{"sweep", "follow a steady solution in a parameter, through folds", runSweep},
 		{"spectrum", "smallest eigenvalues (decay rates) and the slowest relaxation time", runSpectrum},
+		{"convert", "read any supported format, write the network as toml, csv or json", runConvert},
 		{"report", "one offline HTML page: drawing, tables, exit law and verdict", runReport},
 		{"demo", "the built-in example network, end to end", runDemo},
 		{"bench", "performance figures of the solvers on generated networks", runBench},

@@ -30,17 +30,15 @@ var (
 )
 
 // ReadFile reads the network in path, choosing the format by the extension:
-// ".toml" for a network file (Read), ".csv" for an edge list (ReadCSV). The
-// path is used as the file name in errors.
+// ".toml" for a network file (Read), ".csv" for an edge list (ReadCSV),
+// ".json" for the JSON form of a network file or a GeoJSON document
+// (ReadJSON), ".geojson" (ReadGeoJSON), ".swc" (ReadSWC), ".dot" or ".gv"
+// (ReadDOT). The path is used as the file name in errors.
 func ReadFile(path string) (*graphpde.Network, error) {
-	var read func(io.Reader, string) (*graphpde.Network, error)
-	switch ext := strings.ToLower(filepath.Ext(path)); ext {
-	case ".toml":
-		read = Read
-	case ".csv":
-		read = ReadCSV
-	default:
-		return nil, &Error{File: path, Msg: fmt.Sprintf("unknown file type %q: want .toml (network file) or .csv (edge list)", ext)}
+	ext := strings.ToLower(filepath.Ext(path))
+	read, ok := readers[ext]
+	if !ok {
+		return nil, &Error{File: path, Msg: fmt.Sprintf("unknown file type %q: want %s", ext, readerList)}
 	}
 	f, err := os.Open(path)
 	if err != nil {

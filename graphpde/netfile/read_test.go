@@ -334,8 +334,8 @@ func TestReadFile(t *testing.T) {
 	if !errors.As(err, &fe) || fe.File != missing || !errors.Is(err, os.ErrNotExist) {
 		t.Errorf("missing file: %v", err)
 	}
-	if _, err := ReadFile("net.json"); err == nil || !strings.Contains(err.Error(), `unknown file type ".json"`) {
-		t.Errorf("json: %v", err)
+	if _, err := ReadFile("net.xlsx"); err == nil || !strings.Contains(err.Error(), `unknown file type ".xlsx"`) {
+		t.Errorf("xlsx: %v", err)
 	}
 }
 
