@@ -272,7 +272,10 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		}
 		return x, nil
 	}
-	sys := newExitSystem(net, start)
+	sys, err := newExitSystem(net, start)
+	if err != nil {
+		return nil, fail("component of the start", err)
+	}
 	if !sys.anchored {
 		return nil, bad("its component has no fixed node, leak or decay, so the walker never dies")
 	}

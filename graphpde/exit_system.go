@@ -50,36 +50,31 @@ type exitEl struct {
 
 // newExitSystem builds the system for start p on net, whose edges in the
 // start's component must all have constant coefficients (it panics
-// otherwise). Cost O(nodes + edges).
-func newExitSystem(net *Network, p Point) *exitSystem {
-	comp, _ := net.Components()
-	c0 := pointComponent(net, comp, p)
-	sys := &exitSystem{}
-	node := make([]int, len(net.Nodes)) // network node → system node
-	anchored := false
-	for v := range net.Nodes {
-		node[v] = -1
-		if comp[v] != c0 {
-			continue
-		}
-		node[v] = len(sys.law)
-		sys.law = append(sys.law, net.Nodes[v].Law)
-		sys.ids = append(sys.ids, net.Nodes[v].ID)
-		sys.orig = append(sys.orig, v)
-		anchored = anchored || net.Nodes[v].Law.Anchors()
+// otherwise). The component comes from componentNetwork, the one component
+// extraction of the package (the grid path uses it too). Cost O(nodes +
+// edges).
+func newExitSystem(net *Network, p Point) (*exitSystem, error) {
+	sub, nodeOf, edgeOf, sp, err := componentNetwork(net, p)
+	if err != nil {
+		return nil, err
 	}
-	for i := range net.Edges {
-		e := &net.Edges[i]
-		if comp[e.From] != c0 {
-			continue
-		}
+	sys := &exitSystem{}
+	anchored := false
+	for v := range sub.Nodes {
+		sys.law = append(sys.law, sub.Nodes[v].Law)
+		sys.ids = append(sys.ids, sub.Nodes[v].ID)
+		sys.orig = append(sys.orig, nodeOf[v])
+		anchored = anchored || sub.Nodes[v].Law.Anchors()
+	}
+	for k := range sub.Edges {
+		e := &sub.Edges[k]
 		if !e.Constant() {
 			panic("graphpde: exit system on an edge with varying coefficients")
 		}
 		anchored = anchored || e.C > 0
-		base := exitEl{from: node[e.From], to: node[e.To], a: e.A, b: e.B, c: e.C, rho: e.Rho,
-			L: e.Length, w0: e.EndWeight(0), w1: e.EndWeight(1), orig: i}
-		if i != p.Edge {
+		base := exitEl{from: e.From, to: e.To, a: e.A, b: e.B, c: e.C, rho: e.Rho,
+			L: e.Length, w0: e.EndWeight(0), w1: e.EndWeight(1), orig: edgeOf[k]}
+		if k != sp.Edge {
 			sys.el = append(sys.el, base)
 			continue
 		}
@@ -88,14 +83,14 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 		sys.ids = append(sys.ids, net.PointString(p))
 		sys.orig = append(sys.orig, -1)
 		left, right := base, base
-		left.to, left.L, left.w1 = mid, p.X, e.A
-		right.from, right.L, right.w0 = mid, e.Length-p.X, e.A
+		left.to, left.L, left.w1 = mid, sp.X, e.A
+		right.from, right.L, right.w0 = mid, e.Length-sp.X, e.A
 		sys.el = append(sys.el, left, right)
 	}
 	if p.Edge >= 0 {
 		sys.start = len(sys.law) - 1
 	} else {
-		sys.start = node[p.Node]
+		sys.start = sp.Node
 	}
 	sys.anchored = anchored
 	skew := false
@@ -125,7 +120,7 @@ func newExitSystem(net *Network, p Point) *exitSystem {
 		ends[k] = [2]int{el.from, el.to}
 	}
 	sys.pat = newNodePattern(sys.unk, nodes, ends)
-	return sys
+	return sys, nil
 }
 
 // newMatrix returns a matrix of values over the system's pattern.

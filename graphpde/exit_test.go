@@ -703,7 +703,10 @@ func TestExitRandomTreeConsistency(t *testing.T) {
 	}
 	// Killed directly: the lifetime transform at s = 0 minus the absorbed
 	// part is the killed part; here from the steady problem f = c, γ = β.
-	sys := newExitSystem(net, start)
+	sys, err := newExitSystem(net, start)
+	if err != nil {
+		t.Fatal(err)
+	}
 	ad, err := sys.steadyAdjoint()
 	if err != nil {
 		t.Fatal(err)
@@ -760,7 +763,11 @@ func BenchmarkExitStatistics(b *testing.B) {
 		})
 		b.Run("transform/edges="+strconv.Itoa(n), func(b *testing.B) {
 			b.ReportAllocs()
-			tr := newTransformer(newExitSystem(net, start))
+			sys, err := newExitSystem(net, start)
+			if err != nil {
+				b.Fatal(err)
+			}
+			tr := newTransformer(sys)
 			for b.Loop() {
 				if _, err := tr.at(complex(3, 4)); err != nil {
 					b.Fatal(err)
