@@ -1,5 +1,7 @@
 package graphpde
 
+import "math"
+
 // Solution is the result of a steady solve.
 type Solution struct {
 	Net *Network
@@ -98,4 +100,55 @@ func (s *Solution) Sample(dst []FieldPoint, e int) []FieldPoint {
 func (s *Solution) ExactEdge(e int) bool {
 	_, ok := s.els[e].(*exactEl)
 	return ok
+}
+
+// solution packages the current state (after solve) as a Solution: node
+// values, end fluxes and node residuals reconstructed from the elements, and
+// a finiteness check of everything. The Solution shares the grid storage and
+// the element data with s: a later assemble changes it.
+func (s *system) solution() (*Solution, error) {
+	net := s.net
+	sol := &Solution{
+		Net:      net,
+		U:        append([]float64(nil), s.u...),
+		Flux:     make([][2]float64, len(net.Edges)),
+		Residual: make([]float64, len(net.Nodes)),
+		Status:   Converged,
+		Stats:    s.stats,
+		els:      s.els,
+		off:      s.off,
+		gval:     s.st,
+	}
+	for i, u := range sol.U {
+		if math.IsNaN(u) || math.IsInf(u, 0) {
+			return nil, &NonFiniteError{Object: "node", ID: net.Nodes[i].ID}
+		}
+	}
+	if s.bad >= 0 {
+		return nil, &NonFiniteError{Object: "edge", ID: net.Edges[s.bad].ID}
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		d0, dL := s.endDerivs(e)
+		a0, _, _, _, _ := ed.Coeffs(0)
+		aL, _, _, _, _ := ed.Coeffs(ed.Length)
+		sol.Flux[e] = [2]float64{-a0 * d0, -aL * dL}
+		if f := sol.Flux[e]; math.IsNaN(f[0]+f[1]) || math.IsInf(f[0]+f[1], 0) {
+			return nil, &NonFiniteError{Object: "edge", ID: ed.ID}
+		}
+		if r := s.unk[ed.From]; r >= 0 {
+			sol.Residual[ed.From] += -ed.EndWeight(0) * d0
+		}
+		if r := s.unk[ed.To]; r >= 0 {
+			sol.Residual[ed.To] += ed.EndWeight(1) * dL
+		}
+	}
+	for _, i := range s.nodes {
+		diag, rhs := net.Nodes[i].Law.Row(s.shift)
+		if s.v.NodeInject != nil {
+			rhs = s.v.NodeInject[i]
+		}
+		sol.Residual[i] += diag*s.u[i] - rhs
+	}
+	return sol, nil
 }
