@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"time"
@@ -20,6 +21,9 @@ type SweepSettings struct {
 	MaxPoints int
 	// Probes are the points whose values every SweepPoint lists.
 	Probes []Point
+	// Context, when not nil, stops the sweep between two points once it
+	// is done (Status SweepInterrupted, with the points computed so far).
+	Context context.Context
 }
 
 // SweepPoint is one solution on the branch.
@@ -51,6 +55,9 @@ const (
 	// SweepFailed: the corrector did not converge even at the smallest
 	// step, or a law failed its checks.
 	SweepFailed
+	// SweepInterrupted: SweepSettings.Context was cancelled; the points
+	// computed before are kept.
+	SweepInterrupted
 )
 
 // String returns the status as the command line prints it.
@@ -64,6 +71,8 @@ func (s SweepStatus) String() string {
 		return "point limit"
 	case SweepFailed:
 		return "failed"
+	case SweepInterrupted:
+		return "interrupted"
 	}
 	return fmt.Sprintf("SweepStatus(%d)", int(s))
 }
@@ -169,6 +178,10 @@ func Sweep(net *Network, param string, to float64, set *SweepSettings) (*SweepRe
 	minStep := ss.Step / 1024
 	lo, hi := math.Min(from, to), math.Max(from, to)
 	for {
+		if ss.Context != nil && ss.Context.Err() != nil {
+			res.Status = SweepInterrupted
+			break
+		}
 		if len(res.Points) >= ss.MaxPoints {
 			res.Status = SweepPointLimit
 			break

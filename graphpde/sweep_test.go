@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"math"
 	"testing"
 )
@@ -93,5 +94,20 @@ func TestSweepReaches(t *testing.T) {
 	}
 	if math.Abs(last.Probes[0]-0.3289524213) > 1e-5 {
 		t.Errorf("u(½) at λ = 2: %.10f, want 0.3289524213", last.Probes[0])
+	}
+}
+
+// TestSweepInterrupted: a cancelled context stops the sweep between points,
+// keeping the points computed (here the first, solved before the loop).
+func TestSweepInterrupted(t *testing.T) {
+	net, m := bratuParamNet(t, 1, 32)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	res, err := Sweep(net, "lambda", 4, &SweepSettings{Probes: []Point{{Node: m, Edge: -1}}, Context: ctx})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Status != SweepInterrupted || len(res.Points) != 1 || res.Points[0].Value != 1 {
+		t.Errorf("status %v, %d points", res.Status, len(res.Points))
 	}
 }

@@ -101,4 +101,3 @@ func TestCrosscheckCatchesWrongField(t *testing.T) {
 		}
 	}
 }
-

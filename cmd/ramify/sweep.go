@@ -7,6 +7,7 @@ import (
 	"math"
 	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/ramify-dev/ramify/graphpde"
 )
@@ -66,16 +67,22 @@ func runSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		return fail(stderr, "sweep", err)
 	}
 	from := net.Params.Values[net.Params.Index(*param)]
-	res, err := interruptible(ctx, func() (*graphpde.SweepResult, error) {
+	// The first solve is interruptible at once; after it, Ctrl-C stops the
+	// sweep between two points and what was computed is printed.
+	res, err := sweepInterruptible(ctx, func() (*graphpde.SweepResult, error) {
 		return graphpde.Sweep(net, *param, *to, &graphpde.SweepSettings{
 			Solve:     &graphpde.NonlinearSettings{Method: m, Cells: *cells},
 			Step:      *step,
 			MaxPoints: *maxPoints,
 			Probes:    pts,
+			Context:   ctx,
 		})
 	})
 	if err != nil {
 		return fail(stderr, "sweep", err)
+	}
+	if res.Status == graphpde.SweepInterrupted {
+		fmt.Fprintf(stderr, "ramify sweep: interrupted: printing the %s computed before\n", plural(len(res.Points), "point"))
 	}
 	if *plot != "" {
 		replaced, err := saveFile(*plot, []string{file}, func(w io.Writer) error {
@@ -93,10 +100,39 @@ func runSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	} else {
 		printSweep(stdout, net, res, *probes, from, *to)
 	}
-	if res.Status == graphpde.SweepFailed {
+	switch res.Status {
+	case graphpde.SweepFailed:
 		return 1
+	case graphpde.SweepInterrupted:
+		return exitInterrupted
 	}
 	return 0
+}
+
+// sweepInterruptible runs f; on Ctrl-C it waits up to a second for f to
+// return the points it has (the sweep stops between two points), else it
+// returns errInterrupted (the first solve, or one long point, was running).
+func sweepInterruptible(ctx context.Context, f func() (*graphpde.SweepResult, error)) (*graphpde.SweepResult, error) {
+	type out struct {
+		r   *graphpde.SweepResult
+		err error
+	}
+	ch := make(chan out, 1)
+	go func() {
+		r, err := f()
+		ch <- out{r, err}
+	}()
+	select {
+	case o := <-ch:
+		return o.r, o.err
+	case <-ctx.Done():
+	}
+	select {
+	case o := <-ch:
+		return o.r, o.err
+	case <-time.After(time.Second):
+		return nil, errInterrupted
+	}
 }
 
 type sweepPointOut struct {
@@ -170,6 +206,8 @@ func printSweep(w io.Writer, net *graphpde.Network, res *graphpde.SweepResult, s
 		fmt.Fprintf(w, "stopped after %s (--max-points)\n", plural(len(res.Points), "point"))
 	case graphpde.SweepFailed:
 		fmt.Fprintln(w, "the continuation failed (see the notes)")
+	case graphpde.SweepInterrupted:
+		fmt.Fprintln(w, "interrupted (Ctrl-C): the points computed before")
 	}
 	if f := res.Fold; f != nil {
 		conf := "confirmed by the change of sign of the Jacobian's determinant"

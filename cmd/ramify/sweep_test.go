@@ -148,3 +148,4 @@ func TestSolveNonlinearRefusals(t *testing.T) {
 		t.Errorf("not elliptic: exit %d, stderr %q", code, errs)
 	}
 }
+
