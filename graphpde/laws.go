@@ -114,3 +114,36 @@ type NodeTime struct {
 	UsesT         bool   // depends on t (false: on parameters only)
 	Src           string // the expression as written
 }
+
+// TimeDependence lists the data of net that depend on the time t, e.g.
+// `edge "e": source` or `node "a": fixed`, in network order: a steady solver
+// uses their values at t = 0 and should say so. Cost O(nodes + edges).
+func TimeDependence(net *Network) []string {
+	var out []string
+	for i := range net.Nodes {
+		nd := &net.Nodes[i]
+		if tm := nd.Time; tm != nil && tm.UsesT {
+			key := "inject"
+			if tm.Fixed != nil {
+				key = "fixed"
+			}
+			out = append(out, fmt.Sprintf("node %q: %s", nd.ID, key))
+		}
+	}
+	for i := range net.Edges {
+		ed := &net.Edges[i]
+		if ed.Law == nil {
+			continue
+		}
+		l := ed.Law
+		for _, c := range []struct {
+			key string
+			c   *Coef
+		}{{"diffusivity", l.A}, {"drift", l.B}, {"decay", l.C}, {"source", l.F}, {"capacity", l.Rho}} {
+			if c.c != nil && c.c.UsesT {
+				out = append(out, fmt.Sprintf("edge %q: %s", ed.ID, c.key))
+			}
+		}
+	}
+	return out
+}

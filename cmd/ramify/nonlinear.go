@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"strings"
 
 	"github.com/ramify-dev/ramify/graphpde"
 )
@@ -14,10 +15,17 @@ import (
 // nonlinear solve that ends without converging returns an error that says
 // why (never the unconverged field) together with its result.
 func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, cells int) (*graphpde.Solution, *graphpde.NonlinearResult, error) {
+	var timeNote string
+	if td := graphpde.TimeDependence(net); len(td) > 0 {
+		timeNote = "time-dependent data (" + strings.Join(td, "; ") + ") taken at t = 0 in this steady solve; 'ramify evolve' follows them in time"
+	}
 	if !graphpde.HasLaws(net) {
 		sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
 			return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: cells})
 		})
+		if sol != nil && timeNote != "" {
+			sol.Notes = append(sol.Notes, timeNote)
+		}
 		return sol, nil, err
 	}
 	res, err := interruptible(ctx, func() (*graphpde.NonlinearResult, error) {
@@ -32,6 +40,9 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 			why += "; " + n
 		}
 		return nil, res, fmt.Errorf("%s", why)
+	}
+	if timeNote != "" {
+		res.Notes = append(res.Notes, timeNote)
 	}
 	return res.Solution, res, nil
 }

@@ -423,3 +423,16 @@ source = 1
 		t.Errorf("edge source with a default equation: %v", err)
 	}
 }
+
+// TestTimeDependence: the data that depend on t are listed for the note of
+// a steady solve (which uses their values at t = 0).
+func TestTimeDependence(t *testing.T) {
+	net, err := Read(strings.NewReader(exprFile), "expr.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := strings.Join(graphpde.TimeDependence(net), "; ")
+	if want := `node "hot": fixed; edge "lead": drift`; got != want {
+		t.Errorf("TimeDependence: %q, want %q", got, want)
+	}
+}
