@@ -148,4 +148,3 @@ func TestSolveNonlinearRefusals(t *testing.T) {
 		t.Errorf("not elliptic: exit %d, stderr %q", code, errs)
 	}
 }
-
