@@ -5,8 +5,9 @@ import (
 	"fmt"
 	"math"
 	"math/big"
-	"os"
 	"testing"
+
+	"github.com/ramify-dev/ramify/internal/testenv"
 )
 
 // Stability of the elements at any Péclet number Pe = |b|L/a: the end maps
@@ -263,7 +264,7 @@ func TestGridRounding(t *testing.T) {
 		{1e8, 1e-9, 1e-7},
 	}
 	for _, tc := range cases {
-		if tc.n > 1e6 && os.Getenv("RAMIFY_LONG") == "" {
+		if tc.n > 1e6 && !testenv.Long() {
 			continue
 		}
 		net := mustNet(t, []Node{{ID: "a", Law: fixedAt(0)}, {ID: "b", Law: fixedAt(1)}},

@@ -315,6 +315,9 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		if x.law.delay > 0 {
 			why = "the lifetime is nearly a delay (strong drift) and the inversion of the shifted transform could not be verified"
 		}
+		if x.law.evalErr != nil {
+			why = "the transform could not be evaluated on the contour (" + x.law.evalErr.Error() + ")"
+		}
 		x.Notes = append(x.Notes, fmt.Sprintf("the law of τ is unreliable for t in %v and is not reported there (NaN): %s (contours disagree by up to %.2g)", x.law.suspectTimes(), why, x.law.worst))
 	}
 	return x, nil
@@ -447,8 +450,14 @@ func (x *ExitStats) setSD(rel float64) {
 	m1, m2 := x.Moments[0], x.Moments[1]
 	v := m2 - m1*m1
 	switch {
-	case math.IsNaN(v):
+	case math.IsNaN(v) || math.IsInf(v, 0):
 		x.SD = math.NaN()
+		for k := 1; k < len(x.Moments); k++ {
+			if math.IsInf(x.Moments[k], 0) {
+				x.Moments[k] = math.NaN()
+			}
+		}
+		x.Notes = append(x.Notes, fmt.Sprintf("moments: E τ² = %g is not a finite float64 (mean %g), so the standard deviation is not reported (NaN)", m2, m1))
 	case v >= 0:
 		x.SD = math.Sqrt(v)
 	case -v <= 4*rel*m2:
@@ -663,6 +672,9 @@ type lifetimeLaw struct {
 	// delay is T_s of findDelay (0 when not shifted): the law is inverted
 	// for τ − delay.
 	delay float64
+	// evalErr is the first failure of a transform evaluation on a
+	// contour (its window is then not reported).
+	evalErr error
 	// chernoff holds (s, ln L(s)) at the real shifts findDelay evaluated:
 	// P(τ ≤ t) ≤ min e^{st + ln L(s)} (see leftTail).
 	chernoff [][2]float64
@@ -720,6 +732,9 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 		if err != nil {
 			return nil, err
 		}
+		if w.bad {
+			lw.suspects = append(lw.suspects, [2]float64{t0, 2 * t0})
+		}
 		lw.store(k, w)
 		return w, nil
 	}
@@ -764,15 +779,17 @@ func (lw *lifetimeLaw) evalWindow(c laplace.Contour) (*lawWindow, error) {
 	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
 	for j, s := range c.S {
 		L, err := lw.tr.at(s)
-		if err != nil && lw.delay > 0 {
-			// The shifted inversion reaches far into the left half
-			// plane, where the transform itself may overflow: the
-			// window is not reported.
-			w.bad = true
-			return w, nil
-		}
 		if err != nil {
-			return nil, err
+			// Contours reach far into the left half plane (the more so
+			// for the shifted inversion), where the transform may
+			// overflow or the shifted node system be singular: the
+			// window is not reported, and the first such error is
+			// kept for the note.
+			w.bad = true
+			if lw.evalErr == nil {
+				lw.evalErr = err
+			}
+			return w, nil
 		}
 		L = lw.shifted(s, L)
 		w.fl[j] = L
