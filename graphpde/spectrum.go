@@ -57,6 +57,9 @@ type SpectrumSettings struct {
 	// Cells is the number of grid cells of an edge whose Edge.Cells is 0
 	// (grid method only); 0 means DefaultCells.
 	Cells int
+	// Modes asks for the mode shapes of the simple real eigenvalues
+	// (SpectrumResult.Modes); not on the Arnoldi path.
+	Modes bool
 	// Context, when non-nil, stops the computation early; the eigenvalues
 	// found so far are returned with Status IterationLimit.
 	Context context.Context
@@ -89,6 +92,8 @@ type SpectrumResult struct {
 	SelfAdjoint bool
 	Status      Status
 	Stats       SpectrumStats
+	// Modes, when asked for: the shapes of the simple real eigenvalues.
+	Modes []Mode
 }
 
 // SpectrumStats describes the work of Spectrum.
@@ -295,12 +300,10 @@ func newWW(net *Network) *wwSystem {
 	w.fac = nodesys.NewFactor[float64](&nodesys.Settings{Ordering: nodesys.Natural, Symmetric: &sym, PivotTol: 0x1p-60})
 	w.e = make([]float64, next)
 	w.x = make([]float64, next)
-	for v := range net.Nodes {
-		if i := w.unk[v]; i >= 0 {
-			// a fixed vector with no special structure, so that no
-			// eigenvector is orthogonal to it except by accident
-			w.e[i] = 1 + 0.5*math.Sin(1.7*float64(v)+0.3)
-		}
+	for i := range w.e {
+		// a fixed vector with no special structure, so that no
+		// eigenvector is orthogonal to it except by accident
+		w.e[i] = 1 + 0.5*math.Sin(1.7*float64(i)+0.3)
 	}
 	return w
 }
@@ -454,9 +457,6 @@ func (w *wwSystem) countAt(lam float64) (int, float64, error) {
 	if !ok {
 		return 0, 0, errors.New("graphpde: node matrix not factored symmetrically")
 	}
-	if w.m == 0 {
-		return clamped + neg, math.NaN(), nil
-	}
 	w.fac.SolveTo(w.x, w.e)
 	h := 0.0
 	for i, v := range w.x {
@@ -518,6 +518,11 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
 	if err := byCount(w, w.scale, s, res); err != nil {
 		return nil, err
+	}
+	if s.Modes {
+		if err := exactModes(net, w, res); err != nil {
+			return nil, err
+		}
 	}
 	res.Stats.Unknowns = w.m
 	return res, nil

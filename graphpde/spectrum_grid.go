@@ -109,8 +109,12 @@ func spectrumGrid(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 		}
 		r := &SpectrumResult{Method: "grid", SelfAdjoint: self, Status: Converged}
 		if self {
-			if err := byCount(newGridCounter(sys), eigenScale(net), s, r); err != nil {
+			gc := newGridCounter(sys)
+			if err := byCount(gc, eigenScale(net), s, r); err != nil {
 				return nil, err
+			}
+			if s.Modes && k == 1 {
+				gridModes(sys, gc, eigenScale(net), r)
 			}
 		} else if err := arnoldi(sys, eigenScale(net), s, r); err != nil {
 			return nil, err

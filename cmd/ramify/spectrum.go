@@ -2,8 +2,10 @@ package main
 
 import (
 	"context"
+	"encoding/csv"
 	"fmt"
 	"io"
+	"strconv"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -37,6 +39,7 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	count := fs.Int("count", 10, "number of smallest eigenvalues (multiplicities counted)")
 	method := fs.String("method", "auto", "exact (Wittrick–Williams count; constant coefficients, no drift), grid, or auto")
 	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (grid method; 0: 64)")
+	modes := fs.String("modes", "", "write the shapes of the simple real eigenvalues' modes to this CSV file (mode, lambda, edge, x, u; largest |u| = 1)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -52,13 +55,21 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	if err != nil {
 		return badFlag(stderr, "spectrum", err)
 	}
+	if err := checkOutputs([]string{file}, outTarget{flag: "--modes", path: *modes}); err != nil {
+		return badFlag(stderr, "spectrum", err)
+	}
 	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "spectrum", err)
 	}
-	r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx})
+	r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx, Modes: *modes != ""})
 	if err != nil {
 		return fail(stderr, "spectrum", fmt.Errorf("%s: %w", file, err))
+	}
+	if *modes != "" {
+		if _, err := saveFile(*modes, []string{file}, func(w io.Writer) error { return writeModes(w, net, r) }); err != nil {
+			return fail(stderr, "spectrum", err)
+		}
 	}
 	out := spectrumOut{Network: net.Name, RelaxationTime: num(r.RelaxationTime()), Method: r.Method,
 		SelfAdjoint: r.SelfAdjoint, Status: r.Status.String(), Factorizations: r.Stats.Factorizations, Seconds: r.Stats.Time.Seconds()}
@@ -119,4 +130,30 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 		fmt.Fprintf(stdout, "slowest relaxation time 1/λ₁ = %.7g (disturbances of the steady field decay like e^(−t/%.4g))\n", rt, rt)
 	}
 	return 0
+}
+
+// writeModes writes the mode shapes as CSV: one row per sample point.
+func writeModes(w io.Writer, net *graphpde.Network, r *graphpde.SpectrumResult) error {
+	cw := csv.NewWriter(w)
+	if err := cw.Write([]string{"mode", "lambda", "edge", "x", "u"}); err != nil {
+		return err
+	}
+	for _, m := range r.Modes {
+		k := 1
+		for _, e := range r.Eigenvalues[:m.Index] {
+			k += e.Multiplicity
+		}
+		lam := fmtF(r.Eigenvalues[m.Index].Value)
+		for e, vals := range m.Edges {
+			L := net.Edges[e].Length
+			for i, v := range vals {
+				x := L * float64(i) / float64(len(vals)-1)
+				if err := cw.Write([]string{strconv.Itoa(k), lam, net.Edges[e].ID, fmtF(x), fmtF(v)}); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
 }
