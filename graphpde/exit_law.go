@@ -1,0 +1,527 @@
+package graphpde
+
+// The law of the lifetime: survival function, density and quantiles by
+// numerical inversion of its Laplace transform (Talbot windows on the exact
+// path, Gaver–Stehfest on the grid path; docs/exit-statistics.md).
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/cmplx"
+	"sync"
+
+	"github.com/ramify-dev/ramify/internal/laplace"
+)
+
+// fillDistribution fills Survival and Quantiles, then checks what no
+// correct law can violate: P(τ > t) non-increasing in t and quantiles
+// non-decreasing in p (values are in [0, 1] by survival). A violation
+// beyond the inversion's accuracy turns the whole list into NaN with a
+// note.
+func (x *ExitStats) fillDistribution(s *ExitSettings) error {
+	x.Survival = make([]TimeProb, len(s.Times))
+	for i, t := range s.Times {
+		p, _, err := x.law.survival(t)
+		if err != nil {
+			return err
+		}
+		x.Survival[i] = TimeProb{T: t, P: p}
+	}
+	x.Quantiles = make([]Quantile, len(s.Quantiles))
+	for i, p := range s.Quantiles {
+		t, err := x.law.quantile(p, x.Mean)
+		if err != nil {
+			return err
+		}
+		x.Quantiles[i] = Quantile{P: p, T: t}
+	}
+	var nanT, nanP []float64
+	for _, sp := range x.Survival {
+		if math.IsNaN(sp.P) {
+			nanT = append(nanT, sp.T)
+		}
+	}
+	for _, q := range x.Quantiles {
+		if math.IsNaN(q.T) {
+			nanP = append(nanP, q.P)
+		}
+	}
+	if len(nanT)+len(nanP) > 0 {
+		x.Notes = append(x.Notes, fmt.Sprintf("the Laplace inversion could not be verified for P(τ > t) at t = %v and the quantiles %v (the law is too sharp or has complex decay rates there): those are not reported (NaN)", nanT, nanP))
+	}
+	tol := x.law.tolerance()
+	for i := range x.Survival {
+		for j := range x.Survival {
+			a, b := x.Survival[i], x.Survival[j]
+			if a.T < b.T && a.P < b.P-tol {
+				x.Notes = append(x.Notes, fmt.Sprintf("P(τ > t) from the Laplace inversion increases from t = %g to %g (%.6g to %.6g): the survival values are not reported (NaN)", a.T, b.T, a.P, b.P))
+				for k := range x.Survival {
+					x.Survival[k].P = math.NaN()
+				}
+				break
+			}
+		}
+	}
+	for i := range x.Quantiles {
+		for j := range x.Quantiles {
+			a, b := x.Quantiles[i], x.Quantiles[j]
+			if a.P < b.P && a.T > b.T*(1+tol) {
+				x.Notes = append(x.Notes, fmt.Sprintf("the quantiles from the Laplace inversion are out of order (%g: %.6g, %g: %.6g): they are not reported (NaN)", a.P, a.T, b.P, b.T))
+				for k := range x.Quantiles {
+					x.Quantiles[k].T = math.NaN()
+				}
+				break
+			}
+		}
+	}
+	return nil
+}
+
+// delayMass is the probability the shifted inversion may ignore: the
+// lifetime is below the delay T_s with at most this probability, and
+// P(τ > t) is reported as 1 for t ≤ T_s.
+const delayMass = 1e-14
+
+// minDelay is the delay, relative to the mean, from which the inversion is
+// shifted: below it the law is not delay-like and the plain contours work.
+const minDelay = 0.25
+
+// findDelay finds a time T_s below which the lifetime lies with probability
+// at most delayMass, by the Chernoff bound P(τ ≤ T) ≤ e^{sT}·E e^{−sτ} for
+// every s > 0 (derived from Markov's inequality applied to e^{−sτ}):
+//
+//	T_s = max_s (ln delayMass − ln L(s))/s
+//
+// over s = 2^k/mean, k = 0 … 40 (L at real s; the maximum of this unimodal
+// function is approached from below, so a coarse lattice only gives a
+// smaller, still valid T_s). With a strong drift towards the exit the
+// lifetime is nearly a delay (inverse Gaussian with a small coefficient of
+// variation: T_s ≈ mean − 6.5 sd at Péclet number 500) and L(s) ≈ e^{−s·mean}
+// for moderate s, which no contour of fixed shape inverts in float64
+// (e^{s(t − mean)} grows on the left half of the contour for t < mean).
+// When T_s ≥ minDelay·mean, the law is inverted for τ − T_s instead: the
+// transform e^{sT_s}L(s), times t − T_s, and octave windows from
+// mean − T_s; every window is then also checked on a second contour.
+func (lw *lifetimeLaw) findDelay(mean float64) error {
+	if lw.zero || !(mean > 0) || math.IsInf(mean, 0) {
+		return nil
+	}
+	logEps := math.Log(delayMass)
+	best := math.Inf(-1)
+	down := 0
+	for k := 0; k <= 40; k++ {
+		s := math.Exp2(float64(k)) / mean
+		L, err := lw.realValue(s)
+		if err != nil {
+			return err
+		}
+		if !(L > 1e-280) || L > 1 {
+			break
+		}
+		lw.chernoff = append(lw.chernoff, [2]float64{s, math.Log(L)})
+		phi := (logEps - math.Log(L)) / s
+		if phi > best {
+			best, down = phi, 0
+		} else if best > 0 {
+			if down++; down == 3 {
+				break
+			}
+		}
+	}
+	if best >= minDelay*mean && best < mean {
+		lw.delay = best
+		lw.base = mean - best
+		lw.check = true
+	}
+	return nil
+}
+
+// realValue returns L(s) at a real s > 0 on either path. The caller must
+// not hold lw.mu.
+func (lw *lifetimeLaw) realValue(s float64) (float64, error) {
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	if lw.real != nil {
+		return lw.real(s)
+	}
+	v, err := lw.tr.at(complex(s, 0))
+	return real(v), err
+}
+
+// shifted returns e^{s·delay}·L, the transform of τ − delay, without
+// overflow (L = 0 stays 0: the mass the shift ignores is below delayMass).
+func (lw *lifetimeLaw) shifted(s, L complex128) complex128 {
+	if lw.delay == 0 {
+		return L
+	}
+	if L == 0 {
+		return 0
+	}
+	return cmplx.Exp(s*complex(lw.delay, 0) + cmplx.Log(L))
+}
+
+// tolerance is the accuracy of the inversion, with a margin: what the
+// consistency checks of fillDistribution allow.
+func (lw *lifetimeLaw) tolerance() float64 {
+	if lw.real != nil {
+		return stehfestQuantileTol * 50
+	}
+	return 1e-7
+}
+
+// suspectTimes returns the windows whose contours disagree, in times of τ.
+func (lw *lifetimeLaw) suspectTimes() [][2]float64 {
+	out := make([][2]float64, len(lw.suspects))
+	for i, w := range lw.suspects {
+		out[i] = [2]float64{w[0] + lw.delay, w[1] + lw.delay}
+	}
+	return out
+}
+
+// lifetimeLaw evaluates the law of τ from its Laplace transform. Times are
+// grouped in octaves [base·2^k, base·2^{k+1}]; each octave gets one Talbot
+// window contour whose transform values are computed once (m complex
+// solves) and reused for every t in it, so the survival function and its
+// density are cheap after the first call in an octave and do not depend on
+// the order of calls.
+//
+// On the grid path real is set instead of tr: L(s) at real s, inverted by
+// the Gaver–Stehfest formula with weights stehfest, results cached per t.
+type lifetimeLaw struct {
+	mu   sync.Mutex
+	zero bool // τ = 0 a.s. (start at a fixed node)
+	tr   *transformer
+	m    int     // nodes per window
+	base float64 // octave origin (the mean lifetime)
+	win  map[int]*lawWindow
+
+	real     func(s float64) (float64, error)
+	stehfest []float64
+	// stehfestCheck are the weights of a shorter Gaver–Stehfest sum on the
+	// first of the same shifts: where the two differ by more than
+	// stehfestAgreement the law is too sharp for the method and the value
+	// is NaN.
+	stehfestCheck []float64
+	cache         map[float64][2]float64
+
+	// check: evaluate every window also on a check contour, climbing the
+	// levels of laplace.TalbotWindowLevel until the two agree, and record
+	// where they never do (non-reversible problems only).
+	check    bool
+	suspects [][2]float64 // windows [t0, 2t0] whose contours disagree (times of τ − delay)
+	worst    float64      // largest disagreement seen
+
+	// delay is T_s of findDelay (0 when not shifted): the law is inverted
+	// for τ − delay.
+	delay float64
+	// evalErr is the first failure of a transform evaluation on a
+	// contour (its window is then not reported).
+	evalErr error
+	// chernoff holds (s, ln L(s)) at the real shifts findDelay evaluated:
+	// P(τ ≤ t) ≤ min e^{st + ln L(s)} (see leftTail).
+	chernoff [][2]float64
+}
+
+// leftTailTol is the probability below which leftTail reports P(τ > t) = 1:
+// the accuracy of the Talbot inversion (about 1e−11) with a margin.
+const leftTailTol = 1e-10
+
+// leftTail reports whether the Chernoff bound of findDelay puts
+// P(τ ≤ t) below leftTailTol, so that P(τ > t) = 1 to that accuracy
+// without an inversion (far in the left tail the shifted transform is
+// needed at |s| so large that its values lose their digits).
+func (lw *lifetimeLaw) leftTail(t float64) bool {
+	lt := math.Log(leftTailTol)
+	for _, c := range lw.chernoff {
+		if c[0]*t+c[1] <= lt {
+			return true
+		}
+	}
+	return false
+}
+
+// contourAgreement is the largest difference between the window and check
+// contours accepted as agreement: the check contours' own errors (at most
+// 4e−8, laplace.TalbotWindowLevel) with a margin.
+const contourAgreement = 2e-7
+
+// lawWindow holds one octave's contour and the values of L(s) and
+// (1 − L(s))/s at its nodes.
+type lawWindow struct {
+	c      laplace.Contour
+	fl, fs []complex128
+	bad    bool // the check contour disagrees: values here are not reported
+}
+
+// window returns the octave window that contains t > 0, computing it if
+// needed. The caller holds lw.mu.
+func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
+	k := int(math.Floor(math.Log2(t / lw.base)))
+	t0 := lw.base * math.Exp2(float64(k))
+	for t < t0 {
+		k--
+		t0 = lw.base * math.Exp2(float64(k))
+	}
+	for t > 2*t0 {
+		k++
+		t0 = lw.base * math.Exp2(float64(k))
+	}
+	if w, ok := lw.win[k]; ok {
+		return w, nil
+	}
+	if !lw.check {
+		w, err := lw.evalWindow(laplace.TalbotWindow(t0, 2*t0, lw.m))
+		if err != nil {
+			return nil, err
+		}
+		if w.bad {
+			lw.suspects = append(lw.suspects, [2]float64{t0, 2 * t0})
+		}
+		lw.store(k, w)
+		return w, nil
+	}
+	// Non-reversible: climb the levels until the window and check contours
+	// agree.
+	var w *lawWindow
+	var d float64
+	for level := range laplace.WindowLevels {
+		c, cc := laplace.TalbotWindowLevel(t0, 2*t0, level)
+		var err error
+		if w, err = lw.evalWindow(c); err != nil {
+			return nil, err
+		}
+		wc, err := lw.evalWindow(cc)
+		if err != nil {
+			return nil, err
+		}
+		if w.bad || wc.bad {
+			d = math.Inf(1)
+			continue
+		}
+		d = 0
+		for _, tt := range []float64{t0, t0 * math.Sqrt2, 2 * t0} {
+			d = math.Max(d, math.Abs(w.c.Apply(tt, w.fs)-wc.c.Apply(tt, wc.fs)))
+		}
+		if d <= contourAgreement {
+			break
+		}
+	}
+	lw.worst = math.Max(lw.worst, d)
+	if d > contourAgreement {
+		lw.suspects = append(lw.suspects, [2]float64{t0, 2 * t0})
+		w.bad = true
+	}
+	lw.store(k, w)
+	return w, nil
+}
+
+// evalWindow evaluates the transform at the nodes of c. The caller holds
+// lw.mu.
+func (lw *lifetimeLaw) evalWindow(c laplace.Contour) (*lawWindow, error) {
+	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
+	for j, s := range c.S {
+		L, err := lw.tr.at(s)
+		if err != nil {
+			// Contours reach far into the left half plane (the more so
+			// for the shifted inversion), where the transform may
+			// overflow or the shifted node system be singular: the
+			// window is not reported, and the first such error is
+			// kept for the note.
+			w.bad = true
+			if lw.evalErr == nil {
+				lw.evalErr = err
+			}
+			return w, nil
+		}
+		L = lw.shifted(s, L)
+		w.fl[j] = L
+		w.fs[j] = (1 - L) / s
+	}
+	return w, nil
+}
+
+func (lw *lifetimeLaw) store(k int, w *lawWindow) {
+	if lw.win == nil {
+		lw.win = make(map[int]*lawWindow)
+	}
+	lw.win[k] = w
+}
+
+// taylor returns the Taylor coefficients c_0 … c_n of L at 0 from N points
+// on the circle |s| = R: c_k ≈ (1/N) Σ_j L(R ω^j) ω^{−jk} / R^k, ω = e^{2πi/N}.
+// L(conj s) = conj L(s) halves the solves.
+func (lw *lifetimeLaw) taylor(R float64, N, n int) ([]float64, error) {
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	vals := make([]complex128, N)
+	for j := 0; j <= N/2; j++ {
+		s := cmplx.Rect(R, 2*math.Pi*float64(j)/float64(N))
+		if j == 0 {
+			s = complex(R, 0)
+		} else if 2*j == N {
+			s = complex(-R, 0)
+		}
+		v, err := lw.tr.at(s)
+		if err != nil {
+			return nil, err
+		}
+		vals[j] = v
+		if j > 0 && 2*j < N {
+			vals[N-j] = cmplx.Conj(v)
+		}
+	}
+	coef := make([]float64, n+1)
+	for k := 0; k <= n; k++ {
+		var sum complex128
+		for j, v := range vals {
+			sum += v * cmplx.Rect(1, -2*math.Pi*float64(j*k%N)/float64(N))
+		}
+		coef[k] = real(sum) / float64(N) / math.Pow(R, float64(k))
+	}
+	return coef, nil
+}
+
+// survival returns P(τ > t), clamped to [0, 1], and the density of τ at t.
+func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
+	if lw.zero {
+		return 0, 0, nil
+	}
+	if t <= lw.delay || (lw.delay > 0 && lw.leftTail(t)) {
+		return 1, 0, nil
+	}
+	t -= lw.delay
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	if lw.real != nil {
+		return lw.stehfestAt(t)
+	}
+	w, err := lw.window(t)
+	if err != nil {
+		return math.NaN(), math.NaN(), err
+	}
+	if w.bad {
+		return math.NaN(), math.NaN(), nil
+	}
+	S = w.c.Apply(t, w.fs)
+	if S < -clampSlack || S > 1+clampSlack {
+		// Far outside [0, 1]: the inversion failed here.
+		return math.NaN(), math.NaN(), nil
+	}
+	S = math.Min(1, math.Max(0, S))
+	return S, w.c.Apply(t, w.fl), nil
+}
+
+// quantileTol is the accuracy of a quantile search in probability with
+// Talbot inversion: a hundred times its error (1e−11); below it there is
+// nothing left to gain. stehfestQuantileTol is the same for the grid path,
+// whose Gaver–Stehfest inversion is good to about 1e−5 and whose values
+// carry rounding noise of about 1e−5 (the grid transform's rounding, 1e−13,
+// times weights of up to 1e8; measured), so that a finer search only
+// bisects noise. quantileWidth is the relative width of the bracket at which
+// the search stops in any case.
+const (
+	// clampSlack is how far outside [0, 1] an inverted P(τ > t) may fall
+	// and still be clamped (the Talbot error is about 1e−11; Gaver–Stehfest
+	// about 1e−5); beyond it the value is NaN.
+	clampSlack         = 1e-6
+	stehfestClampSlack = 1e-3
+	// stehfestAgreement: Gaver–Stehfest with 16 and with stehfestCheckN
+	// terms differ by about 1e−4 on smooth laws (measured on the grid
+	// tests); a larger difference means the law is too sharp (strong drift)
+	// for real-axis inversion.
+	stehfestAgreement   = 1e-3
+	stehfestCheckN      = 12
+	quantileTol         = 1e-9
+	stehfestQuantileTol = 2e-5
+	quantileWidth       = 1e-12
+	stehfestWidth       = 1e-7
+)
+
+// quantile returns T with P(τ ≤ T) = p, 0 < p < 1, for a lifetime of the
+// given mean. The root is bracketed on the lattice mean·2^k (whose values
+// are shared among quantiles: the Talbot windows are the octaves of the same
+// lattice, and the Gaver–Stehfest values are cached), then found by Newton
+// steps with the density where they stay inside the bracket and bisection
+// in log t otherwise.
+func (lw *lifetimeLaw) quantile(p, mean float64) (float64, error) {
+	if lw.zero {
+		return 0, nil
+	}
+	tol, width := quantileTol, quantileWidth
+	if lw.real != nil {
+		tol, width = stehfestQuantileTol, stehfestWidth
+	}
+	y := 1 - p
+	lo, hi := mean, mean
+	// surv is lw.survival; a NaN (an unverified inversion) ends the search
+	// with a NaN quantile.
+	errNaN := errors.New("NaN")
+	surv := func(t float64) (float64, float64, error) {
+		S, d, err := lw.survival(t)
+		if err == nil && math.IsNaN(S) {
+			err = errNaN
+		}
+		return S, d, err
+	}
+	q, err := func() (float64, error) {
+		slo, _, err := surv(mean)
+		if err != nil {
+			return 0, err
+		}
+		shi := slo
+		const maxOctaves = 200 // t from mean·2^−200 to mean·2^200
+		if slo > y {
+			for k := 1; shi > y; k++ {
+				if k > maxOctaves {
+					return 0, fmt.Errorf("quantile %g: P(τ > t) stays above %g up to t = %g", p, y, hi)
+				}
+				lo, slo = hi, shi
+				hi = mean * math.Exp2(float64(k))
+				if shi, _, err = surv(hi); err != nil {
+					return 0, err
+				}
+			}
+		} else {
+			for k := 1; slo <= y; k++ {
+				if k > maxOctaves {
+					return 0, fmt.Errorf("quantile %g: P(τ > t) stays below %g down to t = %g", p, y, lo)
+				}
+				hi, shi = lo, slo
+				lo = mean * math.Exp2(-float64(k))
+				if slo, _, err = surv(lo); err != nil {
+					return 0, err
+				}
+			}
+		}
+		// Start from linear interpolation in log t.
+		t := math.Exp(math.Log(lo) + (slo-y)/(slo-shi)*math.Log(hi/lo))
+		for it := 0; it < 100; it++ {
+			st, ft, err := surv(t)
+			if err != nil {
+				return 0, err
+			}
+			if math.Abs(st-y) <= tol {
+				return t, nil
+			}
+			if st > y {
+				lo = t
+			} else {
+				hi = t
+			}
+			if hi-lo <= width*hi {
+				return t, nil
+			}
+			next := t + (st-y)/ft
+			if !(ft > 0) || !(next > lo && next < hi) {
+				next = math.Sqrt(lo * hi)
+			}
+			t = next
+		}
+		return t, nil
+	}()
+	if err == errNaN {
+		return math.NaN(), nil
+	}
+	return q, err
+}
