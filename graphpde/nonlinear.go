@@ -95,10 +95,13 @@ func fmtG(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
 
 // HasLaws reports whether some edge of net has a Law with coefficients or an
 // equation, or some node has a nonlinear law: such a network is solved by
-// SolveNonlinear.
+// SolveNonlinear. A coefficient that reads parameters only (Coef.UsesP and
+// no variable) does not count: its plain field holds its value, which the
+// linear engines read (a sweep still follows the parameter through Law).
 func HasLaws(net *Network) bool {
+	law := func(c *Coef) bool { return c != nil && !(c.UsesP && !c.UsesX && !c.UsesU && !c.UsesT) }
 	for e := range net.Edges {
-		if l := net.Edges[e].Law; l != nil && (l.A != nil || l.B != nil || l.C != nil || l.F != nil || l.Equation != nil) {
+		if l := net.Edges[e].Law; l != nil && (law(l.A) || law(l.B) || law(l.C) || law(l.F) || l.Equation != nil) {
 			return true
 		}
 	}

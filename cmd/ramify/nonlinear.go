@@ -78,6 +78,9 @@ func printNonlinear(w io.Writer, nl *graphpde.NonlinearResult) {
 // meaning for a network with nonlinear laws, naming the file and what to
 // use instead, or nil for a linear network.
 func nonlinearRefusal(net *graphpde.Network, file, what string) error {
+	if td := graphpde.TimeDependence(net); len(td) > 0 {
+		return fmt.Errorf("%s has data that depend on t (%s): this command solves time-independent problems; 'ramify evolve' follows them in time", file, strings.Join(td, "; "))
+	}
 	if !graphpde.HasLaws(net) {
 		return nil
 	}

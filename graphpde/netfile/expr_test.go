@@ -436,3 +436,21 @@ func TestTimeDependence(t *testing.T) {
 		t.Errorf("TimeDependence: %q, want %q", got, want)
 	}
 }
+
+// TestHasLaws: a coefficient that reads parameters only keeps the network
+// linear (the engines read its value in the plain field); one in u or t
+// does not.
+func TestHasLaws(t *testing.T) {
+	for _, c := range []struct {
+		source string
+		laws   bool
+	}{{`"q"`, false}, {`"2*q"`, false}, {`"q*x"`, false}, {`"q*u"`, true}, {`"q*t"`, true}, {`1`, false}} {
+		net, err := Read(strings.NewReader(twoNodes+"[parameters]\nq = 2\n[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1\nsource = "+c.source+"\n"), "h.toml")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := graphpde.HasLaws(net); got != c.laws {
+			t.Errorf("source = %s: HasLaws %v, want %v", c.source, got, c.laws)
+		}
+	}
+}
