@@ -42,8 +42,7 @@ type EvolveSettings struct {
 	Step float64
 	// Crossing, when in (0, 1), asks for the first time at which each probe
 	// has covered that fraction of the way from its initial value to its
-	// steady value (the steady solution of the network with its values at
-	// t = 0). Grid method only.
+	// steady value (the steady state with the data as they are at Until).
 	Crossing float64
 	// MaxGridUnknowns bounds the unknowns of the grid (0: DefaultMaxGridUnknowns).
 	MaxGridUnknowns int
@@ -350,11 +349,12 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		scale = 1
 	}
 
-	// Crossing levels from the steady solution at t = 0 data.
+	// Crossing levels from the steady state of the grid with the data as
+	// they are at t = Until (K u∞ = r(Until)).
 	var level, start []float64
 	var crossed []bool
 	if s.Crossing > 0 {
-		sol, err := Solve(net, &Settings{Method: MethodGrid, Cells: s.Cells})
+		uinf, err := steadyOf(sys, s.Until)
 		if err != nil {
 			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
 		}
@@ -364,9 +364,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		start = make([]float64, len(s.Probes))
 		crossed = make([]bool, len(s.Probes))
 		for k, p := range s.Probes {
-			if res.Steady[k], err = sol.At(p); err != nil {
-				return nil, err
-			}
+			res.Steady[k] = sys.at(uinf, p, s.Until)
 			start[k] = sys.at(u, p, 0)
 			level[k] = start[k] + s.Crossing*(res.Steady[k]-start[k])
 			res.Crossing[k] = math.NaN()
@@ -559,4 +557,25 @@ func crossingIn(a, m, b, level, start float64) (float64, bool) {
 		}
 	}
 	return hi, true
+}
+
+// steadyOf solves K u = r(t) on the grid: the steady state with the data
+// as they are at time t. A network that nothing anchors has none (a
+// *nodesys.SingularError).
+func steadyOf(sys odeSystem, t float64) ([]float64, error) {
+	rs := sys.rows()
+	if rs.rp == nil {
+		rs.compress()
+	}
+	m := nodesys.NewMatrixPattern[float64](rs.n, rs.rp, rs.ci)
+	copy(m.Values(), rs.cv)
+	f := nodesys.NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		return nil, err
+	}
+	r := make([]float64, rs.n)
+	sys.load(r, t)
+	u := make([]float64, rs.n)
+	f.SolveTo(u, r)
+	return u, nil
 }

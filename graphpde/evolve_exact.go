@@ -60,7 +60,7 @@ func newLaplaceNet(net *Network) (*laplaceNet, error) {
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		if !ed.Constant() || (ed.Law != nil && (ed.Law.A != nil || ed.Law.B != nil || ed.Law.C != nil || ed.Law.F != nil || ed.Law.Rho != nil)) {
-			return nil, &ModelError{Object: "edge", ID: ed.ID, Reason: "has coefficients that vary: method exact needs constant ones (use grid)"}
+			return nil, &ModelError{Object: "edge", ID: ed.ID, Reason: "has coefficients or a source that vary in x or t: method exact needs constant ones (use grid)"}
 		}
 		switch {
 		case ed.Law != nil && ed.Law.Initial != nil:

@@ -249,3 +249,27 @@ func TestEvolveElmore(t *testing.T) {
 		t.Errorf("Elmore delay %.6f, want %.6f", sum, want)
 	}
 }
+
+// TestEvolveRamp: both ends of the rod (0, 1) follow u = t from t = 0
+// (NodeTime), u_t = u_xx, initially 0. Then u = t − x(1−x)/2 + transients
+// that decay like e^{−π²t} (derived: u − t solves w_t = w_xx − 1 with
+// w = 0 at the ends), so at t = 2 (transients below 3e-9) u(1/2) = 1.875.
+// The three-point grid is exact for the quadratic, so the tolerance is the
+// time stepping's, 2·Tol.
+func TestEvolveRamp(t *testing.T) {
+	b := newNetBuilder(t)
+	x, y := b.fixed("a", 0), b.fixed("b", 0)
+	b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1})
+	for v := range b.net.Nodes {
+		b.net.Nodes[v].Time = &NodeTime{Fixed: func(t float64) float64 { return t }, Src: "t"}
+	}
+	const tol = 1e-5
+	r, err := Evolve(b.net, &EvolveSettings{Until: 2, Probes: []Point{{Node: -1, Edge: 0, X: 0.5}}, Tol: tol, Cells: 20})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := r.Probes[0][len(r.Times)-1]
+	if math.Abs(got-1.875) > 2*tol*2 { // scale: the largest fixed value, 2
+		t.Errorf("u(0.5, 2) = %.8f, want 1.875", got)
+	}
+}
