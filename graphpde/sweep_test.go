@@ -111,3 +111,43 @@ func TestSweepInterrupted(t *testing.T) {
 		t.Errorf("status %v, %d points", res.Status, len(res.Points))
 	}
 }
+
+// TestSweepThroughTwoFolds: u'' + λ·exp(u/(1 + εu)) = 0 on (0, 1), u = 0 at
+// both ends, with ε = 0.2 below the critical 1/4 has an S-shaped branch: it
+// turns back at a first fold, turns forward again at a second one, and then
+// exists for every larger λ (the Frank-Kamenetskii problem with Arrhenius
+// heating; D. A. Frank-Kamenetskii, Diffusion and Heat Transfer in Chemical
+// Kinetics, 1969, from memory; the shape, not the numbers, is what this
+// test uses). A sweep from λ = 1 to 10 must go through both folds, report
+// the first (λ above the Bratu value 3.5138, since the Arrhenius heating is
+// weaker than eᵘ), and reach λ = 10 on the upper branch.
+func TestSweepThroughTwoFolds(t *testing.T) {
+	const eps = 0.2
+	net, m := bratuParamNet(t, 1, 32)
+	eq := &Equation{Fn: func(x, u, ux, uxx float64) (e, du, dux, duxx float64) {
+		d := 1 + eps*u
+		g := net.Params.Values[0] * math.Exp(u/d)
+		return uxx + g, g / (d * d), 0, 1
+	}}
+	for e := range net.Edges {
+		net.Edges[e].Law.Equation = eq
+	}
+	res, err := Sweep(net, "lambda", 10, &SweepSettings{Probes: []Point{{Node: m, Edge: -1}}, MaxPoints: 2000})
+	if err != nil {
+		t.Fatal(err)
+	}
+	turns := 0
+	for k := 1; k < len(res.Points); k++ {
+		if res.Points[k].Slope*res.Points[k-1].Slope < 0 {
+			turns++
+		}
+	}
+	last := res.Points[len(res.Points)-1]
+	t.Logf("status %v, %d points, %d turns, first fold λ = %.6g, u(½) at λ = 10: %.4g", res.Status, len(res.Points), turns, res.Fold.Value, last.Probes[0])
+	if res.Status != SweepReached || turns != 2 || last.Value != 10 {
+		t.Errorf("status %v, %d turns, last λ %g", res.Status, turns, last.Value)
+	}
+	if res.Fold == nil || !res.FoldConfirmed || res.Fold.Value <= 3.5138 || res.Fold.Value > 10 {
+		t.Errorf("fold %+v confirmed %v", res.Fold, res.FoldConfirmed)
+	}
+}
