@@ -181,7 +181,7 @@ func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 	}
 	merit := s.merit()
 	for it := 0; ; it++ {
-		if err := s.prepare(); err != nil {
+		if err := s.prepare(s.U, s.w); err != nil {
 			return s.fail(res, err)
 		}
 		rho := s.scaledResidual()
@@ -199,7 +199,7 @@ func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 		if err := s.factor(); err != nil {
 			return s.fail(res, err)
 		}
-		s.step(s.dU, s.dw, s.nres, s.ires, -1)
+		s.newtonStep()
 		t, ok, lastErr := s.lineSearch(merit, set.Tol)
 		res.Iterations++
 		if !ok {
@@ -276,7 +276,7 @@ func (s *nlSystem) lineSearch(merit0, tol float64) (float64, bool, error) {
 		if t == 1 {
 			// A full step that lands within the tolerance is accepted even
 			// when round-off keeps the norm from falling.
-			if err := s.prepare(); err == nil && s.scaledResidualAt(s.tU, s.tw) <= tol {
+			if err := s.prepare(s.tU, s.tw); err == nil && s.scaledResidual() <= tol {
 				s.U, s.tU = s.tU, s.U
 				s.w, s.tw = s.tw, s.w
 				return t, true, nil

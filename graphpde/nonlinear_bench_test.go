@@ -72,13 +72,13 @@ func BenchmarkNewton(b *testing.B) {
 				b.Fatal(err)
 			}
 			minOf(&tIt, func() {
-				if err := sys.prepare(); err != nil {
+				if err := sys.prepare(sys.U, sys.w); err != nil {
 					b.Fatal(err)
 				}
 				if err := sys.factor(); err != nil {
 					b.Fatal(err)
 				}
-				sys.step(sys.dU, sys.dw, sys.nres, sys.ires, -1)
+				sys.newtonStep()
 				if _, ok, err := sys.lineSearch(sys.merit(), set.Tol); !ok || err != nil {
 					b.Fatal("line search", err)
 				}

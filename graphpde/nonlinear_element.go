@@ -408,7 +408,7 @@ func (x *nlGridEl) linearize(U0, UL float64) (edgeMap, float64) {
 		err = s.evalEquation(e, U0, UL, s.w)
 	}
 	if err == nil {
-		err = s.condense(e)
+		err = s.condense(e, s.w)
 	}
 	if err != nil {
 		panic("graphpde: " + err.Error())
@@ -437,7 +437,7 @@ func (x *nlGridEl) linearize(U0, UL float64) (edgeMap, float64) {
 func (x *nlGridEl) recover(U0, UL float64) bool {
 	s := x.s
 	o := s.off[x.e]
-	s.back(x.e, U0-x.U0, UL-x.UL, s.dw)
+	s.back(x.e, U0-x.U0, UL-x.UL, s.dw, s.dw)
 	ok := true
 	for i := o; i < o+x.n-1; i++ {
 		s.w[i] += s.dw[i]

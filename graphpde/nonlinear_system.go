@@ -56,6 +56,7 @@ type nlSystem struct {
 	// "flux sign" (minus the cell integral of the generator-sign equation).
 	ja, jb, jc, ires []float64
 	piv, alpha, b0   []float64 // Thomas elimination
+	bs               []float64 // the Newton right-hand side swept by condense
 	end              [][2]endLin
 	cond             []edgeCond
 	// Node rows (indexed by node): residual, ∂R/∂u explicit, and per end
@@ -69,11 +70,13 @@ type nlSystem struct {
 	dBuf     []float64
 	rhs, x   []float64
 
-	sumsq     float64 // Σ residual² of the last eval
-	negPivots int     // negative pivots of the last factorisation (interior + node system)
-	nonMono   string  // first place where a law was not monotone in u
-	stats     Stats
-	hasLawOf  []bool
+	sumsq float64 // Σ residual² of the last eval
+	// Scaled residual of the last prepare, and its partial maxima.
+	rho, rhoWorst, rhoUmax float64
+	negPivots              int    // negative pivots of the last factorisation (interior + node system)
+	nonMono                string // first place where a law was not monotone in u
+	stats                  Stats
+	hasLawOf               []bool
 }
 
 // edgeCond is the condensed linearisation of an edge's end derivatives:
@@ -81,7 +84,8 @@ type nlSystem struct {
 type edgeCond struct {
 	c              [2][2]float64
 	k              [2]float64
-	p0, pl, q0, ql float64 // δu_1 = p0 δU0 + pl δUL + …, δu_{n−1} = q0 δU0 + ql δUL + …
+	kN             [2]float64 // k for the Newton right-hand side, from condense
+	p0, pl, q0, ql float64    // δu_1 = p0 δU0 + pl δUL + …, δu_{n−1} = q0 δU0 + ql δUL + …
 }
 
 func lawEdge(ed *Edge) (quasi, equation bool) {
@@ -179,7 +183,7 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	for _, p := range []*[]float64{&s.U, &s.tU, &s.dU, &s.nres, &s.gu} {
 		*p = make([]float64, nn)
 	}
-	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.ja, &s.jb, &s.jc, &s.ires, &s.piv, &s.alpha, &s.b0} {
+	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.ja, &s.jb, &s.jc, &s.ires, &s.piv, &s.alpha, &s.b0, &s.bs} {
 		*p = make([]float64, ni)
 	}
 	s.vst = make([]float64, 3*linInterior)
@@ -367,9 +371,11 @@ func (s *nlSystem) merit() float64 { return math.Sqrt(s.sumsq) }
 
 // condense eliminates the interior of Law edge e from the linearisation
 // (Thomas forward sweep) and sets its condensed end coefficients; linear
-// edges copy their affine maps. It counts negative interior pivots into
+// edges copy their affine maps. In the same pass it sweeps the Newton
+// right-hand side −r (into s.bs and cond.kN) and gathers the interior part
+// of the scaled residual at the interior values wAt. It counts negative interior pivots into
 // s.negPivots and returns a *LawError at a zero pivot.
-func (s *nlSystem) condense(e int) error {
+func (s *nlSystem) condense(e int, wAt []float64) error {
 	ed := &s.net.Edges[e]
 	el := &s.end[e]
 	cd := &s.cond[e]
@@ -384,25 +390,44 @@ func (s *nlSystem) condense(e int) error {
 	if n > 1 {
 		ja, jb, jc := s.ja[o:o+n-1], s.jb[o:o+n-1], s.jc[o:o+n-1]
 		piv, al, b0 := s.piv[o:o+n-1], s.alpha[o:o+n-1], s.b0[o:o+n-1]
-		alpha, beta0 := 0.0, 1.0
-		prod := 1.0
+		// The Newton right-hand side −r is swept along (into s.bs), and
+		// the scaled residual's interior part gathered, in the same pass.
+		res, bs, w := s.ires[o:o+n-1], s.bs[o:o+n-1], wAt[o:o+n-1]
+		alpha, beta0, betas := 0.0, 1.0, 0.0
+		prod, ps := 1.0, 0.0
+		worst, umax := s.rhoWorst, s.rhoUmax
 		h := ed.Length / float64(n)
 		for i := range ja {
 			p := jb[i] + ja[i]*alpha
 			if p == 0 || !finite(p) {
-				return singularPivot(ed.ID, float64(i+1)*h, s.w[o+i], p)
+				return singularPivot(ed.ID, float64(i+1)*h, w[i], p)
 			}
 			if p < 0 {
 				s.negPivots++
 			}
 			alpha = -jc[i] / p
 			beta0 = -ja[i] * beta0 / p
-			piv[i], al[i], b0[i] = p, alpha, beta0
+			betas = (-res[i] - ja[i]*betas) / p
+			piv[i], al[i], b0[i], bs[i] = p, alpha, beta0, betas
 			p0 += prod * beta0
+			ps += prod * betas
 			prod *= alpha
+			// worst = max |r/J_ii|, umax = max |u|, without divisions or
+			// NaN handling in the common case (a NaN residual is caught by
+			// eval; jb ≠ 0 here since the pivot is not 0 in a monotone row).
+			if r, d := math.Abs(res[i]), math.Abs(jb[i]); r > worst*d {
+				worst = ratio(r, d)
+			}
+			if x := math.Abs(w[i]); x > umax {
+				umax = x
+			}
 		}
+		s.rhoWorst, s.rhoUmax = worst, umax
 		pl = prod
 		q0, ql = beta0, alpha
+		cd.kN = [2]float64{el[0].dAdj * ps, el[1].dAdj * betas}
+	} else {
+		cd.kN = [2]float64{}
 	}
 	cd.p0, cd.pl, cd.q0, cd.ql = p0, pl, q0, ql
 	cd.c[0] = [2]float64{el[0].dSelf + el[0].dAdj*p0, el[0].dAdj * pl}
@@ -434,25 +459,28 @@ func (s *nlSystem) forward(e int, b, dW []float64, scale float64) {
 	cd.k = [2]float64{el[0].dAdj * ps, el[1].dAdj * beta}
 }
 
-// back completes the interior increments of Law edge e in dW from the end
-// increments (back substitution after forward).
-func (s *nlSystem) back(e int, dU0, dUL float64, dW []float64) {
+// back completes the interior increments of Law edge e into dW from the
+// end increments and the swept right-hand side src (dW after forward, or
+// s.bs after condense; src may be dW).
+func (s *nlSystem) back(e int, dU0, dUL float64, src, dW []float64) {
 	n, o := s.n[e], s.off[e]
-	al, b0, bs := s.alpha[o:o+n-1], s.b0[o:o+n-1], dW[o:o+n-1]
+	al, b0, bs, dst := s.alpha[o:o+n-1], s.b0[o:o+n-1], src[o:o+n-1], dW[o:o+n-1]
 	x := dUL
 	for i := n - 2; i >= 0; i-- {
 		x = al[i]*x + b0[i]*dU0 + bs[i]
-		bs[i] = x
+		dst[i] = x
 	}
 }
 
-// prepare condenses every edge and assembles the condensed node system into
-// s.mat.
-func (s *nlSystem) prepare() error {
+// prepare condenses every edge at the state (U, w) last evaluated,
+// assembles the condensed node system into s.mat and computes the scaled
+// residual (s.rho).
+func (s *nlSystem) prepare(U, w []float64) error {
 	net := s.net
 	s.negPivots = 0
+	s.rhoWorst, s.rhoUmax = 0, 0
 	for e := range net.Edges {
-		if err := s.condense(e); err != nil {
+		if err := s.condense(e, w); err != nil {
 			return err
 		}
 	}
@@ -482,33 +510,19 @@ func (s *nlSystem) prepare() error {
 			}
 		}
 	}
+	worst, umax := s.rhoWorst, s.rhoUmax
+	for _, v := range U {
+		umax = math.Max(umax, math.Abs(v))
+	}
+	for r, v := range s.nodes {
+		worst = math.Max(worst, ratio(s.nres[v], val[s.dslot[r]]))
+	}
+	s.rho = worst / (1 + umax)
 	return nil
 }
 
 // scaledResidual is NonlinearResult.Residual for the state prepared last.
-func (s *nlSystem) scaledResidual() float64 { return s.scaledResidualAt(s.U, s.w) }
-
-func (s *nlSystem) scaledResidualAt(U, w []float64) float64 {
-	umax := 0.0
-	for _, v := range U {
-		umax = math.Max(umax, math.Abs(v))
-	}
-	worst := 0.0
-	val := s.mat.Values()
-	for r, v := range s.nodes {
-		worst = math.Max(worst, ratio(s.nres[v], val[s.dslot[r]]))
-	}
-	for e := range s.net.Edges {
-		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
-			o, n := s.off[e], s.n[e]
-			for i := o; i < o+n-1; i++ {
-				umax = math.Max(umax, math.Abs(w[i]))
-				worst = math.Max(worst, ratio(s.ires[i], s.jb[i]))
-			}
-		}
-	}
-	return worst / (1 + umax)
-}
+func (s *nlSystem) scaledResidual() float64 { return s.rho }
 
 func ratio(r, d float64) float64 {
 	if r == 0 {
@@ -538,6 +552,40 @@ func (s *nlSystem) factor() error {
 	s.stats.FillNNZ = fs.NNZL
 	s.stats.FactorTime += fs.NumericTime
 	return nil
+}
+
+// newtonStep solves J·δ = −r for the state prepared last (its right-hand
+// side was swept by condense) into s.dU, s.dw.
+func (s *nlSystem) newtonStep() {
+	net := s.net
+	for r, v := range s.nodes {
+		s.rhs[r] = -s.nres[v]
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		nodes := [2]int{ed.From, ed.To}
+		for side := 0; side < 2; side++ {
+			if r := s.unk[nodes[side]]; r >= 0 {
+				s.rhs[r] -= s.gEnd[e][side] * s.cond[e].kN[side]
+			}
+		}
+	}
+	if len(s.nodes) > 0 {
+		s.fac.SolveTo(s.x, s.rhs)
+	}
+	for v := range net.Nodes {
+		if r := s.unk[v]; r >= 0 {
+			s.dU[v] = s.x[r]
+		} else {
+			s.dU[v] = 0
+		}
+	}
+	for e := range net.Edges {
+		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
+			ed := &net.Edges[e]
+			s.back(e, s.dU[ed.From], s.dU[ed.To], s.bs, s.dw)
+		}
+	}
 }
 
 // step solves J·δ = scale·b with the factored linearisation: bN holds the
@@ -573,7 +621,7 @@ func (s *nlSystem) step(dU, dW, bN, bI []float64, scale float64) {
 	for e := range net.Edges {
 		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
 			ed := &net.Edges[e]
-			s.back(e, dU[ed.From], dU[ed.To], dW)
+			s.back(e, dU[ed.From], dU[ed.To], dW, dW)
 		}
 	}
 }

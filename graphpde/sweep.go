@@ -327,7 +327,7 @@ func (c *continuation) linearise(U, w []float64, lambda float64) error {
 	if err := s.eval(U, w); err != nil {
 		return err
 	}
-	if err := s.prepare(); err != nil {
+	if err := s.prepare(U, w); err != nil {
 		return err
 	}
 	return s.factor()

@@ -112,7 +112,7 @@ func TestSweepInterrupted(t *testing.T) {
 	}
 }
 
-// TestSweepThroughTwoFolds: u'' + λ·exp(u/(1 + εu)) = 0 on (0, 1), u = 0 at
+// TestSweepThroughTwoFolds: u” + λ·exp(u/(1 + εu)) = 0 on (0, 1), u = 0 at
 // both ends, with ε = 0.2 below the critical 1/4 has an S-shaped branch: it
 // turns back at a first fold, turns forward again at a second one, and then
 // exists for every larger λ (the Frank-Kamenetskii problem with Arrhenius
