@@ -34,8 +34,8 @@ func (e *Error) Error() string {
 	return e.Msg
 }
 
-// Functions lists the functions an expression may call, with their number
-// of arguments (-2: two or more).
+// functionArity holds the functions an expression may call, with their
+// number of arguments (-2: two or more).
 var functionArity = map[string]int{
 	"exp": 1, "log": 1, "sqrt": 1, "abs": 1, "sin": 1, "cos": 1, "tan": 1,
 	"tanh": 1, "sinh": 1, "cosh": 1, "pow": 2, "min": -2, "max": -2,

@@ -8,11 +8,9 @@
 // An expression is built from numbers, the variables x (distance along the
 // edge), u (the field), ux and uxx (its first and second derivatives along
 // the edge), t (time), the derivatives d.EDGE of a node law (d["EDGE"] for
-// ids that are not plain names), the names of a network's parameters,
-// the operators
-//
-//   - -  *  /  ^ (or **, right-associative)  and unary minus,
-//
+// ids that are not plain names), the names of a network's parameters, the
+// binary operators plus, minus, times, divide and power (written ^ or **;
+// right-associative, and above unary minus, so -2^2 is −4), unary minus,
 // and the functions exp log sqrt abs sin cos tan tanh sinh cosh, pow(a, b),
 // min(a, b, …) and max(a, b, …). Nothing else is accepted: no strings,
 // comparisons, conditionals, loops or calls to anything outside this list.
@@ -28,7 +26,8 @@
 // Subexpressions without variables or parameters are folded into constants
 // at compile time; parameters are read from the Params values at every
 // evaluation, so a parameter sweep that changes a value is seen at once.
-// Evaluation allocates nothing and is safe for concurrent use.
+// Evaluation allocates nothing and is safe for concurrent use (the
+// evaluations of one node law are serialised by a lock).
 //
 // # Derivatives at kinks and the edge of the domain
 //
