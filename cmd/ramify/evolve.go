@@ -64,6 +64,8 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	plotOut := fs.String("plot", "", "draw the probe curves into this SVG file")
 	forward := fs.Bool("forward", false, "forward transport: where a tracer released into the network is (its concentration per unit capacity), instead of the field")
 	release := fs.String("release", "", "with --forward: release a unit amount of tracer at POINT at t = 0 (default: the file's initial values as concentrations)")
+	schedule := fs.String("schedule", "", "CSV file driving nodes in time: header t,NODE,…; each row the fixed value (fixed nodes) or injection (balance nodes) at that time")
+	steps := fs.Bool("steps", false, "hold each schedule value until the next row (default: linear between rows)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -94,12 +96,21 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if *crossing != 0 && !(*crossing > 0 && *crossing < 1) {
 		return badFlag(stderr, "evolve", fmt.Errorf("--crossing %g: must be between 0 and 1", *crossing))
 	}
-	if err := checkOutputs([]string{file}, outTarget{flag: "--csv", path: *csvOut}, outTarget{flag: "--snapshots", path: *snaps}, outTarget{flag: "--plot", path: *plotOut}); err != nil {
+	inputs := []string{file}
+	if *schedule != "" {
+		inputs = append(inputs, *schedule)
+	}
+	if err := checkOutputs(inputs, outTarget{flag: "--csv", path: *csvOut}, outTarget{flag: "--snapshots", path: *snaps}, outTarget{flag: "--plot", path: *plotOut}); err != nil {
 		return badFlag(stderr, "evolve", err)
 	}
 	net, err := load(ctx, file)
 	if err != nil {
 		return fail(stderr, "evolve", err)
+	}
+	if *schedule != "" {
+		if err := applySchedule(net, *schedule, *steps); err != nil {
+			return fail(stderr, "evolve", err)
+		}
 	}
 	specs := *probes
 	if len(specs) == 0 {
@@ -134,17 +145,17 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		return fail(stderr, "evolve", fmt.Errorf("%s: %w", file, err))
 	}
 	if *csvOut != "" {
-		if _, err := saveFile(*csvOut, []string{file}, func(w io.Writer) error { return writeProbeCSV(w, specs, r) }); err != nil {
+		if _, err := saveFile(*csvOut, inputs, func(w io.Writer) error { return writeProbeCSV(w, specs, r) }); err != nil {
 			return fail(stderr, "evolve", err)
 		}
 	}
 	if *snaps != "" {
-		if _, err := saveFile(*snaps, []string{file}, func(w io.Writer) error { return writeSnapshots(w, net, r) }); err != nil {
+		if _, err := saveFile(*snaps, inputs, func(w io.Writer) error { return writeSnapshots(w, net, r) }); err != nil {
 			return fail(stderr, "evolve", err)
 		}
 	}
 	if *plotOut != "" {
-		if _, err := saveFile(*plotOut, []string{file}, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) }); err != nil {
+		if _, err := saveFile(*plotOut, inputs, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) }); err != nil {
 			return fail(stderr, "evolve", err)
 		}
 	}

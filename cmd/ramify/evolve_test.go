@@ -87,3 +87,45 @@ initial = 0.0
 		t.Errorf("without --until: exit %d, want 2", code)
 	}
 }
+
+// TestEvolveSchedule drives the near end of a distributed RC line (RC = 1)
+// from a schedule file: 0 before t = 0.2, then 1 (steps). The far end then
+// crosses 50% at 0.2 + 0.3787478 (Rabaey, Chandrakasan & Nikolić, Digital
+// Integrated Circuits, 2nd ed. 2003, §4.4.4); 200 cells and --tol 1e-6 give
+// the grid's 2e-4. A schedule naming an unknown node is an error with the
+// file and line.
+func TestEvolveSchedule(t *testing.T) {
+	f := writeFile(t, "line.toml", `
+[[node]]
+id = "drive"
+fixed = 0.0
+[[node]]
+id = "far"
+[[edge]]
+id = "line"
+from = "drive"
+to = "far"
+length = 1.0
+diffusivity = 1.0
+`)
+	sched := writeFile(t, "s.csv", "t,drive\n0,0\n0.2,1\n")
+	code, out, errs := runCLI(t, context.Background(), "evolve", f, "--until", "1", "--probe", "far", "--schedule", sched, "--steps",
+		"--crossing", "0.5", "--cells", "200", "--tol", "1e-6", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var got struct {
+		Probes []struct{ Crossing *float64 }
+	}
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatal(err)
+	}
+	if c := got.Probes[0].Crossing; c == nil || math.Abs(*c-0.5787478) > 2e-4 {
+		t.Errorf("crossing %v, want 0.5787478", c)
+	}
+	bad := writeFile(t, "bad.csv", "t,nowhere\n0,1\n")
+	code, _, errs = runCLI(t, context.Background(), "evolve", f, "--until", "1", "--schedule", bad)
+	if code != 1 || !strings.Contains(errs, "bad.csv:1: no node \"nowhere\"") {
+		t.Errorf("exit %d, %q", code, errs)
+	}
+}

@@ -1,0 +1,135 @@
+package main
+
+import (
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"sort"
+	"strconv"
+	"strings"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// A schedule file drives nodes in time: a CSV table whose header is `t`
+// followed by node ids, and whose rows give, at increasing times, the value
+// of each listed node — its fixed value for a fixed node, its injection for a
+// balance node. Between rows the value is interpolated linearly (or held
+// until the next row with steps); before the first row and after the last it
+// is held at the nearest row's value.
+
+// applySchedule reads the schedule at path and attaches it to the nodes of
+// net (graphpde.NodeTime), replacing their constant fixed value or
+// injection. Errors name the file and line.
+func applySchedule(net *graphpde.Network, path string, steps bool) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return fmt.Errorf("--schedule: %w", err)
+	}
+	defer f.Close()
+	r := csv.NewReader(f)
+	r.FieldsPerRecord = 0
+	r.TrimLeadingSpace = true
+	bad := func(line int, format string, args ...any) error {
+		return fmt.Errorf("%s:%d: %s", path, line, fmt.Sprintf(format, args...))
+	}
+	head, err := r.Read()
+	if err != nil {
+		if errors.Is(err, io.EOF) {
+			return fmt.Errorf("%s: empty schedule (want a header t,NODE,...)", path)
+		}
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if len(head) < 2 || strings.TrimSpace(head[0]) != "t" {
+		return bad(1, "the header must be t followed by node ids, e.g. t,drive")
+	}
+	nodes := make([]int, len(head)-1)
+	for k, id := range head[1:] {
+		id = strings.TrimSpace(id)
+		v, ok := net.NodeIndex(id)
+		if !ok {
+			return bad(1, "no node %q", id)
+		}
+		for _, p := range nodes[:k] {
+			if p == v {
+				return bad(1, "node %q listed twice", id)
+			}
+		}
+		nodes[k] = v
+	}
+	var ts []float64
+	vals := make([][]float64, len(nodes))
+	for {
+		rec, err := r.Read()
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		line, _ := r.FieldPos(0)
+		if err != nil {
+			return fmt.Errorf("%s: %w", path, err)
+		}
+		num := func(s, what string) (float64, error) {
+			v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
+			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
+				return 0, bad(line, "%s %q is not a finite number", what, s)
+			}
+			return v, nil
+		}
+		t, err := num(rec[0], "time")
+		if err != nil {
+			return err
+		}
+		if len(ts) > 0 && !(t > ts[len(ts)-1]) {
+			return bad(line, "time %g does not increase (previous %g)", t, ts[len(ts)-1])
+		}
+		ts = append(ts, t)
+		for k := range nodes {
+			v, err := num(rec[k+1], "value of "+net.Nodes[nodes[k]].ID)
+			if err != nil {
+				return err
+			}
+			vals[k] = append(vals[k], v)
+		}
+	}
+	if len(ts) == 0 {
+		return fmt.Errorf("%s: no rows after the header", path)
+	}
+	for k, v := range nodes {
+		fn := tableFunc(ts, vals[k], steps)
+		nd := &net.Nodes[v]
+		tm := &graphpde.NodeTime{UsesT: true, Src: "schedule " + path}
+		if nd.Law.Kind == vertex.Fixed {
+			tm.Fixed = fn
+			nd.Law.Value = fn(0)
+		} else {
+			tm.Inject = fn
+			nd.Law.Inject = fn(0)
+		}
+		nd.Time = tm
+	}
+	return nil
+}
+
+// tableFunc returns the interpolant of (ts, vs): linear, or held (steps)
+// until the next time; held beyond both ends.
+func tableFunc(ts, vs []float64, steps bool) func(float64) float64 {
+	return func(t float64) float64 {
+		i := sort.SearchFloat64s(ts, t) // first ts[i] ≥ t
+		switch {
+		case i < len(ts) && ts[i] == t:
+			return vs[i]
+		case i == 0:
+			return vs[0]
+		case i == len(ts):
+			return vs[len(vs)-1]
+		case steps:
+			return vs[i-1]
+		}
+		w := (t - ts[i-1]) / (ts[i] - ts[i-1])
+		return (1-w)*vs[i-1] + w*vs[i]
+	}
+}
