@@ -51,6 +51,7 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 type nonlinearOut struct {
 	Iterations *int     `json:"iterations,omitempty"`
 	Residual   *num     `json:"residual,omitempty"`
+	History    []num    `json:"residual_history,omitempty"`
 	Unique     *bool    `json:"unique,omitempty"`
 	Notes      []string `json:"notes,omitempty"`
 }
@@ -60,7 +61,11 @@ func nonlinearJSON(nl *graphpde.NonlinearResult) nonlinearOut {
 		return nonlinearOut{}
 	}
 	it, r, u := nl.Iterations, num(nl.Residual), nl.Unique
-	return nonlinearOut{Iterations: &it, Residual: &r, Unique: &u, Notes: nl.Notes}
+	h := make([]num, len(nl.History))
+	for i, x := range nl.History {
+		h[i] = num(x)
+	}
+	return nonlinearOut{Iterations: &it, Residual: &r, History: h, Unique: &u, Notes: nl.Notes}
 }
 
 // printNonlinear adds the Newton summary to a human-readable solve.
@@ -85,4 +90,16 @@ func nonlinearRefusal(net *graphpde.Network, file, what string) error {
 		return nil
 	}
 	return fmt.Errorf("%s has laws that depend on u (or nonlinear node laws): %s; 'ramify solve' gives the field and 'ramify crosscheck --from POINT' checks it with the walkers of the linear problem it solves", file, what)
+}
+
+// nonlinearCondition describes a node's nonlinear law for the node table:
+// ", loss law: EXPR" or ", node law: EXPR" (empty for a linear node).
+func nonlinearCondition(nl *graphpde.NodeNonlinear) string {
+	switch {
+	case nl == nil:
+		return ""
+	case nl.General != nil:
+		return ", node law " + nl.Src
+	}
+	return ", loss " + nl.Src
 }

@@ -242,6 +242,7 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *
 			if nd.Law.Inject != 0 {
 				cond += ", inject " + fmtNum(nd.Law.Inject)
 			}
+			cond += nonlinearCondition(nd.Nonlinear)
 		}
 		fmt.Fprintf(tw, "%s\t%s\t%s\t%s\n", nd.ID, cond, fmtNum(ph.Shown(sol.U[v])), res)
 	}
