@@ -82,8 +82,16 @@ func (s *system) addEdgeRHS(e int, a0, aL float64) {
 
 // assembleRHS recomputes the right-hand side alone from the element maps of
 // the last assemble, for new node data (Variant.NodeInject, FixedValue) with
-// the matrix and the element maps unchanged. Cost O(nodes + edges).
+// the matrix, the element maps and the factorisation unchanged (the sources
+// and the shift must be those of the last assemble). Constant grid elements,
+// whose recovery overwrote their sweep factors with values, condense again
+// (the same map, bit for bit). Cost O(nodes + edges + constant grid cells).
 func (s *system) assembleRHS() {
+	for _, el := range s.els {
+		if k, ok := el.(*constGridEl); ok {
+			k.linearize(0, 0)
+		}
+	}
 	clear(s.rhs)
 	for e := range s.net.Edges {
 		ed := &s.net.Edges[e]

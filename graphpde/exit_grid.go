@@ -116,6 +116,15 @@ func (g *gridExit) solve(sys *system, shift float64) (*Solution, error) {
 	return sys.solution()
 }
 
+// resolve solves sys again after a change of its node data only (fixed
+// values, injections), re-using its matrix and factorisation. Like solve,
+// the Solution shares the system's interior storage.
+func (g *gridExit) resolve(sys *system) (*Solution, error) {
+	sys.assembleRHS()
+	sys.solve()
+	return sys.solution()
+}
+
 // solveVar solves the function-source system, building it on first use.
 func (g *gridExit) solveVar(shift float64) (*Solution, error) {
 	if g.vsys == nil {
@@ -165,12 +174,22 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 	sub := g.net
 	cv, nv := g.cv, g.vv
 	var hitSum float64
+	factored := false
 	for v := range sub.Nodes {
 		if sub.Nodes[v].Law.Kind != vertex.Fixed {
 			continue
 		}
 		cv.FixedValue[v] = 1
-		sol, err := g.solve(g.csys, 0)
+		var sol *Solution
+		var err error
+		if !factored {
+			sol, err = g.solve(g.csys, 0)
+			factored = err == nil
+		} else {
+			// Only the fixed values changed: the matrix and its factor
+			// stand, the right-hand side is assembled alone.
+			sol, err = g.resolve(g.csys)
+		}
 		cv.FixedValue[v] = 0
 		if err != nil {
 			return err

@@ -68,11 +68,11 @@ type Settings struct {
 	MaxGridUnknowns int
 }
 
-// Status describes how a solver ended. The linear steady solve either
-// succeeds (Converged) or returns an error; the iterative solvers of the
-// package (Newton) also end at their budget (IterationLimit), where an edge
-// law loses ellipticity (NotElliptic) or at a singular Jacobian (Singular),
-// each with a Result that says so.
+// Status describes how a solver ended. The linear steady solve ends
+// Converged, or Inaccurate when it cannot vouch for its values, or returns
+// an error; the iterative solvers of the package (Newton) also end at their
+// budget (IterationLimit), where an edge law loses ellipticity (NotElliptic)
+// or at a singular Jacobian (Singular), each with a Result that says so.
 type Status int
 
 const (
