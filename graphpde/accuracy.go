@@ -176,10 +176,29 @@ func (s *system) judge(sol *Solution) {
 	for _, f := range sol.Flux {
 		maxJ = math.Max(maxJ, math.Max(math.Abs(f[0]), math.Abs(f[1])))
 	}
+	// When no end flux exceeds its rounding bound, the network carries no
+	// flux that float64 can resolve (u constant on a component, say): the
+	// fluxes are 0 to their accuracy and are reported as 0.
+	noise := true
+	rbs := make([][2]float64, len(net.Edges))
+	for e := range net.Edges {
+		rbs[e] = s.fluxRounding(e)
+		for k := range 2 {
+			if math.Abs(sol.Flux[e][k]) > rbs[e][k] {
+				noise = false
+			}
+		}
+	}
+	if noise {
+		for e := range sol.Flux {
+			sol.Flux[e] = [2]float64{}
+		}
+		return
+	}
 	var bad []string
 	worst := 0.0
 	for e := range net.Edges {
-		rb := s.fluxRounding(e)
+		rb := rbs[e]
 		for k := range 2 {
 			if maxJ > 0 && rb[k] > fluxRoundingRel*maxJ && rb[k] > fluxRoundingRel*math.Abs(sol.Flux[e][k]) {
 				if !math.IsNaN(sol.Flux[e][k]) {
@@ -198,7 +217,7 @@ func (s *system) judge(sol *Solution) {
 		if len(shown) > 5 {
 			shown, more = shown[:5], fmt.Sprintf(" and %d more", len(bad)-5)
 		}
-		sol.Notes = append(sol.Notes, fmt.Sprintf("end fluxes of edge %s%s are not reported (NaN): their rounding error (up to %.2g) exceeds %g of the largest flux (%.3g); the end values agree to more digits than float64 holds (a very large conductance, or no flux at all)",
+		sol.Notes = append(sol.Notes, fmt.Sprintf("end fluxes of edge %s%s are not reported (NaN): their rounding error (up to %.2g) exceeds %g of the largest flux (%.3g); the end values agree to more digits than float64 holds (a very large conductance)",
 			strings.Join(shown, ", "), more, worst, fluxRoundingRel, maxJ))
 	}
 }

@@ -16,6 +16,7 @@ func (s *system) assemble(shift float64) {
 	s.shift = shift
 	s.mat.ZeroValues()
 	clear(s.rhs)
+	clear(s.ex)
 	// The elements first, then the node rows: the sweeps stream through
 	// the grid storage, which would evict the node system between edges.
 	var pend *constGridEl // a constant grid edge waiting for a partner
@@ -51,6 +52,7 @@ func (s *system) assemble(shift float64) {
 			rhs = s.v.NodeInject[i]
 		}
 		val[s.dslot[r]] += diag
+		s.ex[r] += diag
 		s.rhs[r] += rhs
 	}
 }
@@ -62,6 +64,7 @@ func (s *system) addEdge(val []float64, e int) {
 	m := &s.maps[e]
 	a0, aL := ed.EndWeight(0), ed.EndWeight(1)
 	addMatrix(s.pat, val, e, a0, aL, &m.d, &m.rs, false)
+	addExcess(s.pat, s.ex, e, a0, aL, &m.d, &m.rs)
 	s.addEdgeRHS(e, a0, aL)
 }
 

@@ -75,11 +75,10 @@ func (x *exactEl) linearize(_, _ float64) (edgeMap, float64) {
 	x.a, x.b, x.L = ed.A, ed.B, ed.Length
 	x.c = ed.C + s.shift*ed.Rho
 	x.f = s.edgeSource(x.e)
-	d, g := exactElement(x.a, x.b, x.c, x.f, x.L)
-	x.m = edgeMap{d: d, g: g}
-	if ed.From == ed.To {
-		x.m.rs = exactRowSums(x.a, x.b, x.c, x.L)
-	}
+	// One evaluation with f = 1 gives the source terms (linear in f) and
+	// the row sums, −c·g (exactRowSums).
+	d, g1 := exactElement(x.a, x.b, x.c, 1.0, x.L)
+	x.m = edgeMap{d: d, g: [2]float64{x.f * g1[0], x.f * g1[1]}, rs: [2]float64{-x.c * g1[0], -x.c * g1[1]}}
 	return x.m, 0
 }
 

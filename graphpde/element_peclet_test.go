@@ -282,3 +282,38 @@ func TestGridRounding(t *testing.T) {
 		}
 	}
 }
+
+// TestDriftAwayChain: the drift-away link of TestDriftAwayFromFixedNode
+// followed by a chain with its own drift and a self-loop. The answer is
+// still u ≡ 1 (derived as there), but now the node system's elimination
+// meets the weak link only after eliminating the chain: the plain pivot
+// a_kk − l·a_ik cancels to nothing and the solve reported "singular at
+// node n2" from Pe 30 on. With the row sums handed to the factor (the
+// network is a tree) every pivot is a sum of non-negative terms.
+func TestDriftAwayChain(t *testing.T) {
+	const exactness = 1e-13 // as in TestDriftAwayFromFixedNode
+	for _, pe := range []float64{1, 30, 100, 300, 700} {
+		net := mustNet(t, []Node{{ID: "n0", Law: fixedAt(1)}, {ID: "n1", Law: free}, {ID: "n2", Law: free}, {ID: "n3", Law: free}},
+			[]edgeSpec{
+				{Edge{ID: "e1", Length: 0.1, A: 0.001, B: -pe * 0.001 / 0.1}, "n1", "n0"},
+				{Edge{ID: "e2", Length: 1, A: 1, B: 0.5}, "n1", "n2"},
+				{Edge{ID: "e3", Length: 1, A: 2, B: -40}, "n2", "n3"},
+				{Edge{ID: "loop", Length: 0.3, A: 0.5, B: 7}, "n2", "n2"},
+			})
+		for _, m := range []Method{MethodExact, MethodGrid} {
+			sol, err := Solve(net, &Settings{Method: m})
+			if err != nil {
+				t.Errorf("Pe %g %v: %v", pe, m, err)
+				continue
+			}
+			for v, u := range sol.U {
+				if math.Abs(u-1) > exactness {
+					t.Errorf("Pe %g %v: u(%s) = %.16g, want 1", pe, m, net.Nodes[v].ID, u)
+				}
+			}
+			if sol.Status != Converged {
+				t.Errorf("Pe %g %v: status %v %q", pe, m, sol.Status, sol.Notes)
+			}
+		}
+	}
+}

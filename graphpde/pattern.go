@@ -139,6 +139,37 @@ func addMatrix[T scalar](p *nodePattern, val []T, k int, w0, w1 T, d *[2][2]T, r
 	}
 }
 
+// addExcess adds element k's share of the row sums Σ_j A_rj (over the
+// unknown columns) to ex, the way addMatrix adds its entries: −w0·rs[0] to
+// the From row and w1·rs[1] to the To row when both ends are unknown (the
+// element's row sums, formed without cancellation), the diagonal entry
+// alone when the other end is fixed (its column went to the right-hand
+// side), both row sums for a self-loop. Cost O(1).
+func addExcess(p *nodePattern, ex []float64, k int, w0, w1 float64, d *[2][2]float64, rs *[2]float64) {
+	en := p.ends[k]
+	r0, r1 := p.unk[en[0]], p.unk[en[1]]
+	if en[0] == en[1] {
+		if r0 >= 0 {
+			ex[r0] += -w0*rs[0] + w1*rs[1]
+		}
+		return
+	}
+	if r0 >= 0 {
+		if r1 >= 0 {
+			ex[r0] += -w0 * rs[0]
+		} else {
+			ex[r0] += -w0 * d[0][0]
+		}
+	}
+	if r1 >= 0 {
+		if r0 >= 0 {
+			ex[r1] += w1 * rs[1]
+		} else {
+			ex[r1] += w1 * d[1][1]
+		}
+	}
+}
+
 // addRHS adds element k's terms to the right-hand side rhs: its sources g
 // and the values fix0, fix1 at its ends where these are fixed. Cost O(1).
 func addRHS[T scalar](p *nodePattern, rhs []T, k int, w0, w1 T, d *[2][2]T, g *[2]T, fix0, fix1 T) {

@@ -77,6 +77,10 @@ type system struct {
 	// nodesys Stats.MinPivotRatio and MinPivotIndex of the last factor.
 	pivotRatio float64
 	pivotAt    int
+	// ex holds the row sums Σ_j A_rj of the node matrix, formed from the
+	// elements' row sums without cancellation (addExcess); the factor
+	// uses them for its pivots on forests (nodesys SetRowExcess).
+	ex []float64
 }
 
 // edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
@@ -245,6 +249,8 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	s.rp, s.ci = rowPtr, col
 	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
 	s.fac = nodesys.NewFactor[float64](nil)
+	s.ex = make([]float64, m)
+	s.fac.SetRowExcess(s.ex)
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
 	s.u = make([]float64, nn)

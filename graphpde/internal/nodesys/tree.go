@@ -123,6 +123,8 @@ func (f *Factor[T]) analyzeTree(m *Matrix[T]) (bool, error) {
 	f.lnz = make([]int, n)
 	f.y = make([]T, n)
 	f.z = make([]T, n)
+	f.tpslot = append([]int(nil), pslot...)
+	f.tsx = nil
 	f.flag = pslot // reuse as workspace
 	f.stack = make([]int, n)
 	f.work = make([]T, n)
@@ -148,6 +150,13 @@ func (f *Factor[T]) analyzeTree(m *Matrix[T]) (bool, error) {
 //
 // with the pivot test of numeric. Cost O(nnz), no allocation.
 func (f *Factor[T]) numericTree(m *Matrix[T], sym bool) error {
+	if f.excess != nil {
+		if ff, ok := any(f).(*Factor[float64]); ok {
+			if done, err := numericTreeGTH(ff, any(m).(*Matrix[float64]), sym); done {
+				return err
+			}
+		}
+	}
 	val, rowPtr := m.val, m.rowPtr
 	acp, arow, aup, alo, adiag := f.acp, f.arow, f.aup, f.alo, f.adiag
 	lp, lx, ux, d := f.lp, f.lx, f.ux, f.d
@@ -181,4 +190,57 @@ func (f *Factor[T]) numericTree(m *Matrix[T], sym bool) error {
 		d[k] = dk
 	}
 	return nil
+}
+
+// numericTreeGTH is numericTree for real matrices with the pivots formed
+// from the row sums of SetRowExcess (see there). It reports false, having
+// done nothing, when the matrix is not an M-matrix in sign or a row sum is
+// negative or not finite. Cost O(nnz), no allocation after the first call.
+func numericTreeGTH(f *Factor[float64], m *Matrix[float64], sym bool) (bool, error) {
+	val := m.val
+	acp, arow, aup, alo, adiag := f.acp, f.arow, f.aup, f.alo, f.adiag
+	ex := f.excess
+	for _, s := range ex {
+		if !(s >= 0) || math.IsInf(s, 0) {
+			return false, nil
+		}
+	}
+	for p := range arow {
+		if !(val[aup[p]] <= 0) || !(val[alo[p]] <= 0) {
+			return false, nil
+		}
+	}
+	for k := range adiag {
+		if !(val[adiag[k]] > 0) {
+			return false, nil
+		}
+	}
+	if len(f.tsx) != f.n {
+		f.tsx = make([]float64, f.n)
+	}
+	lp, lx, ux, d, sx := f.lp, f.lx, f.ux, f.d, f.tsx
+	for k, c := range f.perm {
+		sk := ex[c]
+		for p := acp[k]; p < acp[k+1]; p++ {
+			i := arow[p]
+			q := lp[i]
+			di := d[i]
+			l := val[alo[p]] / di // ≤ 0
+			if !sym {
+				ux[q] = val[aup[p]] / di
+			}
+			lx[q] = l
+			sk -= l * sx[i]
+		}
+		dk := sk
+		if ps := f.tpslot[k]; ps >= 0 {
+			dk -= val[ps] // |A(k, parent)|
+		}
+		if !(dk > 0) || math.IsInf(dk, 0) {
+			return true, &SingularError{Index: c, Pivot: math.Abs(dk), Scale: val[adiag[k]]}
+		}
+		sx[k] = sk
+		d[k] = dk
+	}
+	return true, nil
 }
