@@ -54,6 +54,12 @@ func (f *walkFlags) settings(stderr io.Writer) (*montecarlo.Settings, error) {
 	if t := *f.timeCap; !(t >= 0) || math.IsInf(t, 1) {
 		return nil, fmt.Errorf("--time-cap %g: must be a finite time ≥ 0 (0: automatic)", t)
 	}
+	if t := *f.step; !(t >= 0) || math.IsInf(t, 1) {
+		return nil, fmt.Errorf("--step %g: must be a finite time ≥ 0 (0: automatic)", t)
+	}
+	if s := *f.star; !(s >= 0 && s <= 1) {
+		return nil, fmt.Errorf("--star-fraction %g: must lie in (0, 1] (0: 1/8)", s)
+	}
 	if *f.workers < 0 {
 		return nil, fmt.Errorf("--workers %d: must be ≥ 0", *f.workers)
 	}
