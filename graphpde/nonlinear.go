@@ -33,8 +33,8 @@ type NonlinearSettings struct {
 	// NonlinearResult.Residual); 0 means 1e-10.
 	Tol float64
 	// Guess, when non-nil, gives the starting field at every node and grid
-	// vertex; nil starts from 0 at balance nodes and the fixed values at
-	// fixed nodes, linear along the edges.
+	// vertex; nil starts from the fixed values at fixed nodes, their mean
+	// (0 if there are none) at balance nodes, linear along the edges.
 	Guess func(p Point) float64
 }
 

@@ -238,10 +238,22 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 }
 
 // start sets the initial state: fixed values at fixed nodes, the guess (or
-// 0) at balance nodes and grid vertices (linear along edges without a
-// guess).
+// the mean of the fixed values) at balance nodes and grid vertices (linear
+// along edges without a guess).
 func (s *nlSystem) start(guess func(Point) float64) {
 	net := s.net
+	// Balance nodes start at the mean of the fixed values (0 without any):
+	// a law defined only near the data (log u) is then evaluated there.
+	mean, nf := 0.0, 0
+	for v := range net.Nodes {
+		if s.unk[v] < 0 {
+			mean += net.Nodes[v].Law.Value
+			nf++
+		}
+	}
+	if nf > 0 {
+		mean /= float64(nf)
+	}
 	for v := range net.Nodes {
 		switch {
 		case s.unk[v] < 0:
@@ -249,7 +261,7 @@ func (s *nlSystem) start(guess func(Point) float64) {
 		case guess != nil:
 			s.U[v] = guess(Point{Node: v, Edge: -1})
 		default:
-			s.U[v] = 0
+			s.U[v] = mean
 		}
 	}
 	for e := range net.Edges {
