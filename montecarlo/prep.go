@@ -33,6 +33,16 @@ const sameRateTol = 1e-12
 // before it (rounding of ε = r/s).
 const reachTol = 1e-12
 
+// The default Euler–Maruyama step on a time-stepping edge (Settings.Step
+// = 0): these fractions of its diffusive time L²ρ/(2a) and of its drift
+// time Lρ/|b|, whichever is smaller. The weak error of the step is first
+// order in dt (common practice, no source); TestTimeStepping checks the
+// resulting estimates against closed forms within their error bars.
+const (
+	stepOfDiffusiveTime = 1e-3
+	stepOfDriftTime     = 1e-2
+)
+
 // profileSamples is the number of points at which a varying edge's
 // coefficients are checked and its scales taken.
 const profileSamples = 33
@@ -167,7 +177,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 		m.exact = false
 		ed.dt = set.Step
 		if ed.dt == 0 {
-			ed.dt = math.Min(1e-3*tDiff, 1e-2*tDrift)
+			ed.dt = math.Min(stepOfDiffusiveTime*tDiff, stepOfDriftTime*tDrift)
 		}
 		ed.hz = math.Min(4*math.Sqrt(2*aoMax*ed.dt), ed.L/8)
 	}
