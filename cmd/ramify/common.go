@@ -33,6 +33,7 @@ func newFlags(name, synopsis, examples string, stderr io.Writer) *pflag.FlagSet 
 	fs.SetOutput(stderr)
 	fs.SortFlags = false
 	fs.Usage = func() {
+		tidyHelp(fs)
 		fmt.Fprintf(stderr, "usage: ramify %s\n\n", synopsis)
 		fmt.Fprintln(stderr, "flags:")
 		fmt.Fprint(stderr, fs.FlagUsages())
@@ -42,6 +43,30 @@ func newFlags(name, synopsis, examples string, stderr io.Writer) *pflag.FlagSet 
 		}
 	}
 	return fs
+}
+
+// tidyHelp keeps the flag list readable: a value name instead of a Go type
+// name (float64Slice, stringArray) and no second default for list flags
+// whose usage states the default, nor "(default [])" or "(default NaN)".
+func tidyHelp(fs *pflag.FlagSet) {
+	fs.VisitAll(func(f *pflag.Flag) {
+		switch f.Value.Type() {
+		case "stringArray", "stringSlice", "intSlice": // pflag hides their "[]"
+		default:
+			if f.DefValue == "[]" || f.DefValue == "NaN" {
+				f.DefValue = ""
+			}
+		}
+		if strings.Contains(f.Usage, "`") {
+			return
+		}
+		switch t := f.Value.Type(); {
+		case strings.Contains(f.Usage, "POINT"):
+			f.Usage = strings.Replace(f.Usage, "POINT", "`POINT`", 1)
+		case strings.HasSuffix(t, "Slice") || strings.HasSuffix(t, "Array"):
+			f.Usage = "`values` " + f.Usage
+		}
+	})
 }
 
 // parseFlags parses args; it returns (file, code, ok). ok is false when the
@@ -133,7 +158,11 @@ func (c *checkedWriter) Write(p []byte) (int, error) {
 // load reads a network file (TOML or CSV); a Ctrl-C while it reads stops
 // the command at once (errInterrupted).
 func load(ctx context.Context, path string) (*graphpde.Network, error) {
-	return interruptible(ctx, func() (*graphpde.Network, error) { return netfile.ReadFile(path) })
+	net, err := interruptible(ctx, func() (*graphpde.Network, error) { return netfile.ReadFile(path) })
+	if err == nil && len(net.Edges) == 0 {
+		return nil, fmt.Errorf("%s: the network has no edges: there is nothing to solve", path)
+	}
+	return net, err
 }
 
 // errInterrupted is returned by interruptible when the context is cancelled

@@ -42,3 +42,21 @@ func TestConvert(t *testing.T) {
 		t.Errorf("--to xml: exit %d, %s", code, errs)
 	}
 }
+
+// TestHelpText checks every command's --help: no Go type names in the flag
+// list, no "(default [])" or "(default NaN)", and at most one default per
+// flag.
+func TestHelpText(t *testing.T) {
+	for _, c := range commands() {
+		if c.name == "demo" || c.name == "bench" {
+			continue
+		}
+		_, _, errs := runCLI(t, context.Background(), c.name, "--help")
+		for _, line := range strings.Split(errs, "\n") {
+			if strings.Contains(line, "Slice") || strings.Contains(line, "Array") || strings.Contains(line, "(default [])") ||
+				strings.Contains(line, "(default NaN)") || strings.Count(line, "(default") > 1 {
+				t.Errorf("%s --help: %q", c.name, line)
+			}
+		}
+	}
+}

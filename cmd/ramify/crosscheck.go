@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -114,6 +115,34 @@ type crossResult struct {
 	walk *montecarlo.Result
 	exit *graphpde.ExitStats
 	*crosscheck.Result
+	fitNote string // why --fit-weights fitted nothing
+}
+
+// noFitReason says why --fit-weights found no junction to fit: there is
+// none, the walkers left none, or at every junction the departures do not
+// follow the weights alone (docs/walkers.md), so no weight explains them.
+func noFitReason(net *graphpde.Network, res *montecarlo.Result) string {
+	junctions, visited := 0, 0
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind != vertex.Balance || len(net.Incident(v)) < 2 {
+			continue
+		}
+		junctions++
+		if v < len(res.Departures) && res.Departures[v] != nil {
+			visited++
+		}
+	}
+	switch {
+	case junctions == 0:
+		return "no weights fitted: the network has no junction (a balance node with two or more edge ends)"
+	case visited == 0:
+		return fmt.Sprintf("no weights fitted: the walkers left none of the %d junctions", junctions)
+	}
+	where := "at the junction the walkers reached"
+	if visited > 1 {
+		where = fmt.Sprintf("at each of the %d junctions the walkers reached", visited)
+	}
+	return "no weights fitted: " + where + ", the departures do not follow the end weights alone (an edge there has drift, varying coefficients, or the edges decay at different rates), so no weights can be read from them"
 }
 
 // crossOptions selects the optional parts of a cross-check.
@@ -207,7 +236,11 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	if capNote != "" {
 		r.Notes = append([]string{capNote}, r.Notes...)
 	}
-	return &crossResult{from: from, walk: res, exit: x, Result: r}, nil
+	cc := &crossResult{from: from, walk: res, exit: x, Result: r}
+	if opt.Fit && len(r.Fits) == 0 {
+		cc.fitNote = noFitReason(net, res)
+	}
+	return cc, nil
 }
 
 type crossOut struct {
@@ -226,7 +259,7 @@ type crossOut struct {
 func (cc *crossResult) json() crossOut {
 	return crossOut{Start: cc.from, Particles: cc.walk.Particles, Finished: cc.walk.Finished, Partial: cc.walk.Status == montecarlo.Cancelled,
 		Seed: cc.walk.Seed, Checks: cc.Report.Checks, Verdict: string(cc.Report.Verdict), Explanation: cc.Report.Explain,
-		Notes: cc.Notes, Weights: cc.fits()}
+		Notes: cc.notes(), Weights: cc.fits()}
 }
 
 func (cc *crossResult) print(w io.Writer) {
@@ -254,7 +287,7 @@ func (cc *crossResult) print(w io.Writer) {
 		fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%.2g\t%+.2f\t%.3g\t%s\n", c.Quantity, c.PDE, c.Walker, c.StdErr, c.Z, c.P, mark)
 	}
 	tw.Flush()
-	for _, n := range cc.Notes {
+	for _, n := range cc.notes() {
 		fmt.Fprintln(w, "note:", n)
 	}
 	fmt.Fprintf(w, "\nverdict: %s\n%s\n", cc.Report.Verdict, cc.Report.Explain)
@@ -313,6 +346,14 @@ func (cc *crossResult) plot(dir string, inputs []string, net *graphpde.Network, 
 	}
 	wrote(stderr, "crosscheck", path, replaced, "survival function, PDE and walkers")
 	return nil
+}
+
+// notes returns the comparison's notes and the reason no weight was fitted.
+func (cc *crossResult) notes() []string {
+	if cc.fitNote == "" {
+		return cc.Notes
+	}
+	return append(slices.Clip(cc.Notes), cc.fitNote)
 }
 
 // fits returns the fitted weights as printed (null for a non-finite value).

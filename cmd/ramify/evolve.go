@@ -212,8 +212,8 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 	if out.Method == "exact" {
 		fmt.Fprintf(w, "method exact: Laplace transform of the exact elements inverted on Talbot contours, %.3g s\n", r.Stats.Time.Seconds())
 	} else {
-		fmt.Fprintf(w, "method grid: TR-BDF2 on %d unknowns, %d steps (%d rejected, %s), %d factorisations, largest local error estimate %.2g of --tol %g (time stepping only: refine --cells to see the grid's error), %.3g s\n",
-			r.Stats.Unknowns, r.Stats.Steps, r.Stats.Rejected, stepRange(r), r.Stats.Factorizations, r.Stats.ErrEstimate, out.Tol, r.Stats.Time.Seconds())
+		fmt.Fprintf(w, "method grid: TR-BDF2 on %s, %d steps (%d rejected, %s), %d factorisations, largest local error estimate %.2g of --tol %g (time stepping only: refine --cells to see the grid's error), %.3g s\n",
+			plural(r.Stats.Unknowns, "unknown"), r.Stats.Steps, r.Stats.Rejected, stepRange(r), r.Stats.Factorizations, r.Stats.ErrEstimate, out.Tol, r.Stats.Time.Seconds())
 	}
 	if out.Quantity == "concentration" {
 		fmt.Fprintln(w, "forward transport: tracer concentration per unit capacity (at a node: a·q/α, the value every edge end shares)")

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"strings"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -18,8 +19,8 @@ const exitExamples = `  ramify exit examples/fork.toml --from fork
 func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("exit", "exit [flags] FILE --from POINT", exitExamples, stderr)
 	from := fs.String("from", "", "start point: NODE or EDGE@X (required)")
-	times := fs.Float64Slice("times", nil, "also give the survival probability P(τ > t) at these times (comma-separated)")
-	quants := fs.Float64Slice("quantiles", nil, "exit-time quantiles to report (default 0.1,0.25,0.5,0.75,0.9)")
+	times := fs.Float64Slice("times", nil, "also give the survival probability P(τ > t) at these times `T1,T2,...`")
+	quants := fs.Float64Slice("quantiles", nil, "exit-time quantiles `P1,P2,...` to report (default 0.1,0.25,0.5,0.75,0.9)")
 	method := fs.String("method", "auto", "edge elements: exact, grid, or auto")
 	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
@@ -148,21 +149,37 @@ func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.Exit
 		}
 		fmt.Fprintln(w)
 	}
+	// The inverted transform is accurate to about 1e-11 absolute (Talbot
+	// contours) or 1e-5 (Gaver–Stehfest on the grid path, which a note
+	// names): smaller values are printed as a bound.
+	floor := 1e-10
+	for _, n := range x.Notes {
+		if strings.Contains(n, "Gaver") {
+			floor = 1e-5
+		}
+	}
 	for _, s := range x.Survival {
-		fmt.Fprintf(w, "P(τ > %g) = %s\n", s.T, g("%.6g", s.P))
+		switch {
+		case math.IsNaN(s.P):
+			fmt.Fprintf(w, "P(τ > %g) = not reported\n", s.T)
+		case s.P < floor:
+			fmt.Fprintf(w, "P(τ > %g) < %g (below the accuracy of the inversion)\n", s.T, floor)
+		default:
+			fmt.Fprintf(w, "P(τ > %g) = %s\n", s.T, fmtNum(s.P))
+		}
 	}
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	fmt.Fprintln(tw, "exit at\tprobability")
 	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return x.Hit[v] })
 	for _, v := range rows {
-		fmt.Fprintf(tw, "%s\t%.6f\n", net.Nodes[v].ID, x.Hit[v])
+		fmt.Fprintf(tw, "%s\t%s\n", net.Nodes[v].ID, fmtProb(x.Hit[v]))
 	}
 	if n := len(fixedNodes(net)) - len(rows); n > 0 {
-		fmt.Fprintf(tw, "(%d more fixed nodes)\t%.6f\n", n, rest)
+		fmt.Fprintf(tw, "(%d more fixed nodes)\t%s\n", n, fmtProb(rest))
 	}
 	if x.Killed > 1e-12 {
-		fmt.Fprintf(tw, "(killed by decay or leak)\t%.6f\n", x.Killed)
+		fmt.Fprintf(tw, "(killed by decay or leak)\t%s\n", fmtProb(x.Killed))
 	}
 	tw.Flush()
 	if len(x.Occupation) > 0 {
@@ -175,6 +192,17 @@ func printExit(w io.Writer, net *graphpde.Network, from string, x *graphpde.Exit
 		}
 		if n := len(net.Edges) - len(rows); n > 0 {
 			fmt.Fprintf(tw, "(%d more edges)\t%.5g\n", n, rest)
+		}
+		// The rest of the mean lifetime is spent held at node capacities.
+		var onEdges float64
+		for _, o := range x.Occupation {
+			onEdges += o
+		}
+		if held := x.Mean - onEdges; !math.IsNaN(held) && math.Abs(held) > 1e-9*math.Abs(x.Mean) {
+			fmt.Fprintf(tw, "(held at node capacities)\t%.5g\n", held)
+		}
+		if !math.IsNaN(x.Mean) {
+			fmt.Fprintf(tw, "(total: the mean exit time)\t%.5g\n", x.Mean)
 		}
 		tw.Flush()
 	}

@@ -24,6 +24,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	cells := fs.Int("cells", 0, "grid cells per edge where the file sets none (0: 64)")
 	probes := fs.StringArray("probe", nil, "report the value at POINT (NODE or EDGE@X); repeatable")
 	field := fs.String("field", "", "write the field sampled along every edge to this CSV file")
+	fieldStep := fs.Float64("field-step", 0, "with --field: sample every edge at this spacing (length units; 0: the grid vertices, or 33 points on an exact edge)")
 	draw := fs.String("draw", "", "draw the network coloured by the field into this SVG file")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	all := fs.Bool("all", false, fmt.Sprintf("print every node and edge (the tables stop at %d rows otherwise)", tableRows))
@@ -34,6 +35,9 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
 		return badFlag(stderr, "solve", err)
+	}
+	if !(*fieldStep >= 0) || math.IsInf(*fieldStep, 1) {
+		return badFlag(stderr, "solve", fmt.Errorf("--field-step %g: must be a finite spacing ≥ 0", *fieldStep))
 	}
 	if *cells < 0 {
 		return badFlag(stderr, "solve", fmt.Errorf("--cells %d: must be ≥ 0", *cells))
@@ -49,12 +53,21 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
+	if *field != "" && *fieldStep > 0 {
+		var n float64
+		for _, e := range net.Edges {
+			n += e.Length / *fieldStep
+		}
+		if n > maxFieldPoints {
+			return badFlag(stderr, "solve", fmt.Errorf("--field-step %g: would write about %.3g points, over the limit of %g", *fieldStep, n, float64(maxFieldPoints)))
+		}
+	}
 	sol, nl, err := solveField(ctx, net, m, *cells)
 	if err != nil {
 		return fail(stderr, "solve", err)
 	}
 	if *field != "" {
-		if err := writeField(*field, file, sol, stderr); err != nil {
+		if err := writeField(*field, file, sol, *fieldStep, stderr); err != nil {
 			return fail(stderr, "solve", err)
 		}
 	}
@@ -208,8 +221,8 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *
 		name = "(unnamed network)"
 	}
 	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), sol.Status)
-	fmt.Fprintf(w, "method %s: %d exact and %d grid edges, %d unknowns (%d at nodes), %.3g s\n",
-		m, sol.Stats.ExactEdges, sol.Stats.GridEdges, sol.Stats.Unknowns, sol.Stats.NodeUnknowns, sol.Stats.Elapsed.Seconds())
+	fmt.Fprintf(w, "method %s: %d exact and %d grid edges, %s (%d at nodes), %.3g s\n",
+		m, sol.Stats.ExactEdges, sol.Stats.GridEdges, plural(sol.Stats.Unknowns, "unknown"), sol.Stats.NodeUnknowns, sol.Stats.Elapsed.Seconds())
 	worst, at := 0.0, -1
 	for v, r := range sol.Residual {
 		if net.Nodes[v].Law.Kind != vertex.Balance {
@@ -291,14 +304,18 @@ func fieldHeader(ph *graphpde.Physical) string {
 
 // writeField writes edge,x,u rows for every edge to path (never over the
 // input file) and says on stderr what it wrote.
-func writeField(path, input string, sol *graphpde.Solution, stderr io.Writer) error {
+func writeField(path, input string, sol *graphpde.Solution, step float64, stderr io.Writer) error {
 	rows := 0
 	replaced, err := saveFile(path, []string{input}, func(w io.Writer) error {
 		cw := csv.NewWriter(w)
 		cw.Write([]string{"edge", "x", "u"})
 		var pts []graphpde.FieldPoint
 		for e := range sol.Net.Edges {
-			pts = sol.Sample(pts[:0], e)
+			if step > 0 {
+				pts = sampleEvery(pts[:0], sol, e, step)
+			} else {
+				pts = sol.Sample(pts[:0], e)
+			}
 			id := sol.Net.Edges[e].ID
 			for _, p := range pts {
 				cw.Write([]string{id, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
@@ -313,6 +330,26 @@ func writeField(path, input string, sol *graphpde.Solution, stderr io.Writer) er
 	}
 	wrote(stderr, "solve", path, replaced, fmt.Sprintf("field at %d points on %s", rows, plural(len(sol.Net.Edges), "edge")))
 	return nil
+}
+
+// maxFieldPoints bounds the rows --field-step may ask for.
+const maxFieldPoints = 1e7
+
+// sampleEvery appends the field along edge e at x = 0, step, 2·step, …
+// and at the far end. Cost O(L/step).
+func sampleEvery(dst []graphpde.FieldPoint, sol *graphpde.Solution, e int, step float64) []graphpde.FieldPoint {
+	L := sol.Net.Edges[e].Length
+	n := int(math.Floor(L/step + 1e-9))
+	for k := 0; k <= n; k++ {
+		x := min(float64(k)*step, L)
+		u, _ := sol.At(graphpde.Point{Node: -1, Edge: e, X: x})
+		dst = append(dst, graphpde.FieldPoint{X: x, U: u})
+	}
+	if last := dst[len(dst)-1].X; last < L {
+		u, _ := sol.At(graphpde.Point{Node: -1, Edge: e, X: L})
+		dst = append(dst, graphpde.FieldPoint{X: L, U: u})
+	}
+	return dst
 }
 
 // probe returns the solution at a point parsed from the command line

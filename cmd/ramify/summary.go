@@ -304,6 +304,24 @@ func fmtSmall(x float64) string {
 	return strconv.FormatFloat(x, 'e', 1, 64)
 }
 
+// fmtProb prints a probability: 6 significant digits, "0" and "1" plain,
+// never "-0" or a long row of zeros.
+func fmtProb(p float64) string {
+	if math.IsNaN(p) {
+		return "not reported"
+	}
+	return fmtNum(p)
+}
+
+// fmtErr prints a standard error with 2 significant digits; an exact 0
+// (every walker did the same) as "0".
+func fmtErr(se float64) string {
+	if se == 0 {
+		return "0"
+	}
+	return strconv.FormatFloat(se, 'g', 2, 64)
+}
+
 // withUnit appends a unit to a formatted number.
 func withUnit(x float64, unit string) string {
 	if unit == "" {

@@ -226,7 +226,6 @@ type walkOut struct {
 	Value      valueOut          `json:"value"`
 	Exit       exitOut           `json:"exit"`
 	Occupation map[string]estOut `json:"occupation"`
-	Visits     map[string]estOut `json:"visits"`
 	Steps      int64             `json:"steps"`
 	Seconds    float64           `json:"seconds"`
 	Notes      []string          `json:"notes,omitempty"`
@@ -254,7 +253,6 @@ func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []
 			TimeCap:          num(r.TimeCap),
 		},
 		Occupation: map[string]estOut{},
-		Visits:     map[string]estOut{},
 		Steps:      r.Stats.Steps,
 		Seconds:    r.Stats.Elapsed.Seconds(),
 		Notes:      notes,
@@ -301,8 +299,6 @@ func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []
 	for v, nd := range net.Nodes {
 		if nd.Law.Kind == vertex.Fixed {
 			out.Exit.Hit[nd.ID] = bound(r.Hit[v])
-		} else if v < len(r.Visits) {
-			out.Visits[nd.ID] = estOut{num(r.Visits[v].Mean), num(r.Visits[v].StdErr)}
 		}
 	}
 	for e, ed := range net.Edges {
@@ -363,23 +359,23 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
 	prob := func(e montecarlo.Estimate) string {
 		if r.Censored == 0 {
-			return fmt.Sprintf("%.5f", e.Mean)
+			return fmtProb(e.Mean)
 		}
-		return fmt.Sprintf("%.5f – %.5f", e.Mean, math.Min(1, e.Mean+q))
+		return fmtProb(e.Mean) + " – " + fmtProb(math.Min(1, e.Mean+q))
 	}
 	fmt.Fprintln(tw, "exit at\tprobability\t± stderr")
 	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return r.Hit[v].Mean })
 	for _, v := range rows {
-		fmt.Fprintf(tw, "%s\t%s\t%.2g\n", net.Nodes[v].ID, prob(r.Hit[v]), r.Hit[v].StdErr)
+		fmt.Fprintf(tw, "%s\t%s\t%s\n", net.Nodes[v].ID, prob(r.Hit[v]), fmtErr(r.Hit[v].StdErr))
 	}
 	if n := len(fixedNodes(net)) - len(rows); n > 0 {
-		fmt.Fprintf(tw, "(%d more fixed nodes)\t%.5f\t\n", n, rest)
+		fmt.Fprintf(tw, "(%d more fixed nodes)\t%s\t\n", n, fmtProb(rest))
 	}
 	if r.Killed.Mean > 0 {
-		fmt.Fprintf(tw, "(killed by decay or leak)\t%s\t%.2g\n", prob(r.Killed), r.Killed.StdErr)
+		fmt.Fprintf(tw, "(killed by decay or leak)\t%s\t%s\n", prob(r.Killed), fmtErr(r.Killed.StdErr))
 	}
 	if r.Censored > 0 {
-		fmt.Fprintf(tw, "(still out at the cap)\t%.5f\t\n", q)
+		fmt.Fprintf(tw, "(still out at the cap)\t%s\t\n", fmtProb(q))
 	}
 	tw.Flush()
 	fmt.Fprintln(w, "(± one standard error)")
