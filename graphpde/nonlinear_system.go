@@ -54,11 +54,11 @@ type nlSystem struct {
 	// Interior rows of Law edges (indexed like w): the Jacobian row
 	// (coefficients of u_{i−1}, u_i, u_{i+1}) and the residual, in
 	// "flux sign" (minus the cell integral of the generator-sign equation).
-	ja, jb, jc, ires []float64
-	piv, alpha, b0   []float64 // Thomas elimination
-	bs               []float64 // the Newton right-hand side swept by condense
-	end              [][2]endLin
-	cond             []edgeCond
+	ja, ires       []float64 // kept only with keepRows
+	piv, alpha, b0 []float64 // Thomas elimination (piv only with keepRows)
+	bs             []float64 // the Newton right-hand side swept by condense
+	end            [][2]endLin
+	cond           []edgeCond
 	// Node rows (indexed by node): residual, ∂R/∂u explicit, and per end
 	// ∂R/∂d in gEnd (indexed by edge and side).
 	nres, gu []float64
@@ -71,12 +71,16 @@ type nlSystem struct {
 	rhs, x   []float64
 
 	sumsq float64 // Σ residual² of the last eval
+	ni    int     // interior values
 	// Scaled residual of the last prepare, and its partial maxima.
 	rho, rhoWorst, rhoUmax float64
-	negPivots              int    // negative pivots of the last factorisation (interior + node system)
-	nonMono                string // first place where a law was not monotone in u
-	stats                  Stats
-	hasLawOf               []bool
+	// keepRows keeps the interior rows (ja, piv, ires) for solves with
+	// other right-hand sides (step, forward): continuation needs them.
+	keepRows  bool
+	negPivots int    // negative pivots of the last factorisation (interior + node system)
+	nonMono   string // first place where a law was not monotone in u
+	stats     Stats
+	hasLawOf  []bool
 }
 
 // edgeCond is the condensed linearisation of an edge's end derivatives:
@@ -85,7 +89,8 @@ type edgeCond struct {
 	c              [2][2]float64
 	k              [2]float64
 	kN             [2]float64 // k for the Newton right-hand side, from condense
-	p0, pl, q0, ql float64    // δu_1 = p0 δU0 + pl δUL + …, δu_{n−1} = q0 δU0 + ql δUL + …
+	p0, pl, q0, ql float64    // δu_1 = p0 δU0 + pl δUL + ps, δu_{n−1} = q0 δU0 + ql δUL + qs
+	ps, qs         float64    // (for the Newton right-hand side)
 }
 
 func lawEdge(ed *Edge) (quasi, equation bool) {
@@ -183,9 +188,10 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	for _, p := range []*[]float64{&s.U, &s.tU, &s.dU, &s.nres, &s.gu} {
 		*p = make([]float64, nn)
 	}
-	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.ja, &s.jb, &s.jc, &s.ires, &s.piv, &s.alpha, &s.b0, &s.bs} {
+	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.alpha, &s.b0, &s.bs} {
 		*p = make([]float64, ni)
 	}
+	s.ni = ni
 	s.vst = make([]float64, 3*linInterior)
 	s.end = make([][2]endLin, ne)
 	s.cond = make([]edgeCond, ne)
@@ -288,6 +294,8 @@ func (s *nlSystem) start(guess func(Point) float64) {
 func (s *nlSystem) eval(U, w []float64) error {
 	net := s.net
 	s.sumsq = 0
+	s.negPivots = 0
+	s.rhoWorst, s.rhoUmax = 0, 0
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		U0, UL := U[ed.From], U[ed.To]
@@ -381,76 +389,116 @@ func finite(v float64) bool { return v-v == 0 }
 // last eval.
 func (s *nlSystem) merit() float64 { return math.Sqrt(s.sumsq) }
 
-// condense eliminates the interior of Law edge e from the linearisation
-// (Thomas forward sweep) and sets its condensed end coefficients; linear
-// edges copy their affine maps. In the same pass it sweeps the Newton
-// right-hand side −r (into s.bs and cond.kN) and gathers the interior part
-// of the scaled residual at the interior values wAt. It counts negative interior pivots into
-// s.negPivots and returns a *LawError at a zero pivot.
-func (s *nlSystem) condense(e int, wAt []float64) error {
-	ed := &s.net.Edges[e]
+// condense sets the condensed end coefficients of edge e: linear edges
+// copy their affine maps; a law edge finishes the elimination that its
+// evaluation ran (see elim).
+func (s *nlSystem) condense(e int) {
 	el := &s.end[e]
 	cd := &s.cond[e]
 	switch s.kind[e] {
 	case nlExact, nlLinGrid:
 		// δd_0 = dSelf δU0 + dAdj δUL; δd_1 = dAdj δU0 + dSelf δUL.
 		cd.c = [2][2]float64{{el[0].dSelf, el[0].dAdj}, {el[1].dAdj, el[1].dSelf}}
-		return nil
+		return
 	}
+	cd.c[0] = [2]float64{el[0].dSelf + el[0].dAdj*cd.p0, el[0].dAdj * cd.pl}
+	cd.c[1] = [2]float64{el[1].dAdj * cd.q0, el[1].dSelf + el[1].dAdj*cd.ql}
+	cd.kN = [2]float64{el[0].dAdj * cd.ps, el[1].dAdj * cd.qs}
+}
+
+// elim eliminates the interior rows of a law edge as its evaluation
+// produces them (Thomas forward sweep, fused with the evaluation so that
+// the rows are never stored): row k of the linearisation in flux sign,
+//
+//	a δu_{i−1} + b δu_i + c δu_{i+1} = −r,
+//
+// gives the pivot p = b + a α_{i−1}, α_i = −c/p, β⁰_i = −a β⁰_{i−1}/p and
+// the Newton right-hand side's βˢ_i = (−r − a βˢ_{i−1})/p, stored for the
+// back substitution; it accumulates the sums that give u_1 in terms of the
+// end values, the negative pivots and the interior part of the scaled
+// residual. With s.keepRows the rows (a, p, r) are kept too, for solves with
+// other right-hand sides (continuation).
+type elim struct {
+	s                         *nlSystem
+	alpha, beta0, betas       float64
+	prod, p0, ps, worst, umax float64
+	al, b0, bs, ja, piv, ires []float64
+}
+
+func (s *nlSystem) newElim(e int) elim {
 	n, o := s.n[e], s.off[e]
-	p0, pl, q0, ql := 0.0, 1.0, 1.0, 0.0 // one cell: u_1 = UL, u_{n−1} = U0
-	if n > 1 {
-		ja, jb, jc := s.ja[o:o+n-1], s.jb[o:o+n-1], s.jc[o:o+n-1]
-		piv, al, b0 := s.piv[o:o+n-1], s.alpha[o:o+n-1], s.b0[o:o+n-1]
-		// The Newton right-hand side −r is swept along (into s.bs), and
-		// the scaled residual's interior part gathered, in the same pass.
-		res, bs, w := s.ires[o:o+n-1], s.bs[o:o+n-1], wAt[o:o+n-1]
-		alpha, beta0, betas := 0.0, 1.0, 0.0
-		prod, ps := 1.0, 0.0
-		worst, umax := s.rhoWorst, s.rhoUmax
-		h := ed.Length / float64(n)
-		for i := range ja {
-			p := jb[i] + ja[i]*alpha
-			if p == 0 || !finite(p) {
-				return singularPivot(ed.ID, float64(i+1)*h, w[i], p)
-			}
-			if p < 0 {
-				s.negPivots++
-			}
-			alpha = -jc[i] / p
-			beta0 = -ja[i] * beta0 / p
-			betas = (-res[i] - ja[i]*betas) / p
-			piv[i], al[i], b0[i], bs[i] = p, alpha, beta0, betas
-			p0 += prod * beta0
-			ps += prod * betas
-			prod *= alpha
-			// worst = max |r/J_ii|, umax = max |u|, without divisions or
-			// NaN handling in the common case (a NaN residual is caught by
-			// eval; jb ≠ 0 here since the pivot is not 0 in a monotone row).
-			if r, d := math.Abs(res[i]), math.Abs(jb[i]); r > worst*d {
-				worst = ratio(r, d)
-			}
-			if x := math.Abs(w[i]); x > umax {
-				umax = x
-			}
-		}
-		s.rhoWorst, s.rhoUmax = worst, umax
-		pl = prod
-		q0, ql = beta0, alpha
-		cd.kN = [2]float64{el[0].dAdj * ps, el[1].dAdj * betas}
-	} else {
-		cd.kN = [2]float64{}
+	x := elim{s: s, beta0: 1, prod: 1, worst: s.rhoWorst, umax: s.rhoUmax,
+		al: s.alpha[o : o+n-1], b0: s.b0[o : o+n-1], bs: s.bs[o : o+n-1]}
+	if s.keepRows {
+		x.ja, x.piv, x.ires = s.ja[o:o+n-1], s.piv[o:o+n-1], s.ires[o:o+n-1]
 	}
-	cd.p0, cd.pl, cd.q0, cd.ql = p0, pl, q0, ql
-	cd.c[0] = [2]float64{el[0].dSelf + el[0].dAdj*p0, el[0].dAdj * pl}
-	cd.c[1] = [2]float64{el[1].dAdj * q0, el[1].dSelf + el[1].dAdj*ql}
-	return nil
+	return x
+}
+
+// add eliminates interior row i (0-based) with value u there; it reports
+// false at a zero or non-finite pivot.
+func (x *elim) add(i int, a, b, c, r, u float64) bool {
+	p := b + a*x.alpha
+	if p == 0 || !finite(p) {
+		return false
+	}
+	if p < 0 {
+		x.s.negPivots++
+	}
+	x.alpha = -c / p
+	x.beta0 = -a * x.beta0 / p
+	x.betas = (-r - a*x.betas) / p
+	x.al[i], x.b0[i], x.bs[i] = x.alpha, x.beta0, x.betas
+	if x.ja != nil {
+		x.ja[i], x.piv[i], x.ires[i] = a, p, r
+	}
+	x.p0 += x.prod * x.beta0
+	x.ps += x.prod * x.betas
+	x.prod *= x.alpha
+	// worst = max |r/b|, umax = max |u|, without divisions in the common
+	// case.
+	if ar, ab := math.Abs(r), math.Abs(b); ar > x.worst*ab {
+		x.worst = ratio(ar, ab)
+	}
+	if au := math.Abs(u); au > x.umax {
+		x.umax = au
+	}
+	return true
+}
+
+// finish stores the edge's elimination results.
+func (x *elim) finish(e int) {
+	s := x.s
+	cd := &s.cond[e]
+	if s.n[e] > 1 {
+		cd.p0, cd.pl, cd.q0, cd.ql = x.p0, x.prod, x.beta0, x.alpha
+		cd.ps, cd.qs = x.ps, x.betas
+	} else {
+		// One cell: u_1 = UL, u_{n−1} = U0.
+		cd.p0, cd.pl, cd.q0, cd.ql, cd.ps, cd.qs = 0, 1, 1, 0, 0, 0
+	}
+	s.rhoWorst, s.rhoUmax = x.worst, x.umax
+}
+
+// keepInterior makes later evaluations keep the interior rows, for solves
+// with other right-hand sides (forward, step). It allocates them once.
+func (s *nlSystem) keepInterior() {
+	if s.keepRows {
+		return
+	}
+	s.keepRows = true
+	s.ja = make([]float64, s.ni)
+	s.piv = make([]float64, s.ni)
+	s.ires = make([]float64, s.ni)
 }
 
 // forward runs the forward sweep of Law edge e for the right-hand side
 // scale·b (b indexed like w), leaving the partial results in dW and the
 // condensed constant terms in s.cond[e].k.
 func (s *nlSystem) forward(e int, b, dW []float64, scale float64) {
+	if !s.keepRows {
+		panic("graphpde: forward without kept interior rows")
+	}
 	cd := &s.cond[e]
 	cd.k = [2]float64{}
 	n, o := s.n[e], s.off[e]
@@ -484,17 +532,13 @@ func (s *nlSystem) back(e int, dU0, dUL float64, src, dW []float64) {
 	}
 }
 
-// prepare condenses every edge at the state (U, w) last evaluated,
-// assembles the condensed node system into s.mat and computes the scaled
-// residual (s.rho).
+// prepare condenses every edge at the state (U, w) last evaluated (law
+// edges were eliminated by the evaluation), assembles the condensed node
+// system into s.mat and computes the scaled residual (s.rho).
 func (s *nlSystem) prepare(U, w []float64) error {
 	net := s.net
-	s.negPivots = 0
-	s.rhoWorst, s.rhoUmax = 0, 0
 	for e := range net.Edges {
-		if err := s.condense(e, w); err != nil {
-			return err
-		}
+		s.condense(e)
 	}
 	s.mat.ZeroValues()
 	val := s.mat.Values()

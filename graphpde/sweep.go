@@ -154,6 +154,7 @@ func Sweep(net *Network, param string, to float64, set *SweepSettings) (*SweepRe
 	if err != nil {
 		return nil, err
 	}
+	sys.keepInterior() // the bordered solves need the rows
 	sys.start(ns.Guess)
 	first, err := sys.newton(&ns)
 	if err != nil {
