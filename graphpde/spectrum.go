@@ -577,7 +577,7 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 			break
 		}
 		var prev, last *eval
-		shrink := h.lam - l.lam
+		shrink, width2 := math.Inf(1), math.Inf(1) // bracket widths one and two steps back
 		var lam float64
 		done := false
 		// add records an evaluation and narrows the bracket with it.
@@ -624,20 +624,37 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 				break
 			}
 			// Secant on g through the last two evaluations, if it falls
-			// inside the bracket and the bracket keeps shrinking (every
-			// third step is a bisection regardless); otherwise bisection.
+			// inside the bracket and the bracket has at least halved over
+			// the last two steps; otherwise bisection.
 			cand := 0.5 * (l.lam + h.lam)
 			secant := false
-			if prev != nil && last != nil && last.g != prev.g && !math.IsNaN(last.g) && !math.IsNaN(prev.g) && it%3 != 2 {
+			width := h.lam - l.lam
+			if prev != nil && last != nil && last.g != prev.g && !math.IsNaN(last.g) && !math.IsNaN(prev.g) && width <= 0.5*shrink {
 				c := last.lam - last.g*(last.lam-prev.lam)/(last.g-prev.g)
-				if c > l.lam && c < h.lam && h.lam-l.lam < shrink {
+				if c > l.lam && c < h.lam {
 					cand, secant = c, true
 				}
 			}
-			shrink = h.lam - l.lam
+			shrink, width2 = width2, width
+			if !secant {
+				shrink = math.Inf(1) // a bisection restarts the safeguard
+			}
 			if secant && math.Abs(cand-last.lam) < tol {
-				// The secant has converged: a bracket of width 2·tol
-				// around it finishes.
+				// The secant has converged next to the last evaluation:
+				// one count on the other side of it finishes, or else a
+				// bracket of width 2·tol around it.
+				x := cand + tol
+				if last.n >= k {
+					x = cand - tol
+				}
+				if x > l.lam && x < h.lam {
+					if n, _, err := w.countAt(x); err == nil {
+						add(eval{lam: x, n: n, g: math.NaN()})
+						if h.lam-l.lam <= 2*tol {
+							continue
+						}
+					}
+				}
 				if _, err := probe(cand, tol); err != nil {
 					return err
 				}
