@@ -237,3 +237,21 @@ func fmtSscanHex(s string, v *int) (int, error) {
 	*v = int(n)
 	return 1, err
 }
+
+// TestPlotsReferenceFonts checks that the crosscheck figures name their
+// fonts (with metric-compatible fallbacks) instead of embedding half a
+// megabyte of font in every SVG.
+func TestPlotsReferenceFonts(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "figs")
+	if code, _, errs := runCLI(t, context.Background(), "crosscheck", "../../examples/fork.toml", "--from", "fork", "--particles", "2000", "--plot", dir); code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	data, err := os.ReadFile(filepath.Join(dir, "hits.svg"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := string(data)
+	if len(data) > 30_000 || strings.Contains(s, "@font-face") || !strings.Contains(s, "'Times New Roman',Times,serif") {
+		t.Errorf("hits.svg: %d bytes, embedded font %v, fallback list %v", len(data), strings.Contains(s, "@font-face"), strings.Contains(s, "Times New Roman"))
+	}
+}

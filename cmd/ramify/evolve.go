@@ -13,10 +13,9 @@ import (
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/plotutil"
 	"gonum.org/v1/plot/vg"
-	"gonum.org/v1/plot/vg/draw"
-	"gonum.org/v1/plot/vg/vgsvg"
 
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/montecarlo/compare"
 )
 
 const evolveExamples = `  ramify evolve examples/handrail.toml --until 3600 --probe mid --every 60
@@ -372,8 +371,5 @@ func plotProbes(w io.Writer, specs []string, r *graphpde.EvolveResult, crossing 
 			p.Add(sc)
 		}
 	}
-	c := vgsvg.NewWith(vgsvg.UseWH(6*vg.Inch, 4*vg.Inch), vgsvg.EmbedFonts(true))
-	p.Draw(draw.New(c))
-	_, err := c.WriteTo(w)
-	return err
+	return compare.WriteSVG(w, p, 6*vg.Inch, 4*vg.Inch)
 }
