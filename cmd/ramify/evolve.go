@@ -16,7 +16,11 @@ import (
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/montecarlo/compare"
+	"github.com/ramify-dev/ramify/vertex"
 )
+
+// defaultProbes is how many nodes evolve follows when no --probe is given.
+const defaultProbes = 8
 
 const evolveExamples = `  ramify evolve examples/handrail.toml --until 3600 --probe mid --every 60
   ramify evolve line.toml --until 2 --probe far --crossing 0.5 --json
@@ -113,8 +117,17 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	}
 	specs := *probes
 	if len(specs) == 0 {
+		// every node, or on a larger network its first balance nodes
 		for _, nd := range net.Nodes {
-			specs = append(specs, nd.ID)
+			if len(net.Nodes) <= defaultProbes || nd.Law.Kind != vertex.Fixed {
+				specs = append(specs, nd.ID)
+			}
+			if len(specs) == defaultProbes {
+				break
+			}
+		}
+		if len(specs) < len(net.Nodes) && !*asJSON {
+			fmt.Fprintf(stderr, "ramify evolve: no --probe given: showing %s of %d nodes (name the points you want with --probe)\n", plural(len(specs), "node"), len(net.Nodes))
 		}
 	}
 	pts, err := parsePoints(net, specs)
