@@ -40,7 +40,6 @@ type nlSystem struct {
 	ecf  [][2]float64
 	vst  []float64 // sweep triples of linear grid edges
 	voff []int
-	ends []gridEnds // linear grid edges: from condenseVar; others: n, off
 
 	unk, nodes []int
 	mat        *nodesys.Matrix[float64]
@@ -122,7 +121,6 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	s.off = make([]int, ne)
 	s.maps = make([]edgeMap, ne)
 	s.ecf = make([][2]float64, ne)
-	s.ends = make([]gridEnds, ne)
 	s.voff = make([]int, ne)
 	var interior, linInterior int64
 	for e := range net.Edges {
@@ -233,11 +231,7 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 				a, b, c, f, _ = ed.Coeffs(x)
 				return a, b, c, f
 			})
-			ge.off = s.off[e]
-			s.ends[e] = ge
 			s.maps[e] = edgeMap{d: d, g: g, rs: ge.rs}
-		default:
-			s.ends[e] = gridEnds{n: s.n[e], off: s.off[e]}
 		}
 	}
 	return s, nil
