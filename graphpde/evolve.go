@@ -155,6 +155,9 @@ func Evolve(net *Network, set *EvolveSettings) (*EvolveResult, error) {
 	if err := linearTimeInvariant(net, "evolve"); err != nil {
 		return nil, err
 	}
+	if err := checkIsolated(net); err != nil {
+		return nil, err
+	}
 	t0 := time.Now()
 	var res *EvolveResult
 	var err error

@@ -101,6 +101,20 @@ func linearTimeInvariant(net *Network, what string) error {
 	return nil
 }
 
+// checkIsolated rejects a balance node with no edges, no capacity and no
+// leak: nothing determines its value (in time or in a mode).
+func checkIsolated(net *Network) error {
+	for v := range net.Nodes {
+		nd := &net.Nodes[v]
+		l := nd.Law
+		if l.Kind == vertex.Fixed || len(net.Incident(v)) > 0 || l.Capacity > 0 || l.Leak > 0 {
+			continue
+		}
+		return &ModelError{Object: "node", ID: nd.ID, Reason: "has no edges, no capacity and no leak: nothing determines its value (connect it, or give it a capacity or a leak)"}
+	}
+	return nil
+}
+
 // edgeCells returns the number of cells of edge e (at least 2, so that
 // every edge has an interior vertex).
 func edgeCells(ed *Edge, cells int) int {

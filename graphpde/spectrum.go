@@ -137,6 +137,9 @@ func Spectrum(net *Network, set *SpectrumSettings) (*SpectrumResult, error) {
 	if err := spectrumCheck(net); err != nil {
 		return nil, err
 	}
+	if err := checkIsolated(net); err != nil {
+		return nil, err
+	}
 	t0 := time.Now()
 	exactOK, why := spectrumExactOK(net)
 	var res *SpectrumResult
