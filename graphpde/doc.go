@@ -44,6 +44,17 @@
 // s = 0. On networks that need grid elements, moments come from the moment
 // hierarchy and the law from Gaver–Stehfest inversion at real shifts.
 //
+// # Nonlinear problems
+//
+// SolveNonlinear solves networks whose coefficients depend on u, whose
+// edges carry fully nonlinear equations E(x, u, ux, uxx) = 0 and whose nodes
+// carry nonlinear balances, by damped Newton on monotone grid schemes through
+// the same condensed node system (docs/nonlinear.md); every law is checked
+// where it is evaluated (LawError). Sweep follows a solution in a parameter
+// by pseudo-arclength continuation and reports folds, confirmed by the sign
+// of the Jacobian's determinant. SecantNetwork gives the linear problem a
+// computed field solves exactly, whose walkers check it.
+//
 // # References
 //
 // D. L. Scharfetter and H. K. Gummel, IEEE Trans. Electron Devices ED-16
@@ -54,4 +65,8 @@
 // 23 (1979) 97–120, and J. Abate and P. Valkó, Int. J. Numer. Meth. Engng 60
 // (2004) 979–993 (fixed-Talbot inversion; both from memory). H. Stehfest,
 // Comm. ACM 13 (1970) 47–49 (Gaver–Stehfest inversion; from memory).
+// G. Barles and P. E. Souganidis, Asymptotic Anal. 4 (1991) 271–283
+// (monotone schemes converge to viscosity solutions; from memory).
+// H. B. Keller, in Applications of Bifurcation Theory, Academic Press 1977
+// (pseudo-arclength continuation; from memory).
 package graphpde
