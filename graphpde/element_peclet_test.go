@@ -317,3 +317,35 @@ func TestDriftAwayChain(t *testing.T) {
 		}
 	}
 }
+
+// TestDriftAwayChainExit: exit statistics from the far end of the chain of
+// TestDriftAwayChain at Pe 100: absorbed at n0 with probability 1, and the
+// exact path's mean (adjoint and forward solves on the one-sign factor)
+// equal to the grid path's (steady grid solves, exact at the vertices for
+// constant coefficients without decay and a constant source, derived from
+// the fitted fluxes). Before, the adjoint solve stopped at "singular".
+func TestDriftAwayChainExit(t *testing.T) {
+	const meanRel = 1e-9 // two solves of a quotient of e^{100}-size terms
+	net := mustNet(t, []Node{{ID: "n0", Law: fixedAt(0)}, {ID: "n1", Law: free}, {ID: "n2", Law: free}, {ID: "n3", Law: free}},
+		[]edgeSpec{
+			{Edge{ID: "e1", Length: 0.1, A: 0.001, B: -100 * 0.001 / 0.1, Rho: 1}, "n1", "n0"},
+			{Edge{ID: "e2", Length: 1, A: 1, B: 0.5, Rho: 1}, "n1", "n2"},
+			{Edge{ID: "e3", Length: 1, A: 2, B: -40, Rho: 1}, "n2", "n3"},
+			{Edge{ID: "loop", Length: 0.3, A: 0.5, B: 7, Rho: 1}, "n2", "n2"},
+		})
+	start := Point{Node: 3, Edge: -1}
+	x, err := ExitStatistics(net, start, &ExitSettings{Quantiles: []float64{}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, err := ExitStatistics(net, start, &ExitSettings{Method: MethodGrid, Quantiles: []float64{}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(x.Hit[0]-1) > 1e-12 || x.Killed > 1e-12 {
+		t.Errorf("hit %g killed %g, want 1 and 0", x.Hit[0], x.Killed)
+	}
+	if math.Abs(x.Mean-g.Mean) > meanRel*g.Mean || !(x.Mean > 1e40) {
+		t.Errorf("mean %.12g exact, %.12g grid", x.Mean, g.Mean)
+	}
+}

@@ -32,7 +32,8 @@ func (x *ExitStats) fillDistribution(s *ExitSettings) error {
 	for i, p := range s.Quantiles {
 		t, err := x.law.quantile(p, x.Mean)
 		if err != nil {
-			return err
+			x.Notes = append(x.Notes, fmt.Sprintf("quantile %g is not reported (NaN): %v", p, err))
+			t = math.NaN()
 		}
 		x.Quantiles[i] = Quantile{P: p, T: t}
 	}

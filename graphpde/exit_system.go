@@ -34,6 +34,10 @@ type exitSystem struct {
 	// tree, or it has neither drift nor skewed weights (α ≠ a). Otherwise
 	// they may be complex.
 	reversible bool
+
+	// steady is the factor of the s = 0 system (steadyFactor), shared by
+	// the adjoint and the forward mean.
+	steady *nodesys.Factor[float64]
 }
 
 // exitEl is one exact element of the system: a network edge or half of the
@@ -215,18 +219,49 @@ type adjoint struct {
 
 // steadyAdjoint factors the transposed s = 0 system and solves for w.
 func (sys *exitSystem) steadyAdjoint() (*adjoint, error) {
-	m := newMatrix[float64](sys)
-	rhs := make([]float64, sys.nUnk)
-	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, true)
-	f := nodesys.NewFactor[float64](nil)
-	if err := factor(sys, f, m); err != nil {
+	f, err := sys.steadyFactor()
+	if err != nil {
 		return nil, err
 	}
 	e := make([]float64, sys.nUnk)
 	e[sys.unk[sys.start]] = 1
 	w := make([]float64, sys.nUnk)
-	f.SolveTo(w, e)
+	f.SolveTransTo(w, e)
 	return &adjoint{w: w}, nil
+}
+
+// steadyFactor factors the s = 0 node system K (forward; the adjoint uses
+// its transpose through SolveTransTo), handing the factor K's row sums
+// formed from the elements' without cancellation (addExcess; the element
+// maps of newExitSystem have f = 1, so their row sums are −c·g), so that on
+// a tree every pivot is a sum of non-negative terms (nodesys
+// SetRowExcess). The factor is kept for steadyMean. Cost O(edges + nodes)
+// plus the factorisation.
+func (sys *exitSystem) steadyFactor() (*nodesys.Factor[float64], error) {
+	if sys.steady != nil {
+		return sys.steady, nil
+	}
+	m := newMatrix[float64](sys)
+	rhs := make([]float64, sys.nUnk)
+	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, false)
+	ex := make([]float64, sys.nUnk)
+	for k := range sys.el {
+		el := &sys.el[k]
+		rs := [2]float64{-el.c * el.g[0], -el.c * el.g[1]}
+		addExcess(sys.pat, ex, k, el.w0, el.w1, &el.d, &rs)
+	}
+	for v, l := range sys.law {
+		if i := sys.unk[v]; i >= 0 {
+			ex[i] += l.Leak
+		}
+	}
+	f := nodesys.NewFactor[float64](nil)
+	f.SetRowExcess(ex)
+	if err := factor(sys, f, m); err != nil {
+		return nil, err
+	}
+	sys.steady = f
+	return f, nil
 }
 
 // at returns w at system node v, 0 for a fixed node.
@@ -268,8 +303,8 @@ func (sys *exitSystem) steadyMean() ([]float64, error) {
 		nodeG:  func(v int) float64 { return sys.law[v].Capacity },
 		fixedG: func(int) float64 { return 0 },
 	}, false)
-	f := nodesys.NewFactor[float64](nil)
-	if err := factor(sys, f, m); err != nil {
+	f, err := sys.steadyFactor() // the same matrix
+	if err != nil {
 		return nil, err
 	}
 	u := make([]float64, sys.nUnk)

@@ -601,6 +601,18 @@ func (f *Factor[T]) SolveTo(dst, b []T) {
 	f.solve(dst, b, f.lx, f.upper())
 }
 
+// SolveTransTo solves Aᵀ·x = b (plain transpose, no conjugation) with the
+// last factorisation and stores x in dst, for adjoint problems: the factor
+// of A serves both, with the accuracy SetRowExcess gives A's (whose row
+// sums are known where Aᵀ's are not). dst may alias b. It panics like
+// SolveTo. Cost O(nnz(L)); it allocates nothing.
+func (f *Factor[T]) SolveTransTo(dst, b []T) {
+	f.checkSolve("SolveTransTo", dst, b)
+	// P·Aᵀ·Pᵀ = Uᵀ·D·Lᵀ: forward with Uᵀ (column j of Uᵀ is row j of U),
+	// diagonal, backward with Lᵀ.
+	f.solve(dst, b, f.upper(), f.lx)
+}
+
 // upper returns the values of U stored like L (those of L when symmetric).
 func (f *Factor[T]) upper() []T {
 	if f.symmetric {
