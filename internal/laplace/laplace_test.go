@@ -58,7 +58,7 @@ func TestTalbotPairs(t *testing.T) {
 	// amplified by e^{2M/5} ≈ 1.5e4 (M = 24) times the size of F there, so a
 	// tail value such as e^{−10} carries an absolute, not relative, error of
 	// some 1e−13. Measured worst error/scale over these pairs: about 1e−12;
-	// 1e−9 leaves a margin and tests well below the brief's 1e−8.
+	// 1e−9 leaves a margin of a thousand over that.
 	const tol = 1e-9
 	for _, p := range pairs {
 		var scale float64
