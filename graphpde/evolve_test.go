@@ -306,3 +306,28 @@ func TestEvolveExactAgainstGrid(t *testing.T) {
 		t.Errorf("grid and exact transients differ by %.2e", worst)
 	}
 }
+
+// TestEvolveLumpedRC: one section of the ladder (a resistor R = 1 into a
+// capacitance C = 1) charges as 1 − e^{−t/RC}, so it crosses 50% at
+// ln 2·RC and 90% at ln 10·RC; its Elmore delay RC(N+1)/(2N) = RC at N = 1
+// (Rabaey, Chandrakasan & Nikolić, Digital Integrated Circuits, 2nd ed.
+// 2003, §4.4.4). The resistor's own capacity (1e-9 per length) shifts the
+// times by about 1e-9; the exact method is within 1e-9, the grid stepper
+// (tol 1e-8) within 3e-7 (measured): tolerance 1e-6.
+func TestEvolveLumpedRC(t *testing.T) {
+	b := newNetBuilder(t)
+	d := b.fixed("drive", 1)
+	c := b.node("cap", vertex.Law{Kind: vertex.Balance, Capacity: 1})
+	b.edge(Edge{ID: "r", From: d, To: c, Length: 1, A: 1, Rho: 1e-9, Cells: 4})
+	for _, tc := range []struct{ frac, want float64 }{{0.5, math.Ln2}, {0.9, math.Log(10)}} {
+		for _, m := range []Method{MethodExact, MethodGrid} {
+			r, err := Evolve(b.net, &EvolveSettings{Until: 3, Every: 0.1, Probes: []Point{{Node: c, Edge: -1}}, Crossing: tc.frac, Method: m, Tol: 1e-8})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := r.Crossing[0]; math.Abs(got-tc.want) > 1e-6 {
+				t.Errorf("%v: %g crossing at %.9f, want %.9f", m, tc.frac, got, tc.want)
+			}
+		}
+	}
+}

@@ -22,9 +22,11 @@ import (
 // defaultProbes is how many nodes evolve follows when no --probe is given.
 const defaultProbes = 8
 
-const evolveExamples = `  ramify evolve examples/handrail.toml --until 3600 --probe mid --every 60
-  ramify evolve line.toml --until 2 --probe far --crossing 0.5 --json
+const evolveExamples = `  ramify evolve examples/gutter-heater.toml --until 7200 --every 600 --probe box --crossing 0.9
+  ramify evolve examples/clock-spine.toml --until 2e-10 --probe latch-east --crossing 0.5 --json
   ramify evolve line.toml --until 2 --probe far --csv far.csv --plot far.svg
+  ramify evolve examples/karst.toml --until 3000 --every 500 --forward --release well
+  ramify evolve line.toml --until 1 --schedule drive.csv --steps
 `
 
 type evolveProbeOut struct {
