@@ -239,11 +239,15 @@ func (s *nlSystem) fail(res *NonlinearResult, err error) (*NonlinearResult, erro
 	return s.finishNotes(res), err
 }
 
-// finishNotes adds the uniqueness note.
+// finishNotes adds the uniqueness note, and for a law that is not monotone
+// in u and did not converge, the hint that a fold may be the reason.
 func (s *nlSystem) finishNotes(res *NonlinearResult) *NonlinearResult {
 	res.Unique = s.nonMono == ""
 	if !res.Unique {
 		res.Notes = append(res.Notes, "the law is not monotone in u ("+s.nonMono+"): other solutions may exist; a sweep follows the branches")
+		if res.Status == IterationLimit {
+			res.Notes = append(res.Notes, "such a law may have no steady solution at all past a fold (thermal runaway): a sweep in a parameter finds the fold")
+		}
 	}
 	return res
 }
