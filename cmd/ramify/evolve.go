@@ -159,19 +159,25 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		return fail(stderr, "evolve", fmt.Errorf("%s: %w", file, err))
 	}
 	if *csvOut != "" {
-		if _, err := saveFile(*csvOut, inputs, func(w io.Writer) error { return writeProbeCSV(w, specs, r) }); err != nil {
-			return fail(stderr, "evolve", err)
+		replaced, err := saveFile(*csvOut, inputs, func(w io.Writer) error { return writeProbeCSV(w, specs, r) })
+		if err != nil {
+			return fail(stderr, "evolve", fmt.Errorf("--csv %s: %w", *csvOut, err))
 		}
+		wrote(stderr, "evolve", *csvOut, replaced, "probe values at every output time")
 	}
 	if *snaps != "" {
-		if _, err := saveFile(*snaps, inputs, func(w io.Writer) error { return writeSnapshots(w, net, r) }); err != nil {
-			return fail(stderr, "evolve", err)
+		replaced, err := saveFile(*snaps, inputs, func(w io.Writer) error { return writeSnapshots(w, net, r) })
+		if err != nil {
+			return fail(stderr, "evolve", fmt.Errorf("--snapshots %s: %w", *snaps, err))
 		}
+		wrote(stderr, "evolve", *snaps, replaced, "field snapshots")
 	}
 	if *plotOut != "" {
-		if _, err := saveFile(*plotOut, inputs, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) }); err != nil {
-			return fail(stderr, "evolve", err)
+		replaced, err := saveFile(*plotOut, inputs, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) })
+		if err != nil {
+			return fail(stderr, "evolve", fmt.Errorf("--plot %s: %w", *plotOut, err))
 		}
+		wrote(stderr, "evolve", *plotOut, replaced, "probe curves")
 	}
 	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Quantity: "field", Tol: num(*tol),
 		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
