@@ -5,6 +5,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"strconv"
 	"strings"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -183,10 +184,11 @@ func (rd *reader) edgeModel(t *tbl) error {
 		ph.models = append(ph.models, model)
 	}
 	var a, b, c, f, rho float64
+	var fExpr string // a source that depends on u (wire with expressions)
 	pe := graphpde.PhysicalEdge{Set: true}
 	switch model {
 	case "wire":
-		a, c, f, rho, pe, err = wireModel(mt)
+		a, c, f, rho, pe, fExpr, err = wireModel(mt)
 	case "cable":
 		a, c, f, rho, pe, err = cableModel(mt)
 	case "rc":
@@ -211,6 +213,9 @@ func (rd *reader) edgeModel(t *tbl) error {
 	}
 	delete(t.m, model)
 	t.m["diffusivity"], t.m["drift"], t.m["decay"], t.m["source"], t.m["capacity"] = a, b, c, f, rho
+	if fExpr != "" {
+		t.m["source"] = fExpr
+	}
 	t.order = nil
 	ph.edges[t.id] = pe
 	ph.hasModel = true
@@ -229,9 +234,15 @@ func (rd *reader) edgeModel(t *tbl) error {
 // ρ = ρ_m c_p A. The fin equation is that of Incropera, DeWitt, Bergman and
 // Lavine, Fundamentals of Heat and Mass Transfer, 6th ed. (2007), §3.6.1,
 // eq. 3.66, with the Joule source of §3.5.3 (uniform generation q̇ = I²ρ_e/A²).
-func wireModel(mt *tbl) (a, c, f, rho float64, pe graphpde.PhysicalEdge, err error) {
-	fail := func(e error) (float64, float64, float64, float64, graphpde.PhysicalEdge, error) {
-		return 0, 0, 0, 0, pe, e
+//
+// The current and the resistivity may also be expressions of the network
+// file (strings that are not "NUMBER UNIT" quantities), in SI units with u
+// the temperature in kelvin and the [parameters] names: then
+// f = hP T∞ + I²ρₑ(u)/A is an expression in u, solved by the nonlinear
+// solver (and swept with ramify sweep when it names a parameter).
+func wireModel(mt *tbl) (a, c, f, rho float64, pe graphpde.PhysicalEdge, fExpr string, err error) {
+	fail := func(e error) (float64, float64, float64, float64, graphpde.PhysicalEdge, string, error) {
+		return 0, 0, 0, 0, pe, "", e
 	}
 	k, err := mt.need("conductivity", units.DimConductivity, positive)
 	if err != nil {
@@ -259,9 +270,48 @@ func wireModel(mt *tbl) (a, c, f, rho float64, pe graphpde.PhysicalEdge, err err
 		}
 		tinf = v
 	}
-	cur, err := mt.opt("current", units.DimCurrent, finite, 0)
-	if err != nil {
-		return fail(err)
+	isExpr := func(k string) (string, bool) {
+		s, ok := mt.m[k].(string)
+		return s, ok && !units.LooksLikeQuantity(s)
+	}
+	curExpr, curIsExpr := isExpr("current")
+	rhoExpr, rhoIsExpr := isExpr("resistivity")
+	if curIsExpr || rhoIsExpr {
+		if _, slope := mt.m["resistivity_slope"]; slope && rhoIsExpr {
+			return fail(mt.fail("resistivity_slope", "wire: resistivity_slope goes with a number for resistivity, not an expression (write the temperature dependence into the expression)"))
+		}
+		num := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+		if !curIsExpr {
+			v, err := mt.opt("current", units.DimCurrent, finite, 0)
+			if err != nil {
+				return fail(err)
+			}
+			curExpr = num(v)
+		}
+		if !rhoIsExpr {
+			r0, err := mt.need("resistivity", units.DimResistivity, positive)
+			if err != nil {
+				return fail(err)
+			}
+			al, err := mt.opt("resistivity_slope", units.DimTemperature.Pow(-1), finite, 0)
+			if err != nil {
+				return fail(err)
+			}
+			at := 293.15
+			if v, ok, err := mt.q("resistivity_at", units.DimTemperature, true); err != nil {
+				return fail(err)
+			} else if ok {
+				at = v
+			}
+			rhoExpr = fmt.Sprintf("%s*(1 + %s*(u - %s))", num(r0), num(al), num(at))
+		}
+		fExpr = fmt.Sprintf("%s + (%s)^2*(%s)/%s", num(h*perim*tinf), curExpr, rhoExpr, num(area))
+	}
+	var cur float64
+	if !curIsExpr && !rhoIsExpr {
+		if cur, err = mt.opt("current", units.DimCurrent, finite, 0); err != nil {
+			return fail(err)
+		}
 	}
 	var rho0, alpha, t0 float64
 	if cur != 0 {
@@ -278,7 +328,7 @@ func wireModel(mt *tbl) (a, c, f, rho float64, pe graphpde.PhysicalEdge, err err
 			t0 = v
 		}
 	}
-	joule := cur * cur * rho0 / area // W/m at ρ₀
+	joule := cur * cur * rho0 / area // W/m at ρ₀ (0 with expressions)
 	a = k * area
 	c = h*perim - joule*alpha
 	f = h*perim*tinf + joule*(1-alpha*t0)
@@ -298,7 +348,7 @@ func wireModel(mt *tbl) (a, c, f, rho float64, pe graphpde.PhysicalEdge, err err
 		rho = dens * cp * area
 	}
 	pe.K, pe.Ref = h*perim, tinf
-	return a, c, f, rho, pe, nil
+	return a, c, f, rho, pe, fExpr, nil
 }
 
 // crossSection reads diameter, or area and perimeter.
