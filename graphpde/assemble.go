@@ -63,7 +63,7 @@ func (s *system) addEdge(val []float64, e int) {
 	ed := &s.net.Edges[e]
 	m := &s.maps[e]
 	a0, aL := ed.EndWeight(0), ed.EndWeight(1)
-	addMatrix(s.pat, val, e, a0, aL, &m.d, &m.rs, false)
+	addMatrix(s.pat, val, e, a0, aL, &m.d, &m.rs)
 	addExcess(s.pat, s.ex, e, a0, aL, &m.d, &m.rs)
 	s.addEdgeRHS(e, a0, aL)
 }

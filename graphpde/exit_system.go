@@ -147,10 +147,9 @@ type exitLoad[T scalar] struct {
 //	Σ_e J_e(v) + (β_v + sρ_v) u(v) = γ_v,   J_e(v) = −α_e ∂_e u(v),
 //
 // with the fixed values moved to the right-hand side (addMatrix, addRHS,
-// the same assembly as the steady solve's). With transpose it adds every
-// matrix entry at the transposed position (the right-hand side is then
-// meaningless and left as the forward one). Cost O(edges + nodes).
-func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitLoad[T], transpose bool) {
+// the same assembly as the steady solve's; adjoint problems solve with the
+// transpose of the same factor). Cost O(edges + nodes).
+func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitLoad[T]) {
 	m.ZeroValues()
 	clear(rhs)
 	val := m.Values()
@@ -179,7 +178,7 @@ func assemble[T scalar](sys *exitSystem, m *nodesys.Matrix[T], rhs []T, ld exitL
 				fix1 = ld.fixedG(el.to)
 			}
 		}
-		addMatrix(sys.pat, val, k, w0, w1, &d, &rs, transpose)
+		addMatrix(sys.pat, val, k, w0, w1, &d, &rs)
 		addRHS(sys.pat, rhs, k, w0, w1, &d, &g, fix0, fix1)
 	}
 	for v, l := range sys.law {
@@ -243,7 +242,7 @@ func (sys *exitSystem) steadyFactor() (*nodesys.Factor[float64], error) {
 	}
 	m := newMatrix[float64](sys)
 	rhs := make([]float64, sys.nUnk)
-	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }}, false)
+	assemble(sys, m, rhs, exitLoad[float64]{fixedG: func(int) float64 { return 0 }})
 	ex := make([]float64, sys.nUnk)
 	for k := range sys.el {
 		el := &sys.el[k]
@@ -302,7 +301,7 @@ func (sys *exitSystem) steadyMean() ([]float64, error) {
 		edgeF:  func(el *exitEl) float64 { return el.rho },
 		nodeG:  func(v int) float64 { return sys.law[v].Capacity },
 		fixedG: func(int) float64 { return 0 },
-	}, false)
+	})
 	f, err := sys.steadyFactor() // the same matrix
 	if err != nil {
 		return nil, err
@@ -378,7 +377,7 @@ func newTransformer(sys *exitSystem) *transformer {
 func (tr *transformer) at(s complex128) (complex128, error) {
 	tr.ld.s = s
 	tr.n++
-	assemble(tr.sys, tr.m, tr.rhs, tr.ld, false)
+	assemble(tr.sys, tr.m, tr.rhs, tr.ld)
 	if err := factor(tr.sys, tr.f, tr.m); err != nil {
 		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)
 	}

@@ -108,11 +108,10 @@ func newNodePattern(unk, nodes []int, ends [][2]int) *nodePattern {
 
 // addMatrix adds the entries of element k, with end weights w0, w1 and end
 // map d (u'(0) = d[0]·(U0, UL) + …, u'(L) = d[1]·(U0, UL) + …), to the
-// matrix values val (in the pattern's slots); with transpose at the
-// transposed positions (adjoint problems). A loop (both ends at one node,
+// matrix values val (in the pattern's slots). A loop (both ends at one node,
 // U0 = UL) enters through the row sums rs of its map, d[i][0] + d[i][1]
 // formed without cancellation by the element. Cost O(1).
-func addMatrix[T scalar](p *nodePattern, val []T, k int, w0, w1 T, d *[2][2]T, rs *[2]T, transpose bool) {
+func addMatrix[T scalar](p *nodePattern, val []T, k int, w0, w1 T, d *[2][2]T, rs *[2]T) {
 	en := p.ends[k]
 	r0, r1 := p.unk[en[0]], p.unk[en[1]]
 	if en[0] == en[1] {
@@ -122,9 +121,6 @@ func addMatrix[T scalar](p *nodePattern, val []T, k int, w0, w1 T, d *[2][2]T, r
 		return
 	}
 	sl := p.eslot[k]
-	if transpose {
-		sl[0], sl[1] = sl[1], sl[0]
-	}
 	if r0 >= 0 {
 		val[p.dslot[r0]] += -w0 * d[0][0]
 		if r1 >= 0 {
