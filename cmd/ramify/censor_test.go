@@ -186,6 +186,12 @@ func TestAutoTimeCap(t *testing.T) {
 		t.Errorf("time cap %g with %d censored, want %g and none", w.Exit.TimeCap, w.Exit.Censored, want)
 	}
 
+	floating := writeFile(t, "float.toml", "[[node]]\nid = \"a\"\n[[node]]\nid = \"b\"\n[[edge]]\nid = \"e\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1\n")
+	code, _, errs = runCLI(t, ctx, "walk", floating, "--from", "a", "--particles", "1000")
+	if code != 1 || !strings.Contains(errs, "--time-cap") || strings.Contains(errs, "TimeCap") {
+		t.Errorf("walkers that never end: exit %d, %q", code, errs)
+	}
+
 	endless := writeFile(t, "endless.toml", "[[node]]\nid = \"pool\"\nleak = 1e-300\n[[edge]]\nid = \"loop\"\nfrom = \"pool\"\nto = \"pool\"\nlength = 1\ndiffusivity = 1\n")
 	code, _, errs = runCLI(t, ctx, "walk", endless, "--from", "pool")
 	if code != 1 || !strings.Contains(errs, "nothing to estimate") {

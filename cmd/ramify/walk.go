@@ -413,6 +413,10 @@ func writeSamples(path, input string, net *graphpde.Network, r *montecarlo.Resul
 // into command-line terms; keeps names what holds the samples ("--samples
 // keeps", or "the exit-time comparison keeps").
 func walkError(err error, keeps string) error {
+	var ce *montecarlo.CensoredError
+	if errors.As(err, &ce) {
+		return fmt.Errorf("all %d walkers were still out at the time cap %.4g: nothing ends them where they walk (no fixed node, leak or decay), or --time-cap is too short", ce.Finished, ce.TimeCap)
+	}
 	var me *montecarlo.MemoryError
 	if errors.As(err, &me) {
 		return fmt.Errorf("%s 16 bytes per walker: %d walkers need %s, above the limit of %s; lower --particles",

@@ -172,3 +172,80 @@ func TestRunComparesTheLaw(t *testing.T) {
 		t.Errorf("stretched law: verdict %s (%s), want disagree", r.Report.Verdict, r.Report.Explain)
 	}
 }
+
+// TestCensoredBounds checks the cross-check with many walkers still out at
+// the time cap (0.3 on the biased star, whose mean exit time is 102/43): the
+// hitting probabilities and the value are compared as bounds that hold the
+// closed forms, the mean exit time is left out, and the verdict is
+// inconclusive, not disagree (it used to compare the censored frequencies
+// as if complete). A PDE answer below the walkers' lower bound by 0.05 (25
+// standard errors) is still found to disagree.
+func TestCensoredBounds(t *testing.T) {
+	net, c, pde := biasedStar(t)
+	res, err := montecarlo.Run(context.Background(), net, c.Start, &montecarlo.Settings{Particles: 100000, Seed: 5, TimeCap: 0.3, KeepSamples: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if q := res.CensoredFraction(); q < 0.3 {
+		t.Fatalf("censored fraction %g: the test needs many walkers still out", q)
+	}
+	r, err := crosscheck.Run(net, c.Start, pde, res, nil, crosscheck.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Report.Verdict != compare.Inconclusive || !strings.Contains(r.Report.Explain, "time cap") {
+		t.Errorf("verdict %s (%s), want inconclusive because of the time cap", r.Report.Verdict, r.Report.Explain)
+	}
+	bounded := 0
+	for _, ch := range r.Report.Checks {
+		if ch.Quantity == "exit-time:mean" {
+			t.Errorf("the mean exit time is compared although walkers were censored")
+		}
+		if ch.Bounded {
+			bounded++
+			if !ch.Pass || ch.PDE < ch.Walker-4*ch.StdErr || ch.PDE > ch.Upper+4*ch.StdErr {
+				t.Errorf("%s: PDE %g outside the bounds [%g, %g] ± %g", ch.Quantity, ch.PDE, ch.Walker, ch.Upper, ch.StdErr)
+			}
+		}
+	}
+	if bounded < 3 {
+		t.Errorf("%d bounded checks, want the value and the hitting probabilities", bounded)
+	}
+
+	bad := *pde
+	bad.Hit = append([]float64(nil), pde.Hit...)
+	bad.Hit[1] = res.Hit[1].Mean - 0.05
+	r, err = crosscheck.Run(net, c.Start, &bad, res, nil, crosscheck.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Report.Verdict != compare.Disagree {
+		t.Errorf("PDE below the lower bound: verdict %s (%s), want disagree", r.Report.Verdict, r.Report.Explain)
+	}
+}
+
+// TestPayoffRange checks the range of payoffs a censored walker could still
+// collect: the fixed values and 0 (killed); unbounded with a source or an
+// injection.
+func TestPayoffRange(t *testing.T) {
+	build := func(inject, f float64) *graphpde.Network {
+		net := &graphpde.Network{}
+		hub, _ := net.AddNode(graphpde.Node{ID: "hub", Law: vertex.Law{Kind: vertex.Balance, Inject: inject}})
+		for i, g := range []float64{-1, 2} {
+			end, _ := net.AddNode(graphpde.Node{ID: string(rune('x' + i)), Law: vertex.Law{Kind: vertex.Fixed, Value: g}})
+			if _, err := net.AddEdge(graphpde.Edge{ID: string(rune('p' + i)), From: hub, To: end, Length: 1, A: 1, F: f}); err != nil {
+				t.Fatal(err)
+			}
+		}
+		return net
+	}
+	if lo, hi, ok := crosscheck.PayoffRange(build(0, 0)); !ok || lo != -1 || hi != 2 {
+		t.Errorf("fixed values −1 and 2: [%g, %g] %v", lo, hi, ok)
+	}
+	if _, _, ok := crosscheck.PayoffRange(build(0.5, 0)); ok {
+		t.Errorf("an injection leaves the payoff bounded")
+	}
+	if _, _, ok := crosscheck.PayoffRange(build(0, 0.5)); ok {
+		t.Errorf("a source leaves the payoff bounded")
+	}
+}
