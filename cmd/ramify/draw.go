@@ -29,6 +29,10 @@ type drawing struct {
 	marks  []mark // probes, start points
 	layout string // "file positions" or "computed layout"
 	xy     [][2]float64
+	// fixed, when set, is the colour range [lo, hi] in shown units (shared
+	// by the panels of a sheet); otherwise the field's own range.
+	fixed *[2]float64
+	id    string // suffix of the ids in the SVG (unique per panel)
 }
 
 // mark is a labelled point drawn on top of the network.
@@ -43,11 +47,12 @@ const segments = 24
 // fieldDrawing builds the drawing of a steady solution.
 func fieldDrawing(net *graphpde.Network, sol *graphpde.Solution, title string, marks []mark) *drawing {
 	d := &drawing{net: net, title: title, marks: marks, show: net.Physical.Shown}
-	d.value = func(e int, x float64) (float64, bool) {
-		u, err := sol.At(graphpde.Point{Node: -1, Edge: e, X: x})
-		return u, err == nil && !math.IsNaN(u)
+	if sol == nil {
+		d.value = func(int, float64) (float64, bool) { return 0, false }
+		d.node = func(int) (float64, bool) { return 0, false }
+	} else {
+		d.setSolution(sol)
 	}
-	d.node = func(v int) (float64, bool) { return sol.U[v], !math.IsNaN(sol.U[v]) }
 	if ph := net.Physical; ph != nil {
 		d.unit = ph.Field
 		if u := ph.ShownUnit(); u != "" {
@@ -57,6 +62,15 @@ func fieldDrawing(net *graphpde.Network, sol *graphpde.Solution, title string, m
 		d.unit = "u"
 	}
 	return d
+}
+
+// setSolution colours the drawing by a steady solution.
+func (d *drawing) setSolution(sol *graphpde.Solution) {
+	d.value = func(e int, x float64) (float64, bool) {
+		u, err := sol.At(graphpde.Point{Node: -1, Edge: e, X: x})
+		return u, err == nil && !math.IsNaN(u)
+	}
+	d.node = func(v int) (float64, bool) { return sol.U[v], !math.IsNaN(sol.U[v]) }
 }
 
 // positions returns the drawing position of every node: the file's xy
@@ -201,6 +215,9 @@ func (d *drawing) writeSVG(w io.Writer) error {
 	if lo > hi {
 		lo, hi = 0, 1
 	}
+	if d.fixed != nil {
+		lo, hi = d.fixed[0], d.fixed[1]
+	}
 	span := hi - lo
 	norm := func(u float64) float64 {
 		if span <= 1e-12*math.Max(math.Abs(hi), math.Abs(lo)) {
@@ -338,13 +355,13 @@ func (d *drawing) writeSVG(w io.Writer) error {
 	}
 	// Colour bar with five ticks.
 	bx, by, bw, bh := 860.0, top+20, 22.0, 400.0
-	b.WriteString(`<defs><linearGradient id="scale" x1="0" y1="1" x2="0" y2="0">`)
+	fmt.Fprintf(&b, `<defs><linearGradient id="scale%s" x1="0" y1="1" x2="0" y2="0">`, d.id)
 	for k := 0; k <= 16; k++ {
 		t := float64(k) / 16
 		fmt.Fprintf(&b, `<stop offset="%.4g" stop-color="%s"/>`, t, colourAt(t))
 	}
 	b.WriteString("</linearGradient></defs>\n")
-	fmt.Fprintf(&b, `<rect x="%g" y="%g" width="%g" height="%g" fill="url(#scale)" stroke="black" stroke-width="0.8"/>`+"\n", bx, by, bw, bh)
+	fmt.Fprintf(&b, `<rect x="%g" y="%g" width="%g" height="%g" fill="url(#scale%s)" stroke="black" stroke-width="0.8"/>`+"\n", bx, by, bw, bh, d.id)
 	for k := 0; k <= 4; k++ {
 		t := float64(k) / 4
 		y := by + bh*(1-t)

@@ -255,3 +255,36 @@ func TestPlotsReferenceFonts(t *testing.T) {
 		t.Errorf("hits.svg: %d bytes, embedded font %v, fallback list %v", len(data), strings.Contains(s, "@font-face"), strings.Contains(s, "Times New Roman"))
 	}
 }
+
+// TestEvolveSheet checks evolve --draw: a well-formed SVG with one panel per
+// chosen output time (at most six, the first and last included) on one
+// colour scale.
+func TestEvolveSheet(t *testing.T) {
+	out := filepath.Join(t.TempDir(), "sheet.svg")
+	code, _, errs := runCLI(t, context.Background(), "evolve", "../../examples/clock-spine.toml", "--until", "2e-9", "--every", "2e-10", "--draw", out)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	data, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	svgs := 0
+	dec := xml.NewDecoder(strings.NewReader(string(data)))
+	for {
+		tok, err := dec.Token()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			t.Fatalf("not well-formed XML: %v", err)
+		}
+		if se, ok := tok.(xml.StartElement); ok && se.Name.Local == "svg" {
+			svgs++
+		}
+	}
+	s := string(data)
+	if svgs != 1+sheetPanels || !strings.Contains(s, "t = 0<") || !strings.Contains(s, "t = 2e-09<") {
+		t.Errorf("%d svg elements (want %d), first and last panel present: %v %v", svgs, 1+sheetPanels, strings.Contains(s, "t = 0<"), strings.Contains(s, "t = 2e-09<"))
+	}
+}

@@ -66,6 +66,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	crossing := fs.Float64("crossing", 0, "report when each probe first covers this fraction of the way from its initial to its steady value (e.g. 0.5)")
 	csvOut := fs.String("csv", "", "write the probe time series to this CSV file (t, then one column per probe)")
 	snaps := fs.String("snapshots", "", "write the whole field at every output time to this CSV file (t, edge, x, u)")
+	drawOut := fs.String("draw", "", "draw the network coloured by the field at up to 6 output times (one colour scale) into this SVG file")
 	plotOut := fs.String("plot", "", "draw the probe curves into this SVG file")
 	forward := fs.Bool("forward", false, "forward transport: where a tracer released into the network is (its concentration per unit capacity), instead of the field")
 	release := fs.String("release", "", "with --forward: release a unit amount of tracer at POINT at t = 0 (default: the file's initial values as concentrations)")
@@ -105,7 +106,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if *schedule != "" {
 		inputs = append(inputs, *schedule)
 	}
-	if err := checkOutputs(inputs, outTarget{flag: "--csv", path: *csvOut}, outTarget{flag: "--snapshots", path: *snaps}, outTarget{flag: "--plot", path: *plotOut}); err != nil {
+	if err := checkOutputs(inputs, outTarget{flag: "--csv", path: *csvOut}, outTarget{flag: "--snapshots", path: *snaps}, outTarget{flag: "--plot", path: *plotOut}, outTarget{flag: "--draw", path: *drawOut}); err != nil {
 		return badFlag(stderr, "evolve", err)
 	}
 	net, err := load(ctx, file)
@@ -136,7 +137,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if err != nil {
 		return fail(stderr, "evolve", err)
 	}
-	set := &graphpde.EvolveSettings{Until: *until, Every: *every, Probes: pts, Fields: *snaps != "", Method: m,
+	set := &graphpde.EvolveSettings{Until: *until, Every: *every, Probes: pts, Fields: *snaps != "" || *drawOut != "", Method: m,
 		Cells: *cells, Tol: *tol, Step: *step, Crossing: *crossing, Context: ctx, Forward: *forward}
 	if *release != "" {
 		p, err := net.ParsePoint(*release)
@@ -171,6 +172,17 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 			return fail(stderr, "evolve", fmt.Errorf("--snapshots %s: %w", *snaps, err))
 		}
 		wrote(stderr, "evolve", *snaps, replaced, "field snapshots")
+	}
+	if *drawOut != "" {
+		title := net.Name
+		if title == "" {
+			title = file
+		}
+		replaced, err := saveFile(*drawOut, inputs, func(w io.Writer) error { return writeSheet(w, net, title, r.Snapshots) })
+		if err != nil {
+			return fail(stderr, "evolve", fmt.Errorf("--draw %s: %w", *drawOut, err))
+		}
+		wrote(stderr, "evolve", *drawOut, replaced, fmt.Sprintf("drawing at %s", plural(min(len(r.Snapshots), sheetPanels), "output time")))
 	}
 	if *plotOut != "" {
 		replaced, err := saveFile(*plotOut, inputs, func(w io.Writer) error { return plotProbes(w, specs, r, *crossing) })
