@@ -32,11 +32,20 @@ import (
 const (
 	// refineSteps is the most refinement steps; refineTol the ω below
 	// which none is tried (a few ε).
-	refineSteps = 3
+	refineSteps = 10
 	refineTol   = 1e-14
+	// nodePivotTol is the smallest pivot share (|pivot| over the size of
+	// what cancelled in it) the steady node factor accepts, 64ε: its
+	// relative error is then at most about 1/64, and refinement with the
+	// row-sum residual contracts by that factor per step.
+	nodePivotTol = 64 * 0x1p-52
 	// nodeResidualTol is the ω above which the node solve is Inaccurate:
 	// a hundred times what refinement reaches on a system it can handle.
 	nodeResidualTol = 1e-12
+	// refinedTol is the row-sum scaled residual below which the node
+	// values are taken as accurate to a few hundred ε whatever the pivots
+	// lost (see mMatrix).
+	refinedTol = 1e-14
 	// conditionNote and conditionTol bound the relative accuracy ε/ρ that
 	// the elimination leaves when a pivot kept only the share ρ of the
 	// terms that cancelled in it (nodesys Stats.MinPivotRatio): above the
@@ -51,9 +60,15 @@ const (
 )
 
 // nodeResidual writes r = b − A x (node system) into s.res and returns the
-// scaled residual ω and the unknown where it is largest (−1 if the system
-// is empty). Cost O(nnz(A)).
-func (s *system) nodeResidual() (omega float64, at int) {
+// scaled residual ω = max_r |r_r| / (Σ_j |A_rj x_j| + |b_r|), the unknown
+// where it is largest (−1 if the system is empty), and, in the row-sum form
+// (s.rowForm, see mMatrix), ωrow: the same residual relative to the terms of
+// that form, |b_r| + |s_r x_r| + Σ_{j≠r} |a_rj (x_j − x_r)|, over the rows
+// whose terms exceed the rounding of the plain ones (4ε of their size; a row
+// whose every difference is rounding carries no information). In the plain
+// form ωrow = ω. Cost O(nnz(A)).
+func (s *system) nodeResidual() (omega, omegaRow float64, at int) {
+	const eps = 0x1p-52
 	m := len(s.rhs)
 	if len(s.res) != m {
 		s.res = make([]float64, m)
@@ -63,55 +78,98 @@ func (s *system) nodeResidual() (omega float64, at int) {
 	at = -1
 	for r := 0; r < m; r++ {
 		sum, scale := s.rhs[r], math.Abs(s.rhs[r])
-		for p := s.rp[r]; p < s.rp[r+1]; p++ {
-			t := val[p] * s.x[s.ci[p]]
+		rowScale := scale
+		if s.rowForm {
+			// (Ax)_r = s_r x_r + Σ_{j≠r} a_rj (x_j − x_r): the row sum
+			// s_r from the elements instead of the rounded diagonal.
+			xr := s.x[r]
+			t := s.ex[r] * xr
 			sum -= t
-			scale += math.Abs(t)
+			rowScale += math.Abs(t)
+			for p := s.rp[r]; p < s.rp[r+1]; p++ {
+				c := s.ci[p]
+				scale += math.Abs(val[p] * s.x[c])
+				if c != r {
+					t := val[p] * (s.x[c] - xr)
+					sum -= t
+					rowScale += math.Abs(t)
+				}
+			}
+		} else {
+			for p := s.rp[r]; p < s.rp[r+1]; p++ {
+				t := val[p] * s.x[s.ci[p]]
+				sum -= t
+				scale += math.Abs(t)
+			}
+			rowScale = scale
 		}
 		s.res[r] = sum
-		w := 0.0
-		if sum != 0 {
-			w = math.Abs(sum) / scale
+		if sum == 0 {
+			continue
 		}
-		if !(w <= omega) { // NaN included
+		if w := math.Abs(sum) / scale; !(w <= omega) { // NaN included
 			omega, at = w, r
 		}
+		if rowScale > 4*eps*scale {
+			if w := math.Abs(sum) / rowScale; !(w <= omegaRow) {
+				omegaRow = w
+			}
+		}
 	}
-	return omega, at
+	return omega, omegaRow, at
+}
+
+// mMatrix reports whether the assembled node matrix is an M-matrix in sign
+// with non-negative row sums s.ex: then nodeResidual uses the row-sum form
+// (x_j − x_r differences), in which a small scaled residual means a small
+// relative perturbation of every conductance and row sum, and so a small
+// relative error of x (C. A. O'Cinneide, Entrywise perturbation theory and
+// error analysis for Markov chains, Numer. Math. 65 (1993) 109–120, from
+// memory) — whatever the factor lost to cancellation, refinement with this
+// residual recovers it while the factor's error times the condition stays
+// below 1. Cost O(nnz).
+func (s *system) mMatrix() bool {
+	val := s.mat.Values()
+	for r := range s.rhs {
+		if !(s.ex[r] >= 0) || math.IsInf(s.ex[r], 0) {
+			return false
+		}
+		for p := s.rp[r]; p < s.rp[r+1]; p++ {
+			if s.ci[p] != r && !(val[p] <= 0) {
+				return false
+			}
+		}
+	}
+	return true
 }
 
 // refine improves the node solve by iterative refinement while its scaled
 // residual is above refineTol, keeping a step only if it lowers ω, then
-// recomputes the node values and the grid interiors. It records the final
-// ω and where it is in s.omega, s.omegaAt.
+// leaves the node values in s.x (solve calls it before filling s.u and
+// recovering the grid interiors). It records the final ω and where it is
+// in s.omega, s.omegaAt.
 func (s *system) refine() {
-	omega, at := s.nodeResidual()
-	for it := 0; it < refineSteps && omega > refineTol; it++ {
+	s.rowForm = s.mMatrix()
+	s.stats.Refinements = 0
+	omega, orow, at := s.nodeResidual()
+	for it := 0; it < refineSteps && math.Max(omega, orow) > refineTol; it++ {
 		s.fac.SolveTo(s.dx, s.res)
 		for i := range s.x {
 			s.x[i] += s.dx[i]
 		}
-		o2, a2 := s.nodeResidual()
-		if !(o2 < omega) {
+		o2, r2, a2 := s.nodeResidual()
+		if !(math.Max(o2, r2) < math.Max(omega, orow)) {
 			for i := range s.x {
 				s.x[i] -= s.dx[i]
 			}
 			s.nodeResidual()
 			break
 		}
-		omega, at = o2, a2
+		omega, orow, at = o2, r2, a2
 		s.stats.Refinements++
 	}
-	s.omega, s.omegaAt = omega, at
+	s.omega, s.omegaRow, s.omegaAt = omega, orow, at
 	s.stats.ScaledResidual = omega
-	if s.stats.Refinements > 0 {
-		for i := range s.net.Nodes {
-			if r := s.unk[i]; r >= 0 {
-				s.u[i] = s.x[r]
-			}
-		}
-		s.recover()
-	}
 }
 
 // fluxRounding returns a bound of the rounding error of edge e's end
@@ -165,7 +223,11 @@ func (s *system) judge(sol *Solution) {
 		sol.Notes = append(sol.Notes, fmt.Sprintf("the node system's scaled residual is %.2g at node %s after %d refinement steps (wanted ≤ %g): the node system is too ill-conditioned for this solve, and the values may be wrong in every digit",
 			s.omega, net.Nodes[s.nodes[s.omegaAt]].ID, s.stats.Refinements, nodeResidualTol))
 	}
-	if lost := 0x1p-52 / s.pivotRatio; s.pivotAt >= 0 && lost > conditionNote {
+	// With the row-sum residual small, refinement has undone what the
+	// elimination lost (mMatrix); otherwise ε over the pivot share bounds
+	// the loss.
+	recovered := s.rowForm && s.omegaRow <= refinedTol
+	if lost := 0x1p-52 / s.pivotRatio; s.pivotAt >= 0 && lost > conditionNote && !recovered {
 		node := net.Nodes[s.nodes[s.pivotAt]].ID
 		sol.Notes = append(sol.Notes, fmt.Sprintf("the node system is nearly singular: the elimination cancelled all but %.2g of a pivot at node %s, so node values are good to about %.1g relative (a component anchored only by a weak leak, decay or coupling)", s.pivotRatio, node, lost))
 		if lost > conditionTol {

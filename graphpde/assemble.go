@@ -131,6 +131,7 @@ func (s *system) solve() {
 	if len(s.rhs) > 0 {
 		s.fac.SolveTo(s.x, s.rhs)
 	}
+	s.refine() // before the recovery, which may run once per assemble
 	for i := range s.net.Nodes {
 		if r := s.unk[i]; r >= 0 {
 			s.u[i] = s.x[r]

@@ -252,7 +252,6 @@ func SolveVariant(net *Network, v *Variant, set *Settings) (*Solution, error) {
 		return nil, err
 	}
 	sys.solve()
-	sys.refine()
 	sol, err := sys.solution()
 	if err != nil {
 		return nil, err

@@ -81,6 +81,10 @@ type system struct {
 	// elements' row sums without cancellation (addExcess); the factor
 	// uses them for its pivots on forests (nodesys SetRowExcess).
 	ex []float64
+	// rowForm: the residual of the last refine used the row sums, whose
+	// scaled residual in that form is omegaRow.
+	rowForm  bool
+	omegaRow float64
 }
 
 // edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
@@ -248,7 +252,10 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 	rowPtr, col := s.pattern()
 	s.rp, s.ci = rowPtr, col
 	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
-	s.fac = nodesys.NewFactor[float64](nil)
+	// A pivot share down to nodePivotTol is accepted: the refinement
+	// with the row-sum residual (accuracy.go) recovers what such a factor
+	// loses, and judge states the accuracy where it cannot.
+	s.fac = nodesys.NewFactor[float64](&nodesys.Settings{PivotTol: nodePivotTol})
 	s.ex = make([]float64, m)
 	s.fac.SetRowExcess(s.ex)
 	s.rhs = make([]float64, m)
