@@ -20,8 +20,8 @@ import (
 //
 //	ρ ∂_t u = ∂_x(a ∂_x u) + b ∂_x u − c u + f.
 //
-// The mappings and their sources are in the package documentation and in
-// docs/file-format.md.
+// The mappings and their sources are on wireModel, cableModel,
+// channelModel and nodeElement below, and in the README's file reference.
 
 // edgeModels are the edge sub-tables, each with its keys.
 var edgeModels = map[string][]string{
