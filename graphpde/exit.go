@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -38,6 +39,12 @@ type ExitSettings struct {
 	// octave is checked on a second contour (and taller contours of 48 and
 	// 64 nodes are tried while the two disagree).
 	InversionNodes int
+	// Context, when not nil, stops the statistics early: every evaluation
+	// of the Laplace transform of τ (a complex node-system factorisation on
+	// the exact path, a grid solve on the grid path) first checks it, and
+	// ExitStatistics, or a later SurvivalAt, then returns an error that
+	// wraps ctx.Err(). Nil means no cancellation.
+	Context context.Context
 }
 
 // TimeProb is a value of the survival function: P(τ > T) = P.
@@ -179,6 +186,16 @@ func (e *ExitError) Unwrap() error { return e.Err }
 // component that never kills) gives an error; failures of a solve come as
 // an *ExitError wrapping the solver's error.
 func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, error) {
+	x, err := exitStatistics(net, start, set)
+	if err == nil && set != nil && set.Context != nil && set.Context.Err() != nil {
+		// Stopped part-way: failed transforms became NaN values with notes.
+		return nil, &ExitError{Start: net.PointString(start), Reason: "stopped", Err: set.Context.Err()}
+	}
+	return x, err
+}
+
+// exitStatistics is ExitStatistics without the final look at the context.
+func exitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, error) {
 	var s ExitSettings
 	if set != nil {
 		s = *set
@@ -296,7 +313,9 @@ func ExitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 		x.fillDistribution(&s)
 		return x, nil
 	}
-	x.law = &lifetimeLaw{tr: newTransformer(sys), m: s.InversionNodes, base: x.Mean, check: !sys.reversible}
+	tr := newTransformer(sys)
+	tr.ctx = s.Context
+	x.law = &lifetimeLaw{tr: tr, m: s.InversionNodes, base: x.Mean, check: !sys.reversible}
 	if err := x.moments(sys.supMean(T1)); err != nil {
 		// The transform near s = 0 is a complex node system, factored
 		// without the one-sign pivots of the steady solve: on a nearly

@@ -292,6 +292,11 @@ func (x *ExitStats) gridStatistics(net *Network, start Point, s *ExitSettings) e
 		}
 	}
 	x.law = &lifetimeLaw{real: func(sh float64) (float64, error) {
+		if s.Context != nil {
+			if err := s.Context.Err(); err != nil {
+				return 0, fmt.Errorf("Laplace transform of the lifetime: stopped: %w", err)
+			}
+		}
 		x.Transforms++
 		sol, err := g.solve(sys, sh)
 		if err != nil {

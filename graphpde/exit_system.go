@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -354,7 +355,8 @@ type transformer struct {
 	rhs []complex128
 	u   []complex128
 	ld  exitLoad[complex128]
-	n   int // evaluations so far
+	n   int             // evaluations so far
+	ctx context.Context // checked before each evaluation; nil: never stops
 }
 
 func newTransformer(sys *exitSystem) *transformer {
@@ -375,6 +377,11 @@ func newTransformer(sys *exitSystem) *transformer {
 
 // at returns L(s) at the start.
 func (tr *transformer) at(s complex128) (complex128, error) {
+	if tr.ctx != nil {
+		if err := tr.ctx.Err(); err != nil {
+			return 0, fmt.Errorf("Laplace transform of the lifetime: stopped: %w", err)
+		}
+	}
 	tr.ld.s = s
 	tr.n++
 	assemble(tr.sys, tr.m, tr.rhs, tr.ld)

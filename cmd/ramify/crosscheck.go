@@ -176,6 +176,8 @@ func hasPayoff(net *graphpde.Network) bool {
 func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
 	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions) (*crossResult, error) {
 	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
+		// No Context: the survival function is evaluated again after the
+		// walkers, also when Ctrl-C stopped them.
 		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m})
 	})
 	if err != nil {

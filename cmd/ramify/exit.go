@@ -60,7 +60,7 @@ func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return fail(stderr, "exit", err)
 	}
 	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
-		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants})
+		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants, Context: ctx})
 	})
 	if err != nil {
 		return fail(stderr, "exit", err)

@@ -110,7 +110,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	var notes []string
 	if set.TimeCap == 0 {
 		x, xerr := interruptible(ctx, func() (*graphpde.ExitStats, error) {
-			return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Quantiles: []float64{}})
+			return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Quantiles: []float64{}, Context: ctx})
 		})
 		if errors.Is(xerr, errInterrupted) {
 			return fail(stderr, "walk", xerr)
