@@ -25,6 +25,9 @@ type Node struct {
 	Time *NodeTime
 	// Initial is the node's initial value for transient problems (nil: 0).
 	Initial *float64
+	// Controls, when non-empty, are alternative end weights among which a
+	// controller chooses at this (balance) node (control.go).
+	Controls []NodeControl
 }
 
 // Profile holds coefficients that vary along an edge, as functions of the
@@ -63,6 +66,9 @@ type Edge struct {
 	// Law, when non-nil, holds coefficients that depend on x, u or t, or a
 	// fully nonlinear equation (see EdgeLaw).
 	Law *EdgeLaw
+	// Controls, when non-empty, are alternative coefficient sets among
+	// which a controller chooses at every point of the edge (control.go).
+	Controls *EdgeControls
 }
 
 // Constant reports whether the edge's coefficients are constant along it.
@@ -121,6 +127,9 @@ type Network struct {
 	// Physical, when non-nil, says what the numbers mean physically (set by
 	// a reader from the file's physical models).
 	Physical *Physical
+	// Objective says whether the controls of a controlled network minimise
+	// or maximise the payoff (NoObjective for a network without controls).
+	Objective Objective
 
 	nodeIndex map[string]int
 	edgeIndex map[string]int
@@ -182,6 +191,9 @@ func (n *Network) AddNode(nd Node) (int, error) {
 		case (nl.Loss == nil) == (nl.General == nil):
 			return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "a nonlinear law needs exactly one of Loss and General"}
 		}
+	}
+	if err := checkNodeControls(&nd); err != nil {
+		return -1, err
 	}
 	if nd.Initial != nil && (math.IsNaN(*nd.Initial) || math.IsInf(*nd.Initial, 0)) {
 		return -1, &ModelError{Object: "node", ID: nd.ID, Field: "initial", Reason: fmt.Sprintf("= %g must be a finite number", *nd.Initial)}
@@ -257,6 +269,9 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 		return bad("length", fmt.Sprintf("= %g is out of range: lengths from %g to %g keep the edge's element finite in float64", e.Length, minScale, 1/minScale))
 	case law.A == nil && !eq && (e.A/e.Length < minScale || e.A/e.Length > 1/minScale):
 		return bad("diffusivity", fmt.Sprintf("= %g with length %g gives a/L = %g, out of range: the edge's element (entries of size a/L) would underflow or overflow; a/L from %g to %g is allowed", e.A, e.Length, e.A/e.Length, minScale, 1/minScale))
+	}
+	if err := checkEdgeControls(&e); err != nil {
+		return -1, err
 	}
 	for s, w := range e.Weight {
 		if !fin(w) || w < 0 || (w == 0 && math.Signbit(w)) {

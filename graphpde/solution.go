@@ -132,6 +132,9 @@ func (s *system) solution() (*Solution, error) {
 		d0, dL := s.endDerivs(e)
 		a0, _, _, _, _ := ed.Coeffs(0)
 		aL, _, _, _, _ := ed.Coeffs(ed.Length)
+		if c, ok := s.els[e].(*ctlGridEl); ok {
+			a0, aL = c.ends.a0, c.ends.aL // the diffusivities of the end controls
+		}
 		sol.Flux[e] = [2]float64{-a0 * d0, -aL * dL}
 		if f := sol.Flux[e]; math.IsNaN(f[0]+f[1]) || math.IsInf(f[0]+f[1], 0) {
 			return nil, &NonFiniteError{Object: "edge", ID: ed.ID}

@@ -77,6 +77,9 @@ type system struct {
 	// nodesys Stats.MinPivotRatio and MinPivotIndex of the last factor.
 	pivotRatio float64
 	pivotAt    int
+	// ctl, when non-nil, holds the policy of a controlled solve
+	// (control_solve.go); its edges use ctlGridEl.
+	ctl *ctlState
 	// ex holds the row sums Σ_j A_rj of the node matrix, formed from the
 	// elements' row sums without cancellation (addExcess); the factor
 	// uses them for its pivots on forests (nodesys SetRowExcess).
@@ -101,7 +104,16 @@ type edgeMap struct {
 }
 
 func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
-	s := &system{net: net, cells: DefaultCells}
+	if Controlled(net) {
+		return nil, fmt.Errorf("the network has controls: solve it with SolveControl (policy iteration), or apply a policy first (Network.Apply)")
+	}
+	return newSystemCtl(net, v, set, nil)
+}
+
+// newSystemCtl is newSystem with the policy of a controlled solve: the edges
+// that ctl marks get control grid elements (ctlGridEl).
+func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*system, error) {
+	s := &system{net: net, cells: DefaultCells, ctl: ctl}
 	if v != nil {
 		s.v = *v
 	}
@@ -140,14 +152,24 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		kindExact = iota
 		kindConstGrid
 		kindVarGrid
+		kindCtl
 	)
 	kind := make([]uint8, ne)
 	cells := make([]int, ne)
 	var interior, varInterior int64
-	nExact, nConst, nVar := 0, 0, 0
+	nExact, nConst, nVar, nCtl := 0, 0, 0, 0
 	maxCells := 0
 	for e := range net.Edges {
 		ed := &net.Edges[e]
+		if ctl != nil && ctl.edges[e] != nil {
+			n := ctl.edges[e].n
+			kind[e], cells[e] = kindCtl, n
+			interior += int64(n - 1)
+			varInterior += int64(n - 1)
+			maxCells = max(maxCells, n)
+			nCtl++
+			continue
+		}
 		cons := s.constantEdge(ed)
 		exact := false
 		switch method {
@@ -199,7 +221,7 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 		}
 	}
 	s.stats.ExactEdges = nExact
-	s.stats.GridEdges = nConst + nVar
+	s.stats.GridEdges = nConst + nVar + nCtl
 	s.st = make([]float64, interior)
 	vst := make([]float64, 3*varInterior)
 	s.scr = make([]float64, 2*maxCells)
@@ -230,6 +252,9 @@ func newSystem(net *Network, v *Variant, set *Settings) (*system, error) {
 			*x = varGridEl{s: s, e: e, n: n, st: s.st[o : o+n-1 : o+n-1], vst: vst[3*vo : 3*(vo+n-1) : 3*(vo+n-1)]}
 			x.ends.n = n
 			s.els[e] = x
+			vo += n - 1
+		case kindCtl:
+			s.els[e] = &ctlGridEl{s: s, e: e, n: n, c: ctl.edges[e], st: s.st[o : o+n-1 : o+n-1], vst: vst[3*vo : 3*(vo+n-1) : 3*(vo+n-1)]}
 			vo += n - 1
 		}
 		o += s.els[e].unknowns()

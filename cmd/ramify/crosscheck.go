@@ -64,6 +64,9 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
+	if err := controlRefusal(net, file, "crosscheck"); err != nil {
+		return fail(stderr, "crosscheck", err)
+	}
 	if graphpde.HasLaws(net) {
 		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *asJSON, stdout, stderr)
 	}

@@ -113,6 +113,9 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if err != nil {
 		return fail(stderr, "evolve", err)
 	}
+	if err := controlRefusal(net, file, "evolve"); err != nil {
+		return fail(stderr, "evolve", err)
+	}
 	if *schedule != "" {
 		if err := applySchedule(net, *schedule, *steps); err != nil {
 			return fail(stderr, "evolve", err)

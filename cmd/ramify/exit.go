@@ -52,6 +52,9 @@ func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "exit", err)
 	}
+	if err := controlRefusal(net, file, "exit"); err != nil {
+		return fail(stderr, "exit", err)
+	}
 	if err := nonlinearRefusal(net, file, "exit statistics are defined for linear problems only"); err != nil {
 		return fail(stderr, "exit", err)
 	}

@@ -19,6 +19,13 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 	if td := graphpde.TimeDependence(net); len(td) > 0 {
 		timeNote = "time-dependent data (" + strings.Join(td, "; ") + ") taken at t = 0 in this steady solve; 'ramify evolve' follows them in time"
 	}
+	if graphpde.Controlled(net) {
+		res, err := solveControlled(ctx, net, m, cells, 0)
+		if err != nil {
+			return nil, nil, err
+		}
+		return res.Solution, nil, nil
+	}
 	if !graphpde.HasLaws(net) {
 		sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
 			return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: cells})

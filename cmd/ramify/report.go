@@ -52,6 +52,9 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if err != nil {
 		return fail(stderr, "report", err)
 	}
+	if err := controlRefusal(net, file, "report"); err != nil {
+		return fail(stderr, "report", err)
+	}
 	p, err := net.ParsePoint(*wf.from)
 	if err != nil {
 		return fail(stderr, "report", err)

@@ -27,6 +27,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	fieldStep := fs.Float64("field-step", 0, "with --field: sample every edge at this spacing (length units; 0: the grid vertices, or 33 points on an exact edge)")
 	draw := fs.String("draw", "", "draw the network coloured by the field into this SVG file")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	viscosity := fs.Float64("viscosity-scale", 0, "controlled networks: multiply every diffusivity by this ε > 0 (the deterministic limit as ε → 0)")
 	all := fs.Bool("all", false, fmt.Sprintf("print every node and edge (the tables stop at %d rows otherwise)", tableRows))
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -62,8 +63,20 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			return badFlag(stderr, "solve", fmt.Errorf("--field-step %g: would write about %.3g points, over the limit of %g", *fieldStep, n, float64(maxFieldPoints)))
 		}
 	}
-	sol, nl, err := solveField(ctx, net, m, *cells)
-	if err != nil {
+	if fs.Changed("viscosity-scale") && !graphpde.Controlled(net) {
+		return badFlag(stderr, "solve", fmt.Errorf("--viscosity-scale: %s has no controls (the scale applies to controlled networks)", file))
+	}
+	var sol *graphpde.Solution
+	var nl *graphpde.NonlinearResult
+	var ctl *graphpde.ControlResult
+	obj := net.Objective
+	if graphpde.Controlled(net) {
+		if ctl, err = solveControlled(ctx, net, m, *cells, *viscosity); err != nil {
+			return fail(stderr, "solve", err)
+		}
+		sol = ctl.Solution
+		net = sol.Net // the linear network of the optimal policy (same ids)
+	} else if sol, nl, err = solveField(ctx, net, m, *cells); err != nil {
 		return fail(stderr, "solve", err)
 	}
 	if *field != "" {
@@ -87,6 +100,10 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if *asJSON {
 		out := solveJSON(net, sol, *probes, pts)
 		out.nonlinearOut = nonlinearJSON(nl)
+		if ctl != nil {
+			out.controlOut = controlJSON(net, ctl, obj)
+			out.Status = ctl.Status.String()
+		}
 		if err := writeJSON(stdout, out); err != nil {
 			return fail(stderr, "solve", err)
 		}
@@ -97,6 +114,10 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		rows = -1
 	}
 	printSolve(stdout, net, sol, nl, *probes, pts, m, rows)
+	if ctl != nil {
+		fmt.Fprintln(stdout)
+		printControl(stdout, net, ctl, obj, rows)
+	}
 	return 0
 }
 
@@ -132,6 +153,7 @@ type solveOut struct {
 	Notes   []string   `json:"notes,omitempty"`
 	Caution string     `json:"caution,omitempty"`
 	nonlinearOut
+	controlOut
 }
 
 type statsOut struct {

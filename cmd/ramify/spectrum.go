@@ -62,6 +62,9 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	if err != nil {
 		return fail(stderr, "spectrum", err)
 	}
+	if err := controlRefusal(net, file, "spectrum"); err != nil {
+		return fail(stderr, "spectrum", err)
+	}
 	r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx, Modes: *modes != ""})
 	if err != nil {
 		return fail(stderr, "spectrum", fmt.Errorf("%s: %w", file, err))

@@ -55,6 +55,9 @@ func runSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err != nil {
 		return fail(stderr, "sweep", err)
 	}
+	if err := controlRefusal(net, file, "sweep"); err != nil {
+		return fail(stderr, "sweep", err)
+	}
 	if net.Params.Index(*param) < 0 {
 		have := "the file has no [parameters]"
 		if net.Params != nil && len(net.Params.Names) > 0 {

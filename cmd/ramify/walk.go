@@ -100,6 +100,9 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
+	if err := controlRefusal(net, file, "walk"); err != nil {
+		return fail(stderr, "walk", err)
+	}
 	if err := nonlinearRefusal(net, file, "walkers have no law of their own there (their rules would depend on the unknown field)"); err != nil {
 		return fail(stderr, "walk", err)
 	}

@@ -22,8 +22,8 @@ import (
 
 // Keys accepted in each table, in the order the documentation lists them.
 var (
-	networkKeys  = []string{"name", "description"}
-	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split", "loss", "law", "initial"}
+	networkKeys  = []string{"name", "description", "objective"}
+	nodeKeys     = []string{"id", "xy", "fixed", "leak", "inject", "capacity", "split", "loss", "law", "initial", "controls"}
 	edgeKeys     = []string{"id", "from", "to", "length", "diffusivity", "drift", "decay", "source", "capacity", "weight", "weights", "cells", "equation", "initial"}
 	defaultsKeys = edgeKeys[3:]
 	topKeys      = []string{"network", "parameters", "defaults", "node", "edge"}
@@ -480,7 +480,7 @@ func (t *tbl) edgeValues(ev *edgeVals) error {
 	}
 	for _, k := range t.keys() {
 		switch k {
-		case "id", "from", "to":
+		case "id", "from", "to", "controls":
 		default:
 			if err := t.edgeValue(k, ev); err != nil {
 				return err
@@ -516,6 +516,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		return nil, top.fail(k, unknownKey(k, topKeys)+" at the top level (the tables are [network], [parameters], [defaults], [[node]] and [[edge]])")
 	}
 	net := &graphpde.Network{}
+	objLine := 0
 	if v, ok := root["network"]; ok {
 		m, isTable := v.(map[string]any)
 		if !isTable {
@@ -535,6 +536,16 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			if net.Description, err = t.str("description"); err != nil {
 				return nil, err
 			}
+		}
+		if _, ok := m["objective"]; ok {
+			s, err := t.str("objective")
+			if err != nil {
+				return nil, err
+			}
+			if net.Objective, err = graphpde.ParseObjective(s); err != nil {
+				return nil, t.fail("objective", err.Error())
+			}
+			objLine = t.line("objective")
 		}
 	}
 	if err := rd.parameters(top, root, net); err != nil {
@@ -617,6 +628,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		}
 	}
 	if err := rd.generalLaws(net); err != nil {
+		return nil, err
+	}
+	if err := rd.checkControls(net, objLine); err != nil {
 		return nil, err
 	}
 	if err := rd.physical(net); err != nil {
@@ -702,6 +716,8 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 			nd.XY = &xy
 		case "fixed":
 			nd.Law.Value, err = t.ruled(k, finite)
+		case "controls":
+			err = t.nodeControls(&nd)
 		case "leak", "inject", "capacity", "split":
 			if fixed {
 				return nd, nil, t.fail(k, k+" is not allowed on a fixed node (it has no balance law; remove fixed or "+k+")")
@@ -735,7 +751,7 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	if err := rd.edgeModel(t); err != nil {
 		return err
 	}
-	if err := t.checkKeys(edgeKeys, nil); err != nil {
+	if err := t.checkKeys(edgeOnlyKeys, nil); err != nil {
 		return err
 	}
 	ev := *def
@@ -761,7 +777,7 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 		return err
 	}
 	for _, k := range []string{"length", "diffusivity"} {
-		if k == "diffusivity" && ev.ex[slices.Index(defaultsKeys, "equation")] != nil {
+		if k == "diffusivity" && (ev.ex[slices.Index(defaultsKeys, "equation")] != nil || t.controlsGiveDiffusivity()) {
 			continue
 		}
 		if !ev.given[slices.Index(defaultsKeys, k)] {
@@ -776,6 +792,9 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	}
 	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
 	if err := t.edgeLaws(&e, &ev); err != nil {
+		return err
+	}
+	if err := t.edgeControls(&e, &ev); err != nil {
 		return err
 	}
 	if _, err := net.AddEdge(e); err != nil {

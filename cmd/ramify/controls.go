@@ -1,0 +1,179 @@
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"strings"
+
+	"github.com/ramify-dev/ramify/graphpde"
+)
+
+// Controlled networks: solve gives the optimal value and policy (policy
+// iteration), walk and crosscheck follow a policy; the other commands
+// refuse them.
+
+// controlRefusal returns the error of a command that has no meaning for a
+// controlled network, or nil for a network without controls.
+func controlRefusal(net *graphpde.Network, file, cmd string) error {
+	if !graphpde.Controlled(net) {
+		return nil
+	}
+	return fmt.Errorf("%s has controls: '%s' does not handle controlled networks; 'ramify solve' gives the optimal value and policy, 'ramify walk' and 'ramify crosscheck' follow a policy", file, cmd)
+}
+
+// solveControlled runs policy iteration (interruptible: Ctrl-C stops
+// between two evaluations and keeps the last).
+func solveControlled(ctx context.Context, net *graphpde.Network, m graphpde.Method, cells int, eps float64) (*graphpde.ControlResult, error) {
+	set := &graphpde.ControlSettings{Cells: cells, ViscosityScale: eps, Context: ctx,
+		Linear: &graphpde.Settings{Method: m}}
+	if m == graphpde.MethodGrid {
+		set.GridOnly = true
+	}
+	return graphpde.SolveControl(net, set)
+}
+
+// controlOut is what a controlled solve adds to the JSON of a steady solve.
+type controlOut struct {
+	Objective        string     `json:"objective,omitempty"`
+	Policy           *policyOut `json:"policy,omitempty"`
+	PolicyIterations *int       `json:"policy_iterations,omitempty"`
+	PolicySwitches   []int      `json:"policy_switches,omitempty"`
+	ViscosityScale   *float64   `json:"viscosity_scale,omitempty"`
+}
+
+type policyPieceOut struct {
+	From    float64 `json:"from"`
+	To      float64 `json:"to"`
+	Control int     `json:"control"`
+}
+
+type policyEdgeOut struct {
+	ID     string           `json:"id"`
+	Pieces []policyPieceOut `json:"pieces"`
+}
+
+type policyNodeOut struct {
+	ID      string `json:"id"`
+	Control int    `json:"control"`
+}
+
+// policyOut is the contract's "policy": {"edges": [{"id", "pieces":
+// [{"from", "to", "control"}]}], "nodes": [{"id", "control"}]}.
+type policyOut struct {
+	Edges []policyEdgeOut `json:"edges"`
+	Nodes []policyNodeOut `json:"nodes"`
+}
+
+func policyJSON(net *graphpde.Network, p *graphpde.Policy) *policyOut {
+	out := &policyOut{Edges: []policyEdgeOut{}, Nodes: []policyNodeOut{}}
+	for e, ps := range p.Edges {
+		if len(ps) == 0 {
+			continue
+		}
+		eo := policyEdgeOut{ID: net.Edges[e].ID}
+		for _, q := range ps {
+			eo.Pieces = append(eo.Pieces, policyPieceOut{q.From, q.To, q.Control})
+		}
+		out.Edges = append(out.Edges, eo)
+	}
+	for v, k := range p.Nodes {
+		if k >= 0 {
+			out.Nodes = append(out.Nodes, policyNodeOut{net.Nodes[v].ID, k})
+		}
+	}
+	return out
+}
+
+func controlJSON(net *graphpde.Network, res *graphpde.ControlResult, obj graphpde.Objective) controlOut {
+	it := res.Iterations
+	out := controlOut{Objective: obj.String(), Policy: policyJSON(net, res.Policy), PolicyIterations: &it, PolicySwitches: res.Switches}
+	if res.ViscosityScale != 1 {
+		e := res.ViscosityScale
+		out.ViscosityScale = &e
+	}
+	return out
+}
+
+// readPolicy reads a policy in the JSON shape of solve's "policy" (the
+// whole solve output, or only its "policy" object) for net. Errors name the
+// file.
+func readPolicy(path string, net *graphpde.Network) (*graphpde.Policy, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var wrap struct {
+		Policy *policyOut `json:"policy"`
+		policyOut
+	}
+	if err := json.Unmarshal(data, &wrap); err != nil {
+		return nil, fmt.Errorf("%s: not a policy in JSON: %v", path, err)
+	}
+	po := &wrap.policyOut
+	if wrap.Policy != nil {
+		po = wrap.Policy
+	}
+	p := &graphpde.Policy{Edges: make([][]graphpde.PolicyPiece, len(net.Edges)), Nodes: make([]int, len(net.Nodes))}
+	for v := range p.Nodes {
+		p.Nodes[v] = -1
+	}
+	for _, eo := range po.Edges {
+		e, ok := net.EdgeIndex(eo.ID)
+		if !ok {
+			return nil, fmt.Errorf("%s: policy names edge %q, which the network does not have", path, eo.ID)
+		}
+		for _, q := range eo.Pieces {
+			p.Edges[e] = append(p.Edges[e], graphpde.PolicyPiece{From: q.From, To: q.To, Control: q.Control})
+		}
+	}
+	for _, no := range po.Nodes {
+		v, ok := net.NodeIndex(no.ID)
+		if !ok {
+			return nil, fmt.Errorf("%s: policy names node %q, which the network does not have", path, no.ID)
+		}
+		p.Nodes[v] = no.Control
+	}
+	if err := p.Check(net); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return p, nil
+}
+
+// printControl adds the policy iteration summary and the policy to a
+// human-readable solve.
+func printControl(w io.Writer, net *graphpde.Network, res *graphpde.ControlResult, obj graphpde.Objective, rows int) {
+	word := map[graphpde.Objective]string{graphpde.Minimize: "minimised", graphpde.Maximize: "maximised"}[obj]
+	fmt.Fprintf(w, "controls: payoff %s by policy iteration, %s (%v)", word, plural(res.Iterations, "evaluation"), res.Status)
+	if res.ViscosityScale != 1 {
+		fmt.Fprintf(w, ", diffusivities scaled by %g", res.ViscosityScale)
+	}
+	fmt.Fprintln(w)
+	for _, n := range res.Notes {
+		fmt.Fprintln(w, "note:", n)
+	}
+	shown := 0
+	for e, ps := range res.Policy.Edges {
+		if len(ps) == 0 {
+			continue
+		}
+		if rows >= 0 && shown >= rows {
+			fmt.Fprintln(w, "... more controlled edges (--all prints them, --json gives everything)")
+			break
+		}
+		shown++
+		var parts []string
+		for _, q := range ps {
+			parts = append(parts, fmt.Sprintf("[%s, %s] %d", fmtNum(q.From), fmtNum(q.To), q.Control))
+		}
+		fmt.Fprintf(w, "policy on edge %s: %s\n", net.Edges[e].ID, strings.Join(parts, ", "))
+	}
+	for v, k := range res.Policy.Nodes {
+		if k >= 0 {
+			fmt.Fprintf(w, "policy at node %s: %d\n", net.Nodes[v].ID, k)
+		}
+	}
+	fmt.Fprintln(w, "(control indices count from 0 in the order of each controls list)")
+}
