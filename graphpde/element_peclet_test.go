@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/big"
+	"math/cmplx"
 	"testing"
 
 	"github.com/ramify-dev/ramify/internal/testenv"
@@ -347,5 +348,57 @@ func TestDriftAwayChainExit(t *testing.T) {
 	}
 	if math.Abs(x.Mean-g.Mean) > meanRel*g.Mean || !(x.Mean > 1e40) {
 		t.Errorf("mean %.12g exact, %.12g grid", x.Mean, g.Mean)
+	}
+}
+
+// TestExitElementComplexPeclet: the Laplace-domain element at complex
+// decay c (Re c ≥ 0, as on the Cauchy circle and the right part of the
+// contours) from Pe = 1e−3 to 1e4 in both directions, by composition
+// (derived): the maps of [0, x] and [x, L] joined at x, where u and a·u'
+// are continuous, must give the map of [0, L]. The two sides are formed
+// with different exponentials (e^{−κx}, e^{−κ(L−x)} against e^{−κL}), so
+// cancellation or overflow in either shows. Real c is checked against the
+// 1024-bit closed form in TestElementPeclet.
+func TestExitElementComplexPeclet(t *testing.T) {
+	// composeRel: each map entry to a few hundred ε, the join divides by
+	// d1[1][1] − d2[0][0], a sum of terms with positive real parts.
+	const composeRel = 1e-11
+	a, L, x := 0.7, 1.3, 0.45
+	for _, pe := range []float64{1e-3, 0.5, 10, 100, 1e3, 1e4} {
+		for _, sg := range []float64{1, -1} {
+			b := sg * pe * a / L
+			for _, c := range []complex128{complex(0.3, 2), complex(1e-6, 1e-3), complex(5, -40), complex(1e3, 1e4), complex(0, 0.1)} {
+				f := complex(0.8, -0.2)
+				name := fmt.Sprintf("Pe=%g c=%v", sg*pe, c)
+				d, g := exitElement(a, b, c, f, L)
+				d1, g1 := exitElement(a, b, c, f, x)
+				d2, g2 := exitElement(a, b, c, f, L-x)
+				den := d1[1][1] - d2[0][0]
+				// U_m = (d2[0][1] UL + g2[0] − d1[1][0] U0 − g1[1]) / den
+				mU0, mUL, mg := -d1[1][0]/den, d2[0][1]/den, (g2[0]-g1[1])/den
+				want := [2][2]complex128{
+					{d1[0][0] + d1[0][1]*mU0, d1[0][1] * mUL},
+					{d2[1][1] * mU0, d2[1][0] + d2[1][1]*mUL},
+				}
+				wantG := [2]complex128{g1[0] + d1[0][1]*mg, g2[1] + d2[1][1]*mg}
+				// Without the join: d2's To row in terms of (U_m, UL).
+				want[1][0] = d2[1][0] * mU0
+				want[1][1] = d2[1][1] + d2[1][0]*mUL
+				wantG[1] = g2[1] + d2[1][0]*mg
+				close := func(got, w complex128) bool {
+					return cmplx.Abs(got-w) <= composeRel*(cmplx.Abs(w)+1e-300) || (cmplx.Abs(w) < 1e-290 && cmplx.Abs(got) < 1e-280)
+				}
+				for i := range 2 {
+					for j := range 2 {
+						if cmplx.IsNaN(d[i][j]) || cmplx.IsInf(d[i][j]) || !close(d[i][j], want[i][j]) {
+							t.Errorf("%s: d%d%d = %v, composed %v", name, i, j, d[i][j], want[i][j])
+						}
+					}
+					if !close(g[i], wantG[i]) {
+						t.Errorf("%s: g%d = %v, composed %v", name, i, g[i], wantG[i])
+					}
+				}
+			}
+		}
 	}
 }
