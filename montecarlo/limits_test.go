@@ -53,8 +53,8 @@ func TestMemoryErrorNoOverflow(t *testing.T) {
 // still out, not only between walkers: a node whose leak is 1e−300 keeps
 // every walker for about 1e300 time units, so before the stop flag was read
 // inside the walk, Run never returned. It must return a partial result with
-// nothing finished; the bound of 2 s is a hang detector (the measured delay
-// is logged).
+// nothing finished. The bound of 10 s is a hang detector, generous for a
+// loaded machine; the measured delay is logged.
 func TestCancelInsideWalker(t *testing.T) {
 	n := &tNet{}
 	v := n.node(vertex.Law{Kind: vertex.Balance, Leak: 1e-300})
@@ -73,8 +73,8 @@ func TestCancelInsideWalker(t *testing.T) {
 	select {
 	case t1 := <-done:
 		t.Logf("Run returned %v after the cancellation", t1.Sub(t0))
-	case <-time.After(2 * time.Second):
-		t.Fatal("Run did not return within 2 s of the cancellation")
+	case <-time.After(10 * time.Second):
+		t.Fatal("Run did not return within 10 s of the cancellation")
 	}
 	if err != nil {
 		t.Fatal(err)

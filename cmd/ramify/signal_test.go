@@ -14,10 +14,11 @@ import (
 
 // TestCtrlC sends a real SIGINT to a built ramify during a walk whose
 // walkers would live for about 1e300 time units (a leak of 1e−300 and no
-// fixed node; the time cap set as high): the program must print what
+// fixed node they can reach; the time cap set as high): the program must print what
 // finished, marked partial, and exit 130. Before the walkers read the stop
-// flag inside a walk, such a run ignored Ctrl-C for good. The 3 s bound is
-// a hang detector, not a speed requirement; the measured delay is logged.
+// flag inside a walk, such a run ignored Ctrl-C for good. The 10 s bound is
+// a hang detector, not a speed requirement (generous for a loaded machine);
+// the measured delay is logged (a few milliseconds on an idle one).
 func TestCtrlC(t *testing.T) {
 	if testing.Short() {
 		t.Skip("builds the binary")
@@ -75,9 +76,9 @@ diffusivity = 1
 			select {
 			case err = <-done:
 				t.Logf("exited %v after SIGINT", time.Since(t0))
-			case <-time.After(3 * time.Second):
+			case <-time.After(10 * time.Second):
 				cmd.Process.Kill()
-				t.Fatal("still running 3 s after SIGINT")
+				t.Fatal("still running 10 s after SIGINT")
 			}
 			var ee *exec.ExitError
 			if !errors.As(err, &ee) || ee.ExitCode() != exitInterrupted {
