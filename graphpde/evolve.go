@@ -152,7 +152,14 @@ func Evolve(net *Network, set *EvolveSettings) (*EvolveResult, error) {
 	if s.Context == nil {
 		s.Context = context.Background()
 	}
-	if err := linearTimeInvariant(net, "evolve"); err != nil {
+	if needsNewton(net) {
+		if s.Forward || s.Method == MethodExact {
+			return nil, errors.New("laws that depend on u: evolve steps them on the grid, not with --forward or method exact")
+		}
+		if err := checkNonlinearTransient(net); err != nil {
+			return nil, err
+		}
+	} else if err := linearTimeInvariant(net, "evolve"); err != nil {
 		return nil, err
 	}
 	if err := checkIsolated(net); err != nil {
@@ -209,6 +216,11 @@ type trbdf2 struct {
 	gg      []float64 // at the TR stage
 	rhs, tm []float64
 	rn      []float64 // r(t) scratch
+	// laws of u (nl nil: linear)
+	nl    *nlFV
+	jac   []float64
+	nlMat *nodesys.Matrix[float64]
+	nlFac *nodesys.Factor[float64]
 }
 
 const keepFactors = 4
@@ -267,6 +279,10 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 
 // residual sets dst = −K u + r(t).
 func (ig *trbdf2) residual(dst, u []float64, t float64) {
+	if ig.nl != nil {
+		ig.nl.eval(u, t, dst, nil)
+		return
+	}
 	ig.rs.mulK(dst, u)
 	ig.sys.load(ig.rn, t)
 	for i := range dst {
@@ -331,6 +347,9 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	n := sys.rows().n
 	ig := &trbdf2{sys: sys, rs: sys.rows(), g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
 		rhs: make([]float64, n), tm: make([]float64, n), rn: make([]float64, n)}
+	if fv, ok := sys.(*fvSystem); ok && needsNewton(net) {
+		ig.setupNL(&nlFV{fvSystem: fv, uLaw: true})
+	}
 	u := make([]float64, n)
 	ug := make([]float64, n)
 	u1 := make([]float64, n)
@@ -357,7 +376,13 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	var level, start []float64
 	var crossed []bool
 	if s.Crossing > 0 {
-		uinf, err := steadyOf(sys, s.Until)
+		var uinf []float64
+		if ig.nl != nil {
+			uinf = append([]float64(nil), u...)
+			err = ig.steadyNL(uinf, s.Until)
+		} else {
+			uinf, err = steadyOf(sys, s.Until)
+		}
 		if err != nil {
 			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
 		}
@@ -439,7 +464,25 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 			hs = s.Until - t
 			landing = true
 		}
-		if err := ig.step(u, ug, u1, est, t, hs); err != nil {
+		if ig.nl != nil {
+			share := math.Max(hs/s.Until, 1.0/minShare)
+			wt := func(i int) float64 { return s.Tol * share * (math.Abs(u[i]) + scale) }
+			ok, err := ig.stepNL(u, ug, u1, est, t, hs, wt)
+			var se *nodesys.SingularError
+			if err != nil && !errors.As(err, &se) {
+				return nil, fmt.Errorf("at t = %g, step %g: %w", t, hs, err)
+			}
+			if !ok || err != nil {
+				// Newton did not converge (or met a singular
+				// matrix): a shorter step
+				res.Stats.Rejected++
+				h = hs / 4
+				if !adaptive || h < s.Until*1e-14 {
+					return nil, fmt.Errorf("at t = %g: Newton's method does not converge in a step of %g", t, hs)
+				}
+				continue
+			}
+		} else if err := ig.step(u, ug, u1, est, t, hs); err != nil {
 			return nil, fmt.Errorf("at t = %g, step %g: %w", t, hs, err)
 		}
 		// Error per unit step: the local error of a step may use the share

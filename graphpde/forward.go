@@ -91,7 +91,7 @@ func (s *fwdSystem) addEdge(e int) {
 	h := ed.Length / float64(n)
 	a0, _, _, _, _ := fvCoefs(ed, 0, 0)
 	aL, _, _, _, _ := fvCoefs(ed, ed.Length, 0)
-	s.end[e] = [2]float64{ed.EndWeight(0) / a0, ed.EndWeight(1) / aL}
+	s.end[e] = [2]float64{weightScale(ed, 0, a0), weightScale(ed, 1, aL)}
 	// Storage and decay of the vertices' shares (half cells at the ends).
 	for i := 0; i <= n; i++ {
 		row, f := s.vertex(e, i)

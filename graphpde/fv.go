@@ -101,6 +101,16 @@ func linearTimeInvariant(net *Network, what string) error {
 	return nil
 }
 
+// weightScale returns α/a at the given end (0 from, 1 to) of ed, a the
+// diffusivity there: 1 for the default weight (which is that diffusivity,
+// also when it is a law), else the given weight over a.
+func weightScale(ed *Edge, side int, a float64) float64 {
+	if w := ed.Weight[side]; w != 0 {
+		return w / a
+	}
+	return 1
+}
+
 // checkIsolated rejects a balance node with no edges, no capacity and no
 // leak: nothing determines its value (in time or in a mode).
 func checkIsolated(net *Network) error {
@@ -204,8 +214,8 @@ func (s *fvSystem) addEdge(e int) {
 	h := ed.Length / float64(n)
 	a0, _, _, _, _ := fvCoefs(ed, 0, 0)
 	aL, _, _, _, _ := fvCoefs(ed, ed.Length, 0)
-	s0 := ed.EndWeight(0) / a0
-	sL := ed.EndWeight(1) / aL
+	s0 := weightScale(ed, 0, a0)
+	sL := weightScale(ed, 1, aL)
 	s.scale[e] = s0
 	var lPrev, pPrev float64
 	for i := 0; i <= n; i++ {
@@ -376,7 +386,7 @@ func (s *fvSystem) load(dst []float64, t float64) {
 		h := ed.Length / float64(n)
 		s0 := s.scale[e]
 		aL, _, _, _, _ := fvCoefs(ed, ed.Length, 0)
-		sL := ed.EndWeight(1) / aL
+		sL := weightScale(ed, 1, aL)
 		pPrev := 0.0
 		for i := 0; i <= n; i++ {
 			row, _ := s.vertexUnknown(e, i)

@@ -39,7 +39,7 @@ func gridSelfAdjoint(net *Network) bool {
 		}
 		a0, _, _, _, _ := fvCoefs(ed, 0, 0)
 		aL, _, _, _, _ := fvCoefs(ed, ed.Length, 0)
-		if ed.EndWeight(0)/a0 != ed.EndWeight(1)/aL {
+		if weightScale(ed, 0, a0) != weightScale(ed, 1, aL) {
 			return false
 		}
 	}
