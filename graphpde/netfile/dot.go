@@ -39,6 +39,9 @@ func ReadDOT(r io.Reader, name string) (*graphpde.Network, error) {
 	if err := p.graph(); err != nil {
 		return nil, err
 	}
+	if len(p.nodes) == 0 {
+		return nil, &Error{File: name, Msg: "the graph has no nodes"}
+	}
 	root := map[string]any{"node": p.nodes, "edge": p.edges}
 	if p.title != "" {
 		root["network"] = map[string]any{"name": p.title}

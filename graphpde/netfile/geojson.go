@@ -105,6 +105,9 @@ func ReadGeoJSON(r io.Reader, name string) (*graphpde.Network, error) {
 			}
 		}
 	}
+	if len(g.nodes) == 0 {
+		return nil, &Error{File: name, Msg: "the document has no Point or line features"}
+	}
 	// Positions for drawings.
 	lat0 := 0.0
 	for _, c := range g.coords {

@@ -106,6 +106,9 @@ func ReadSWC(r io.Reader, name string) (*graphpde.Network, error) {
 	if err := sc.Err(); err != nil {
 		return nil, &Error{File: name, Line: line + 1, Msg: "cannot read: " + err.Error(), Err: err}
 	}
+	if len(samples) == 0 {
+		return nil, &Error{File: name, Msg: "the file has no samples (lines n type x y z radius parent)"}
+	}
 	var nodes, edges []map[string]any
 	var nodeLines, edgeLines []int
 	for _, s := range samples {
