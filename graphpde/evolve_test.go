@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"fmt"
 	"math"
 	"testing"
@@ -329,5 +330,19 @@ func TestEvolveLumpedRC(t *testing.T) {
 				t.Errorf("%v: %g crossing at %.9f, want %.9f", m, tc.frac, got, tc.want)
 			}
 		}
+	}
+}
+
+// TestEvolveCancelled: a cancelled context stops the run with Status
+// IterationLimit and keeps what was reached (here the initial state).
+func TestEvolveCancelled(t *testing.T) {
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	r, err := Evolve(warmRod(t), &EvolveSettings{Until: 1, Probes: []Point{{Node: -1, Edge: 0, X: 0.5}}, Context: ctx})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r.Status != IterationLimit || len(r.Times) != 1 || r.Times[0] != 0 {
+		t.Errorf("status %v, times %v", r.Status, r.Times)
 	}
 }

@@ -227,13 +227,13 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 			return fail(stderr, "evolve", err)
 		}
 		if r.Status == graphpde.IterationLimit {
-			return 130
+			return exitInterrupted
 		}
 		return 0
 	}
 	printEvolve(stdout, net, specs, r, &out, *crossing)
 	if r.Status == graphpde.IterationLimit {
-		return 130
+		return exitInterrupted
 	}
 	return 0
 }

@@ -129,3 +129,17 @@ diffusivity = 1.0
 		t.Errorf("exit %d, %q", code, errs)
 	}
 }
+
+// TestEvolveInterrupted: a cancelled run (Ctrl-C) exits with 130, for
+// evolve and spectrum (the library's partial results are tested in
+// graphpde).
+func TestEvolveInterrupted(t *testing.T) {
+	f := writeFile(t, "rod.toml", "[[node]]\nid = \"a\"\nfixed = 1.0\n[[node]]\nid = \"b\"\n[[edge]]\nid = \"rod\"\nfrom = \"a\"\nto = \"b\"\nlength = 1.0\ndiffusivity = 1.0\n")
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	for _, args := range [][]string{{"evolve", f, "--until", "1", "--probe", "b"}, {"spectrum", f}} {
+		if code, _, errs := runCLI(t, ctx, args...); code != exitInterrupted {
+			t.Errorf("%s on a cancelled context: exit %d, %s", args[0], code, errs)
+		}
+	}
+}
