@@ -11,6 +11,7 @@ import (
 	"strings"
 
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/units"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -249,6 +250,18 @@ func (c *csvReader) number(k int, r rule) (v float64, ok bool, err error) {
 		return 0, false, nil
 	}
 	v, perr := strconv.ParseFloat(s, 64)
+	if perr != nil && units.LooksLikeQuantity(s) {
+		// "NUMBER UNIT", as in the network file: length must be a length,
+		// the other columns are converted to SI.
+		q, qerr := units.Parse(s)
+		if qerr == nil && k == colLength && q.Unit.Dim != units.DimLength {
+			_, qerr = units.Convert(s, units.DimLength)
+		}
+		if qerr != nil {
+			return 0, false, c.fail(k, csvNames[k]+" = "+qerr.Error())
+		}
+		v, perr = q.SI(), nil
+	}
 	if perr != nil && !errors.Is(perr, strconv.ErrRange) {
 		return 0, false, c.fail(k, fmt.Sprintf("%s = %q is not a number", csvNames[k], s))
 	}

@@ -45,3 +45,20 @@ diffusivity = "2 mm^2/s"
 		t.Errorf("unknown unit: %v", err)
 	}
 }
+
+// TestCSVQuantities checks "NUMBER UNIT" fields in a CSV edge list: converted
+// to SI, and a length in another dimension refused with its line.
+func TestCSVQuantities(t *testing.T) {
+	src := "kind,id,from,to,length,diffusivity,fixed\nnode,a,,,,,20 degC\nedge,e,a,b,25 mm,2 mm^2/s,\n"
+	net, err := ReadCSV(strings.NewReader(src), "q.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if e := net.Edges[0]; math.Abs(e.Length-0.025) > roundoff || math.Abs(e.A-2e-6) > 1e-21 || math.Abs(net.Nodes[0].Law.Value-293.15) > 1e-12 {
+		t.Errorf("length %g, diffusivity %g, fixed %g", e.Length, e.A, net.Nodes[0].Law.Value)
+	}
+	bad := strings.Replace(src, "25 mm", "25 ohm", 1)
+	if _, err := ReadCSV(strings.NewReader(bad), "q.csv"); err == nil || !strings.Contains(err.Error(), "q.csv:3") || !strings.Contains(err.Error(), "want m") {
+		t.Errorf("length in ohm: %v", err)
+	}
+}
