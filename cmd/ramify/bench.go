@@ -28,7 +28,7 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	}
 	w := stdout
 	fmt.Fprintf(w, "ramify bench (%s), %d cores; every figure is a ratio to a reference measured in this run\n\n", *size, runtime.NumCPU())
-	fig, err := gen.Measure(*size)
+	fig, err := interruptible(ctx, func() (gen.Figures, error) { return gen.Measure(*size) })
 	if err != nil {
 		return fail(stderr, "bench", err)
 	}
@@ -49,6 +49,10 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		r, err := montecarlo.Run(ctx, star, vertex.AtNode(c), &montecarlo.Settings{Particles: *walkers, Seed: 1, Workers: workers})
 		if err != nil {
 			return 0, err
+		}
+		if r.Status == montecarlo.Cancelled {
+			// A rate from an interrupted run would be printed as a figure.
+			return 0, fmt.Errorf("%w during the walker measurements (the figures above are complete)", errInterruptedAny)
 		}
 		return float64(r.Stats.Steps) / r.Stats.Elapsed.Seconds(), nil
 	}

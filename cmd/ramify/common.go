@@ -167,7 +167,11 @@ func load(ctx context.Context, path string) (*graphpde.Network, error) {
 
 // errInterrupted is returned by interruptible when the context is cancelled
 // before the work is done.
-var errInterrupted = errors.New("interrupted before anything finished")
+var errInterrupted = fmt.Errorf("%w before anything finished", errInterruptedAny)
+
+// errInterruptedAny is wrapped by every error that reports a Ctrl-C: fail
+// gives them the exit status exitInterrupted.
+var errInterruptedAny = errors.New("interrupted")
 
 // interruptible runs f and returns its results, or errInterrupted as soon
 // as ctx is cancelled. A cancelled f goes on in the background until it
@@ -214,7 +218,7 @@ func badFlag(stderr io.Writer, cmd string, err error) int {
 // fail prints a one-line error and returns the exit status 1 (or
 // exitInterrupted for errInterrupted).
 func fail(stderr io.Writer, cmd string, err error) int {
-	if errors.Is(err, errInterrupted) {
+	if errors.Is(err, errInterruptedAny) {
 		fmt.Fprintf(stderr, "ramify %s: %v\n", cmd, err)
 		return exitInterrupted
 	}
