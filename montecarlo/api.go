@@ -75,6 +75,11 @@ type Settings struct {
 	// largest. Off (the default), a negative decay is an error; on edges
 	// with constant coefficients it is an error either way.
 	Growth bool
+	// Shard, when its Count is not zero, runs only that part of the
+	// walkers' blocks; Result.Part then carries the block sums that Merge
+	// combines with the other parts into the whole run's result. The
+	// estimates of a part's own Result are over its walkers only.
+	Shard Shard
 }
 
 // BlockSize is the number of walkers per block: the unit of work, of random
@@ -195,6 +200,9 @@ type Result struct {
 	// value's variance large.
 	MaxWeight float64
 	Stats     Stats
+	// Part holds the block sums of a sharded run (Settings.Shard), nil
+	// otherwise.
+	Part *Part
 }
 
 // CensoredFraction returns Censored/Finished (0 when nothing finished).

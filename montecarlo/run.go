@@ -102,6 +102,9 @@ func checkSettings(s *Settings) error {
 	case !finite(s.StarFraction) || s.StarFraction <= 0 || s.StarFraction > 1:
 		return bad("star fraction", s.StarFraction, "must be in (0, 1]")
 	}
+	if err := s.Shard.check(); err != nil {
+		return err
+	}
 	for _, p := range s.Quantiles {
 		if !(p >= 0 && p <= 1) {
 			return bad("quantile", p, "must be in [0, 1]")
@@ -176,12 +179,40 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 		nblocks++
 	}
 
+	// This run's blocks [first, last) and walkers [w0, w1): all of them,
+	// or a shard's part.
+	first, last := s.Shard.blockRange(nblocks)
+	w0, w1 := int64(first)*BlockSize, min(int64(last)*BlockSize, N)
+	shardN := max(0, w1-w0)
+
 	var samples []Sample
-	var times []float64
+	var times []float64 // lifetimes of walkers w0, w0+1, … below maxInternalTimes
 	if s.KeepSamples {
-		samples = make([]Sample, N)
+		samples = make([]Sample, shardN)
 	} else {
-		times = make([]float64, min(N, maxInternalTimes))
+		times = make([]float64, max(0, min(w1, maxInternalTimes)-w0))
+	}
+	// blockTimes returns block k's lifetimes, sorted, with +Inf for the
+	// censored walkers, or nil beyond the first maxInternalTimes walkers.
+	blockTimes := func(k int) []float64 {
+		lo := int64(k) * BlockSize
+		hi := min(lo+BlockSize, N, maxInternalTimes)
+		if hi <= lo {
+			return nil
+		}
+		if samples == nil {
+			return times[lo-w0 : hi-w0]
+		}
+		ts := make([]float64, hi-lo)
+		for i := range ts {
+			sm := samples[lo-w0+int64(i)]
+			ts[i] = sm.Time
+			if sm.Node == Censored {
+				ts[i] = math.Inf(1)
+			}
+		}
+		slices.Sort(ts)
+		return ts
 	}
 
 	// The walkers look at this flag, not at ctx, every few steps: an atomic
@@ -192,10 +223,11 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 		stop.Store(true)
 	}
 
-	workers := min(s.Workers, max(nblocks, 1))
+	workers := min(s.Workers, max(last-first, 1))
 	results := make(chan *blockAcc, workers)
 	free := make(chan *blockAcc, 2*workers+1)
 	var next atomic.Int64
+	next.Store(int64(first))
 	var wg sync.WaitGroup
 	for range workers {
 		wg.Add(1)
@@ -204,7 +236,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			w := newWalker(m, &stop)
 			for {
 				k := int(next.Add(1) - 1)
-				if k >= nblocks || stop.Load() {
+				if k >= last || stop.Load() {
 					return
 				}
 				var acc *blockAcc
@@ -229,22 +261,22 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 						break
 					}
 					if samples != nil {
-						samples[i] = Sample{Time: t, Node: fate}
-					} else if i < int64(len(times)) {
+						samples[i-w0] = Sample{Time: t, Node: fate}
+					} else if i-w0 < int64(len(times)) {
 						if fate == Censored {
 							t = math.NaN()
 						}
-						times[i] = t
+						times[i-w0] = t
 					}
 				}
 				if !ok {
 					return
 				}
-				if lo < int64(len(times)) {
+				if lo-w0 < int64(len(times)) {
 					// Sort this block's lifetimes here, in parallel, so
 					// that the quantiles need no serial sort at the end
 					// (censored walkers, NaN, are put last as +Inf).
-					seg := times[lo:min(hi, int64(len(times)))]
+					seg := times[lo-w0 : min(hi-w0, int64(len(times)))]
 					for j, t := range seg {
 						if math.IsNaN(t) {
 							seg[j] = math.Inf(1)
@@ -261,16 +293,16 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 		close(results)
 	}()
 
-	nn, ne := len(m.nodes), len(m.edges)
-	var val, tim moments
-	occ := make([]moments, ne)
-	vis := make([]moments, nn)
-	hits := make([]int64, nn)
-	dep := make([]int64, m.nDep)
-	var killed, censored, exited, steps, done int64
-	maxW := 0.0
+	l := m.layout()
+	f := newFolder(len(m.nodes), len(m.edges), m.nDep)
+	var part *Part
+	if s.Shard.Count > 0 {
+		part = &Part{Shard: s.Shard, Blocks: nblocks, Particles: s.Particles, Seed: s.Seed, TimeCap: m.timeCap,
+			Quantiles: slices.Clone(s.Quantiles), Exact: m.exact, Fixed: l.fixed, SplitExact: l.splitExact,
+			Arms: l.arms, DepOff: l.depOff}
+	}
 	pending := make(map[int]*blockAcc)
-	nextFold := 0
+	nextFold := first
 	for acc := range results {
 		pending[acc.k] = acc
 		for {
@@ -280,70 +312,25 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			}
 			delete(pending, nextFold)
 			nextFold++
-			val.addBlock(b.n, b.valS, b.valQ)
-			tim.addBlock(b.exited, b.tS, b.tQ)
-			for e := range occ {
-				occ[e].addBlock(b.n, b.occS[e], b.occQ[e])
+			f.add(b)
+			if part != nil {
+				part.Sums = append(part.Sums, b.toBlock(blockTimes(b.k)))
 			}
-			for v := range vis {
-				vis[v].addBlock(b.n, b.visS[v], b.visQ[v])
-			}
-			for v, h := range b.hits {
-				hits[v] += h
-			}
-			for i, d := range b.dep {
-				dep[i] += d
-			}
-			killed += b.killed
-			censored += b.censored
-			maxW = max(maxW, b.maxW)
-			exited += b.exited
-			steps += b.steps
-			done += b.n
 			select {
 			case free <- b:
 			default:
 			}
 			if s.Recorder != nil {
-				s.Recorder.Progress(done, N)
+				s.Recorder.Progress(f.done, shardN)
 			}
 		}
 	}
 
-	res := &Result{
-		Particles: N,
-		Finished:  done,
-		Seed:      s.Seed,
-		Value:     val.estimate(done),
-		ExitTime:  tim.estimate(exited),
-		Killed:    proportion(killed, done),
-		Censored:  censored,
-		MaxWeight: maxW,
-	}
-	if nextFold < nblocks {
+	res := f.result(&l, N, s.Seed)
+	res.Part = part
+	done := f.done
+	if nextFold < last {
 		res.Status = Cancelled
-	}
-	if exited > 1 {
-		res.ExitSD = math.Sqrt(tim.q / float64(exited-1))
-	}
-	res.Hit = make([]Estimate, nn)
-	res.Visits = make([]Estimate, nn)
-	res.Departures = make([][]int64, nn)
-	res.SplitExact = make([]bool, nn)
-	for v := range nn {
-		res.SplitExact[v] = m.nodes[v].splitExact
-		if m.nodes[v].mode == modeFixed {
-			res.Hit[v] = proportion(hits[v], done)
-		}
-		res.Visits[v] = vis[v].estimate(done)
-		if vis[v].n > 0 && vis[v].mean != 0 && len(m.nodes[v].arms) > 0 {
-			off := m.nodes[v].depOff
-			res.Departures[v] = slices.Clone(dep[off : off+len(m.nodes[v].arms)])
-		}
-	}
-	res.Occupation = make([]Estimate, ne)
-	for e := range ne {
-		res.Occupation[e] = occ[e].estimate(done)
 	}
 	if samples != nil {
 		res.Samples = samples[:done]
@@ -358,10 +345,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	} else {
 		res.Quantiles = blockQuantiles(times[:min(done, int64(len(times)))], BlockSize, s.Quantiles)
 	}
-	res.Stats = Stats{Steps: steps, Elapsed: time.Since(t0), Exact: m.exact}
-	res.TimeCap = m.timeCap
-	if done > 0 && exited == 0 {
-		return res, &CensoredError{Censored: censored, Finished: done, TimeCap: m.timeCap}
+	res.Stats.Elapsed = time.Since(t0)
+	if done > 0 && f.exited == 0 {
+		return res, &CensoredError{Censored: f.censored, Finished: done, TimeCap: m.timeCap}
 	}
 	return res, nil
 }

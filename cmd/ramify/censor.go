@@ -9,12 +9,8 @@ import (
 	"github.com/ramify-dev/ramify/montecarlo/crosscheck"
 )
 
-// negligible and valueBounds are the library's rules, shared with the
-// cross-check.
-var (
-	negligible  = crosscheck.Negligible
-	valueBounds = crosscheck.ValueBounds
-)
+// negligible is the library's rule, shared with the cross-check.
+var negligible = crosscheck.Negligible
 
 // Walkers still out at the time cap (censored) ended nowhere yet: a value or
 // a hitting probability estimated over all walkers is then only a bound, and

@@ -34,6 +34,7 @@ func commands() []command {
 	return []command{
 		{"solve", "steady field, node values, end fluxes and balance residuals", runSolve},
 		{"walk", "random walkers: value, hitting probabilities, exit times", runWalk},
+		{"merge", "combine the parts of a sharded walk (walk --shard I/N --json)", runMerge},
 		{"exit", "first-passage statistics from the PDE", runExit},
 		{"crosscheck", "PDE and walkers side by side, with a verdict", runCrosscheck},
 		{"evolve", "transient field from the initial one: probe time series, crossing times, snapshots", runEvolve},

@@ -14,12 +14,13 @@ import (
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/montecarlo"
-	"github.com/ramify-dev/ramify/vertex"
+	"github.com/ramify-dev/ramify/montecarlo/crosscheck"
 )
 
 const walkExamples = `  ramify walk examples/fork.toml --from fork
   ramify walk net.toml --from arm1@0.25 --particles 1000000 --seed 7 --json
   ramify walk net.toml --from hub --samples exits.csv --time-cap 50
+  ramify walk net.toml --from hub --particles 1e8 --shard 3/16 --json > part3.json
 `
 
 // walkFlags are the walker flags shared by walk and crosscheck.
@@ -82,9 +83,20 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("walk", "walk [flags] FILE --from POINT", walkExamples, stderr)
 	wf := addWalkFlags(fs)
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
+	shardFlag := fs.String("shard", "", "run only part I of N of the walkers (I/N, I from 1) and print the part, with --json, for 'ramify merge'")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
 		return code
+	}
+	var shard montecarlo.Shard
+	if *shardFlag != "" {
+		var err error
+		if shard, err = parseShard(*shardFlag); err != nil {
+			return badFlag(stderr, "walk", err)
+		}
+		if !*asJSON {
+			return badFlag(stderr, "walk", fmt.Errorf("--shard %s needs --json: a part is a JSON document for 'ramify merge'", *shardFlag))
+		}
 	}
 	if *wf.from == "" {
 		return badFlag(stderr, "walk", fmt.Errorf("--from POINT is required (NODE or EDGE@X)"))
@@ -127,6 +139,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 			notes = append(notes, note)
 		}
 	}
+	set.Shard = shard
 	res, err := montecarlo.Run(ctx, net, p, set)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
@@ -143,11 +156,17 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
 	}
 	if *asJSON {
-		if err := writeJSON(stdout, walkJSON(net, *wf.from, res, notes)); err != nil {
+		out := walkJSON(viewOf(net), *wf.from, res, notes)
+		if res.Part != nil {
+			if out.Shard, err = shardJSON(file, net, wf, res); err != nil {
+				return fail(stderr, "walk", err)
+			}
+		}
+		if err := writeJSON(stdout, out); err != nil {
 			return fail(stderr, "walk", err)
 		}
 	} else {
-		printWalk(stdout, net, *wf.from, res, notes)
+		printWalk(stdout, viewOf(net), *wf.from, res, notes)
 	}
 	return partialCode(res.Status == montecarlo.Cancelled)
 }
@@ -232,6 +251,41 @@ type walkOut struct {
 	Steps      int64             `json:"steps"`
 	Seconds    float64           `json:"seconds"`
 	Notes      []string          `json:"notes,omitempty"`
+	// Shard is what 'ramify merge' needs of a part of a sharded run.
+	Shard *shardOut `json:"shard,omitempty"`
+}
+
+// walkView is what the walk's output needs of the network: node and edge
+// ids, the fixed nodes, and the range of payoffs that bounds the value when
+// walkers are censored. It is built from the network, or carried by the
+// parts of a sharded run to the merge.
+type walkView struct {
+	nodes, edges []string
+	fixed        []int // indices of the fixed nodes
+	payLo, payHi float64
+	payOK        bool
+}
+
+func viewOf(net *graphpde.Network) *walkView {
+	v := &walkView{fixed: fixedNodes(net)}
+	for _, nd := range net.Nodes {
+		v.nodes = append(v.nodes, nd.ID)
+	}
+	for _, ed := range net.Edges {
+		v.edges = append(v.edges, ed.ID)
+	}
+	v.payLo, v.payHi, v.payOK = crosscheck.PayoffRange(net)
+	return v
+}
+
+// valueBounds bounds the value u(start) of a run with censored walkers, as
+// crosscheck.ValueBounds does from the network.
+func (v *walkView) valueBounds(r *montecarlo.Result) (lo, hi float64, ok bool) {
+	if !v.payOK {
+		return math.NaN(), math.NaN(), false
+	}
+	q := r.CensoredFraction()
+	return r.Value.Mean + q*v.payLo, r.Value.Mean + q*v.payHi, true
 }
 
 func quantKey(p float64) string { return strconv.FormatFloat(p, 'g', -1, 64) }
@@ -241,7 +295,7 @@ func numPtr(x float64) *num { n := num(x); return &n }
 // nothing is the JSON null of an estimate that is not made.
 var nothing = num(math.NaN())
 
-func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []string) walkOut {
+func walkJSON(net *walkView, from string, r *montecarlo.Result, notes []string) walkOut {
 	q := r.CensoredFraction()
 	out := walkOut{
 		Particles: r.Particles, Finished: r.Finished, Partial: r.Status == montecarlo.Cancelled, Seed: r.Seed, Start: from,
@@ -284,7 +338,7 @@ func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []
 		return o
 	}
 	if r.Censored > 0 && r.Finished > 0 {
-		lo, hi, ok := valueBounds(net, r)
+		lo, hi, ok := net.valueBounds(r)
 		v := &out.Value
 		v.ByCap = &estOut{num(r.Value.Mean), num(r.Value.StdErr)}
 		if ok {
@@ -299,20 +353,18 @@ func walkJSON(net *graphpde.Network, from string, r *montecarlo.Result, notes []
 		tm.Mean, tm.StdErr, tm.SD = nothing, nothing, nothing
 		out.Exit.Killed = bound(r.Killed)
 	}
-	for v, nd := range net.Nodes {
-		if nd.Law.Kind == vertex.Fixed {
-			out.Exit.Hit[nd.ID] = bound(r.Hit[v])
-		}
+	for _, v := range net.fixed {
+		out.Exit.Hit[net.nodes[v]] = bound(r.Hit[v])
 	}
-	for e, ed := range net.Edges {
+	for e, id := range net.edges {
 		if e < len(r.Occupation) {
-			out.Occupation[ed.ID] = estOut{num(r.Occupation[e].Mean), num(r.Occupation[e].StdErr)}
+			out.Occupation[id] = estOut{num(r.Occupation[e].Mean), num(r.Occupation[e].StdErr)}
 		}
 	}
 	return out
 }
 
-func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Result, notes []string) {
+func printWalk(w io.Writer, net *walkView, from string, r *montecarlo.Result, notes []string) {
 	mode := "exact stepping"
 	if !r.Stats.Exact {
 		mode = "time stepping on some edges"
@@ -340,7 +392,7 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 		fmt.Fprintf(w, "\nvalue u(%s) = %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
 		fmt.Fprintf(w, "exit time    = %.6g ± %.2g (sd %.4g)\n", r.ExitTime.Mean, r.ExitTime.StdErr, r.ExitSD)
 	} else {
-		if lo, hi, ok := valueBounds(net, r); ok {
+		if lo, hi, ok := net.valueBounds(r); ok {
 			fmt.Fprintf(w, "\nvalue u(%s) in [%.6g, %.6g] ± %.2g (collected by the cap: %.6g)\n", from, lo, hi, r.Value.StdErr, r.Value.Mean)
 		} else {
 			fmt.Fprintf(w, "\nvalue u(%s): not estimated (sources keep paying walkers still out); collected by the cap %.6g ± %.2g\n", from, r.Value.Mean, r.Value.StdErr)
@@ -367,11 +419,11 @@ func printWalk(w io.Writer, net *graphpde.Network, from string, r *montecarlo.Re
 		return fmtProb(e.Mean) + " – " + fmtProb(math.Min(1, e.Mean+q))
 	}
 	fmt.Fprintln(tw, "exit at\tprobability\t± stderr")
-	rows, rest := shownRows(fixedNodes(net), func(v int) float64 { return r.Hit[v].Mean })
+	rows, rest := shownRows(net.fixed, func(v int) float64 { return r.Hit[v].Mean })
 	for _, v := range rows {
-		fmt.Fprintf(tw, "%s\t%s\t%s\n", net.Nodes[v].ID, prob(r.Hit[v]), fmtErr(r.Hit[v].StdErr))
+		fmt.Fprintf(tw, "%s\t%s\t%s\n", net.nodes[v], prob(r.Hit[v]), fmtErr(r.Hit[v].StdErr))
 	}
-	if n := len(fixedNodes(net)) - len(rows); n > 0 {
+	if n := len(net.fixed) - len(rows); n > 0 {
 		fmt.Fprintf(tw, "(%d more fixed nodes)\t%s\t\n", n, fmtProb(rest))
 	}
 	if r.Killed.Mean > 0 {
