@@ -310,7 +310,7 @@ func (d *drawing) writeSVG(w io.Writer) error {
 	}
 	label := func(x, y float64, text string, colour string) {
 		w := 6.6*float64(len([]rune(text))) + 4
-		for _, off := range [][2]float64{{8, -8}, {8, 14}, {-8 - w, -8}, {-8 - w, 14}} {
+		for _, off := range [][2]float64{{8, -8}, {8, 14}, {-8 - w, -8}, {-8 - w, 14}, {-w / 2, -12}, {-w / 2, 22}} {
 			if free(x+off[0], y+off[1]-11, w, 14) {
 				fmt.Fprintf(&b, `<text x="%.1f" y="%.1f" fill="%s">%s</text>`+"\n", x+off[0], y+off[1], colour, svgEscape(text))
 				return
