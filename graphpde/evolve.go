@@ -200,10 +200,11 @@ func outputTimes(every, until float64) []float64 {
 
 // stepFactor is a factorisation of M + (γh/2)K for one step size.
 type stepFactor struct {
-	h   float64
-	fac *nodesys.Factor[float64]
-	mat *nodesys.Matrix[float64]
-	use int
+	h    float64
+	fac  *nodesys.Factor[float64] // general sparse factor, or
+	cond *condensed               // condensation on the grid layout
+	mat  *nodesys.Matrix[float64] // the values (pattern of K)
+	use  int
 }
 
 // tridf2 holds the state of the TR-BDF2 integrator on an fvSystem.
@@ -243,10 +244,18 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 		// every step size has the pattern of K: the first factor's
 		// analysis is shared by the others (Clone)
 		f = &stepFactor{mat: nodesys.NewMatrixPattern[float64](sys.n, sys.rp, sys.ci)}
-		if len(ig.cache) == 0 {
-			f.fac = nodesys.NewFactor[float64](nil)
-		} else {
+		switch {
+		case len(ig.cache) > 0 && ig.cache[0].cond != nil:
+			f.cond = ig.cache[0].cond.clone()
+		case len(ig.cache) > 0:
 			f.fac = ig.cache[0].fac.Clone()
+		default:
+			if lay, ok := ig.sys.(gridLayout); ok {
+				net, unk, off, cells := lay.layout()
+				f.cond = newCondensed(sys, net, unk, off, cells)
+			} else {
+				f.fac = nodesys.NewFactor[float64](nil)
+			}
 		}
 		ig.cache = append(ig.cache, f)
 	} else {
@@ -270,12 +279,37 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 		}
 	}
 	ig.facts++
-	if err := f.fac.Factorize(f.mat); err != nil {
+	var err error
+	if f.cond != nil {
+		err = f.cond.factor(val)
+	} else {
+		err = f.fac.Factorize(f.mat)
+	}
+	if err != nil {
 		f.h = math.NaN()
 		return nil, err
 	}
 	return f, nil
 }
+
+// SolveTo solves (M + (γh/2)K) dst = b with the factorisation. dst must
+// not alias b.
+func (f *stepFactor) SolveTo(dst, b []float64) {
+	if f.cond != nil {
+		f.cond.solve(f.mat.Values(), dst, b)
+		return
+	}
+	f.fac.SolveTo(dst, b)
+}
+
+// gridLayout is implemented by the grid systems whose unknowns are the
+// balance nodes followed by each edge's interior, for condensation.
+type gridLayout interface {
+	layout() (net *Network, unk, off, cells []int)
+}
+
+func (s *fvSystem) layout() (*Network, []int, []int, []int)  { return s.net, s.unk, s.off, s.cells }
+func (s *fwdSystem) layout() (*Network, []int, []int, []int) { return s.net, s.unk, s.off, s.cells }
 
 // residual sets dst = −K u + r(t).
 func (ig *trbdf2) residual(dst, u []float64, t float64) {
@@ -307,7 +341,7 @@ func (ig *trbdf2) step(u, ug, u1, est []float64, t, h float64) error {
 	for i := range ig.rhs {
 		ig.rhs[i] = M[i]*u[i] + d*(ig.g0[i]+ig.rn[i])
 	}
-	f.fac.SolveTo(ug, ig.rhs)
+	f.SolveTo(ug, ig.rhs)
 	ig.residual(ig.gg, ug, t+g*h)
 	// BDF2 stage: (M + dK) u_{n+1} = [M u_γ − (1−γ)² M u_n]/(γ(2−γ)) + d r_{n+1}
 	sys.load(ig.rn, t+h)
@@ -316,7 +350,7 @@ func (ig *trbdf2) step(u, ug, u1, est []float64, t, h float64) error {
 	for i := range ig.rhs {
 		ig.rhs[i] = c*M[i]*(ug[i]-q*u[i]) + d*ig.rn[i]
 	}
-	f.fac.SolveTo(u1, ig.rhs)
+	f.SolveTo(u1, ig.rhs)
 	ig.residual(ig.g1, u1, t+h)
 	// Error: 2k h f[0,γ,1], k = (−3γ² + 4γ − 2)/(12(2 − γ)), filtered by
 	// (M + dK)⁻¹ M (in terms of g = M f, the M cancels).
@@ -324,7 +358,7 @@ func (ig *trbdf2) step(u, ug, u1, est []float64, t, h float64) error {
 	for i := range ig.rhs {
 		ig.rhs[i] = 2 * k * h * (ig.g0[i]/g - ig.gg[i]/(g*(1-g)) + ig.g1[i]/(1-g))
 	}
-	f.fac.SolveTo(est, ig.rhs)
+	f.SolveTo(est, ig.rhs)
 	return nil
 }
 
