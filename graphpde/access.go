@@ -65,3 +65,18 @@ func (n *Network) WalkEdge(e int) (id string, from, to int, length float64, alph
 func (n *Network) EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64) {
 	return n.Edges[e].Coeffs(x)
 }
+
+// ConstantStretch returns the length from the given end (0 = From, 1 = To)
+// of edge e over which its coefficients are constant: the edge's length for
+// a constant edge, Profile.Stretch for a piecewise constant profile, else 0.
+// (It makes *Network a montecarlo.StretchNetwork.)
+func (n *Network) ConstantStretch(e, side int) float64 {
+	ed := &n.Edges[e]
+	if ed.Law == nil && ed.Constant() {
+		return ed.Length
+	}
+	if ed.Law == nil && ed.Profile != nil {
+		return ed.Profile.Stretch[side]
+	}
+	return 0
+}

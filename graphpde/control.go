@@ -447,9 +447,10 @@ func (net *Network) Apply(p *Policy) (out *Network, note string, err error) {
 		}
 		ed.A, ed.B, ed.C, ed.F = a0, cs[ks[0]].B, cs[ks[0]].C, cs[ks[0]].F
 		pr := &Profile{
-			B: func(x float64) float64 { return at(x).B },
-			C: func(x float64) float64 { return at(x).C },
-			F: func(x float64) float64 { return at(x).F },
+			Stretch: [2]float64{ps[0].To - ps[0].From, ps[len(ps)-1].To - ps[len(ps)-1].From},
+			B:       func(x float64) float64 { return at(x).B },
+			C:       func(x float64) float64 { return at(x).C },
+			F:       func(x float64) float64 { return at(x).F },
 		}
 		if varyA {
 			pr.A = func(x float64) float64 { return at(x).A }

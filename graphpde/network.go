@@ -39,6 +39,10 @@ type Profile struct {
 	// reader fills them, a writer writes them back); "" for a function that
 	// was not compiled from an expression.
 	SrcA, SrcB, SrcC, SrcF, SrcRho string
+	// Stretch, when set, gives the lengths from the From and To ends over
+	// which the profile is constant (a piecewise constant profile such as
+	// a policy's, Network.Apply); 0 means it may vary at once.
+	Stretch [2]float64
 }
 
 // Edge is a thin conductor of length Length between two nodes, carrying

@@ -23,6 +23,19 @@ type Network interface {
 	EdgeCoeffs(e int, x float64) (a, b, c, f, rho float64)
 }
 
+// StretchNetwork is implemented by networks that can say how far from each
+// end of an edge its coefficients stay constant (an edge whose control
+// switches inside it: constant pieces). Where the stretch reaches beyond a
+// node's star, the visit uses the coefficients of that stretch exactly
+// instead of freezing varying ones on a shrunk star (Result.Frozen).
+type StretchNetwork interface {
+	Network
+	// ConstantStretch returns the length from the given end (0 = From,
+	// 1 = To) of edge e over which its coefficients are constant (the
+	// edge's length for a constant edge, 0 when they vary at once).
+	ConstantStretch(e, side int) float64
+}
+
 // Recorder receives progress reports: done walkers out of total. Run calls it
 // from one goroutine at a time, after each completed block.
 type Recorder interface {
@@ -194,7 +207,13 @@ type Result struct {
 	// with the weights; elsewhere they lean towards the arms that decay
 	// less, or carry the error of freezing coefficients at the node.
 	SplitExact []bool
-	Samples    []Sample // with KeepSamples: per walker, in walker order
+	// Frozen[v] reports that visits to node v freeze coefficients that
+	// vary within its star (an arm whose coefficients change near the
+	// node): those visits are approximate, with a bias that shrinks with
+	// Settings.StarFraction. False where every arm is constant over the
+	// star (StretchNetwork), which keeps the visit exact in law.
+	Frozen  []bool
+	Samples []Sample // with KeepSamples: per walker, in walker order
 	// MaxWeight is the largest growth weight a walker reached (1 without
 	// Settings.Growth or negative decay): weights far above 1 make the
 	// value's variance large.

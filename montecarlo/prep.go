@@ -84,10 +84,12 @@ type nodeInfo struct {
 	// splitExact: departures follow w_e/Σw exactly (every arm walked on
 	// intervals, all decaying at one rate).
 	splitExact bool
-	value      float64 // fixed value
-	arms       []arm
-	depOff     int // offset of the node's ends in the departure counts
-	r          float64
+	// frozen: visits freeze coefficients that vary within the star.
+	frozen bool
+	value  float64 // fixed value
+	arms   []arm
+	depOff int // offset of the node's ends in the departure counts
+	r      float64
 	// modeLaw
 	dscale float64 // r²/2: the visit lasts dscale·τ₁
 	kill   float64 // common killing rate c/ρ on the arms
@@ -337,8 +339,14 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		switch {
 		case !ed.exact:
 			allExact = false
-			varying = varying || !ed.constant
 			ac.max = ed.hz * s
+			if !ed.constant {
+				// Varying coefficients: exact if they are constant over
+				// the star's reach on this arm (at most hz), else frozen.
+				if sn, ok := m.net.(StretchNetwork); !ok || sn.ConstantStretch(end.Edge, end.Side) < ed.hz {
+					varying = true
+				}
+			}
 		case self:
 			ac.max = ed.L * s / 2
 		default:
@@ -450,6 +458,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		if !sameKill || varying {
 			r *= set.StarFraction
 		}
+		nd.frozen = varying
 		nd.r = r
 		sc := law.StarScales(w, r)
 		sw := sc.W

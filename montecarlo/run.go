@@ -298,7 +298,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	var part *Part
 	if s.Shard.Count > 0 {
 		part = &Part{Shard: s.Shard, Blocks: nblocks, Particles: s.Particles, Seed: s.Seed, TimeCap: m.timeCap,
-			Quantiles: slices.Clone(s.Quantiles), Exact: m.exact, Fixed: l.fixed, SplitExact: l.splitExact,
+			Quantiles: slices.Clone(s.Quantiles), Exact: m.exact, Fixed: l.fixed, SplitExact: l.splitExact, Frozen: l.frozen,
 			Arms: l.arms, DepOff: l.depOff}
 	}
 	pending := make(map[int]*blockAcc)

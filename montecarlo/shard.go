@@ -51,8 +51,10 @@ type Part struct {
 	// SplitExact as in Result; node v's departure counts are
 	// Departures[DepOff[v] : DepOff[v]+Arms[v]].
 	Fixed, SplitExact []bool
-	Arms, DepOff      []int
-	Sums              []Block // this part's blocks, in order
+	// Frozen as in Result (nil in parts written before it existed).
+	Frozen       []bool
+	Arms, DepOff []int
+	Sums         []Block // this part's blocks, in order
 }
 
 // blockRange returns the blocks [lo, hi) of shard sh of a run of nblocks.
@@ -170,7 +172,7 @@ func Merge(parts []*Part) (*Result, error) {
 			}
 		}
 	}
-	l := layout{fixed: p0.Fixed, splitExact: p0.SplitExact, arms: p0.Arms, depOff: p0.DepOff, exact: p0.Exact, timeCap: p0.TimeCap}
+	l := layout{fixed: p0.Fixed, splitExact: p0.SplitExact, frozen: p0.Frozen, arms: p0.Arms, depOff: p0.DepOff, exact: p0.Exact, timeCap: p0.TimeCap}
 	res := f.result(&l, p0.Particles, p0.Seed)
 	if f.folded < p0.Blocks {
 		res.Status = Cancelled
@@ -197,7 +199,7 @@ func sameRun(a, b *Part) string {
 		return fmt.Sprintf("time caps %g and %g", a.TimeCap, b.TimeCap)
 	case !slices.Equal(a.Quantiles, b.Quantiles):
 		return fmt.Sprintf("quantiles %v and %v", a.Quantiles, b.Quantiles)
-	case a.Exact != b.Exact || !slices.Equal(a.Fixed, b.Fixed) || !slices.Equal(a.SplitExact, b.SplitExact) ||
+	case a.Exact != b.Exact || !slices.Equal(a.Fixed, b.Fixed) || !slices.Equal(a.SplitExact, b.SplitExact) || !slices.Equal(a.Frozen, b.Frozen) ||
 		!slices.Equal(a.Arms, b.Arms) || !slices.Equal(a.DepOff, b.DepOff):
 		return "different networks"
 	}
@@ -207,6 +209,7 @@ func sameRun(a, b *Part) string {
 // layout is what a result needs to know of the model besides the sums.
 type layout struct {
 	fixed, splitExact []bool
+	frozen            []bool
 	arms, depOff      []int
 	exact             bool
 	timeCap           float64
@@ -217,6 +220,7 @@ func (m *model) layout() layout {
 	for _, nd := range m.nodes {
 		l.fixed = append(l.fixed, nd.mode == modeFixed)
 		l.splitExact = append(l.splitExact, nd.splitExact)
+		l.frozen = append(l.frozen, nd.frozen)
 		l.arms = append(l.arms, len(nd.arms))
 		l.depOff = append(l.depOff, nd.depOff)
 	}
@@ -284,8 +288,10 @@ func (f *folder) result(l *layout, N int64, seed uint64) *Result {
 	res.Visits = make([]Estimate, nn)
 	res.Departures = make([][]int64, nn)
 	res.SplitExact = make([]bool, nn)
+	res.Frozen = make([]bool, nn)
 	for v := range nn {
 		res.SplitExact[v] = l.splitExact[v]
+		res.Frozen[v] = v < len(l.frozen) && l.frozen[v]
 		if l.fixed[v] {
 			res.Hit[v] = proportion(f.hits[v], done)
 		}

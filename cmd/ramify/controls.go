@@ -177,3 +177,55 @@ func printControl(w io.Writer, net *graphpde.Network, res *graphpde.ControlResul
 	}
 	fmt.Fprintln(w, "(control indices count from 0 in the order of each controls list)")
 }
+
+// followPolicy returns the linear network that walkers follow on a
+// controlled network: the policy read from policyFile, or else the optimal
+// one computed by policy iteration (then also its result), with notes that
+// say which.
+func followPolicy(ctx context.Context, net *graphpde.Network, policyFile string) (*graphpde.Network, *graphpde.ControlResult, []string, error) {
+	var notes []string
+	var pol *graphpde.Policy
+	var res *graphpde.ControlResult
+	if policyFile != "" {
+		p, err := readPolicy(policyFile, net)
+		if err != nil {
+			return nil, nil, nil, err
+		}
+		pol = p
+		notes = append(notes, "walkers follow the policy of "+policyFile)
+	} else {
+		r, err := solveControlled(ctx, net, graphpde.MethodAuto, 0, 0)
+		if err != nil {
+			return nil, nil, nil, err
+		}
+		if r.Status != graphpde.Converged {
+			return nil, nil, nil, fmt.Errorf("policy iteration did not converge (%v): %s", r.Status, strings.Join(r.Notes, "; "))
+		}
+		res, pol = r, r.Policy
+		notes = append(notes, fmt.Sprintf("walkers follow the optimal policy found by policy iteration (%s; --policy FILE.json follows another)", plural(r.Iterations, "evaluation")))
+	}
+	pn, note, err := net.Apply(pol)
+	if err != nil {
+		return nil, nil, nil, err
+	}
+	if note != "" {
+		notes = append(notes, note)
+	}
+	return pn, res, notes, nil
+}
+
+// frozenNotes names the nodes whose visits froze coefficients that vary
+// within their star (a policy switching next to them): those visits are
+// approximate.
+func frozenNotes(net *graphpde.Network, frozen []bool) []string {
+	var ids []string
+	for v, f := range frozen {
+		if f {
+			ids = append(ids, net.Nodes[v].ID)
+		}
+	}
+	if len(ids) == 0 {
+		return nil
+	}
+	return []string{fmt.Sprintf("visits to %s freeze coefficients that change within the node's star (the policy switches next to it): approximate, with a bias that shrinks with --star-fraction; every other node visit is exact in law", strings.Join(ids, ", "))}
+}

@@ -34,6 +34,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	method := fs.String("method", "auto", "PDE edge elements: exact, grid, or auto")
 	probes := fs.StringArray("probe", nil, "nonlinear files: also compare the field with walkers started at POINT; repeatable")
 	growth := fs.Bool("growth", true, "nonlinear files: where the law grows with u, walkers carry growth weights (false: that part becomes a source on the computed field)")
+	challengers := fs.Int("challengers", 4, "controlled networks: random perturbations of the optimal policy that must do no better (besides the best constant policy)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -64,8 +65,11 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
-	if err := controlRefusal(net, file, "crosscheck"); err != nil {
-		return fail(stderr, "crosscheck", err)
+	if graphpde.Controlled(net) {
+		if len(*probes) > 0 || *fit || *occ || *plot != "" || *draw != "" {
+			return badFlag(stderr, "crosscheck", fmt.Errorf("--probe, --fit-weights, --occupation, --plot and --draw do not apply to a controlled network (%s)", file))
+		}
+		return crosscheckControl(ctx, net, file, *wf.from, set, *level, *challengers, *asJSON, stdout, stderr)
 	}
 	if graphpde.HasLaws(net) {
 		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *asJSON, stdout, stderr)

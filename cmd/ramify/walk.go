@@ -82,6 +82,7 @@ func (f *walkFlags) settings(stderr io.Writer) (*montecarlo.Settings, error) {
 func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	fs := newFlags("walk", "walk [flags] FILE --from POINT", walkExamples, stderr)
 	wf := addWalkFlags(fs)
+	policyFile := fs.String("policy", "", "controlled networks: follow the policy in this JSON file (the shape of solve's \"policy\"; default: the optimal policy)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	shardFlag := fs.String("shard", "", "run only part I of N of the walkers (I/N, I from 1) and print the part, with --json, for 'ramify merge'")
 	file, code, ok := parseFlags(fs, args, stderr, true)
@@ -112,8 +113,13 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
-	if err := controlRefusal(net, file, "walk"); err != nil {
-		return fail(stderr, "walk", err)
+	var ctlNotes []string
+	if graphpde.Controlled(net) {
+		if net, _, ctlNotes, err = followPolicy(ctx, net, *policyFile); err != nil {
+			return fail(stderr, "walk", err)
+		}
+	} else if *policyFile != "" {
+		return badFlag(stderr, "walk", fmt.Errorf("--policy: %s has no controls", file))
 	}
 	if err := nonlinearRefusal(net, file, "walkers have no law of their own there (their rules would depend on the unknown field)"); err != nil {
 		return fail(stderr, "walk", err)
@@ -122,7 +128,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return fail(stderr, "walk", err)
 	}
-	var notes []string
+	notes := ctlNotes
 	if set.TimeCap == 0 {
 		x, xerr := interruptible(ctx, func() (*graphpde.ExitStats, error) {
 			return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Quantiles: []float64{}, Context: ctx})
@@ -154,6 +160,9 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	}
 	if res.Status == montecarlo.Cancelled {
 		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
+	}
+	if ctlNotes != nil {
+		notes = append(notes, frozenNotes(net, res.Frozen)...)
 	}
 	if *asJSON {
 		out := walkJSON(viewOf(net), *wf.from, res, notes)
