@@ -12,7 +12,7 @@ import (
 
 // pushRight: maximise the probability of reaching the right end of a unit
 // track with drift −2 or +2 and a = 1. Pushing right everywhere is optimal
-// and P(x) = (1 − e^{−2x})/(1 − e^{−2}) (scale function of u'' + 2u';
+// and P(x) = (1 − e^{−2x})/(1 − e^{−2}) (scale function of u” + 2u';
 // Karlin & Taylor, A Second Course in Stochastic Processes, 1981, §15.3);
 // pushing left gives (e^{2x} − 1)/(e² − 1).
 const pushRight = `[network]
