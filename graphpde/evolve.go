@@ -218,10 +218,11 @@ type trbdf2 struct {
 	rhs, tm []float64
 	rn      []float64 // r(t) scratch
 	// laws of u (nl nil: linear)
-	nl    *nlFV
-	jac   []float64
-	nlMat *nodesys.Matrix[float64]
-	nlFac *nodesys.Factor[float64]
+	nl     *nlFV
+	jac    []float64
+	nlMat  *nodesys.Matrix[float64]
+	nlFac  *nodesys.Factor[float64]
+	nlCond *condensed
 }
 
 const keepFactors = 4

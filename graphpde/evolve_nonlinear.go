@@ -252,10 +252,11 @@ func (ig *trbdf2) stageNewton(y, rhs []float64, t, d float64, wt func(i int) flo
 			ig.rn[i] = rhs[i] - (rs.M[i]*y[i] - d*ig.tm[i])
 		}
 		ig.facts++
-		if err := ig.nlFac.Factorize(ig.nlMat); err != nil {
+		if err := ig.nlFactor(); err != nil {
 			return false, err
 		}
-		ig.nlFac.SolveTo(ig.rn, ig.rn)
+		copy(ig.g1, ig.rn) // (g1 is free until the stage is done)
+		ig.nlSolve(ig.rn, ig.g1)
 		norm := 0.0
 		for i := range y {
 			y[i] += ig.rn[i]
@@ -305,7 +306,7 @@ func (ig *trbdf2) stepNL(u, ug, u1, est []float64, t, h float64, wt func(i int) 
 	for i := range ig.rhs {
 		ig.rhs[i] = 2 * k * h * (ig.g0[i]/g - ig.gg[i]/(g*(1-g)) + ig.g1[i]/(1-g))
 	}
-	ig.nlFac.SolveTo(est, ig.rhs)
+	ig.nlSolve(est, ig.rhs)
 	return true, nil
 }
 
@@ -318,6 +319,26 @@ func (ig *trbdf2) setupNL(nl *nlFV) {
 	ig.jac = make([]float64, len(nl.ci))
 	ig.nlMat = nodesys.NewMatrixPattern[float64](nl.n, nl.rp, nl.ci)
 	ig.nlFac = nodesys.NewFactor[float64](nil)
+	net, unk, off, cells := nl.layout()
+	ig.nlCond = newCondensed(&nl.odeRows, net, unk, off, cells)
+}
+
+// nlFactor factors the Newton matrix in ig.nlMat's values (condensed onto
+// the nodes like the linear steps).
+func (ig *trbdf2) nlFactor() error {
+	if ig.nlCond != nil {
+		return ig.nlCond.factor(ig.nlMat.Values())
+	}
+	return ig.nlFac.Factorize(ig.nlMat)
+}
+
+// nlSolve solves with the Newton matrix; dst must not alias b.
+func (ig *trbdf2) nlSolve(dst, b []float64) {
+	if ig.nlCond != nil {
+		ig.nlCond.solve(ig.nlMat.Values(), dst, b)
+		return
+	}
+	ig.nlFac.SolveTo(dst, b)
 }
 
 // steadyNL solves g(u, t) = 0 by Newton from u (overwritten), for the
@@ -333,10 +354,10 @@ func (ig *trbdf2) steadyNL(u []float64, t float64) error {
 				val[p] = -ig.jac[p]
 			}
 		}
-		if err := ig.nlFac.Factorize(ig.nlMat); err != nil {
+		if err := ig.nlFactor(); err != nil {
 			return err
 		}
-		ig.nlFac.SolveTo(ig.rn, ig.tm)
+		ig.nlSolve(ig.rn, ig.tm)
 		big, size := 0.0, 1.0
 		for i := range u {
 			u[i] += ig.rn[i]
