@@ -2,6 +2,7 @@ package main
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"os"
 	"os/exec"
@@ -86,6 +87,9 @@ diffusivity = 1
 			}
 			if !strings.Contains(strings.ToLower(out.String()), "partial") || !strings.Contains(errb.String(), "interrupted") {
 				t.Errorf("no partial result:\nstdout %s\nstderr %s", out.String(), errb.String())
+			}
+			if c.args[len(c.args)-1] == "--json" && !json.Valid(out.Bytes()) {
+				t.Errorf("the partial result is not valid JSON:\n%s", out.String())
 			}
 		})
 	}
