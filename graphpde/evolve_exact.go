@@ -59,7 +59,7 @@ func newLaplaceNet(net *Network) (*laplaceNet, error) {
 	}
 	for e := range net.Edges {
 		ed := &net.Edges[e]
-		if !ed.Constant() || (ed.Law != nil && (ed.Law.A != nil || ed.Law.B != nil || ed.Law.C != nil || ed.Law.F != nil || ed.Law.Rho != nil)) {
+		if !ed.Constant() || (ed.Law != nil && (varies(ed.Law.A) || varies(ed.Law.B) || varies(ed.Law.C) || varies(ed.Law.F) || varies(ed.Law.Rho))) {
 			return nil, &ModelError{Object: "edge", ID: ed.ID, Reason: "has coefficients or a source that vary in x or t: method exact needs constant ones (use grid)"}
 		}
 		switch {

@@ -71,7 +71,7 @@ func checkNonlinearTransient(net *Network) error {
 			return bad("drift", "depends on u")
 		case l.Rho != nil && l.Rho.UsesU:
 			return bad("capacity", "depends on u")
-		case l.A != nil && l.A.UsesU && (ed.B != 0 || l.B != nil || (ed.Profile != nil && ed.Profile.B != nil)):
+		case l.A != nil && l.A.UsesU && (ed.B != 0 || varies(l.B) || (ed.Profile != nil && ed.Profile.B != nil)):
 			return bad("diffusivity", "depends on u on an edge with drift")
 		case l.A != nil && l.A.UsesU && (ed.Weight[0] != 0 || ed.Weight[1] != 0):
 			return bad("weights", "are given on an edge whose diffusivity depends on u")

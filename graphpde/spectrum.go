@@ -182,13 +182,17 @@ func spectrumCheck(net *Network) error {
 	return nil
 }
 
+// varies reports whether a law depends on x, u or t (one that reads only
+// parameters is a constant whose value the plain field holds).
+func varies(c *Coef) bool { return c != nil && (c.UsesX || c.UsesU || c.UsesT) }
+
 // spectrumExactOK reports whether every edge is drift-free with constant
 // coefficients and equal end weights, and if not, why.
 func spectrumExactOK(net *Network) (bool, string) {
 	for i := range net.Edges {
 		ed := &net.Edges[i]
 		switch {
-		case !ed.Constant() || (ed.Law != nil && (ed.Law.A != nil || ed.Law.B != nil || ed.Law.C != nil || ed.Law.Rho != nil)):
+		case !ed.Constant() || (ed.Law != nil && (varies(ed.Law.A) || varies(ed.Law.B) || varies(ed.Law.C) || varies(ed.Law.Rho))):
 			return false, fmt.Sprintf("edge %q has coefficients that vary along it", ed.ID)
 		case ed.B != 0:
 			return false, fmt.Sprintf("edge %q has drift", ed.ID)

@@ -31,7 +31,7 @@ import (
 func gridSelfAdjoint(net *Network) bool {
 	for e := range net.Edges {
 		ed := &net.Edges[e]
-		if ed.B != 0 || (ed.Profile != nil && ed.Profile.B != nil) || (ed.Law != nil && ed.Law.B != nil) {
+		if ed.B != 0 || (ed.Profile != nil && ed.Profile.B != nil) || (ed.Law != nil && varies(ed.Law.B)) {
 			return false
 		}
 		if net.Nodes[ed.From].Law.Kind == vertex.Fixed || net.Nodes[ed.To].Law.Kind == vertex.Fixed {
