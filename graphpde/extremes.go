@@ -73,8 +73,12 @@ func (s *Solution) Extremes(e int) Extreme {
 		return x // no other element kinds yet
 	}
 	x.Exact = true
-	_, d0 := s.eval(e, 0)
-	_, dL := s.eval(e, L)
+	// The end slopes from the end fluxes J = −a u' (no element evaluation).
+	d0, dL := -s.Flux[e][0]/el.a, -s.Flux[e][1]/el.a
+	if math.IsNaN(d0) || math.IsNaN(dL) {
+		_, d0 = s.eval(e, 0)
+		_, dL = s.eval(e, L)
+	}
 	// A slope that is round-off against the other end's (a sealed end,
 	// u' = 0 there) counts as zero: the extremum is then at that end.
 	const flatEnd = 1e-10
@@ -97,10 +101,17 @@ func (s *Solution) Extremes(e int) Extreme {
 		}
 		d2 := (-el.b*du + el.c*u - el.f) / el.a
 		next := xm - du/d2
-		if !(d2 != 0 && next > lo && next < hi) {
+		newton := d2 != 0 && next > lo && next < hi
+		if !newton {
 			next = 0.5 * (lo + hi)
 		}
-		if hi-lo <= 4*math.Nextafter(L, math.Inf(1))-4*L || next == xm {
+		// Stop when the bracket or an accepted Newton step is down to a few
+		// ulps of L (Newton converges quadratically near the simple root).
+		tiny := 4 * (math.Nextafter(L, math.Inf(1)) - L)
+		if hi-lo <= tiny || next == xm || (newton && math.Abs(next-xm) <= tiny) {
+			if newton {
+				xm = next
+			}
 			break
 		}
 		xm = next
