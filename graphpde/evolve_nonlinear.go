@@ -23,7 +23,8 @@ type nlFV struct {
 	uLaw bool // some law depends on u
 }
 
-// needsNewton reports whether some law of net depends on u.
+// needsNewton reports whether some law of net depends on u, or a
+// diffusivity, drift or decay on t.
 func needsNewton(net *Network) bool {
 	for v := range net.Nodes {
 		if net.Nodes[v].Nonlinear != nil {
@@ -34,6 +35,14 @@ func needsNewton(net *Network) bool {
 		if l := net.Edges[e].Law; l != nil {
 			for _, c := range []*Coef{l.A, l.B, l.C, l.F, l.Rho} {
 				if c != nil && c.UsesU {
+					return true
+				}
+			}
+			// coefficients of t (other than the source, which the
+			// linear steps take in their load) are evaluated at each
+			// stage by the same path
+			for _, c := range []*Coef{l.A, l.B, l.C} {
+				if c != nil && c.UsesT {
 					return true
 				}
 			}
@@ -69,8 +78,8 @@ func checkNonlinearTransient(net *Network) error {
 			return bad("equation", "is a fully nonlinear equation")
 		case l.B != nil && l.B.UsesU:
 			return bad("drift", "depends on u")
-		case l.Rho != nil && l.Rho.UsesU:
-			return bad("capacity", "depends on u")
+		case l.Rho != nil && (l.Rho.UsesU || l.Rho.UsesT):
+			return bad("capacity", "depends on u or t")
 		case l.A != nil && l.A.UsesU && (ed.B != 0 || varies(l.B) || (ed.Profile != nil && ed.Profile.B != nil)):
 			return bad("diffusivity", "depends on u on an edge with drift")
 		case l.A != nil && l.A.UsesU && (ed.Weight[0] != 0 || ed.Weight[1] != 0):

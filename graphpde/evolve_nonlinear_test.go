@@ -85,3 +85,22 @@ func TestEvolveNodeLoss(t *testing.T) {
 	}
 	t.Logf("centre %.10f (want %.10f), half way at t = %.4f; %d steps", r.Probes[0][len(r.Times)-1], want, r.Crossing[0], r.Stats.Steps)
 }
+
+// TestEvolveDecayOfTime: a sealed rod starting at 1 everywhere with decay
+// c(t) = t stays uniform and decays as u = e^{−t²/2} (derived): at t = 2,
+// e^{−2}, to the stepping's tolerance.
+func TestEvolveDecayOfTime(t *testing.T) {
+	b := newNetBuilder(t)
+	x, y := b.balance("a"), b.balance("b")
+	one := 1.0
+	b.net.Nodes[x].Initial, b.net.Nodes[y].Initial = &one, &one
+	b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, Law: &EdgeLaw{C: &Coef{
+		Fn: func(_, _, t float64) (float64, float64) { return t, 0 }, UsesT: true, Src: "t"}}})
+	r, err := Evolve(b.net, &EvolveSettings{Until: 2, Probes: []Point{{Node: -1, Edge: 0, X: 0.3}}, Tol: 1e-6, Cells: 10})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, want := r.Probes[0][len(r.Times)-1], math.Exp(-2); math.Abs(got-want) > 2e-6 {
+		t.Errorf("u(2) = %.9f, want %.9f", got, want)
+	}
+}
