@@ -4,7 +4,9 @@ import (
 	"context"
 	"fmt"
 	"io"
+	"math"
 	"runtime"
+	"time"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
@@ -76,5 +78,57 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err == nil {
 		fmt.Fprintf(w, "  (PDE check of the same star: P(end1) = %.6f, closed form 30/43 = %.6f)\n", sol.U[c], 30.0/43)
 	}
+	if err := benchTime(w, *size); err != nil {
+		return fail(stderr, "bench", err)
+	}
 	return 0
+}
+
+// benchTime measures time steps and the spectrum against a steady solve of
+// the same network in the same run.
+func benchTime(w io.Writer, size string) error {
+	edges, cells, steps, spEdges := 1000, 100, 20, 1000
+	if size == "large" {
+		edges, spEdges = 10000, 10000
+	}
+	net := gen.RandomTree(edges, 1, cells)
+	// best of 3 alternating runs, so that a burst of load from another
+	// process does not decide the ratio
+	steady, per := math.Inf(1), math.Inf(1)
+	unknowns := 0
+	h := 1e-3
+	for range 3 {
+		t0 := time.Now()
+		if _, err := graphpde.Solve(net, &graphpde.Settings{Method: graphpde.MethodGrid}); err != nil {
+			return err
+		}
+		steady = math.Min(steady, time.Since(t0).Seconds())
+		one, err := graphpde.Evolve(net, &graphpde.EvolveSettings{Until: h, Step: h})
+		if err != nil {
+			return err
+		}
+		run, err := graphpde.Evolve(net, &graphpde.EvolveSettings{Until: float64(steps+1) * h, Step: h})
+		if err != nil {
+			return err
+		}
+		per = math.Min(per, (run.Stats.Time-one.Stats.Time).Seconds()/float64(steps))
+		unknowns = run.Stats.Unknowns
+	}
+	fmt.Fprintf(w, "\nevolve, random tree %d edges × %d cells (%d unknowns), fixed TR-BDF2 steps (best of 3):\n", edges, cells, unknowns)
+	fmt.Fprintf(w, "  one step %.3g s = %.2f steady grid solves (%.3g s); 1000 steps = %.0f steady solves (target ≤ 20, not met: see DEVELOPERS.md)\n",
+		per, per/steady, steady, 1000*per/steady)
+	sp := gen.RandomTree(spEdges, 1, 0)
+	t0 := time.Now()
+	if _, err := graphpde.Solve(sp, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
+		return err
+	}
+	exactSteady := time.Since(t0)
+	r, err := graphpde.Spectrum(sp, &graphpde.SpectrumSettings{Count: 20, Method: graphpde.MethodExact})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "spectrum, 20 smallest eigenvalues of a random tree of %d exact edges:\n", spEdges)
+	fmt.Fprintf(w, "  %d factorisations, %.3g s = %.0f steady exact solves (target ≤ 50, not met: see DEVELOPERS.md)\n",
+		r.Stats.Factorizations, r.Stats.Time.Seconds(), r.Stats.Time.Seconds()/exactSteady.Seconds())
+	return nil
 }
