@@ -164,6 +164,16 @@ type Stats struct {
 	// and any decay rates on the arms; see the package documentation), so
 	// the exit-time distribution is exact too.
 	Exact bool
+	// Prepare is the time spent checking the network and setting up the
+	// step rules before the first walker (visit-law tables apart).
+	Prepare time.Duration
+	// Tables is the number of visit-law tables the walkers needed, and
+	// TableTime the time spent looking them up or building them, summed
+	// over workers. Tables are built on a node's first visit (a few
+	// milliseconds each; shared between nodes and runs with equal
+	// parameters), so nodes no walker reaches cost nothing.
+	Tables    int
+	TableTime time.Duration
 }
 
 // Result holds the estimates of a run. Means over "walkers" are over the

@@ -73,7 +73,7 @@ type arm struct {
 	// modeStarArms: cumulative fate probabilities up to the rim exit and
 	// the killing on this arm, and the tables of their final pieces.
 	cx, ck           float64
-	exitTab, killTab *starlaw.Table
+	exitTab, killTab *lazyTable
 }
 
 type nodeInfo struct {
@@ -100,7 +100,7 @@ type nodeInfo struct {
 	// (killP, reward, hold).
 	killP, reward, hold float64
 	pMove               float64
-	tab                 *starlaw.Table
+	tab                 *lazyTable
 }
 
 type model struct {
@@ -112,6 +112,7 @@ type model struct {
 	rc      float64 // the RC time C·R of DefaultTimeCap
 	exact   bool
 	fin     *starlaw.Table // T_f table when a node is in modeStar
+	tables  tableStats     // visit-law tables looked up lazily
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -419,7 +420,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		nd.dscale = r * r / 2
 		nd.kill = co[0].c / co[0].rho
 		nd.hold = sc.Hold
-		nd.tab = starlaw.VisitTable(mu, sc.Eta)
+		nd.tab = m.lazy(func() *starlaw.Table { return starlaw.VisitTable(mu, sc.Eta) })
 		// The value estimator of the exact-in-mean rule at the full
 		// radius: the mean reward per visit.
 		if plain {
@@ -481,7 +482,8 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			return g[k]
 		}
 		nd.dscale = r * r / 2
-		nd.tab = starlaw.MixtureDriftTable(sc.Kappa, sc.Eta, p, q, g)
+		kappa, eta := sc.Kappa, sc.Eta
+		nd.tab = m.lazy(func() *starlaw.Table { return starlaw.MixtureDriftTable(kappa, eta, p, q, g) })
 		pl, ex, ki := starlaw.RatesDrift(sc.Kappa, p, q, g, nil, nil)
 		nd.killP = pl
 		cum := pl
@@ -497,9 +499,11 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			cum += ki[k]
 			nd.arms[k].ck = cum
 			gk := gam(k)
-			nd.arms[k].exitTab = starlaw.ExitTable(q[k] + gk*gk/2)
+			qe := q[k] + gk*gk/2
+			nd.arms[k].exitTab = m.lazy(func() *starlaw.Table { return starlaw.ExitTable(qe) })
 			if q[k] > 0 {
-				nd.arms[k].killTab = starlaw.KillDriftTable(q[k], gk)
+				qk := q[k]
+				nd.arms[k].killTab = m.lazy(func() *starlaw.Table { return starlaw.KillDriftTable(qk, gk) })
 			}
 		}
 		nd.arms[n-1].ck = math.Inf(1)

@@ -172,6 +172,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	if err != nil {
 		return nil, err
 	}
+	prepTime := time.Since(t0)
 	N := s.Particles
 	// Without N + BlockSize − 1, which overflows for N near 2⁶³.
 	nblocks := int(N / BlockSize)
@@ -346,6 +347,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 		res.Quantiles = blockQuantiles(times[:min(done, int64(len(times)))], BlockSize, s.Quantiles)
 	}
 	res.Stats.Elapsed = time.Since(t0)
+	res.Stats.Prepare = prepTime
+	res.Stats.Tables = int(m.tables.n.Load())
+	res.Stats.TableTime = time.Duration(m.tables.nano.Load())
 	if done > 0 && f.exited == 0 {
 		return res, &CensoredError{Censored: f.censored, Finished: done, TimeCap: m.timeCap}
 	}

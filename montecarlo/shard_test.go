@@ -24,7 +24,7 @@ func TestShardMerge(t *testing.T) {
 	if whole.Censored == 0 {
 		t.Fatal("the test wants some censored walkers; lower the time cap")
 	}
-	whole.Stats.Elapsed = 0
+	whole.Stats = montecarlo.Stats{Steps: whole.Stats.Steps, Exact: whole.Stats.Exact} // the timings and table counts are the run's own
 	for _, count := range []int{1, 3, 6} {
 		for _, keep := range []bool{false, count == 3} {
 			var parts []*montecarlo.Part
@@ -96,5 +96,27 @@ func TestMergeRefuses(t *testing.T) {
 	var se *montecarlo.SettingsError
 	if _, err := montecarlo.Run(context.Background(), net, vertex.AtNode(1), &montecarlo.Settings{Particles: 10, Shard: montecarlo.Shard{Index: 4, Count: 3}}); !errors.As(err, &se) {
 		t.Errorf("shard 4 of 3: error %v, want a SettingsError", err)
+	}
+}
+
+// TestLazyTables checks that visit-law tables are built only for nodes that
+// walkers reach: two leaky nodes (each needing one visit table) on either
+// side of a fixed node; walkers from the first are absorbed at the fixed
+// node before they can reach the second, so the run needs one table.
+func TestLazyTables(t *testing.T) {
+	n := &tNet{}
+	a := n.node(vertex.Law{Kind: vertex.Balance, Leak: 0.4})
+	f := n.node(fixed(1))
+	b := n.node(vertex.Law{Kind: vertex.Balance, Leak: 0.7})
+	g := n.node(fixed(0))
+	n.edge(tEdge{from: a, to: f, L: 1, a: 1})
+	n.edge(tEdge{from: f, to: b, L: 1, a: 1})
+	n.edge(tEdge{from: b, to: g, L: 1.3, a: 1})
+	res := run(t, n, vertex.AtNode(a), montecarlo.Settings{Particles: 2000, Seed: 1})
+	if res.Stats.Tables != 1 {
+		t.Errorf("%d visit-law tables looked up, want 1 (node %d is never reached)", res.Stats.Tables, b)
+	}
+	if res.Visits[b].Mean != 0 {
+		t.Errorf("node %d visited", b)
 	}
 }
