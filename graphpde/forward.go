@@ -1,7 +1,11 @@
 package graphpde
 
 import (
+	"errors"
+	"fmt"
 	"math"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
 
 	"github.com/ramify-dev/ramify/vertex"
 )
@@ -223,4 +227,63 @@ func (s *fwdSystem) amount(u []float64) float64 {
 		t += s.M[i] * v
 	}
 	return t
+}
+
+// ForwardOccupation returns, per edge, the expected time that walkers (a
+// tracer) released at release spend on the edge before they are absorbed or
+// killed: ∫₀^∞ ∫_e ρ q dx dt for the forward problem (Evolve with
+// Forward). It is one steady solve: integrating M q̇ = −K q over all times
+// gives K q̄ = M q(0) for q̄ = ∫₀^∞ q dt. The half cells at the ends count
+// for their edge; time held at a node's own capacity counts for no edge.
+// It fails when some walkers are never absorbed or killed (a component
+// with no fixed node, decay or leak: the times are infinite).
+func ForwardOccupation(net *Network, release Point, cells int) ([]float64, error) {
+	if err := net.CheckPoint(release); err != nil {
+		return nil, err
+	}
+	if needsNewton(net) {
+		return nil, errors.New("forward occupation: laws of u are not supported")
+	}
+	if err := checkIsolated(net); err != nil {
+		return nil, err
+	}
+	s, err := newForward(net, cells, DefaultMaxGridUnknowns, &release)
+	if err != nil {
+		return nil, err
+	}
+	q0 := make([]float64, s.n)
+	s.initial(q0)
+	for i := range q0 {
+		q0[i] *= s.M[i]
+	}
+	if s.rp == nil {
+		s.compress()
+	}
+	m := nodesys.NewMatrixPattern[float64](s.n, s.rp, s.ci)
+	copy(m.Values(), s.cv)
+	f := nodesys.NewFactor[float64](nil)
+	if err := f.Factorize(m); err != nil {
+		return nil, fmt.Errorf("forward occupation: walkers that are never absorbed or killed: %w", err)
+	}
+	qbar := make([]float64, s.n)
+	f.SolveTo(qbar, q0)
+	occ := make([]float64, len(net.Edges))
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		n := s.cells[e]
+		h := ed.Length / float64(n)
+		for i := 0; i <= n; i++ {
+			row, fac := s.vertex(e, i)
+			if row < 0 {
+				continue
+			}
+			w := h
+			if i == 0 || i == n {
+				w = h / 2
+			}
+			_, _, _, _, rho := fvCoefs(ed, float64(i)*h, 0)
+			occ[e] += w * rho * fac * qbar[row]
+		}
+	}
+	return occ, nil
 }
