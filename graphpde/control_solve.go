@@ -4,6 +4,7 @@ import (
 	"context"
 	"fmt"
 	"math"
+	"slices"
 	"time"
 )
 
@@ -127,16 +128,28 @@ type ctlState struct {
 // ctlEdge is one controlled edge's controls (viscosity scale applied), its
 // cells and its control at each of the n+1 grid vertices (ends included).
 type ctlEdge struct {
-	cs  []EdgeControl
+	cs  []EdgeControl // the controls, then their average (index k)
+	k   int           // the number of controls
 	n   int
 	pol []int
+	// fr, fl, fp cache R^k, L^k and P_k of every control on this edge's
+	// cells (h is fixed): the improvement step evaluates every control at
+	// every vertex.
+	fr, fl, fp []float64
+}
+
+// cacheFaces fills fr, fl, fp for cells of width h.
+func (c *ctlEdge) cacheFaces(h float64) {
+	c.fr, c.fl, c.fp = make([]float64, len(c.cs)), make([]float64, len(c.cs)), make([]float64, len(c.cs))
+	for k, cc := range c.cs {
+		p := cc.B * h / cc.A
+		c.fr[k], c.fl[k], c.fp[k] = cc.A/h*sgB(-p), cc.A/h*sgB(p), p
+	}
 }
 
 // faces returns R^k, L^k and P_k of control k on cells of width h.
-func (c *ctlEdge) faces(k int, h float64) (r, l, p float64) {
-	a, b := c.cs[k].A, c.cs[k].B
-	p = b * h / a
-	return a / h * sgB(-p), a / h * sgB(p), p
+func (c *ctlEdge) faces(k int, _ float64) (r, l, p float64) {
+	return c.fr[k], c.fl[k], c.fp[k]
 }
 
 // row returns G_i^k at an interior vertex with neighbours um, up, and the
@@ -244,12 +257,13 @@ func SolveControl(net *Network, set *ControlSettings) (*ControlResult, error) {
 
 // ctlContinueBelow: a viscosity scale below it is reached by continuation
 // from ten times its value (the policy of the larger scale starts the
-// smaller one). Howard's iteration from an arbitrary policy needs many
-// steps when ε is small, because a poor policy's values are of size
-// e^{L|b|/ε} and each improvement corrects little; the optimal policies of
-// neighbouring scales differ only near their switches (observed: 13, 56
-// and over 100 evaluations at ε = 0.1, 0.01, 0.001 without, on the network
-// of TestVanishingViscosityShortestPath).
+// smaller one). Howard's iteration from a poor policy needs many steps
+// when ε is small, because that policy's values are of size e^{L|b|/ε}
+// and each improvement corrects little; the optimal policies of
+// neighbouring scales differ only near their switches. Observed on the
+// network of TestVanishingViscosityShortestPath: 6, 14 and 55 evaluations
+// at ε = 0.1, 0.01, 0.001 from the averaged start, 6, 15 and 17 with
+// continuation (counting every scale's evaluations).
 const ctlContinueBelow = 0.1
 
 // solveControl is SolveControl from the vertex and node controls of start
@@ -280,6 +294,7 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 	if cs.MaxIterations <= 0 {
 		cs.MaxIterations = 100
 	}
+	cs.MaxIterations = max(cs.MaxIterations, 2) // the first evaluation is of the averaged problem
 	if cs.Cells < 0 {
 		return nil, fmt.Errorf("cells = %d must be ≥ 0", cs.Cells)
 	}
@@ -313,14 +328,44 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 		if n == 0 {
 			n = DefaultControlCells
 		}
-		st.edges[e] = &ctlEdge{cs: ed.ControlSet(), n: n, pol: make([]int, n+1)}
+		cs := ed.ControlSet()
+		avg := EdgeControl{}
+		for _, c := range cs {
+			avg.A += c.A / float64(len(cs))
+			avg.B += c.B / float64(len(cs))
+			avg.C += c.C / float64(len(cs))
+			avg.F += c.F / float64(len(cs))
+		}
+		ce := &ctlEdge{cs: append(slices.Clip(cs), avg), k: len(cs), n: n, pol: make([]int, n+1)}
+		for i := range ce.pol {
+			ce.pol[i] = ce.k // the averaged problem starts the iteration
+		}
+		ce.cacheFaces(ed.Length / float64(n))
+		st.edges[e] = ce
 	}
 	nodePol := make([]int, len(cp.Nodes))
+	nodeCtl := make([][]NodeControl, len(cp.Nodes)) // the controls, then their average
 	for v := range cp.Nodes {
 		nodePol[v] = -1
-		if len(cp.Nodes[v].Controls) > 0 {
-			nodePol[v] = 0
+		cs := cp.Nodes[v].Controls
+		if len(cs) == 0 {
+			continue
 		}
+		avg := NodeControl{Weights: map[string]float64{}}
+		for _, end := range cp.Incident(v) {
+			id := cp.Edges[end.Edge].ID
+			w := 0.0
+			for _, c := range cs {
+				x, ok := c.Weights[id]
+				if !ok {
+					x = base[end.Edge][end.Side]
+				}
+				w += x / float64(len(cs))
+			}
+			avg.Weights[id] = w
+		}
+		nodeCtl[v] = append(slices.Clip(cs), avg)
+		nodePol[v] = len(cs)
 	}
 	if start != nil {
 		copy(nodePol, start.nodePol)
@@ -354,7 +399,7 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 		ts := time.Now()
 		for v, k := range nodePol {
 			if k >= 0 {
-				setNodeWeights(sysNet, cp.Nodes[v].Controls, base, v, k)
+				setNodeWeights(sysNet, nodeCtl[v], base, v, k)
 			}
 		}
 		sys.assemble(0)
@@ -371,7 +416,9 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 		for _, v := range cur {
 			uscale = max(uscale, math.Abs(v))
 		}
-		if prev != nil {
+		if prev != nil && (start != nil || res.Iterations > 2) {
+			// (Without a start, the first evaluation is of the averaged
+			// problem, outside the policies: monotone from the second.)
 			for i, v := range cur {
 				back := prev[i] - v // max: values must not decrease
 				if obj == Minimize {
@@ -507,8 +554,11 @@ func (it *ctlIter) improve() int {
 		for i := 1; i < n; i++ {
 			um, ui, up := u(i-1), u(i), u(i+1)
 			k := c.pol[i]
+			if k >= c.k {
+				k = 0 // from the averaged start: any control replaces it
+			}
 			best, sc := c.row(k, h, um, ui, up)
-			for j := range c.cs {
+			for j := range c.k {
 				if j == k {
 					continue
 				}
@@ -545,8 +595,11 @@ func (it *ctlIter) improve() int {
 				continue
 			}
 			k := c.pol[vi]
+			if k >= c.k {
+				k = 0
+			}
 			best, sc := c.leave(side, k, h, u(vi), u(ai))
-			for j := range c.cs {
+			for j := range c.k {
 				if j == k {
 					continue
 				}
@@ -589,6 +642,9 @@ func (it *ctlIter) improve() int {
 			}
 			return g, sc
 		}
+		if k >= len(nd.Controls) {
+			k = 0
+		}
 		best, sc := eval(k)
 		for j := range nd.Controls {
 			if j == k {
@@ -612,6 +668,10 @@ func (it *ctlIter) improve() int {
 // the exact re-solve is rejected (grid points next to a switch of the
 // optimal control sit within O(h) of a tie; common practice, no source).
 const ctlExactTol = 1e-6
+
+// ctlExactChecks bounds the grid points per edge at which the exact
+// re-solve is checked (evenly spaced; each costs a closed-form evaluation).
+const ctlExactChecks = 256
 
 // exactSolve re-solves with exact elements on the edges whose policy is
 // constant, checks the continuous Bellman inequality there, and returns
@@ -676,10 +736,11 @@ func (it *ctlIter) exactSolve(lin *Settings) ([]bool, *Solution, []string) {
 		ck := c.cs[k]
 		ed := &cp.Edges[e]
 		h := ed.Length / float64(c.n)
-		for i := 1; i < c.n; i++ {
+		stride := max(1, c.n/ctlExactChecks)
+		for i := 1; i < c.n; i += stride {
 			u, du := sol.eval(e, float64(i)*h)
 			uxx := -(ck.B*du - ck.C*u + ck.F) / ck.A
-			for j, cj := range c.cs {
+			for j, cj := range c.cs[:c.k] {
 				if j == k {
 					continue
 				}

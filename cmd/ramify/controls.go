@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"strings"
 
@@ -228,4 +229,59 @@ func frozenNotes(net *graphpde.Network, frozen []bool) []string {
 		return nil
 	}
 	return []string{fmt.Sprintf("visits to %s freeze coefficients that change within the node's star (the policy switches next to it): approximate, with a bias that shrinks with --star-fraction; every other node visit is exact in law", strings.Join(ids, ", "))}
+}
+
+// pushMarks is the number of chevrons drawn along a controlled edge.
+const pushMarks = 8
+
+// drawPush draws chevrons along edge e (length L, drawn by path from t = 0
+// at its From node to t = 1) pointing the way the policy pushes there.
+func drawPush(b *strings.Builder, push func(e int, x float64) int, e int, L float64, path func(t float64) (float64, float64)) {
+	for k := 0; k < pushMarks; k++ {
+		t := (float64(k) + 0.5) / pushMarks
+		dir := push(e, t*L)
+		x, y := path(t)
+		if dir == 0 {
+			fmt.Fprintf(b, `<circle cx="%.1f" cy="%.1f" r="2" fill="black"/>`, x, y)
+			continue
+		}
+		xa, ya := path(t - 0.01)
+		xb, yb := path(t + 0.01)
+		ang := math.Atan2(yb-ya, xb-xa) * 180 / math.Pi
+		if dir < 0 {
+			ang += 180
+		}
+		fmt.Fprintf(b, `<path d="M -5 -5 L 3 0 L -5 5" fill="none" stroke="black" stroke-width="2" transform="translate(%.1f %.1f) rotate(%.1f)"/>`, x, y, ang)
+	}
+	b.WriteString("\n")
+}
+
+// policyDrawing adds the policy to a drawing of a controlled network's
+// solution: chevrons where the chosen drift pushes along an edge (sign of
+// the drift of the policy network), node labels with their control.
+func policyDrawing(d *drawing, ctlNet *graphpde.Network, res *graphpde.ControlResult) {
+	pn := res.Solution.Net
+	d.push = func(e int, x float64) int {
+		if len(ctlNet.Edges[e].ControlSet()) == 0 {
+			return 0
+		}
+		_, b, _, _, _ := pn.Edges[e].Coeffs(x)
+		switch {
+		case b > 0:
+			return 1
+		case b < 0:
+			return -1
+		}
+		return 0
+	}
+	d.legend = "chevrons: the way the optimal control pushes along each controlled stretch (dots: no drift)"
+	var nodes []string
+	for v, k := range res.Policy.Nodes {
+		if k >= 0 {
+			nodes = append(nodes, fmt.Sprintf("%s → %d", ctlNet.Nodes[v].ID, k))
+		}
+	}
+	if len(nodes) > 0 {
+		d.legend += "; node controls: " + strings.Join(nodes, ", ")
+	}
 }

@@ -40,9 +40,6 @@ func runConvert(ctx context.Context, args []string, stdout, stderr io.Writer) in
 	if err != nil {
 		return fail(stderr, "convert", err)
 	}
-	if err := controlRefusal(net, file, "convert"); err != nil {
-		return fail(stderr, "convert", err)
-	}
 	if net.Physical != nil {
 		fmt.Fprintf(stderr, "ramify convert: the %s model is written as the raw coefficients it implies (SI units)\n", net.Physical.Model)
 	}

@@ -33,6 +33,12 @@ type drawing struct {
 	// by the panels of a sheet); otherwise the field's own range.
 	fixed *[2]float64
 	id    string // suffix of the ids in the SVG (unique per panel)
+	// push, when set, gives the direction a controlled edge pushes at x
+	// (+1 towards its To node, −1 towards From, 0 neither): drawn as
+	// chevrons along the edge (controls.go).
+	push func(e int, x float64) int
+	// legend, when set, is one more line under the drawing's subtitle.
+	legend string
 }
 
 // mark is a labelled point drawn on top of the network.
@@ -246,6 +252,9 @@ func (d *drawing) writeSVG(w io.Writer) error {
 	fmt.Fprintf(&b, `<rect width="100%%" height="100%%" fill="white"/>`+"\n")
 	fmt.Fprintf(&b, `<text x="%g" y="24" font-size="16" font-weight="bold">%s</text>`+"\n", left, svgEscape(d.title))
 	fmt.Fprintf(&b, `<text x="%g" y="42" fill="#555">%s; %s</text>`+"\n", left, svgEscape(d.unit), svgEscape(d.layout))
+	if d.legend != "" {
+		fmt.Fprintf(&b, `<text x="%g" y="58" fill="#555">%s</text>`+"\n", left, svgEscape(d.legend))
+	}
 	// Edges: each a polyline of coloured pieces (curved when parallel edges
 	// share the same two nodes; a loop for a self-loop).
 	count := map[[2]int]int{}
@@ -292,6 +301,9 @@ func (d *drawing) writeSVG(w io.Writer) error {
 			fmt.Fprintf(&b, `<line x1="%.1f" y1="%.1f" x2="%.1f" y2="%.1f" stroke="%s"/>`, xa, ya, xb, yb, col)
 		}
 		b.WriteString("</g>\n")
+		if d.push != nil {
+			drawPush(&b, d.push, e, ed.Length, path)
+		}
 	}
 	// Nodes: fixed nodes as squares, balance nodes as circles; labels where
 	// they do not overlap a label already placed.

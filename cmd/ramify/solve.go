@@ -70,6 +70,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	var nl *graphpde.NonlinearResult
 	var ctl *graphpde.ControlResult
 	obj := net.Objective
+	ctlNet := net
 	if graphpde.Controlled(net) {
 		if ctl, err = solveControlled(ctx, net, m, *cells, *viscosity); err != nil {
 			return fail(stderr, "solve", err)
@@ -93,7 +94,11 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		if title == "" {
 			title = file
 		}
-		if err := writeDrawing(*draw, []string{file}, fieldDrawing(net, sol, title, marks), "solve", stderr); err != nil {
+		d := fieldDrawing(net, sol, title, marks)
+		if ctl != nil {
+			policyDrawing(d, ctlNet, ctl)
+		}
+		if err := writeDrawing(*draw, []string{file}, d, "solve", stderr); err != nil {
 			return fail(stderr, "solve", err)
 		}
 	}

@@ -1,9 +1,12 @@
 package netfile
 
 import (
+	"bufio"
 	"fmt"
+	"maps"
 	"math"
 	"slices"
+	"strings"
 
 	"github.com/ramify-dev/ramify/graphpde"
 )
@@ -206,4 +209,34 @@ func (rd *reader) firstControlLine(net *graphpde.Network) int {
 		}
 	}
 	return 0
+}
+
+// writeEdgeControls writes an edge's controls, every coefficient of every
+// entry (so that they read back whatever the edge's own values).
+func writeEdgeControls(b *bufio.Writer, cs []graphpde.EdgeControl) {
+	if len(cs) == 0 {
+		return
+	}
+	parts := make([]string, len(cs))
+	for i, c := range cs {
+		parts[i] = fmt.Sprintf("{ diffusivity = %s, drift = %s, decay = %s, source = %s }", num(c.A), num(c.B), num(c.C), num(c.F))
+	}
+	fmt.Fprintf(b, "controls = [ %s ]\n", strings.Join(parts, ", "))
+}
+
+// writeNodeControls writes a node's controls (weights by edge id, sorted).
+func writeNodeControls(b *bufio.Writer, cs []graphpde.NodeControl) {
+	if len(cs) == 0 {
+		return
+	}
+	parts := make([]string, len(cs))
+	for i, c := range cs {
+		keys := slices.Sorted(maps.Keys(c.Weights))
+		kv := make([]string, len(keys))
+		for j, k := range keys {
+			kv[j] = bareOrQuoted(k) + " = " + num(c.Weights[k])
+		}
+		parts[i] = "{ " + strings.Join(kv, ", ") + " }"
+	}
+	fmt.Fprintf(b, "controls = [ %s ]\n", strings.Join(parts, ", "))
 }

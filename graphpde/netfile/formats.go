@@ -118,6 +118,9 @@ func WriteCSV(w io.Writer, net *graphpde.Network) error {
 	if net.Params != nil {
 		return &Error{Msg: "the CSV form has no [parameters]; convert to toml or json"}
 	}
+	if graphpde.Controlled(net) {
+		return &Error{Msg: "the CSV form has no controls; convert to toml or json"}
+	}
 	for _, nd := range net.Nodes {
 		switch {
 		case nd.Split != nil:

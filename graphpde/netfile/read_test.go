@@ -6,6 +6,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -347,6 +348,9 @@ func diffNetworks(got, want *graphpde.Network, tol float64) string {
 			return fmt.Sprintf("network %q/%q, want %q/%q", got.Name, got.Description, want.Name, want.Description)
 		}
 	}
+	if got.Objective != want.Objective {
+		return fmt.Sprintf("objective %v, want %v", got.Objective, want.Objective)
+	}
 	if len(got.Nodes) != len(want.Nodes) || len(got.Edges) != len(want.Edges) {
 		return fmt.Sprintf("%d nodes %d edges, want %d, %d", len(got.Nodes), len(got.Edges), len(want.Nodes), len(want.Edges))
 	}
@@ -357,6 +361,9 @@ func diffNetworks(got, want *graphpde.Network, tol float64) string {
 		}
 		if gs, ws := nodeLawSig(&g), nodeLawSig(&w); gs != ws {
 			return fmt.Sprintf("node %q: laws %s, want %s", w.ID, gs, ws)
+		}
+		if fmt.Sprint(g.Controls) != fmt.Sprint(w.Controls) {
+			return fmt.Sprintf("node %q: controls %v, want %v", w.ID, g.Controls, w.Controls)
 		}
 		if len(g.Split) != len(w.Split) || (g.Split == nil) != (w.Split == nil) {
 			return fmt.Sprintf("node %q: split %v, want %v", w.ID, g.Split, w.Split)
@@ -375,6 +382,10 @@ func diffNetworks(got, want *graphpde.Network, tol float64) string {
 			return fmt.Sprintf("edge %q: laws %s, want %s", w.ID, gs, ws)
 		}
 		g.Law, w.Law, g.Profile, w.Profile = nil, nil, nil, nil
+		if !slices.Equal(g.ControlSet(), w.ControlSet()) {
+			return fmt.Sprintf("edge %q: controls %v, want %v", w.ID, g.ControlSet(), w.ControlSet())
+		}
+		g.Controls, w.Controls = nil, nil
 		if g != w || gw != ww {
 			return fmt.Sprintf("edge %d: got %+v weights %v, want %+v weights %v", i, g, gw, w, ww)
 		}

@@ -39,13 +39,16 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		return err
 	}
 	b := bufio.NewWriter(w)
-	if net.Name != "" || net.Description != "" {
+	if net.Name != "" || net.Description != "" || net.Objective != graphpde.NoObjective {
 		b.WriteString("[network]\n")
 		if net.Name != "" {
 			fmt.Fprintf(b, "name = %s\n", quote(net.Name))
 		}
 		if net.Description != "" {
 			fmt.Fprintf(b, "description = %s\n", quote(net.Description))
+		}
+		if net.Objective != graphpde.NoObjective {
+			fmt.Fprintf(b, "objective = %s\n", quote(net.Objective.String()))
 		}
 		b.WriteString("\n")
 	}
@@ -87,6 +90,7 @@ func Write(w io.Writer, net *graphpde.Network) error {
 			}
 			fmt.Fprintf(b, "split = { %s }\n", strings.Join(parts, ", "))
 		}
+		writeNodeControls(b, nd.Controls)
 		b.WriteString("\n")
 	}
 	for _, e := range net.Edges {
@@ -132,6 +136,7 @@ func Write(w io.Writer, net *graphpde.Network) error {
 		if e.Law != nil && e.Law.Initial != nil {
 			fmt.Fprintf(b, "initial = %s\n", exprOrNumber(e.Law.Initial.Src))
 		}
+		writeEdgeControls(b, e.ControlSet())
 		b.WriteString("\n")
 	}
 	return b.Flush()

@@ -95,6 +95,9 @@ func Policy(optimum float64, opt PolicyRun, ch []PolicyRun, minimise bool, level
 	case res.Closest >= 0:
 		r := ch[res.Closest]
 		res.Explain = fmt.Sprintf("the walkers reproduce the optimal value (z = %.2f) and no challenger does better; the closest, %s, has a margin of %.4g ± %.2g over the optimum (%.1f standard errors; positive = worse)", c.Z, r.Name, res.Margin, res.MarginErr, res.Margin/res.MarginErr)
+		if gap := sign * (r.PDE - optimum); res.Margin < 3*res.MarginErr && gap > 0 {
+			res.Explain += fmt.Sprintf("; by the PDE it is worse by %.3g, which these walkers do not resolve", gap)
+		}
 	default:
 		res.Explain = fmt.Sprintf("the walkers reproduce the optimal value (z = %.2f); no challenger was run", c.Z)
 	}
