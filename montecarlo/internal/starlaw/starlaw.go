@@ -263,7 +263,14 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 		if i == n-1 {
 			t = tTail
 		} else {
-			t = l.quantile(w, prev, tTail)
+			// Start Newton from the previous knot continued along its
+			// slope: it then converges in two or three steps.
+			var guess float64
+			if i > 1 {
+				sg := tb.k[2*(i-1)] + tb.k[2*(i-1)+1]
+				guess = sg * sg
+			}
+			t = l.quantile(w, prev, tTail, guess)
 		}
 		st := math.Sqrt(t)
 		tb.k[2*i] = st
@@ -277,13 +284,17 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 		tb.ell0 = -math.Log(lowU)
 		tb.dl = (ellMax - tb.ell0) / float64(n-1)
 		tb.low = make([]float64, 2*n)
-		hi := l.quantile(tb.wLow, 0, tTail)
+		hi := l.quantile(tb.wLow, 0, tTail, 0)
 		for i := range n {
 			ell := tb.ell0 + float64(i)*tb.dl
 			u := math.Exp(-ell)
 			t := hi
 			if i > 0 {
-				t = l.quantile(-math.Log1p(-u), 0, hi)
+				var guess float64
+				if r := tb.low[2*(i-1)] + tb.low[2*(i-1)+1]; r > 0 {
+					guess = 1 / r
+				}
+				t = l.quantile(-math.Log1p(-u), 0, hi, guess)
 			}
 			tb.low[2*i] = 1 / t
 			tb.low[2*i+1] = tb.dl * u / (t * t * l.Density(t))
@@ -294,8 +305,9 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 }
 
 // quantile solves P(X > t) = e^{−w} for t in (lo, hi) by Newton's method on
-// ln t safeguarded by bisection (lo = 0: search downwards from hi).
-func (l *Law) quantile(w, lo, hi float64) float64 {
+// ln t safeguarded by bisection (lo = 0: search downwards from hi), started
+// from guess when it lies in the bracket (0: from the bracket's middle).
+func (l *Law) quantile(w, lo, hi, guess float64) float64 {
 	small := w < math.Ln2
 	u, g := -math.Expm1(-w), math.Exp(-w)
 	// h increases in t and vanishes at the root; the smaller of F and
@@ -319,6 +331,10 @@ func (l *Law) quantile(w, lo, hi float64) float64 {
 		xl = math.Log(lo)
 	} else {
 		xl = xh - 1
+		if g := math.Log(guess); guess > 0 && g-0.01 < xh {
+			// Just below the guess: one evaluation when it is good.
+			xl = g - 0.01
+		}
 		for {
 			if hv, _ := h(math.Exp(xl)); hv <= 0 {
 				break
@@ -327,6 +343,9 @@ func (l *Law) quantile(w, lo, hi float64) float64 {
 		}
 	}
 	x := 0.5 * (xl + xh)
+	if g := math.Log(guess); guess > 0 && g > xl && g < xh {
+		x = g
+	}
 	for range 200 {
 		t := math.Exp(x)
 		hv, d := h(t)
