@@ -161,6 +161,7 @@ func SolveNonlinear(net *Network, set *NonlinearSettings) (*NonlinearResult, err
 		return nil, err
 	}
 	sys.start(s.Guess)
+	sys.handOver = true // the system is dropped after: no copy of the grid values
 	res, err := sys.newton(&s)
 	if res != nil {
 		res.Stats = sys.stats
@@ -254,25 +255,35 @@ func (s *nlSystem) finishNotes(res *NonlinearResult) *NonlinearResult {
 
 // lineSearch tries z + t·δ for t = 1, 1/2, … (Armijo condition on the
 // residual norm, or a scaled residual below tol) and leaves the accepted
-// state evaluated in s. It reports the step, whether one was accepted, and
+// state evaluated in s. The full step is formed and evaluated in one pass
+// (evalStep); only a shorter step needs δ's interior part stored. It reports the step, whether one was accepted, and
 // the law error of the last trial if every trial failed on one.
 func (s *nlSystem) lineSearch(merit0, tol float64) (float64, bool, error) {
 	const minStep = 1.0 / (1 << 20)
 	var lastErr error
 	for t := 1.0; t >= minStep; t /= 2 {
-		for i := range s.U {
-			s.tU[i] = s.U[i] + t*s.dU[i]
+		var err error
+		if t == 1 && s.pending {
+			// The full step, formed and evaluated edge by edge.
+			err = s.evalStep()
+		} else {
+			s.materialize()
+			for i := range s.U {
+				s.tU[i] = s.U[i] + t*s.dU[i]
+			}
+			for i := range s.w {
+				s.tw[i] = s.w[i] + t*s.dw[i]
+			}
+			err = s.eval(s.tU, s.tw)
 		}
-		for i := range s.w {
-			s.tw[i] = s.w[i] + t*s.dw[i]
-		}
-		if err := s.eval(s.tU, s.tw); err != nil {
+		if err != nil {
 			lastErr = err
 			continue
 		}
 		lastErr = nil
 		m := s.merit()
 		if m <= (1-1e-4*t)*merit0 || m == 0 {
+			s.pending = false
 			s.U, s.tU = s.tU, s.U
 			s.w, s.tw = s.tw, s.w
 			return t, true, nil
@@ -281,6 +292,7 @@ func (s *nlSystem) lineSearch(merit0, tol float64) (float64, bool, error) {
 			// A full step that lands within the tolerance is accepted even
 			// when round-off keeps the norm from falling.
 			if err := s.prepare(s.tU, s.tw); err == nil && s.scaledResidual() <= tol {
+				s.pending = false
 				s.U, s.tU = s.tU, s.U
 				s.w, s.tw = s.tw, s.w
 				return t, true, nil

@@ -186,29 +186,42 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 		s.end[e][0] = el
 	}
 	tx := s.newElim(e)
-	for i := 1; i < n; i++ {
-		ui, un := in[i-1], val(i+1)
-		cur := cf
-		if !constFace {
-			if cur, err = s.face(ed, i, h, ui, un); err != nil {
-				return err
-			}
-		}
-		dCur := un - ui
-		g, dg, err := react(float64(i)*h, ui)
-		if err != nil {
+	if constFace && !s.keepRows {
+		// The common case in a fast loop: faces computed once, the
+		// elimination inline with its state in registers.
+		var ss float64
+		if prev, dPrev, ss, err = s.quasiConstFaces(e, &tx, react, cf, dPrev, h, in, UL); err != nil {
 			return err
 		}
-		G := cur.r*dCur - prev.l*dPrev + h*g
-		s.sumsq += G * G
-		if !finite(G) {
-			return edgeLawError(ed, float64(i)*h, ui, "balance", G, "finite", "")
+		s.sumsq += ss
+	} else {
+		for i := 1; i < n; i++ {
+			ui, un := in[i-1], UL
+			if i < n-1 {
+				un = in[i]
+			}
+			cur := cf
+			if !constFace {
+				if cur, err = s.face(ed, i, h, ui, un); err != nil {
+					return err
+				}
+			}
+			dCur := un - ui
+			g, dg, err := react(float64(i)*h, ui)
+			if err != nil {
+				return err
+			}
+			G := cur.r*dCur - prev.l*dPrev + h*g
+			s.sumsq += G * G
+			if !finite(G) {
+				return edgeLawError(ed, float64(i)*h, ui, "balance", G, "finite", "")
+			}
+			if !tx.add(i-1, -(prev.l - prev.dl*dPrev), -(-cur.r + cur.dr*dCur - prev.l - prev.dl*dPrev + h*dg),
+				-(cur.r + cur.dr*dCur), -G, ui) {
+				return singularPivot(ed.ID, float64(i)*h, ui, 0)
+			}
+			prev, dPrev = cur, dCur
 		}
-		if !tx.add(i-1, -(prev.l - prev.dl*dPrev), -(-cur.r + cur.dr*dCur - prev.l - prev.dl*dPrev + h*dg),
-			-(cur.r + cur.dr*dCur), -G, ui) {
-			return singularPivot(ed.ID, float64(i)*h, ui, 0)
-		}
-		prev, dPrev = cur, dCur
 	}
 	tx.finish(e)
 	// To end.
@@ -229,6 +242,68 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 	}
 	s.end[e][1] = el
 	return nil
+}
+
+// quasiConstFaces runs the interior loop of evalQuasi for an edge whose
+// faces are constant (cf) and whose rows are not kept: the same rows and the
+// same elimination as elim.add, written out so that the sweep's state stays
+// in registers. It returns the last face, its difference and Σ G².
+func (s *nlSystem) quasiConstFaces(e int, tx *elim, react func(x, u float64) (float64, float64, error),
+	cf quasiFace, dPrev, h float64, in []float64, UL float64) (quasiFace, float64, float64, error) {
+	ed := &s.net.Edges[e]
+	n := s.n[e]
+	al, b0, bs := tx.al, tx.b0, tx.bs
+	alpha, beta0, betas := tx.alpha, tx.beta0, tx.betas
+	prod, p0, ps, worst, umax := tx.prod, tx.p0, tx.ps, tx.worst, tx.umax
+	neg := 0
+	ss := 0.0
+	// Rows in flux sign: a δu_{i−1} + b δu_i + c δu_{i+1} = −G with
+	// a = −L, c = −R (constant faces) and b = R + L − h·∂g/∂u.
+	ra, rc := -cf.l, -cf.r
+	rb0 := cf.r + cf.l
+	for i := 1; i < n; i++ {
+		ui, un := in[i-1], UL
+		if i < n-1 {
+			un = in[i]
+		}
+		dCur := un - ui
+		g, dg, err := react(float64(i)*h, ui)
+		if err != nil {
+			return cf, 0, 0, err
+		}
+		G := cf.r*dCur - cf.l*dPrev + h*g
+		ss += G * G
+		b := rb0 - h*dg
+		p := b + ra*alpha
+		if p == 0 || (p-p)+(G-G) != 0 { // a zero pivot, or p or G not finite
+			if !finite(G) {
+				return cf, 0, 0, edgeLawError(ed, float64(i)*h, ui, "balance", G, "finite", "")
+			}
+			return cf, 0, 0, singularPivot(ed.ID, float64(i)*h, ui, 0)
+		}
+		if p < 0 {
+			neg++
+		}
+		ip := 1 / p
+		alpha = -rc * ip
+		beta0 = -ra * beta0 * ip
+		betas = (G - ra*betas) * ip
+		al[i-1], b0[i-1], bs[i-1] = alpha, beta0, betas
+		p0 += prod * beta0
+		ps += prod * betas
+		prod *= alpha
+		if ar, ab := math.Abs(G), math.Abs(b); ar > worst*ab {
+			worst = ratio(ar, ab)
+		}
+		if au := math.Abs(ui); au > umax {
+			umax = au
+		}
+		dPrev = dCur
+	}
+	tx.alpha, tx.beta0, tx.betas = alpha, beta0, betas
+	tx.prod, tx.p0, tx.ps, tx.worst, tx.umax = prod, p0, ps, worst, umax
+	s.negPivots += neg
+	return cf, dPrev, ss, nil
 }
 
 // equation evaluates the edge equation and checks it.
@@ -434,6 +509,7 @@ func (x *nlGridEl) linearize(U0, UL float64) (edgeMap, float64) {
 func (x *nlGridEl) recover(U0, UL float64) bool {
 	s := x.s
 	o := s.off[x.e]
+	s.allocStep()
 	s.back(x.e, U0-x.U0, UL-x.UL, s.bs, s.dw)
 	ok := true
 	for i := o; i < o+x.n-1; i++ {

@@ -49,7 +49,18 @@ type nlSystem struct {
 
 	// State: node values (all nodes) and grid interiors; trial copies.
 	U, w, tU, tw []float64
-	dU, dw       []float64 // Newton step
+	// Newton step: dU at the nodes; dw inside law edges, formed only when
+	// a line search needs a step shorter than 1 (see evalStep), and
+	// allocated then.
+	dU, dw []float64
+	// pending: the node step dU is solved but the interior step is not
+	// formed yet (newtonStep leaves it to evalStep). fused: the law edges
+	// before this index have their full step in tw (by evalStep).
+	pending bool
+	fused   int
+	// handOver lets solution() keep w as the Solution's grid values
+	// instead of copying it (SolveNonlinear discards the system after).
+	handOver bool
 	// Interior rows of Law edges (indexed like w): the Jacobian row
 	// (coefficients of u_{i−1}, u_i, u_{i+1}) and the residual, in
 	// "flux sign" (minus the cell integral of the generator-sign equation).
@@ -186,7 +197,7 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	for _, p := range []*[]float64{&s.U, &s.tU, &s.dU, &s.nres, &s.gu} {
 		*p = make([]float64, nn)
 	}
-	for _, p := range []*[]float64{&s.w, &s.tw, &s.dw, &s.alpha, &s.b0, &s.bs} {
+	for _, p := range []*[]float64{&s.w, &s.tw, &s.alpha, &s.b0, &s.bs} {
 		*p = make([]float64, ni)
 	}
 	s.ni = ni
@@ -286,11 +297,100 @@ func (s *nlSystem) start(guess func(Point) float64) {
 // interior rows of Law edges, the end derivatives of every edge, and the
 // node rows. It returns a *LawError where a law fails a check.
 func (s *nlSystem) eval(U, w []float64) error {
-	net := s.net
+	s.resetEval()
+	for e := range s.net.Edges {
+		if err := s.evalEdge(e, U, w); err != nil {
+			return err
+		}
+	}
+	return s.evalNodes(U)
+}
+
+// resetEval clears what an evaluation accumulates.
+func (s *nlSystem) resetEval() {
 	s.sumsq = 0
 	s.negPivots = 0
 	s.rhoWorst, s.rhoUmax = 0, 0
+}
+
+// evalStep evaluates the state after the full Newton step that newtonStep
+// left pending, into (tU, tw): each law edge's interior step is formed by
+// back substitution straight into tw (tw = w + δw, without storing δw) and
+// the edge is evaluated and eliminated at once, while its values are still
+// in cache. A line search that needs a shorter step forms δw afterwards
+// (materialize).
+func (s *nlSystem) evalStep() error {
+	net := s.net
+	for i := range s.U {
+		s.tU[i] = s.U[i] + s.dU[i]
+	}
+	s.resetEval()
+	s.fused = 0
 	for e := range net.Edges {
+		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
+			ed := &net.Edges[e]
+			s.backStep(e, s.dU[ed.From], s.dU[ed.To])
+		}
+		s.fused = e + 1
+		if err := s.evalEdge(e, s.tU, s.tw); err != nil {
+			return err
+		}
+	}
+	return s.evalNodes(s.tU)
+}
+
+// backStep is back for the Newton right-hand side, adding the interior
+// step of law edge e to w into tw.
+func (s *nlSystem) backStep(e int, dU0, dUL float64) {
+	n, o := s.n[e], s.off[e]
+	if n < 2 {
+		return
+	}
+	al, b0, bs := s.alpha[o:o+n-1], s.b0[o:o+n-1], s.bs[o:o+n-1]
+	w, tw := s.w[o:o+n-1], s.tw[o:o+n-1]
+	x := dUL
+	for i := n - 2; i >= 0; i-- {
+		x = al[i]*x + b0[i]*dU0 + bs[i]
+		tw[i] = w[i] + x
+	}
+}
+
+// materialize forms the interior step dw of a pending Newton step: from
+// tw − w on the law edges that evalStep already stepped (their elimination
+// has been overwritten by the trial's), by back substitution on the others.
+func (s *nlSystem) materialize() {
+	if !s.pending {
+		return
+	}
+	s.pending = false
+	s.allocStep()
+	for e := range s.net.Edges {
+		if s.kind[e] != nlQuasi && s.kind[e] != nlEquation {
+			continue
+		}
+		if e < s.fused {
+			o, m := s.off[e], s.n[e]-1
+			for i := o; i < o+m; i++ {
+				s.dw[i] = s.tw[i] - s.w[i]
+			}
+			continue
+		}
+		ed := &s.net.Edges[e]
+		s.back(e, s.dU[ed.From], s.dU[ed.To], s.bs, s.dw)
+	}
+}
+
+// allocStep allocates the interior step dw on first use.
+func (s *nlSystem) allocStep() {
+	if s.dw == nil {
+		s.dw = make([]float64, s.ni)
+	}
+}
+
+// evalEdge evaluates edge e at (U, w) (see eval).
+func (s *nlSystem) evalEdge(e int, U, w []float64) error {
+	net := s.net
+	{
 		ed := &net.Edges[e]
 		U0, UL := U[ed.From], U[ed.To]
 		switch s.kind[e] {
@@ -301,7 +401,7 @@ func (s *nlSystem) eval(U, w []float64) error {
 				// without cancellation.
 				s.end[e][0] = endLin{d: m.rs[0]*U0 + m.g[0], dSelf: m.rs[0], w: ed.EndWeight(0)}
 				s.end[e][1] = endLin{d: -(m.rs[1]*UL + m.g[1]), dSelf: -m.rs[1], w: ed.EndWeight(1)}
-				continue
+				return nil
 			}
 			s.end[e][0] = endLin{d: m.d[0][0]*U0 + m.d[0][1]*UL + m.g[0], dSelf: m.d[0][0], dAdj: m.d[0][1], w: ed.EndWeight(0)}
 			s.end[e][1] = endLin{d: -(m.d[1][0]*U0 + m.d[1][1]*UL + m.g[1]), dSelf: -m.d[1][1], dAdj: -m.d[1][0], w: ed.EndWeight(1)}
@@ -315,7 +415,7 @@ func (s *nlSystem) eval(U, w []float64) error {
 			}
 		}
 	}
-	return s.evalNodes(U)
+	return nil
 }
 
 // evalNodes evaluates the node rows through the nodes' conditions
@@ -439,9 +539,10 @@ func (x *elim) add(i int, a, b, c, r, u float64) bool {
 	if p < 0 {
 		x.s.negPivots++
 	}
-	x.alpha = -c / p
-	x.beta0 = -a * x.beta0 / p
-	x.betas = (-r - a*x.betas) / p
+	ip := 1 / p // one division instead of three
+	x.alpha = -c * ip
+	x.beta0 = -a * x.beta0 * ip
+	x.betas = (-r - a*x.betas) * ip
 	x.al[i], x.b0[i], x.bs[i] = x.alpha, x.beta0, x.betas
 	if x.ja != nil {
 		x.ja[i], x.piv[i], x.ires[i] = a, p, r
@@ -605,7 +706,9 @@ func (s *nlSystem) factor() error {
 }
 
 // newtonStep solves J·δ = −r for the state prepared last (its right-hand
-// side was swept by condense) into s.dU, s.dw.
+// side was swept by the elimination) into s.dU at the nodes; the interior
+// step is left pending for evalStep, which forms it edge by edge while
+// evaluating the new state, or for materialize (into s.dw).
 func (s *nlSystem) newtonStep() {
 	net := s.net
 	for r, v := range s.nodes {
@@ -630,12 +733,8 @@ func (s *nlSystem) newtonStep() {
 			s.dU[v] = 0
 		}
 	}
-	for e := range net.Edges {
-		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
-			ed := &net.Edges[e]
-			s.back(e, s.dU[ed.From], s.dU[ed.To], s.bs, s.dw)
-		}
-	}
+	// The interior step is formed by evalStep (or materialize).
+	s.pending = true
 }
 
 // step solves J·δ = scale·b with the factored linearisation: bN holds the
@@ -681,7 +780,12 @@ func (s *nlSystem) step(dU, dW, bN, bI []float64, scale float64) {
 func (s *nlSystem) solution() (*Solution, error) {
 	net := s.net
 	ne := len(net.Edges)
-	gval := append([]float64(nil), s.w...)
+	gval := s.w
+	if s.handOver {
+		s.w = nil // the Solution owns it now
+	} else {
+		gval = append([]float64(nil), s.w...)
+	}
 	sol := &Solution{
 		Net:      net,
 		U:        append([]float64(nil), s.U...),

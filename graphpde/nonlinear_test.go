@@ -541,3 +541,51 @@ func TestNonlinearElementInterface(t *testing.T) {
 		t.Errorf("u'(0) from the end map = %.12g, want %.12g", d0, want)
 	}
 }
+
+// TestNewtonDampedStep: the line search's shorter steps (formed from the
+// full step that evalStep evaluated edge by edge, after a trial that failed
+// or did not lower the residual) reach the same discrete solution as an
+// undamped run. Conduction with a = √u (defined for u ≥ 0 only) across a
+// balance node, from u ≡ 0.01, where the full first step leaves the domain
+// of the law, and from u ≡ 0.5, where every step is full. The discrete
+// solution is unique (a > 0, no reaction), so the two runs must agree to
+// what their stopping tolerance leaves: both stop at a scaled residual of
+// 1e−13, and 1e−11 allows the hundredfold amplification that the small
+// diffusivity next to the cold end gives it (at the default 1e−10 the runs
+// differ by 2e−11 there; common practice, no source).
+func TestNewtonDampedStep(t *testing.T) {
+	solve := func(g float64) *NonlinearResult {
+		b := newNetBuilder(t)
+		hot := b.fixed("hot", 1)
+		mid := b.balance("mid")
+		cold := b.fixed("cold", 1e-4)
+		k := coefU(func(_, u float64) (float64, float64) { return math.Sqrt(u), 0.5 / math.Sqrt(u) })
+		b.edge(Edge{ID: "l", From: hot, To: mid, Length: 1, A: 1, Cells: 50, Law: &EdgeLaw{A: k}})
+		b.edge(Edge{ID: "r", From: mid, To: cold, Length: 1, A: 1, Cells: 50, Law: &EdgeLaw{A: k}})
+		return mustNonlinear(t, b.net, &NonlinearSettings{Tol: 1e-13, Guess: func(Point) float64 { return g }})
+	}
+	damped, full := solve(0.01), solve(0.5)
+	t.Logf("steps from 0.01: %g; from 0.5: %g", damped.Steps, full.Steps)
+	if len(damped.Steps) == 0 || damped.Steps[0] >= 1 {
+		t.Fatalf("the first step from 0.01 was not damped (%g): the test no longer covers shorter steps", damped.Steps)
+	}
+	const tol = 1e-11
+	if d, f := damped.Solution.Flux[0][0], full.Solution.Flux[0][0]; math.Abs(d-f) > tol*math.Abs(f) {
+		t.Errorf("flux %.15g after damped steps, %.15g after full ones", d, f)
+	}
+	for v, u := range full.Solution.U {
+		if d := damped.Solution.U[v]; math.Abs(d-u) > tol {
+			t.Errorf("node %d: %.15g after damped steps, %.15g after full ones", v, d, u)
+		}
+	}
+	var gd, gf []FieldPoint
+	for e := range 2 {
+		gd = damped.Solution.Sample(gd, e)
+		gf = full.Solution.Sample(gf, e)
+		for i := range gf {
+			if math.Abs(gd[i].U-gf[i].U) > tol {
+				t.Errorf("edge %d at x = %g: %.15g after damped steps, %.15g after full ones", e, gf[i].X, gd[i].U, gf[i].U)
+			}
+		}
+	}
+}
