@@ -7,9 +7,12 @@ import (
 	"io"
 	"math"
 	"os"
+	"strconv"
 	"strings"
+	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // Controlled networks: solve gives the optimal value and policy (policy
@@ -284,4 +287,108 @@ func policyDrawing(d *drawing, ctlNet *graphpde.Network, res *graphpde.ControlRe
 	if len(nodes) > 0 {
 		d.legend += "; node controls: " + strings.Join(nodes, ", ")
 	}
+}
+
+// parseScales reads --viscosity-scale: empty, one ε > 0, or a strictly
+// decreasing comma-separated list of them.
+func parseScales(s string) ([]float64, error) {
+	if s == "" {
+		return nil, nil
+	}
+	var out []float64
+	for _, f := range strings.Split(s, ",") {
+		v, err := strconv.ParseFloat(strings.TrimSpace(f), 64)
+		if err != nil || !(v > 0) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("--viscosity-scale %q: %q is not a number > 0", s, f)
+		}
+		if n := len(out); n > 0 && !(v < out[n-1]) {
+			return nil, fmt.Errorf("--viscosity-scale %q: a list must decrease", s)
+		}
+		out = append(out, v)
+	}
+	return out, nil
+}
+
+type sweepProbeOut struct {
+	At    string `json:"at"`
+	U     []num  `json:"u"`
+	Limit num    `json:"limit"`
+}
+
+type viscosityOut struct {
+	Network string          `json:"network"`
+	Scales  []float64       `json:"scales"`
+	Probes  []sweepProbeOut `json:"probes"`
+	Evals   []int           `json:"policy_iterations"`
+	Status  string          `json:"status"`
+	Notes   []string        `json:"notes,omitempty"`
+}
+
+// viscositySweep solves a controlled network at every scale (largest
+// first) and extrapolates every probe to ε → 0, linearly in ε from the two
+// smallest scales (the vanishing-viscosity gap is observed linear in ε on
+// the shortest-path test, docs/controls.md §4). Without probes it reports
+// every balance node.
+func viscositySweep(ctx context.Context, net *graphpde.Network, file string, m graphpde.Method, cells int, scales []float64, specs []string, pts []graphpde.Point, asJSON bool, stdout, stderr io.Writer) int {
+	if len(pts) == 0 {
+		for v, nd := range net.Nodes {
+			if nd.Law.Kind == vertex.Balance {
+				specs = append(specs, nd.ID)
+				pts = append(pts, vertex.AtNode(v))
+			}
+		}
+	}
+	out := viscosityOut{Network: net.Name, Scales: scales, Status: "converged",
+		Notes: []string{"limit: linear extrapolation in ε from the two smallest scales"}}
+	vals := make([][]float64, len(pts))
+	for _, eps := range scales {
+		res, err := solveControlled(ctx, net, m, cells, eps)
+		if err != nil {
+			return fail(stderr, "solve", fmt.Errorf("--viscosity-scale %g: %w", eps, err))
+		}
+		if res.Status != graphpde.Converged {
+			out.Status = res.Status.String()
+			out.Notes = append(out.Notes, fmt.Sprintf("ε = %g: %v: %s", eps, res.Status, strings.Join(res.Notes, "; ")))
+		}
+		out.Evals = append(out.Evals, res.Iterations)
+		for i, p := range pts {
+			vals[i] = append(vals[i], probe(res.Solution, p))
+		}
+	}
+	n := len(scales)
+	e1, e2 := scales[n-2], scales[n-1]
+	for i := range pts {
+		u1, u2 := vals[i][n-2], vals[i][n-1]
+		lim := u2 - e2*(u1-u2)/(e1-e2)
+		po := sweepProbeOut{At: specs[i], Limit: num(lim)}
+		for _, u := range vals[i] {
+			po.U = append(po.U, num(u))
+		}
+		out.Probes = append(out.Probes, po)
+	}
+	if asJSON {
+		if err := writeJSON(stdout, out); err != nil {
+			return fail(stderr, "solve", err)
+		}
+		return 0
+	}
+	tw := tabwriter.NewWriter(stdout, 2, 4, 2, ' ', 0)
+	fmt.Fprint(tw, "point")
+	for _, e := range scales {
+		fmt.Fprintf(tw, "\tε = %g", e)
+	}
+	fmt.Fprintln(tw, "\tε → 0")
+	for _, po := range out.Probes {
+		fmt.Fprint(tw, po.At)
+		for _, u := range po.U {
+			fmt.Fprintf(tw, "\t%s", fmtNum(float64(u)))
+		}
+		fmt.Fprintf(tw, "\t%s\n", fmtNum(float64(po.Limit)))
+	}
+	tw.Flush()
+	fmt.Fprintf(stdout, "policy evaluations per scale: %v; %s\n", out.Evals, out.Status)
+	for _, n := range out.Notes {
+		fmt.Fprintln(stdout, "note:", n)
+	}
+	return 0
 }

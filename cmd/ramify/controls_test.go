@@ -7,7 +7,12 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/gonum/graph/path"
+	"gonum.org/v1/gonum/graph/simple"
+
+	"github.com/ramify-dev/ramify/graphpde/netfile"
 	"github.com/ramify-dev/ramify/montecarlo/crosscheck"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // pushRight: maximise the probability of reaching the right end of a unit
@@ -198,5 +203,69 @@ func TestControlRefusalsAndPolicyErrors(t *testing.T) {
 	code, _, errs = runCLI(t, ctx, "walk", f, "--from", "track@0.5", "--policy", short)
 	if code == 0 || !strings.Contains(errs, "pieces end at 0.5") {
 		t.Errorf("short policy: exit %d, %q", code, errs)
+	}
+}
+
+// TestViscositySweepCourier: the least expected time of the courier
+// example tends, as every diffusivity is scaled by ε → 0, to the least
+// travel time at full speed: a shortest path in the directed graph whose
+// arc from From to To takes length / (the largest drift towards To) and
+// back length / (the largest drift towards From). The reference is gonum's
+// Dijkstra (graph/path) from the lifts over the reversed arcs. The sweep's
+// limit is extrapolated linearly from ε = 0.01 and 0.001; the bound 1e−3
+// is the size of the ε = 0.001 gap (the extrapolation removes most of it).
+func TestViscositySweepCourier(t *testing.T) {
+	code, out, errs := runCLI(t, context.Background(), "solve", "../../examples/courier.toml", "--viscosity-scale", "0.1,0.01,0.001", "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var got struct {
+		Probes []struct {
+			At    string
+			U     []float64
+			Limit float64
+		}
+		Status string
+	}
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatal(err)
+	}
+	net, err := netfile.ReadFile("../../examples/courier.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	g := simple.NewWeightedDirectedGraph(0, math.Inf(1))
+	for _, ed := range net.Edges {
+		up, down := 0.0, 0.0 // fastest drift towards To, towards From
+		for _, c := range ed.ControlSet() {
+			up, down = math.Max(up, c.B), math.Max(down, -c.B)
+		}
+		// Reversed arcs: from the lifts outwards.
+		if up > 0 {
+			g.SetWeightedEdge(g.NewWeightedEdge(simple.Node(ed.To), simple.Node(ed.From), ed.Length/up))
+		}
+		if down > 0 {
+			g.SetWeightedEdge(g.NewWeightedEdge(simple.Node(ed.From), simple.Node(ed.To), ed.Length/down))
+		}
+	}
+	dist := map[string]float64{}
+	for v, nd := range net.Nodes {
+		if nd.Law.Kind == vertex.Fixed {
+			sp := path.DijkstraFrom(simple.Node(v), g)
+			for w, nw := range net.Nodes {
+				d := sp.WeightTo(int64(w))
+				if old, ok := dist[nw.ID]; !ok || d < old {
+					dist[nw.ID] = d
+				}
+			}
+		}
+	}
+	if got.Status != "converged" || len(got.Probes) == 0 {
+		t.Fatalf("status %s, %d probes", got.Status, len(got.Probes))
+	}
+	for _, p := range got.Probes {
+		if math.Abs(p.Limit-dist[p.At]) > 1e-3 {
+			t.Errorf("%s: limit %.6f (values %v), shortest travel time %.6f", p.At, p.Limit, p.U, dist[p.At])
+		}
 	}
 }

@@ -27,7 +27,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	fieldStep := fs.Float64("field-step", 0, "with --field: sample every edge at this spacing (length units; 0: the grid vertices, or 33 points on an exact edge)")
 	draw := fs.String("draw", "", "draw the network coloured by the field into this SVG file")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
-	viscosity := fs.Float64("viscosity-scale", 0, "controlled networks: multiply every diffusivity by this ε > 0 (the deterministic limit as ε → 0)")
+	viscosity := fs.String("viscosity-scale", "", "controlled networks: multiply every diffusivity by this ε > 0; a decreasing list (0.1,0.01,0.001) sweeps ε and extrapolates the limit ε → 0 at every probe")
 	all := fs.Bool("all", false, fmt.Sprintf("print every node and edge (the tables stop at %d rows otherwise)", tableRows))
 	file, code, ok := parseFlags(fs, args, stderr, true)
 	if !ok {
@@ -66,13 +66,27 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if fs.Changed("viscosity-scale") && !graphpde.Controlled(net) {
 		return badFlag(stderr, "solve", fmt.Errorf("--viscosity-scale: %s has no controls (the scale applies to controlled networks)", file))
 	}
+	scales, err := parseScales(*viscosity)
+	if err != nil {
+		return badFlag(stderr, "solve", err)
+	}
+	if len(scales) > 1 {
+		if *field != "" || *draw != "" {
+			return badFlag(stderr, "solve", fmt.Errorf("--field and --draw take one --viscosity-scale, not a list"))
+		}
+		return viscositySweep(ctx, net, file, m, *cells, scales, *probes, pts, *asJSON, stdout, stderr)
+	}
+	eps := 0.0
+	if len(scales) == 1 {
+		eps = scales[0]
+	}
 	var sol *graphpde.Solution
 	var nl *graphpde.NonlinearResult
 	var ctl *graphpde.ControlResult
 	obj := net.Objective
 	ctlNet := net
 	if graphpde.Controlled(net) {
-		if ctl, err = solveControlled(ctx, net, m, *cells, *viscosity); err != nil {
+		if ctl, err = solveControlled(ctx, net, m, *cells, eps); err != nil {
 			return fail(stderr, "solve", err)
 		}
 		sol = ctl.Solution
