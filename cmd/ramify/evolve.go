@@ -196,13 +196,15 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	}
 	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Quantity: "field", Tol: num(*tol),
 		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
-		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds(), Caution: caution}
+		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds()}
+	if hazard(net) && !*forward { // a tracer's whereabouts feed no load or heating decision
+		out.Caution = caution
+	}
 	if m == graphpde.MethodExact {
 		out.Method = "exact"
 	}
 	if *forward {
 		out.Quantity = "concentration"
-		out.Caution = "" // a tracer's whereabouts feed no load or heating decision
 	}
 	if *crossing > 0 {
 		c := num(*crossing)

@@ -143,3 +143,36 @@ func TestEvolveInterrupted(t *testing.T) {
 		}
 	}
 }
+
+// TestEvolveCaution: the safety caution follows the network's physical model,
+// as in solve — a de-icing wire (heat, current) carries it, a passive nerve
+// cable and a plain-number file do not (it was printed under every evolve).
+func TestEvolveCaution(t *testing.T) {
+	for _, c := range []struct {
+		file string
+		want bool
+	}{
+		{"../../examples/deicing-wire.toml", true},
+		{"../../examples/interneuron.toml", false},
+		{"../../examples/fork.toml", false},
+	} {
+		code, out, errs := runCLI(t, context.Background(), "evolve", c.file, "--until", "0.001", "--step", "0.0005")
+		if code != 0 {
+			t.Fatalf("%s: exit %d: %s", c.file, code, errs)
+		}
+		if has := strings.Contains(out, "engineering review"); has != c.want {
+			t.Errorf("%s: text caution present %v, want %v", c.file, has, c.want)
+		}
+		code, out, errs = runCLI(t, context.Background(), "evolve", c.file, "--until", "0.001", "--step", "0.0005", "--json")
+		if code != 0 {
+			t.Fatalf("%s --json: exit %d: %s", c.file, code, errs)
+		}
+		var got struct{ Caution string }
+		if err := json.Unmarshal([]byte(out), &got); err != nil {
+			t.Fatal(err)
+		}
+		if has := got.Caution != ""; has != c.want {
+			t.Errorf("%s --json: caution present %v, want %v", c.file, has, c.want)
+		}
+	}
+}
