@@ -69,6 +69,12 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	if err != nil {
 		return fail(stderr, "spectrum", fmt.Errorf("%s: %w", file, err))
 	}
+	// Ctrl-C: the eigenvalues bracketed before it are complete and kept
+	// (each is counted from below, so none below them is missed).
+	interrupted := ctx.Err() != nil
+	if interrupted {
+		fmt.Fprintf(stderr, "ramify spectrum: interrupted: printing the %s found before\n", plural(len(r.Eigenvalues), "eigenvalue"))
+	}
 	if *modes != "" {
 		if _, err := saveFile(*modes, []string{file}, func(w io.Writer) error { return writeModes(w, net, r) }); err != nil {
 			return fail(stderr, "spectrum", err)
@@ -76,6 +82,9 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	}
 	out := spectrumOut{Network: net.Name, RelaxationTime: num(r.RelaxationTime()), Method: r.Method,
 		SelfAdjoint: r.SelfAdjoint, Status: r.Status.String(), Factorizations: r.Stats.Factorizations, Seconds: r.Stats.Time.Seconds()}
+	if interrupted {
+		out.Status = "interrupted"
+	}
 	for _, e := range r.Eigenvalues {
 		o := eigenOut{Value: num(e.Value), Multiplicity: e.Multiplicity, Error: num(e.Err), TimeConstant: num(1 / e.Value)}
 		if !r.SelfAdjoint {
@@ -88,13 +97,16 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 		if err := writeJSON(stdout, out); err != nil {
 			return fail(stderr, "spectrum", err)
 		}
+		if interrupted {
+			return exitInterrupted
+		}
 		return 0
 	}
 	name := net.Name
 	if name == "" {
 		name = file
 	}
-	fmt.Fprintf(stdout, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), r.Status)
+	fmt.Fprintf(stdout, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), out.Status)
 	how := "exact elements, eigenvalues counted (Wittrick–Williams); none missed, multiplicities exact"
 	switch {
 	case r.Method == "grid" && r.SelfAdjoint:
@@ -131,6 +143,10 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 		fmt.Fprintln(stdout, "λ₁ = 0: nothing anchors the network, so its mean value never relaxes; the next time constant is the slowest that does")
 	default:
 		fmt.Fprintf(stdout, "slowest relaxation time 1/λ₁ = %.7g (disturbances of the steady field decay like e^(−t/%.4g))\n", rt, rt)
+	}
+	if interrupted {
+		fmt.Fprintf(stdout, "interrupted (Ctrl-C): the %s found before\n", plural(len(r.Eigenvalues), "eigenvalue"))
+		return exitInterrupted
 	}
 	return 0
 }
