@@ -255,3 +255,33 @@ func TestGeoJSON(t *testing.T) {
 		}
 	}
 }
+
+// TestGeoJSONFeatureID: RFC 7946 §3.2 puts a Feature's identifier in its own
+// "id" member (a string or a number), not among the properties; the reader
+// takes it as the node or edge id (it refused such a Point: "needs an id
+// property"). An "id" property still wins, and a Point with neither is an
+// error.
+func TestGeoJSONFeatureID(t *testing.T) {
+	const doc = `{"type": "FeatureCollection",
+ "crs": {"type": "name", "properties": {"name": "urn:ogc:def:crs:EPSG::32633"}},
+ "features": [
+  {"type": "Feature", "id": "well", "geometry": {"type": "Point", "coordinates": [0, 0]}, "properties": {"fixed": 1}},
+  {"type": "Feature", "id": 7, "geometry": {"type": "Point", "coordinates": [300, 400]}, "properties": {"fixed": 0}},
+  {"type": "Feature", "id": "ignored", "geometry": {"type": "LineString", "coordinates": [[0, 0], [300, 400]]}, "properties": {"id": "f2", "diffusivity": 1}},
+  {"type": "Feature", "id": "f1", "geometry": {"type": "LineString", "coordinates": [[0, 0], [300, 0], [300, 400]]}, "properties": {"diffusivity": 2}}
+ ]}`
+	net, err := ReadGeoJSON(strings.NewReader(doc), "pipes.geojson")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(net.Nodes) != 2 || net.Nodes[0].ID != "well" || net.Nodes[1].ID != "7" {
+		t.Fatalf("nodes %+v, want well and 7", net.Nodes)
+	}
+	if len(net.Edges) != 2 || net.Edges[0].ID != "f2" || net.Edges[1].ID != "f1" || net.Edges[1].Length != 700 {
+		t.Errorf("edges %+v, want f2 and f1 (length 700)", net.Edges)
+	}
+	const noID = `{"type": "Feature", "geometry": {"type": "Point", "coordinates": [0, 0]}, "properties": {"fixed": 1}}`
+	if _, err := ReadGeoJSON(strings.NewReader(noID), "bad.geojson"); err == nil || !strings.Contains(err.Error(), "needs an id") {
+		t.Errorf("Point without an id: error %v, want one naming the missing id", err)
+	}
+}

@@ -24,7 +24,8 @@ import (
 // the Point feature at that coordinate, or else a node created there
 // (ids "p1", "p2", …). Ids default to "e1", "e2", … in file order.
 //
-// Nodes: a Point feature's properties are the node keys (id required,
+// Nodes: a Point feature's properties are the node keys (id required:
+// the Feature's "id" member, RFC 7946 §3.2, or an "id" property;
 // fixed, leak, inject, capacity, split, node elements); its coordinate is
 // its position.
 //
@@ -71,7 +72,7 @@ func ReadGeoJSON(r io.Reader, name string) (*graphpde.Network, error) {
 		props := fromJSON(f.props()).(map[string]any)
 		id, _ := props["id"].(string)
 		if id == "" {
-			return nil, g.fail(i, "a Point feature (a node) needs an \"id\" property")
+			return nil, g.fail(i, "a Point feature (a node) needs an id (the Feature's \"id\" member or an \"id\" property)")
 		}
 		if _, dup := g.ids[id]; dup {
 			return nil, g.fail(i, fmt.Sprintf("node id %q used twice", id))
@@ -136,15 +137,32 @@ type geoFeature struct {
 		Coordinates json.RawMessage `json:"coordinates"`
 	} `json:"geometry"`
 	Properties json.RawMessage `json:"properties"`
+	// ID is the Feature's own "id" member (RFC 7946 §3.2: a string or a
+	// number), the id of the node or edge unless the properties name one.
+	ID json.RawMessage `json:"id"`
 }
 
-// props decodes the properties with numbers kept exact.
+// props decodes the properties with numbers kept exact, and adds the
+// Feature's "id" member as the "id" property where the properties have none.
 func (f geoFeature) props() any {
 	m := map[string]any{}
 	if len(f.Properties) > 0 && string(f.Properties) != "null" {
 		dec := json.NewDecoder(bytes.NewReader(f.Properties))
 		dec.UseNumber()
 		dec.Decode(&m)
+	}
+	if _, has := m["id"]; !has && len(f.ID) > 0 {
+		var id any
+		dec := json.NewDecoder(bytes.NewReader(f.ID))
+		dec.UseNumber()
+		if dec.Decode(&id) == nil {
+			switch v := id.(type) {
+			case string:
+				m["id"] = v
+			case json.Number:
+				m["id"] = v.String()
+			}
+		}
 	}
 	return m
 }
