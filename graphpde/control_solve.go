@@ -60,8 +60,8 @@ const DefaultControlCells = 256
 // ControlSettings controls SolveControl. A nil *ControlSettings means the
 // defaults.
 type ControlSettings struct {
-	// Cells of every controlled edge (0: the edge's Cells, else
-	// DefaultControlCells).
+	// Cells of every controlled edge whose Cells is 0 (0 here:
+	// DefaultControlCells). At least 2.
 	Cells int
 	// Linear are the settings of the uncontrolled edges and the node
 	// system (Method, Cells of uncontrolled grid edges); nil: defaults.
@@ -74,6 +74,10 @@ type ControlSettings struct {
 	// GridOnly keeps the grid elements where the policy is constant along
 	// an edge (no exact re-solve).
 	GridOnly bool
+	// From, when non-nil, is an earlier result on the same network (with
+	// the same cells) whose policy starts the iteration: a sweep of the
+	// viscosity scale continues from the previous scale.
+	From *ControlResult
 	// Context, when non-nil, stops the iteration between two evaluations
 	// when done (the result is the last evaluated policy, status
 	// IterationLimit with a note).
@@ -252,7 +256,11 @@ func SolveControl(net *Network, set *ControlSettings) (*ControlResult, error) {
 	if set != nil {
 		cs = *set
 	}
-	return solveControl(net, cs, nil)
+	var start *ctlIter
+	if cs.From != nil {
+		start = cs.From.iter
+	}
+	return solveControl(net, cs, start)
 }
 
 // ctlContinueBelow: a viscosity scale below it is reached by continuation
@@ -262,7 +270,7 @@ func SolveControl(net *Network, set *ControlSettings) (*ControlResult, error) {
 // and each improvement corrects little; the optimal policies of
 // neighbouring scales differ only near their switches. Observed on the
 // network of TestVanishingViscosityShortestPath: 6, 14 and 55 evaluations
-// at ε = 0.1, 0.01, 0.001 from the averaged start, 6, 15 and 17 with
+// at ε = 0.1, 0.01, 0.001 from the averaged start, 6, 11 and 13 with
 // continuation (counting every scale's evaluations).
 const ctlContinueBelow = 0.1
 
@@ -274,9 +282,6 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 		up := cs
 		up.ViscosityScale = math.Min(10*eps, 1)
 		up.GridOnly = true
-		if 10*eps >= ctlContinueBelow {
-			up.ViscosityScale = 1
-		}
 		r, err := solveControl(net, up, nil)
 		if err != nil {
 			return nil, err
@@ -321,13 +326,14 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 		if len(ed.ControlSet()) == 0 {
 			continue
 		}
-		n := cs.Cells
+		n := ed.Cells
 		if n == 0 {
-			n = ed.Cells
+			n = cs.Cells
 		}
 		if n == 0 {
 			n = DefaultControlCells
 		}
+		n = max(n, 2) // a control needs an interior vertex to act at
 		cs := ed.ControlSet()
 		avg := EdgeControl{}
 		for _, c := range cs {

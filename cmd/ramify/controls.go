@@ -341,8 +341,12 @@ func viscositySweep(ctx context.Context, net *graphpde.Network, file string, m g
 	out := viscosityOut{Network: net.Name, Scales: scales, Status: "converged",
 		Notes: []string{"limit: linear extrapolation in ε from the two smallest scales"}}
 	vals := make([][]float64, len(pts))
+	var prev *graphpde.ControlResult
 	for _, eps := range scales {
-		res, err := solveControlled(ctx, net, m, cells, eps)
+		set := &graphpde.ControlSettings{Cells: cells, ViscosityScale: eps, Context: ctx,
+			Linear: &graphpde.Settings{Method: m}, GridOnly: m == graphpde.MethodGrid, From: prev}
+		res, err := graphpde.SolveControl(net, set)
+		prev = res
 		if err != nil {
 			return fail(stderr, "solve", fmt.Errorf("--viscosity-scale %g: %w", eps, err))
 		}
