@@ -321,8 +321,10 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 // lw.mu.
 func (lw *lifetimeLaw) evalWindow(c laplace.Contour) (*lawWindow, error) {
 	w := &lawWindow{c: c, fl: make([]complex128, len(c.S)), fs: make([]complex128, len(c.S))}
+	vals, errs := make([]complex128, len(c.S)), make([]error, len(c.S))
+	lw.tr.atMany(c.S, vals, errs)
 	for j, s := range c.S {
-		L, err := lw.tr.at(s)
+		L, err := vals[j], errs[j]
 		if err != nil {
 			// Contours reach far into the left half plane (the more so
 			// for the shifted inversion), where the transform may
@@ -356,17 +358,22 @@ func (lw *lifetimeLaw) taylor(R float64, N, n int) ([]float64, error) {
 	lw.mu.Lock()
 	defer lw.mu.Unlock()
 	vals := make([]complex128, N)
-	for j := 0; j <= N/2; j++ {
-		s := cmplx.Rect(R, 2*math.Pi*float64(j)/float64(N))
+	ss := make([]complex128, N/2+1)
+	for j := range ss {
+		ss[j] = cmplx.Rect(R, 2*math.Pi*float64(j)/float64(N))
 		if j == 0 {
-			s = complex(R, 0)
+			ss[j] = complex(R, 0)
 		} else if 2*j == N {
-			s = complex(-R, 0)
+			ss[j] = complex(-R, 0)
 		}
-		v, err := lw.tr.at(s)
-		if err != nil {
-			return nil, err
+	}
+	got, errs := make([]complex128, len(ss)), make([]error, len(ss))
+	lw.tr.atMany(ss, got, errs)
+	for j := range ss {
+		if errs[j] != nil {
+			return nil, errs[j]
 		}
+		v := got[j]
 		vals[j] = v
 		if j > 0 && 2*j < N {
 			vals[N-j] = cmplx.Conj(v)

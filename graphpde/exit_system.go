@@ -5,6 +5,9 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
+	"sync"
+	"sync/atomic"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
 	"github.com/ramify-dev/ramify/vertex"
@@ -357,6 +360,9 @@ type transformer struct {
 	ld  exitLoad[complex128]
 	n   int             // evaluations so far
 	ctx context.Context // checked before each evaluation; nil: never stops
+	// helpers are clones (own matrix, factor and vectors on the same
+	// system) that evaluate other points of a batch in parallel (atMany).
+	helpers []*transformer
 }
 
 func newTransformer(sys *exitSystem) *transformer {
@@ -374,6 +380,56 @@ func newTransformer(sys *exitSystem) *transformer {
 	}
 	return tr
 }
+
+// atMany evaluates L at every point of ss into out (errs[j] the error of
+// point j, nil when it succeeded), spread over up to GOMAXPROCS goroutines,
+// each with its own copy of the matrix and factor (the system is shared,
+// read only). Every point's value is the one at would return: each is an
+// independent assembly, factorisation and solve.
+func (tr *transformer) atMany(ss []complex128, out []complex128, errs []error) {
+	workers := min(runtime.GOMAXPROCS(0), len(ss))
+	if workers <= 1 || tr.sys.nUnk < parallelTransformUnknowns {
+		for j, s := range ss {
+			out[j], errs[j] = tr.at(s)
+		}
+		return
+	}
+	for len(tr.helpers) < workers-1 {
+		h := newTransformer(tr.sys)
+		h.ctx = tr.ctx
+		tr.helpers = append(tr.helpers, h)
+	}
+	var next atomic.Int64
+	var wg sync.WaitGroup
+	for w := range workers {
+		t := tr
+		if w > 0 {
+			t = tr.helpers[w-1]
+		}
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for {
+				j := int(next.Add(1) - 1)
+				if j >= len(ss) {
+					return
+				}
+				out[j], errs[j] = t.at(ss[j])
+			}
+		}()
+	}
+	wg.Wait()
+	for _, h := range tr.helpers {
+		tr.n += h.n
+		h.n = 0
+	}
+}
+
+// parallelTransformUnknowns is the smallest node system whose transform
+// values are spread over several goroutines: below it a factorisation takes
+// microseconds and starting goroutines would cost more than it saves
+// (common practice, no source).
+const parallelTransformUnknowns = 2000
 
 // at returns L(s) at the start.
 func (tr *transformer) at(s complex128) (complex128, error) {
