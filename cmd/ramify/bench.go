@@ -81,6 +81,10 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err := benchTime(w, *size); err != nil {
 		return fail(stderr, "bench", err)
 	}
+	fmt.Fprintln(w)
+	if err := benchControls(w, *size); err != nil {
+		return fail(stderr, "bench", err)
+	}
 	return 0
 }
 

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
 	"fmt"
@@ -10,8 +11,11 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
+	"time"
 
+	"github.com/ramify-dev/ramify/examples"
 	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/netfile"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -395,4 +399,46 @@ func viscositySweep(ctx context.Context, net *graphpde.Network, file string, m g
 		fmt.Fprintln(stdout, "note:", n)
 	}
 	return 0
+}
+
+// benchControls measures policy iteration on the courier example against
+// a linear solve of the network of its optimal policy on the same grid,
+// best of 3 alternating runs.
+func benchControls(w io.Writer, size string) error {
+	cells := 256
+	if size == "large" {
+		cells = 4096
+	}
+	src, err := examples.Files.ReadFile("courier.toml")
+	if err != nil {
+		return err
+	}
+	net, err := netfile.Read(bytes.NewReader(src), "courier.toml")
+	if err != nil {
+		return err
+	}
+	evalT, whole, lin := math.Inf(1), math.Inf(1), math.Inf(1)
+	evals := 0
+	for range 3 {
+		res, err := graphpde.SolveControl(net, &graphpde.ControlSettings{Cells: cells})
+		if err != nil {
+			return err
+		}
+		pn, _, err := net.Apply(res.Policy)
+		if err != nil {
+			return err
+		}
+		t0 := time.Now()
+		if _, err := graphpde.Solve(pn, &graphpde.Settings{Method: graphpde.MethodGrid, Cells: cells}); err != nil {
+			return err
+		}
+		lin = math.Min(lin, time.Since(t0).Seconds())
+		evals = res.Iterations
+		evalT = math.Min(evalT, res.SolveTime.Seconds()/float64(res.Iterations))
+		whole = math.Min(whole, res.Elapsed.Seconds())
+	}
+	fmt.Fprintf(w, "policy iteration, examples/courier.toml at %d cells per tunnel (best of 3):\n", cells)
+	fmt.Fprintf(w, "  %d evaluations (target ≤ 10); one evaluation = %.2f linear solves of the policy's network (target ≤ 1.3); the whole iteration = %.1f linear solves (%.3g s)\n",
+		evals, evalT/lin, whole/lin, whole)
+	return nil
 }
