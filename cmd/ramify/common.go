@@ -243,7 +243,28 @@ func (x num) MarshalJSON() ([]byte, error) {
 	if math.IsNaN(f) || math.IsInf(f, 0) {
 		return []byte("null"), nil
 	}
-	return json.Marshal(f)
+	return appendJSONFloat(make([]byte, 0, 24), f), nil
+}
+
+// appendJSONFloat appends f as encoding/json writes a float64 (the shortest
+// digits that read back exactly; exponent form below 1e−6 and from 1e21,
+// with the exponent's leading zero dropped), without json.Marshal's
+// reflection and allocations: the numbers of a large result are written
+// hundreds of thousands of times. TestJSONFloat compares the two.
+func appendJSONFloat(b []byte, f float64) []byte {
+	format := byte('f')
+	if abs := math.Abs(f); abs != 0 && (abs < 1e-6 || abs >= 1e21) {
+		format = 'e'
+	}
+	b = strconv.AppendFloat(b, f, format, -1, 64)
+	if format == 'e' {
+		// e-09 → e-9
+		if n := len(b); n >= 4 && b[n-4] == 'e' && b[n-3] == '-' && b[n-2] == '0' {
+			b[n-2] = b[n-1]
+			b = b[:n-1]
+		}
+	}
+	return b
 }
 
 // isTerminal reports whether w is a character device (a terminal).
