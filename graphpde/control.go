@@ -168,6 +168,9 @@ func checkControls(net *Network) error {
 	if net.Objective != Minimize && net.Objective != Maximize {
 		return fmt.Errorf("the network has controls but no objective (\"min\" or \"max\")")
 	}
+	if HasLaws(net) {
+		return fmt.Errorf("the network has controls and laws that depend on u (or nonlinear node laws): policy iteration needs every uncontrolled part linear")
+	}
 	for v := range net.Nodes {
 		nd := &net.Nodes[v]
 		for k, c := range nd.Controls {

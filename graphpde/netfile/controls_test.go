@@ -171,3 +171,40 @@ diffusivity = 1.0
 		t.Errorf("node controls %+v", nc)
 	}
 }
+
+// TestControlWithLawsRefused: a controlled file whose other edges carry a
+// law in u is refused by the solver with a reason (policy iteration needs
+// the rest linear).
+func TestControlWithLawsRefused(t *testing.T) {
+	src := `[network]
+objective = "min"
+[[node]]
+id = "a"
+fixed = 0.0
+[[node]]
+id = "b"
+[[node]]
+id = "c"
+fixed = 1.0
+[[edge]]
+id = "x"
+from = "a"
+to = "b"
+length = 1.0
+diffusivity = 1.0
+controls = [ { drift = 1.0 }, { drift = -1.0 } ]
+[[edge]]
+id = "y"
+from = "b"
+to = "c"
+length = 1.0
+diffusivity = "1 + u*u"
+`
+	net, err := Read(strings.NewReader(src), "case.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := graphpde.SolveControl(net, nil); err == nil || !strings.Contains(err.Error(), "laws") {
+		t.Errorf("error %v, want a refusal naming the laws", err)
+	}
+}
