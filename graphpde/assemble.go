@@ -21,6 +21,9 @@ func (s *system) assemble(shift float64) {
 	// the grid storage, which would evict the node system between edges.
 	var pend *constGridEl // a constant grid edge waiting for a partner
 	for e, el := range s.els {
+		if e%stopEvery == 0 && s.stop("assembly") {
+			return
+		}
 		k, ok := el.(*constGridEl)
 		if !ok {
 			s.maps[e], _ = el.linearize(0, 0)
@@ -116,6 +119,11 @@ func (s *system) factor() error {
 		if errors.As(err, &se) {
 			return &SingularNodeError{Node: s.net.Nodes[s.nodes[se.Index]].ID, Pivot: se.Pivot, Scale: se.Scale}
 		}
+		if errors.Is(err, nodesys.ErrStopped) {
+			if c := canceled(s.ctx, "factorisation"); c != nil {
+				return c
+			}
+		}
 		return err
 	}
 	fs := s.fac.Stats()
@@ -155,6 +163,9 @@ func (s *system) recover() {
 	edges := s.net.Edges
 	var pend *constGridEl // a constant grid edge waiting for a partner
 	for e, el := range s.els {
+		if e%stopEvery == 0 && s.stop("recovery") {
+			return
+		}
 		if el.unknowns() == 0 {
 			continue
 		}

@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"strconv"
@@ -36,6 +37,12 @@ type NonlinearSettings struct {
 	// vertex; nil starts from the fixed values at fixed nodes, their mean
 	// (0 if there are none) at balance nodes, linear along the edges.
 	Guess func(p Point) float64
+	// Context, when not nil, stops the solve once it is cancelled: it is
+	// looked at between batches of edges of every evaluation and between
+	// batches of columns of every factorisation. A stopped solve returns
+	// a *CanceledError (errors.Is(err, context.Canceled) holds) with a
+	// result of Status NotSolved and no Solution. Nil: never stopped.
+	Context context.Context
 }
 
 // NonlinearResult is the outcome of SolveNonlinear.
@@ -277,6 +284,10 @@ func (s *nlSystem) lineSearch(merit0, tol float64) (float64, bool, error) {
 			err = s.eval(s.tU, s.tw)
 		}
 		if err != nil {
+			var ce *CanceledError
+			if errors.As(err, &ce) {
+				return 0, false, err
+			}
 			lastErr = err
 			continue
 		}

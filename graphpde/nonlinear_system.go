@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -32,6 +33,7 @@ type endLin struct {
 // nlSystem is the state of a Newton solve: the unknowns, the residuals, the
 // linearisation and the condensed node system.
 type nlSystem struct {
+	ctx  context.Context // NonlinearSettings.Context (nil: never stopped)
 	net  *Network
 	kind []nlKind
 	n    []int // cells of grid edges
@@ -116,7 +118,7 @@ func lawEdge(ed *Edge) (quasi, equation bool) {
 
 func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	ne, nn := len(net.Edges), len(net.Nodes)
-	s := &nlSystem{net: net}
+	s := &nlSystem{net: net, ctx: set.Context}
 	cells := DefaultCells
 	if set.Cells > 0 {
 		cells = set.Cells
@@ -190,7 +192,11 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	rowPtr, col := ps.pattern()
 	s.dslot, s.eslot = ps.dslot, ps.eslot
 	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
-	s.fac = nodesys.NewFactor[float64](nil)
+	var fset *nodesys.Settings
+	if ctx := s.ctx; ctx != nil {
+		fset = &nodesys.Settings{Stop: func() bool { return ctx.Err() != nil }}
+	}
+	s.fac = nodesys.NewFactor[float64](fset)
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
 	ni := int(interior)
@@ -299,6 +305,11 @@ func (s *nlSystem) start(guess func(Point) float64) {
 func (s *nlSystem) eval(U, w []float64) error {
 	s.resetEval()
 	for e := range s.net.Edges {
+		if e%stopEvery == 0 {
+			if err := canceled(s.ctx, "Newton iteration"); err != nil {
+				return err
+			}
+		}
 		if err := s.evalEdge(e, U, w); err != nil {
 			return err
 		}
@@ -327,6 +338,11 @@ func (s *nlSystem) evalStep() error {
 	s.resetEval()
 	s.fused = 0
 	for e := range net.Edges {
+		if e%stopEvery == 0 {
+			if err := canceled(s.ctx, "Newton iteration"); err != nil {
+				return err
+			}
+		}
 		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
 			ed := &net.Edges[e]
 			s.backStep(e, s.dU[ed.From], s.dU[ed.To])
@@ -633,6 +649,11 @@ func (s *nlSystem) back(e int, dU0, dUL float64, src, dW []float64) {
 func (s *nlSystem) prepare(U, w []float64) error {
 	net := s.net
 	for e := range net.Edges {
+		if e%stopEvery == 0 {
+			if err := canceled(s.ctx, "Newton iteration"); err != nil {
+				return err
+			}
+		}
 		s.condense(e)
 	}
 	s.mat.ZeroValues()
@@ -694,6 +715,11 @@ func (s *nlSystem) factor() error {
 		var se *nodesys.SingularError
 		if errors.As(err, &se) {
 			return &SingularNodeError{Node: s.net.Nodes[s.nodes[se.Index]].ID, Pivot: se.Pivot, Scale: se.Scale}
+		}
+		if errors.Is(err, nodesys.ErrStopped) {
+			if c := canceled(s.ctx, "Newton iteration"); c != nil {
+				return c
+			}
 		}
 		return err
 	}

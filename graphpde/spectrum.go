@@ -624,6 +624,9 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 			return false, nil
 		}
 		for it := 0; it < 400 && !done; it++ {
+			if s.Context != nil && s.Context.Err() != nil {
+				break // not done: Status IterationLimit, the eigenvalues found so far kept
+			}
 			tol := 64*0x1p-52*math.Max(math.Abs(l.lam), math.Abs(h.lam)) + absTol
 			if h.lam-l.lam <= 2*tol {
 				lam = 0.5 * (l.lam + h.lam)

@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"fmt"
 	"math"
 
@@ -88,6 +89,21 @@ type system struct {
 	// scaled residual in that form is omegaRow.
 	rowForm  bool
 	omegaRow float64
+	// ctx is Settings.Context (nil: never stopped); halt is set to a
+	// *CanceledError when assemble or recover stopped early on it, which
+	// leaves the system unusable.
+	ctx  context.Context
+	halt error
+}
+
+// stop reports whether s.ctx is cancelled, and if so records in s.halt
+// that stage stopped.
+func (s *system) stop(stage string) bool {
+	if s.ctx == nil || s.halt != nil {
+		return s.halt != nil
+	}
+	s.halt = canceled(s.ctx, stage)
+	return s.halt != nil
 }
 
 // edgeMap is an element's affine end map: u'(0) = d[0]·(U0,UL) + g[0],
@@ -121,6 +137,7 @@ func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*syst
 	maxGrid := int64(DefaultMaxGridUnknowns)
 	if set != nil {
 		method = set.Method
+		s.ctx = set.Context
 		if set.MaxGridUnknowns > 0 {
 			maxGrid = int64(set.MaxGridUnknowns)
 		}
@@ -259,6 +276,9 @@ func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*syst
 		}
 		o += s.els[e].unknowns()
 	}
+	if err := canceled(s.ctx, "set-up"); err != nil {
+		return nil, err
+	}
 	if err := s.checkAnchors(); err != nil {
 		return nil, err
 	}
@@ -280,7 +300,11 @@ func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*syst
 	// A pivot share down to nodePivotTol is accepted: the refinement
 	// with the row-sum residual (accuracy.go) recovers what such a factor
 	// loses, and judge states the accuracy where it cannot.
-	s.fac = nodesys.NewFactor[float64](&nodesys.Settings{PivotTol: nodePivotTol})
+	fset := &nodesys.Settings{PivotTol: nodePivotTol}
+	if ctx := s.ctx; ctx != nil {
+		fset.Stop = func() bool { return ctx.Err() != nil }
+	}
+	s.fac = nodesys.NewFactor[float64](fset)
 	s.ex = make([]float64, m)
 	s.fac.SetRowExcess(s.ex)
 	s.rhs = make([]float64, m)

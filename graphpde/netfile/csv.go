@@ -83,6 +83,11 @@ type csvReader struct {
 // *strings.Reader or regular *os.File) it extrapolates the number of rows
 // from the first ones and allocates the network's slices once.
 func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
+	return readCSV(r, name, nil)
+}
+
+// readCSV is ReadCSV with the options of ReadFileOptions (nil: none).
+func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	cr := csv.NewReader(r)
 	cr.Comment = '#'
 	cr.ReuseRecord = true
@@ -95,6 +100,11 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 	for rows := 0; ; rows++ {
 		if rows == presizeAfter && size > 0 {
 			c.presize(size)
+		}
+		if rows%stopEvery == 0 {
+			if err := opt.stopped(name); err != nil {
+				return nil, err
+			}
 		}
 		rec, err := cr.Read()
 		if err == io.EOF {
@@ -124,6 +134,17 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 	if len(c.net.Nodes) == 0 {
 		// A header and no rows (or only comments): nothing to solve.
 		return nil, &Error{File: name, Msg: "the edge list has no rows after its header"}
+	}
+	if opt != nil && opt.Lines != nil {
+		opt.Lines.reset()
+		for i, ln := range c.nodeRow {
+			if ln > 0 {
+				opt.Lines.Nodes[c.net.Nodes[i].ID] = ln
+			}
+		}
+		for i, ln := range c.edgeRow {
+			opt.Lines.Edges[c.net.Edges[i].ID] = ln
+		}
 	}
 	return c.net, nil
 }

@@ -17,14 +17,29 @@ import (
 )
 
 // readers maps a file extension to its reader.
-var readers = map[string]func(io.Reader, string) (*graphpde.Network, error){
-	".toml":    Read,
-	".csv":     ReadCSV,
-	".json":    ReadJSON,
-	".geojson": ReadGeoJSON,
-	".swc":     ReadSWC,
-	".dot":     ReadDOT,
-	".gv":      ReadDOT,
+var readers = map[string]func(io.Reader, string, *Options) (*graphpde.Network, error){
+	".toml":    readTOML,
+	".csv":     readCSV,
+	".json":    whole(ReadJSON),
+	".geojson": whole(ReadGeoJSON),
+	".swc":     whole(ReadSWC),
+	".dot":     whole(ReadDOT),
+	".gv":      whole(ReadDOT),
+}
+
+// whole adapts a reader that takes no options: the context is looked at
+// before and after it reads, and it records no lines.
+func whole(read func(io.Reader, string) (*graphpde.Network, error)) func(io.Reader, string, *Options) (*graphpde.Network, error) {
+	return func(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
+		net, err := read(r, name)
+		if stop := opt.stopped(name); stop != nil {
+			return nil, stop
+		}
+		if opt != nil && opt.Lines != nil {
+			opt.Lines.reset()
+		}
+		return net, err
+	}
 }
 
 const readerList = ".toml (network file), .csv (edge list), .json (network or GeoJSON), .geojson, .swc (neuron morphology) or .dot/.gv (Graphviz)"

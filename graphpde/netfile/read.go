@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -35,6 +36,16 @@ var (
 // (ReadJSON), ".geojson" (ReadGeoJSON), ".swc" (ReadSWC), ".dot" or ".gv"
 // (ReadDOT). The path is used as the file name in errors.
 func ReadFile(path string) (*graphpde.Network, error) {
+	return ReadFileOptions(path, nil)
+}
+
+// ReadFileOptions is ReadFile with options (nil: none): a context that
+// stops the reading, and a record of the lines where nodes and edges are
+// defined.
+func ReadFileOptions(path string, opt *Options) (*graphpde.Network, error) {
+	if err := opt.stopped(path); err != nil {
+		return nil, err
+	}
 	ext := strings.ToLower(filepath.Ext(path))
 	read, ok := readers[ext]
 	if !ok {
@@ -45,7 +56,7 @@ func ReadFile(path string) (*graphpde.Network, error) {
 		return nil, &Error{File: path, Msg: "cannot open: " + errMsg(err), Err: err}
 	}
 	defer f.Close()
-	return read(f, path)
+	return read(f, path, opt)
 }
 
 // errMsg strips the path that *os.PathError repeats.
@@ -66,7 +77,12 @@ func errMsg(err error) string {
 // whole), so that its memory is the text plus the network it builds plus
 // one table; its cost is linear in the file size.
 func Read(r io.Reader, name string) (*graphpde.Network, error) {
-	net, err := read(r, name)
+	return readTOML(r, name, nil)
+}
+
+// readTOML is Read with the options of ReadFileOptions (nil: none).
+func readTOML(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
+	net, err := read(r, name, opt)
 	if err == nil && len(net.Nodes) == 0 {
 		// Nothing to solve: an empty file, or one with only [network]
 		// or [defaults]. Every command would report "0 nodes; converged".
@@ -76,7 +92,7 @@ func Read(r io.Reader, name string) (*graphpde.Network, error) {
 }
 
 // read is Read without the check for an empty network.
-func read(r io.Reader, name string) (*graphpde.Network, error) {
+func read(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	var b strings.Builder
 	if size := inputSize(r); size > 0 {
 		b.Grow(int(size))
@@ -85,11 +101,14 @@ func read(r io.Reader, name string) (*graphpde.Network, error) {
 		return nil, &Error{File: name, Msg: "cannot read: " + errMsg(err), Err: err}
 	}
 	src := b.String()
+	if err := opt.stopped(name); err != nil {
+		return nil, err
+	}
 	lay, err := prescan(src, name)
 	if err != nil {
 		return nil, err
 	}
-	rd := &reader{file: name, nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt, nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
 	if lay.simple && len(lay.nodes)+len(lay.edges) > 0 && !decodeWhole {
 		// One table at a time: the head (every other table) whole, each
 		// [[node]] and [[edge]] when it is read.
@@ -122,6 +141,7 @@ var decodeWhole = false
 // reader holds the state of one Read.
 type reader struct {
 	file     string
+	opt      *Options // context and line record (nil: none)
 	loc      *locator
 	sections *sectionIndex  // when [[node]] and [[edge]] are decoded one at a time
 	nodeLine map[string]int // node id → line of its id key
@@ -595,6 +615,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	}
 	var splits []splitSpec
 	for i := range nodes.n {
+		if i%stopEvery == 0 {
+			if err := rd.opt.stopped(rd.file); err != nil {
+				return nil, err
+			}
+		}
 		m, err := nodes.get(i)
 		if err != nil {
 			return nil, err
@@ -613,6 +638,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		}
 	}
 	for i := range edges.n {
+		if i%stopEvery == 0 {
+			if err := rd.opt.stopped(rd.file); err != nil {
+				return nil, err
+			}
+		}
 		m, err := edges.get(i)
 		if err != nil {
 			return nil, err
@@ -635,6 +665,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	}
 	if err := rd.physical(net); err != nil {
 		return nil, err
+	}
+	if rd.opt != nil && rd.opt.Lines != nil {
+		rd.opt.Lines.reset()
+		maps.Copy(rd.opt.Lines.Nodes, rd.nodeLine)
+		maps.Copy(rd.opt.Lines.Edges, rd.edgeLine)
 	}
 	return net, nil
 }

@@ -1,6 +1,7 @@
 package nodesys
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"slices"
@@ -82,7 +83,21 @@ type Settings struct {
 	// the factor. The memory is about (8 + size of T)·MaxNNZL bytes (twice
 	// the values on the nonsymmetric path). Zero means no limit.
 	MaxNNZL int
+	// Stop, when not nil, is called every stopEvery columns (supernodes)
+	// of a numeric factorisation by the general kernels; when it returns
+	// true Factorize gives up with ErrStopped. The forest kernel, whose
+	// whole cost is O(n) with a few operations per column, does not call
+	// it.
+	Stop func() bool
 }
+
+// ErrStopped is returned by Factorize when Settings.Stop asked it to stop.
+var ErrStopped = errors.New("nodesys: factorisation stopped")
+
+// stopEvery is the number of columns between two calls of Settings.Stop:
+// a column costs at least a few tens of nanoseconds, a call of a context's
+// Err about ten, so the calls cost well under 1%.
+const stopEvery = 1024
 
 // Stats describes a factorisation.
 type Stats struct {
@@ -508,6 +523,9 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 	clear(lnz)
 	tol := f.set.PivotTol
 	for k := 0; k < n; k++ {
+		if k%stopEvery == 0 && f.set.Stop != nil && f.set.Stop() {
+			return ErrStopped
+		}
 		// Scatter column k of the upper part (row k of the lower part) and
 		// find the reach in topological order: stack[top:n].
 		top := n

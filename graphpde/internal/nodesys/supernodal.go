@@ -126,6 +126,9 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 	}
 	tol := f.set.PivotTol
 	for s := 0; s < nsup; s++ {
+		if s%(stopEvery/8) == 0 && f.set.Stop != nil && f.set.Stop() {
+			return ErrStopped
+		}
 		f0, e := sn.start[s], sn.start[s+1]
 		wd := e - f0
 		rs := li[lp[e-1]:lp[e]] // shared rows R_s

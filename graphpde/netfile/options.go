@@ -1,0 +1,66 @@
+package netfile
+
+import "context"
+
+// Options are the options of ReadFileOptions. A nil *Options means none.
+type Options struct {
+	// Context, when not nil, stops the reading once it is cancelled: the
+	// reader looks at it between batches of stopEvery tables of a network
+	// file or rows of an edge list (and before and after reading the other
+	// formats, which are decoded whole), and then returns an *Error whose
+	// Err is the context's error, so that errors.Is(err,
+	// context.Canceled) holds.
+	Context context.Context
+	// Lines, when not nil, is filled with the line on which every node and
+	// edge is defined (network files and edge lists; other formats leave
+	// it empty).
+	Lines *Lines
+}
+
+// stopEvery is the number of tables or rows read between two looks at
+// Options.Context: a look costs about as much as reading a few fields, so
+// this keeps it far below 1% of the reading while a Ctrl-C still stops a
+// reader of a million rows per second within a millisecond or so.
+const stopEvery = 1024
+
+// stopped returns the *Error for a cancelled context, or nil (also for nil
+// options).
+func (o *Options) stopped(file string) error {
+	if o == nil || o.Context == nil {
+		return nil
+	}
+	if err := o.Context.Err(); err != nil {
+		return &Error{File: file, Msg: "reading stopped: " + err.Error(), Err: err}
+	}
+	return nil
+}
+
+// Lines holds the 1-based line on which each node and edge of a file read
+// by ReadFileOptions is defined: the line of its id key in a network file,
+// of its row in an edge list (a node that only edges name has none).
+type Lines struct {
+	Nodes map[string]int // node id → line
+	Edges map[string]int // edge id → line
+}
+
+// Node returns the line of node id, or 0 if it is not known.
+func (l *Lines) Node(id string) int {
+	if l == nil {
+		return 0
+	}
+	return l.Nodes[id]
+}
+
+// Edge returns the line of edge id, or 0 if it is not known.
+func (l *Lines) Edge(id string) int {
+	if l == nil {
+		return 0
+	}
+	return l.Edges[id]
+}
+
+// reset empties l for a new file.
+func (l *Lines) reset() {
+	l.Nodes = make(map[string]int)
+	l.Edges = make(map[string]int)
+}
