@@ -3,8 +3,10 @@ package graphpde_test
 import (
 	"context"
 	"errors"
+	"math"
 	"sync/atomic"
 	"testing"
+	"time"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
@@ -129,5 +131,44 @@ func TestSolveNonlinearCancelled(t *testing.T) {
 	}
 	if stopped < 10 {
 		t.Errorf("only %d stops tried", stopped)
+	}
+}
+
+// BenchmarkTreeContext measures what the looks at Settings.Context cost: a
+// random tree solved with no context and with a live cancellable one,
+// alternating, nine repetitions each, minimum kept, in the same run.
+// Reported: ctx-ratio = with / without (target ≤ 1.02). Two trees: grid
+// elements of 100 cells (10⁶ unknowns), where the looks are lost among
+// the cells, and exact elements on 10⁵ edges, where an edge is cheapest.
+// Run with -benchtime=1x.
+func BenchmarkTreeContext(b *testing.B) {
+	for _, c := range []struct {
+		name         string
+		edges, cells int
+		m            graphpde.Method
+	}{{"grid", 10_000, 100, graphpde.MethodGrid}, {"exact", 100_000, 0, graphpde.MethodExact}} {
+		b.Run(c.name, func(b *testing.B) {
+			net := gen.RandomTree(c.edges, 1, c.cells)
+			ctx, cancel := context.WithCancel(context.Background())
+			defer cancel()
+			timed := func(set *graphpde.Settings) float64 {
+				t0 := time.Now()
+				if _, err := graphpde.Solve(net, set); err != nil {
+					b.Fatal(err)
+				}
+				return float64(time.Since(t0))
+			}
+			var without, with float64
+			for b.Loop() {
+				without, with = math.Inf(1), math.Inf(1)
+				for range 9 {
+					without = math.Min(without, timed(&graphpde.Settings{Method: c.m}))
+					with = math.Min(with, timed(&graphpde.Settings{Method: c.m, Context: ctx}))
+				}
+			}
+			b.ReportMetric(without/1e6, "ms-without")
+			b.ReportMetric(with/1e6, "ms-with")
+			b.ReportMetric(with/without, "ctx-ratio")
+		})
 	}
 }

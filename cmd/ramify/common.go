@@ -12,6 +12,7 @@ import (
 	"slices"
 	"strconv"
 	"strings"
+	"sync"
 
 	"github.com/spf13/pflag"
 
@@ -158,11 +159,69 @@ func (c *checkedWriter) Write(p []byte) (int, error) {
 // load reads a network file (TOML or CSV); a Ctrl-C while it reads stops
 // the command at once (errInterrupted).
 func load(ctx context.Context, path string) (*graphpde.Network, error) {
-	net, err := interruptible(ctx, func() (*graphpde.Network, error) { return netfile.ReadFile(path) })
+	lines := &netfile.Lines{}
+	net, err := interruptible(ctx, func() (*graphpde.Network, error) {
+		return netfile.ReadFileOptions(path, &netfile.Options{Context: ctx, Lines: lines})
+	})
 	if err == nil && len(net.Edges) == 0 {
 		return nil, fmt.Errorf("%s: the network has no edges: there is nothing to solve", path)
 	}
+	if err == nil {
+		sources.Store(net, source{file: path, lines: lines})
+	}
 	return net, err
+}
+
+// sources maps every network that load read to its file and the lines of
+// its nodes and edges, for errors that name a node (placed).
+var sources sync.Map // *graphpde.Network → source
+
+type source struct {
+	file  string
+	lines *netfile.Lines
+}
+
+// placedError is a solver's error about one node with the file and line
+// where that node is defined.
+type placedError struct {
+	file string
+	line int
+	err  error
+}
+
+func (e *placedError) Error() string {
+	return fmt.Sprintf("%s:%d: %v", e.file, e.line, e.err)
+}
+
+func (e *placedError) Unwrap() error { return e.err }
+
+// placed adds to an error of a singular or unanchored node system of net
+// the file and line where the node it names is defined, when load read net
+// from a file that records it; other errors pass unchanged.
+func placed(net *graphpde.Network, err error) error {
+	if err == nil {
+		return nil
+	}
+	var id string
+	var sing *graphpde.SingularNodeError
+	var loose *graphpde.UnanchoredError
+	switch {
+	case errors.As(err, &sing):
+		id = sing.Node
+	case errors.As(err, &loose) && len(loose.Nodes) > 0:
+		id = loose.Nodes[0]
+	default:
+		return err
+	}
+	v, ok := sources.Load(net)
+	if !ok {
+		return err
+	}
+	src := v.(source)
+	if ln := src.lines.Node(id); ln > 0 {
+		return &placedError{file: src.file, line: ln, err: err}
+	}
+	return err
 }
 
 // errInterrupted is returned by interruptible when the context is cancelled
@@ -180,7 +239,8 @@ var errInterruptedAny = errors.New("interrupted")
 // walkers) takes the context itself instead.
 func interruptible[T any](ctx context.Context, f func() (T, error)) (T, error) {
 	if ctx.Done() == nil {
-		return f()
+		v, err := f()
+		return v, stoppedErr(ctx, err)
 	}
 	if ctx.Err() != nil {
 		var zero T
@@ -197,16 +257,33 @@ func interruptible[T any](ctx context.Context, f func() (T, error)) (T, error) {
 	}()
 	select {
 	case o := <-ch:
-		return o.v, o.err
+		return o.v, stoppedErr(ctx, o.err)
 	case <-ctx.Done():
 		select {
 		case o := <-ch:
-			return o.v, o.err
+			return o.v, stoppedErr(ctx, o.err)
 		default:
 		}
 		var zero T
 		return zero, errInterrupted
 	}
+}
+
+// inFile is placed, or else err prefixed with the file name.
+func inFile(net *graphpde.Network, file string, err error) error {
+	if p := placed(net, err); p != err {
+		return p
+	}
+	return fmt.Errorf("%s: %w", file, err)
+}
+
+// stoppedErr turns the error of work that ctx stopped (a solver's or a
+// reader's error wrapping ctx.Err()) into errInterrupted.
+func stoppedErr(ctx context.Context, err error) error {
+	if err != nil && ctx.Err() != nil && errors.Is(err, ctx.Err()) {
+		return errInterrupted
+	}
+	return err
 }
 
 // badFlag is usageFail for command cmd: a flag value that parsed but is not

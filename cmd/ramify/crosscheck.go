@@ -188,7 +188,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m})
 	})
 	if err != nil {
-		return nil, err
+		return nil, placed(net, err)
 	}
 	// The steady solve comes before the walkers: once they are interrupted,
 	// the command only compares and prints.
@@ -196,7 +196,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	var solErr error
 	if hasPayoff(net) {
 		sol, solErr = interruptible(ctx, func() (*graphpde.Solution, error) {
-			return graphpde.Solve(net, &graphpde.Settings{Method: m})
+			return graphpde.Solve(net, &graphpde.Settings{Method: m, Context: ctx})
 		})
 		if errors.Is(solErr, errInterrupted) {
 			return nil, solErr
@@ -229,7 +229,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			// is well defined. Say so rather than fail the whole check.
 			pde.ValueNote = "value not compared: " + solErr.Error()
 		case solErr != nil:
-			return nil, solErr
+			return nil, placed(net, solErr)
 		default:
 			u, err := sol.At(p)
 			if err != nil {
@@ -380,7 +380,7 @@ func (cc *crossResult) fits() []weightFit {
 // grey.
 func drawCrosscheck(ctx context.Context, path string, inputs []string, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method, stderr io.Writer) error {
 	sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
-		return graphpde.Solve(net, &graphpde.Settings{Method: m})
+		return graphpde.Solve(net, &graphpde.Settings{Method: m, Context: ctx})
 	})
 	title := net.Name
 	if title == "" {

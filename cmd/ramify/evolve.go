@@ -160,7 +160,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		bar.Done()
 	}
 	if err != nil {
-		return fail(stderr, "evolve", fmt.Errorf("%s: %w", file, err))
+		return fail(stderr, "evolve", inFile(net, file, err))
 	}
 	if *csvOut != "" {
 		replaced, err := saveFile(*csvOut, inputs, func(w io.Writer) error { return writeProbeCSV(w, specs, r) })

@@ -66,7 +66,7 @@ func runExit(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		return graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Method: m, Cells: *cells, Times: *times, Quantiles: *quants, Context: ctx})
 	})
 	if err != nil {
-		return fail(stderr, "exit", err)
+		return fail(stderr, "exit", placed(net, err))
 	}
 	if *asJSON {
 		if err := writeJSON(stdout, exitJSON(net, *from, x)); err != nil {

@@ -28,18 +28,18 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 	}
 	if !graphpde.HasLaws(net) {
 		sol, err := interruptible(ctx, func() (*graphpde.Solution, error) {
-			return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: cells})
+			return graphpde.Solve(net, &graphpde.Settings{Method: m, Cells: cells, Context: ctx})
 		})
 		if sol != nil && timeNote != "" {
 			sol.Notes = append(sol.Notes, timeNote)
 		}
-		return sol, nil, err
+		return sol, nil, placed(net, err)
 	}
 	res, err := interruptible(ctx, func() (*graphpde.NonlinearResult, error) {
-		return graphpde.SolveNonlinear(net, &graphpde.NonlinearSettings{Method: m, Cells: cells})
+		return graphpde.SolveNonlinear(net, &graphpde.NonlinearSettings{Method: m, Cells: cells, Context: ctx})
 	})
 	if err != nil {
-		return nil, res, err
+		return nil, res, placed(net, err)
 	}
 	if res.Status != graphpde.Converged {
 		why := fmt.Sprintf("Newton did not converge (%v after %d iterations, scaled residual %.3g)", res.Status, res.Iterations, res.Residual)

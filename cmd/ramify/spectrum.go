@@ -67,7 +67,7 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	}
 	r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx, Modes: *modes != ""})
 	if err != nil {
-		return fail(stderr, "spectrum", fmt.Errorf("%s: %w", file, err))
+		return fail(stderr, "spectrum", inFile(net, file, err))
 	}
 	// Ctrl-C: the eigenvalues bracketed before it are complete and kept
 	// (each is counted from below, so none below them is missed).
