@@ -177,15 +177,7 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 			return nil, &GridSizeError{Unknowns: interior, Max: maxGrid}
 		}
 	}
-	s.unk = make([]int, nn)
-	for i := range net.Nodes {
-		if net.Nodes[i].Law.Kind == vertex.Fixed {
-			s.unk[i] = -1
-			continue
-		}
-		s.unk[i] = len(s.nodes)
-		s.nodes = append(s.nodes, i)
-	}
+	s.unk, s.nodes = numberNodes(net)
 	m := len(s.nodes)
 	// The pattern of the node system is the linear solver's.
 	ps := &system{net: net, unk: s.unk, nodes: s.nodes}

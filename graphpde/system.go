@@ -284,15 +284,7 @@ func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*syst
 	}
 
 	// Number the unknowns.
-	s.unk = make([]int, nn)
-	for i := range net.Nodes {
-		if net.Nodes[i].Law.Kind == vertex.Fixed {
-			s.unk[i] = -1
-			continue
-		}
-		s.unk[i] = len(s.nodes)
-		s.nodes = append(s.nodes, i)
-	}
+	s.unk, s.nodes = numberNodes(net)
 	m := len(s.nodes)
 	rowPtr, col := s.pattern()
 	s.rp, s.ci = rowPtr, col
@@ -431,4 +423,19 @@ func (s *system) edgeSource(e int) float64 {
 		return s.v.ConstSource[e]
 	}
 	return s.net.Edges[e].F
+}
+
+// numberNodes numbers the balance nodes of net in node order: unk maps a
+// node to its unknown (−1 for a fixed node), nodes an unknown to its node.
+func numberNodes(net *Network) (unk, nodes []int) {
+	unk = make([]int, len(net.Nodes))
+	for i := range net.Nodes {
+		if net.Nodes[i].Law.Kind == vertex.Fixed {
+			unk[i] = -1
+			continue
+		}
+		unk[i] = len(nodes)
+		nodes = append(nodes, i)
+	}
+	return unk, nodes
 }

@@ -13,6 +13,12 @@ func (f *Factor[T]) NegativePivots() (neg int, ok bool) {
 	if !f.ready {
 		return 0, false
 	}
+	return f.negativePivots()
+}
+
+// negativePivots counts the negative pivots of a real factor (ok false for
+// a complex one); the callers check that a factorisation is there.
+func (f *Factor[T]) negativePivots() (neg int, ok bool) {
 	d, real := any(f.d).([]float64)
 	if !real {
 		return 0, false

@@ -17,14 +17,5 @@ func (f *Factor[T]) Inertia() (neg int, ok bool) {
 	if !f.ready || !f.symmetric {
 		return 0, false
 	}
-	d, real := any(f.d).([]float64)
-	if !real {
-		return 0, false
-	}
-	for _, v := range d[:f.n] {
-		if v < 0 {
-			neg++
-		}
-	}
-	return neg, true
+	return f.negativePivots()
 }
