@@ -122,8 +122,8 @@ func benchTime(w io.Writer, size string) error {
 		unknowns = run.Stats.Unknowns
 	}
 	fmt.Fprintf(w, "\nevolve, random tree %d edges × %d cells (%d unknowns), fixed TR-BDF2 steps (best of 3):\n", edges, cells, unknowns)
-	fmt.Fprintf(w, "  one step %.3g s = %.2f steady grid solves (%.3g s); 1000 steps = %.0f steady solves (target ≤ 20, not met: see DEVELOPERS.md)\n",
-		per, per/steady, steady, 1000*per/steady)
+	fmt.Fprintf(w, "  one step %.3g s = %.2f steady grid solves (%.3g s); 1000 steps = %.0f steady solves (target ≤ 20%s)\n",
+		per, per/steady, steady, 1000*per/steady, unmet(1000*per/steady > 20))
 	sp := gen.RandomTree(spEdges, 1, 0)
 	t0 := time.Now()
 	if _, err := graphpde.Solve(sp, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
@@ -135,7 +135,17 @@ func benchTime(w io.Writer, size string) error {
 		return err
 	}
 	fmt.Fprintf(w, "spectrum, 20 smallest eigenvalues of a random tree of %d exact edges:\n", spEdges)
-	fmt.Fprintf(w, "  %d factorisations, %.3g s = %.0f steady exact solves (target ≤ 50, not met: see DEVELOPERS.md)\n",
-		r.Stats.Factorizations, r.Stats.Time.Seconds(), r.Stats.Time.Seconds()/exactSteady.Seconds())
+	fmt.Fprintf(w, "  %d factorisations, %.3g s = %.0f steady exact solves (target ≤ 50%s)\n",
+		r.Stats.Factorizations, r.Stats.Time.Seconds(), r.Stats.Time.Seconds()/exactSteady.Seconds(),
+		unmet(r.Stats.Time.Seconds()/exactSteady.Seconds() > 50))
 	return nil
+}
+
+// unmet is the remark after a target that the measured figure missed (the
+// reasons are in DEVELOPERS.md); nothing when it was met.
+func unmet(missed bool) string {
+	if missed {
+		return ", not met: see DEVELOPERS.md"
+	}
+	return ""
 }
