@@ -50,6 +50,9 @@ func commands() []command {
 // run is the whole program: it returns the exit status. Tests call it
 // in-process.
 func run(ctx context.Context, args []string, stdout, stderr io.Writer) int {
+	if len(args) == 2 && args[0] == "help" && args[1] != "help" {
+		args = []string{args[1], "--help"} // 'ramify help walk' is 'ramify walk --help'
+	}
 	if len(args) == 0 || args[0] == "help" || args[0] == "--help" || args[0] == "-h" {
 		usage(stdout)
 		if len(args) == 0 {
@@ -95,6 +98,6 @@ func usage(w io.Writer) {
 		fmt.Fprintf(w, "  %-11s %s\n", c.name, c.summary)
 	}
 	fmt.Fprintln(w)
-	fmt.Fprintln(w, "Run 'ramify COMMAND --help' for the flags of a command.")
+	fmt.Fprintln(w, "Run 'ramify COMMAND --help' (or 'ramify help COMMAND') for the flags of a command.")
 	fmt.Fprintln(w, "Start with 'ramify demo'.")
 }

@@ -217,8 +217,15 @@ func TestDemo(t *testing.T) {
 // TestHelp checks that every command answers --help with exit 0.
 func TestHelp(t *testing.T) {
 	for _, c := range commands() {
-		if code, _, _ := runCLI(t, context.Background(), c.name, "--help"); code != 0 {
+		code, out, errs := runCLI(t, context.Background(), c.name, "--help")
+		if code != 0 {
 			t.Errorf("%s --help: exit %d", c.name, code)
+		}
+		// 'ramify help COMMAND' is the same text (it printed the general
+		// usage instead).
+		code2, out2, errs2 := runCLI(t, context.Background(), "help", c.name)
+		if code2 != 0 || out2 != out || errs2 != errs {
+			t.Errorf("help %s: exit %d and a text unlike %s --help's", c.name, code2, c.name)
 		}
 	}
 }
