@@ -5,15 +5,15 @@ import (
 	"context"
 	"strings"
 	"testing"
+
+	"github.com/ramify-dev/ramify/internal/testenv"
 )
 
 // TestBenchScale runs the scale figures of ramify bench at their small size
 // and checks that the sharded run merged to the same numbers and that every
 // figure was printed.
 func TestBenchScale(t *testing.T) {
-	if testing.Short() {
-		t.Skip("about ten seconds")
-	}
+	testenv.SkipUnlessLong(t, "the bench's scale figures (about ten seconds of walkers and exit statistics)")
 	var b bytes.Buffer
 	if err := benchScale(context.Background(), &b, "small"); err != nil {
 		t.Fatal(err)
