@@ -93,6 +93,15 @@ type Settings struct {
 	// combines with the other parts into the whole run's result. The
 	// estimates of a part's own Result are over its walkers only.
 	Shard Shard
+	// PositionTimes asks for every walker's place at these times
+	// (Result.Positions): the walker is stopped at each of them exactly in
+	// law, as docs/walkers.md ("Positions at fixed times") describes.
+	// Each must be finite, ≥ 0 and within the time cap. Refused with a
+	// shard, and (*PositionError) on networks with a node that has a
+	// leak or a capacity, arms decaying at different rates, or an arm with
+	// drift or varying coefficients. Records take 24 bytes per walker and
+	// time (at most MaxPositionBytes).
+	PositionTimes []float64
 }
 
 // BlockSize is the number of walkers per block: the unit of work, of random
@@ -232,6 +241,15 @@ type Result struct {
 	// Part holds the block sums of a sharded run (Settings.Shard), nil
 	// otherwise.
 	Part *Part
+	// PositionTimes are Settings.PositionTimes in ascending order, and
+	// Positions[k][i] is the place of walker i (of the Finished, in walker
+	// order) at PositionTimes[k]; nil without position times.
+	PositionTimes []float64
+	Positions     [][]Position
+	// PositionLate counts records taken after their time because a step
+	// overshot it (probability below about 1e-6 per record; the place is
+	// then that after the step).
+	PositionLate int64
 }
 
 // CensoredFraction returns Censored/Finished (0 when nothing finished).

@@ -68,6 +68,7 @@ type arm struct {
 	edge, side int
 	toNode     int     // ≥ 0: the step lands on this node
 	x          float64 // landing position on edge otherwise
+	ys         float64 // sqrt(ρ/a) at the node: y = ys·x in the star
 	cum        float64 // cumulative move probability up to this arm
 	occ        float64 // expected time on this arm per visit
 	// modeStarArms: cumulative fate probabilities up to the rim exit and
@@ -113,6 +114,7 @@ type model struct {
 	exact   bool
 	fin     *starlaw.Table // T_f table when a node is in modeStar
 	tables  tableStats     // visit-law tables looked up lazily
+	posT    []float64      // Settings.PositionTimes, sorted
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -522,6 +524,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		ed := &m.edges[end.Edge]
 		a := &nd.arms[k]
 		a.edge, a.side = end.Edge, end.Side
+		a.ys = co[k].s
 		cum += visit.Move[k]
 		a.cum = cum
 		eps := nd.r / co[k].s

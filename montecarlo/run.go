@@ -168,6 +168,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	if err != nil {
 		return nil, err
 	}
+	if m.posT, err = m.checkPositions(&s); err != nil {
+		return nil, err
+	}
 	p, err := m.startPlace(start)
 	if err != nil {
 		return nil, err
@@ -186,6 +189,13 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	w0, w1 := int64(first)*BlockSize, min(int64(last)*BlockSize, N)
 	shardN := max(0, w1-w0)
 
+	var positions [][]Position // per record time, per walker
+	if len(m.posT) > 0 {
+		positions = make([][]Position, len(m.posT))
+		for k := range positions {
+			positions[k] = make([]Position, shardN)
+		}
+	}
 	var samples []Sample
 	var times []float64 // lifetimes of walkers w0, w0+1, … below maxInternalTimes
 	if s.KeepSamples {
@@ -261,6 +271,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 						ok = false
 						break
 					}
+					for k := range positions {
+						positions[k][i-w0] = w.pos[k]
+					}
 					if samples != nil {
 						samples[i-w0] = Sample{Time: t, Node: fate}
 					} else if i-w0 < int64(len(times)) {
@@ -285,6 +298,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 					}
 					slices.Sort(seg)
 				}
+				acc.late, w.late = w.late, 0
 				results <- acc
 			}
 		}()
@@ -302,6 +316,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			Quantiles: slices.Clone(s.Quantiles), Exact: m.exact, Fixed: l.fixed, SplitExact: l.splitExact, Frozen: l.frozen,
 			Arms: l.arms, DepOff: l.depOff}
 	}
+	var late int64
 	pending := make(map[int]*blockAcc)
 	nextFold := first
 	for acc := range results {
@@ -314,6 +329,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			delete(pending, nextFold)
 			nextFold++
 			f.add(b)
+			late += b.late
 			if part != nil {
 				part.Sums = append(part.Sums, b.toBlock(blockTimes(b.k)))
 			}
@@ -330,6 +346,14 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 	res := f.result(&l, N, s.Seed)
 	res.Part = part
 	done := f.done
+	if positions != nil {
+		res.PositionTimes = m.posT
+		res.Positions = make([][]Position, len(positions))
+		for k := range positions {
+			res.Positions[k] = positions[k][:done]
+		}
+		res.PositionLate = late
+	}
 	if nextFold < last {
 		res.Status = Cancelled
 	}

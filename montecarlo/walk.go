@@ -23,6 +23,7 @@ type blockAcc struct {
 	occS, occQ       []float64 // per edge
 	visS, visQ       []float64 // per node
 	dep              []int64   // per node end
+	late             int64     // position records taken late
 }
 
 func newBlockAcc(m *model) *blockAcc {
@@ -69,6 +70,8 @@ type walker struct {
 	touchedE []int32
 	vis      []float64
 	touchedV []int32
+	pos      []Position // the current walker's records at m.posT
+	late     int64      // records taken after their time (overshoots)
 }
 
 func newWalker(m *model, stop *atomic.Bool) *walker {
@@ -76,6 +79,7 @@ func newWalker(m *model, stop *atomic.Bool) *walker {
 	return &walker{
 		stop: stop, m: m, pcg: pcg, rng: rand.New(pcg), tb: exitlaw.Default(), fin: m.fin,
 		occ: make([]float64, len(m.edges)), vis: make([]float64, len(m.nodes)),
+		pos: make([]Position, len(m.posT)),
 	}
 }
 
@@ -110,6 +114,12 @@ func (w *walker) walk(p place, acc *blockAcc) (float64, int) {
 	wgt := 1.0 // growth weight (Settings.Growth)
 	var steps int64
 	fate := Censored
+	// Records at m.posT: ki is the next, due at nextT; s is the time left
+	// until then (+Inf when none is left: the steps are then unchanged).
+	ki, nextT := 0, math.Inf(1)
+	if len(m.posT) > 0 {
+		nextT = m.posT[0]
+	}
 loop:
 	for {
 		steps++
@@ -118,6 +128,18 @@ loop:
 			// is added to acc.
 			return t, aborted
 		}
+		for ki < len(m.posT) && t >= nextT*(1-posFloor) {
+			if t > nextT*(1+posFloor) && t > nextT {
+				w.late++
+			}
+			w.record(ki, node, e, x)
+			ki++
+			nextT = math.Inf(1)
+			if ki < len(m.posT) {
+				nextT = m.posT[ki]
+			}
+		}
+		s := nextT - t
 		if node >= 0 {
 			nd := &m.nodes[node]
 			w.addVisit(node)
@@ -128,7 +150,15 @@ loop:
 				acc.hits[node]++
 				break loop
 			case modeLaw:
-				d := nd.dscale * tb.Draw(rng)
+				// Near a record time the star is shrunk to the radius
+				// eps that the remaining time s covers (exact in law at
+				// any radius: the same split w_k/Σw).
+				dscale, reward, eps := nd.dscale, nd.reward, 0.0
+				if 2*s < posU*nd.r*nd.r {
+					eps = math.Sqrt(2 * s / posU)
+					dscale, reward = eps*eps/2, shrunkStarReward(nd, eps)
+				}
+				d := dscale * tb.Draw(rng)
 				u := rng.Float64()
 				j := 0
 				for u >= nd.arms[j].cum {
@@ -140,7 +170,7 @@ loop:
 					break loop
 				}
 				t += T
-				val += wgt * (nd.fbar*T + nd.reward)
+				val += wgt * (nd.fbar*T + reward)
 				if nd.growth > 0 {
 					wgt *= math.Exp(nd.growth * T)
 				}
@@ -149,6 +179,16 @@ loop:
 				if killed {
 					fate = Killed
 					break loop
+				}
+				if eps > 0 {
+					acc.dep[nd.depOff+j]++
+					node, e = -1, a.edge
+					if a.side == 0 {
+						x = eps / a.ys
+					} else {
+						x = m.edges[e].L - eps/a.ys
+					}
+					continue
 				}
 				node, e, x = depart(nd, j, acc)
 			case modeStar:
@@ -234,10 +274,16 @@ loop:
 				node, e, x = depart(nd, j, acc)
 			case modeIsolated:
 				if nd.killP == 0 {
+					for ; ki < len(m.posT); ki++ {
+						w.record(ki, node, e, x)
+					}
 					t = math.Inf(1)
 					break loop
 				}
 				T := nd.hold * rng.ExpFloat64()
+				for ; ki < len(m.posT) && m.posT[ki] < t+T; ki++ {
+					w.record(ki, node, e, x)
+				}
 				if t+T > tcap {
 					t += T
 					break loop
@@ -256,7 +302,7 @@ loop:
 		if !ed.exact {
 			var done bool
 			var how int
-			node, x, t, val, wgt, done, how = w.tsStep(e, x, t, val, wgt)
+			node, x, t, val, wgt, done, how = w.tsStep(e, x, t, val, wgt, s)
 			if done {
 				fate = how
 				break loop
@@ -268,6 +314,31 @@ loop:
 		r, left := x, true
 		if L-x < x {
 			r, left = L-x, false
+		}
+		shrunk := false
+		if ry2 := 2 * ed.tfac * r * r; 2*s < posU*ry2 {
+			// A record time is near (see posU).
+			if ry2 >= posJump*posJump*2*s {
+				// No node within reach: the exact Gaussian increment
+				// (variance 2as/ρ = s/tfac) straight to the record time.
+				T, killed := killClock(rng, s, ed.kill)
+				if t+T > tcap {
+					t += T
+					break
+				}
+				val += wgt * ed.rate * T
+				w.addOcc(e, T)
+				if killed {
+					t += T
+					fate = Killed
+					break
+				}
+				t = nextT
+				x += math.Sqrt(s/ed.tfac) * rng.NormFloat64()
+				x = min(max(x, 0x1p-52*L), L*(1-0x1p-52))
+				continue
+			}
+			r, shrunk = math.Sqrt(s/(posU*ed.tfac)), true
 		}
 		d := ed.tfac * r * r * tb.Draw(rng)
 		T, killed := killClock(rng, d, ed.kill)
@@ -281,6 +352,15 @@ loop:
 		if killed {
 			fate = Killed
 			break
+		}
+		if shrunk {
+			// The shrunk interval lies inside the edge.
+			if rng.Uint64()&1 == 0 {
+				x -= r
+			} else {
+				x += r
+			}
+			continue
 		}
 		if rng.Uint64()&1 == 0 {
 			if left {
@@ -301,6 +381,9 @@ loop:
 				node = ed.from
 			}
 		}
+	}
+	if len(m.posT) > 0 {
+		w.finishRecords(ki, fate)
 	}
 	// Per-walker sums into the block.
 	acc.n++
@@ -343,7 +426,11 @@ loop:
 // equation, law of the duration that of the driftless step). It returns the
 // new node (−1 if still on the edge), position, time, value, whether the walk
 // ended, and the fate if it did.
-func (w *walker) tsStep(e int, x, t, val, wgt float64) (int, float64, float64, float64, float64, bool, int) {
+//
+// s is the time left until the next position record (+Inf for none): an
+// Euler step is shortened to end there, and a near-node step that could
+// last beyond it is replaced by an Euler step.
+func (w *walker) tsStep(e int, x, t, val, wgt, s float64) (int, float64, float64, float64, float64, bool, int) {
 	m, rng := w.m, w.rng
 	ed := &m.edges[e]
 	a, b, c, f, rho := m.net.EdgeCoeffs(e, x)
@@ -357,6 +444,7 @@ func (w *walker) tsStep(e int, x, t, val, wgt float64) (int, float64, float64, f
 	}
 	var T float64
 	near := d < ed.hz
+	dt := min(ed.dt, s)
 	if near {
 		// Mean exit time of (a/ρ)u'' + (b/ρ)u' from the centre of
 		// (−d, d): (d²ρ/2a)·tanh(μ)/μ, μ = bd/(2a).
@@ -365,9 +453,15 @@ func (w *walker) tsStep(e int, x, t, val, wgt float64) (int, float64, float64, f
 		if math.Abs(mu) > tanhSeriesBelow {
 			g = math.Tanh(mu) / mu
 		}
-		T = d * d * rho / (2 * a) * g * w.tb.Draw(rng)
+		mean := d * d * rho / (2 * a) * g
+		if s < posU*mean {
+			near = false
+			T = dt
+		} else {
+			T = mean * w.tb.Draw(rng)
+		}
 	} else {
-		T = ed.dt
+		T = dt
 	}
 	killed := false
 	if c > 0 {
@@ -403,7 +497,7 @@ func (w *walker) tsStep(e int, x, t, val, wgt float64) (int, float64, float64, f
 		}
 		return ed.to, 0, t, val, wgt, false, 0
 	}
-	x += b/rho*ed.dt + math.Sqrt(2*a/rho*ed.dt)*rng.NormFloat64()
+	x += b/rho*dt + math.Sqrt(2*a/rho*dt)*rng.NormFloat64()
 	switch {
 	case x <= 0:
 		return ed.from, 0, t, val, wgt, false, 0

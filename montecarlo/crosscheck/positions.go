@@ -1,0 +1,157 @@
+package crosscheck
+
+import (
+	"fmt"
+	"math"
+	"strconv"
+
+	"github.com/ramify-dev/ramify/montecarlo"
+	"github.com/ramify-dev/ramify/montecarlo/compare"
+)
+
+// Density is the PDE's tracer at one time: per edge, the amount per unit
+// length ρq at the equispaced points x_i = i·L/n, i = 0…n, of the forward
+// solution for walkers released at the start (docs/time-and-spectrum.md
+// §3). Linear between the points.
+type Density struct {
+	T     float64
+	Edges [][]float64
+}
+
+// positionLaw is a Density laid out along the network's fixed ordering:
+// edge 0 from x = 0 to its length, then edge 1, and so on.
+type positionLaw struct {
+	off  []float64   // start of each edge on the line
+	h    []float64   // grid spacing per edge
+	q    [][]float64 // ρq at the points
+	cum  [][]float64 // amount from the edge's start to each point
+	base []float64   // amount before each edge
+	end  float64     // total length of the line
+	mass float64     // total amount on the network
+}
+
+func newPositionLaw(net montecarlo.Network, d *Density) (*positionLaw, error) {
+	_, ne := net.Size()
+	if len(d.Edges) != ne {
+		return nil, fmt.Errorf("position density at t = %g: %d edges, the network has %d", d.T, len(d.Edges), ne)
+	}
+	l := &positionLaw{off: make([]float64, ne), h: make([]float64, ne), q: d.Edges, cum: make([][]float64, ne), base: make([]float64, ne)}
+	for e := range ne {
+		id, _, _, length, _, _ := net.WalkEdge(e)
+		q := d.Edges[e]
+		if len(q) < 2 {
+			return nil, fmt.Errorf("position density at t = %g, edge %q: need at least 2 points", d.T, id)
+		}
+		for _, v := range q {
+			if !(v >= -1e-9) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("position density at t = %g, edge %q: value %g is not a finite number ≥ 0", d.T, id, v)
+			}
+		}
+		l.off[e], l.base[e] = l.end, l.mass
+		h := length / float64(len(q)-1)
+		l.h[e] = h
+		c := make([]float64, len(q))
+		for i := 1; i < len(q); i++ {
+			c[i] = c[i-1] + h*(q[i-1]+q[i])/2
+		}
+		l.cum[e] = c
+		l.end += length
+		l.mass += c[len(c)-1]
+	}
+	return l, nil
+}
+
+// cdf returns the amount at coordinates below z (the line position).
+func (l *positionLaw) cdf(z float64) float64 {
+	if z <= 0 {
+		return 0
+	}
+	if z >= l.end {
+		return l.mass
+	}
+	e := len(l.off) - 1
+	for e > 0 && l.off[e] > z {
+		e--
+	}
+	x := z - l.off[e]
+	q, h := l.q[e], l.h[e]
+	j := min(int(x/h), len(q)-2)
+	xi := x - float64(j)*h
+	return l.base[e] + l.cum[e][j] + q[j]*xi + (q[j+1]-q[j])*xi*xi/(2*h)
+}
+
+// PositionChecks compares the walkers' places at res.PositionTimes with
+// the forward densities dens (one per time, the same order). For each time
+// T it returns two checks:
+//
+//   - "on-network:t=T": the fraction of walkers still on the network
+//     (neither absorbed nor killed) against the forward solution's total
+//     amount, a proportion;
+//   - "position:t=T": the one-sample Kolmogorov–Smirnov test of the
+//     walkers' places along the network's fixed ordering (edges in index
+//     order, x along each) against the forward solution's cumulative
+//     amount, the walkers that ended counted as an atom after the last
+//     edge, which is the censored form of compare.Distribution (its null
+//     law is that of a bridge over the part of the line that carries the
+//     amount on the network).
+//
+// Walkers alive at a node are placed at the node's first edge end; walkers
+// whose place is unknown (censored before the time) count with the ended
+// ones, and notes say how many. Decide then applies the family-wise bound
+// over these and any other checks.
+func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Density) ([]compare.Check, []string, error) {
+	if len(dens) != len(res.PositionTimes) {
+		return nil, nil, fmt.Errorf("position check: %d densities for %d times", len(dens), len(res.PositionTimes))
+	}
+	nn, ne := net.Size()
+	firstEnd := make([][2]int, nn) // per node: an edge and its side, or edge −1
+	for v := range nn {
+		firstEnd[v] = [2]int{-1, 0}
+	}
+	for e := ne - 1; e >= 0; e-- {
+		_, from, to, _, _, _ := net.WalkEdge(e)
+		firstEnd[to] = [2]int{e, 1}
+		firstEnd[from] = [2]int{e, 0}
+	}
+	var checks []compare.Check
+	var notes []string
+	for k, t := range res.PositionTimes {
+		l, err := newPositionLaw(net, &dens[k])
+		if err != nil {
+			return nil, nil, err
+		}
+		coords := make([]float64, 0, len(res.Positions[k]))
+		ended, unknown := 0, 0
+		for _, p := range res.Positions[k] {
+			switch p.State {
+			case montecarlo.OnEdge:
+				coords = append(coords, l.off[p.Edge]+p.X)
+			case montecarlo.AtNode:
+				fe := firstEnd[p.Node]
+				if fe[0] < 0 {
+					unknown++
+					continue
+				}
+				_, _, _, length, _, _ := net.WalkEdge(fe[0])
+				coords = append(coords, l.off[fe[0]]+float64(fe[1])*length)
+			case montecarlo.Ended:
+				ended++
+			default:
+				unknown++
+			}
+		}
+		ts := strconv.FormatFloat(t, 'g', 6, 64)
+		n := int64(len(res.Positions[k]))
+		checks = append(checks, compare.Proportion("on-network:t="+ts, math.Min(1, l.mass), int64(len(coords)), n))
+		c := compare.Distribution("position:t="+ts, coords, l.end, ended+unknown, func(z float64) float64 { return 1 - l.cdf(z) })
+		c.Note = ""
+		checks = append(checks, c)
+		if unknown > 0 {
+			notes = append(notes, fmt.Sprintf("at t = %s, %d walkers had no known place (still out at the time cap, or alive at a node without edges) and count as ended", ts, unknown))
+		}
+	}
+	if res.PositionLate > 0 {
+		notes = append(notes, fmt.Sprintf("%d position records were taken just after their time (a step overshot it)", res.PositionLate))
+	}
+	return checks, notes, nil
+}
