@@ -247,7 +247,7 @@ type Result struct {
 	PositionTimes []float64
 	Positions     [][]Position
 	// PositionLate counts records taken after their time because a step
-	// overshot it (probability below about 1e-6 per record; the place is
+	// overshot it (probability below about 1e-9 per record; the place is
 	// then that after the step).
 	PositionLate int64
 }

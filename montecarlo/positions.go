@@ -36,19 +36,23 @@ type Position struct {
 // y = x·sqrt(ρ/a), generator d²/dy², duration r²τ₁/2) lasts longer than
 // the remaining time s with probability P(τ₁ > 2s/r²) ≤ (4/π)e^{−π²u/8} at
 // u = 2s/r² (the first term of the exit-time series of (−1, 1), derived):
-// at u ≥ posU = 12 that is below 5e-7, and such a step is taken as it is.
+// at u ≥ posU = 20 that is below 3e-11, and such a step is taken as it is.
 // Otherwise the walker either jumps straight to the record time by the
 // exact Gaussian increment of variance 2s (y units), when it is at least
 // posJump·sqrt(2s) from every node (it touches one before the time with
-// probability 2Φ(−posJump) ≈ 5.7e-7), or takes a step of the shrunk radius
+// probability 2Φ(−posJump) ≈ 2e-9), or takes a step of the shrunk radius
 // sqrt(2s/posU), exact in law and again overshooting with probability
-// below 5e-7. Any record taken late (after an overshoot) is counted in
-// Result.PositionLate. The remaining time is considered zero below
+// below 3e-11 (a record needs some tens of such steps: on a three-arm
+// star, about 70 extra steps per walker and record time, measured). Any
+// record taken late (after an overshoot) is counted in
+// Result.PositionLate. On time-stepping edges the Euler step is shortened
+// to end at the record time, and a near-node step that could outlast it
+// is replaced by such an Euler step (the edge's Euler bias, no more). The remaining time is considered zero below
 // posFloor times the record time (the place is then off by about
 // sqrt(2e-12·t) in y, far below any grid or statistical resolution).
 const (
-	posU     = 12.0
-	posJump  = 5.0
+	posU     = 20.0
+	posJump  = 6.0
 	posFloor = 1e-12
 )
 

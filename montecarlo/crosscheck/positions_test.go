@@ -98,7 +98,7 @@ func TestPositionsOnAnInterval(t *testing.T) {
 		}
 	}
 	if res.PositionLate > 2 {
-		t.Errorf("%d records late, expected about 1e-6 per record", res.PositionLate)
+		t.Errorf("%d records late, expected about 1e-9 per record", res.PositionLate)
 	}
 	bad, _, err := crosscheck.PositionChecks(net, res, free)
 	if err != nil {
