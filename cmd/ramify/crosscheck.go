@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"os"
 	"path/filepath"
 	"slices"
@@ -20,6 +21,7 @@ import (
 const crosscheckExamples = `  ramify crosscheck examples/fork.toml --from fork
   ramify crosscheck net.toml --from hub --particles 1000000 --plot figs --json
   ramify crosscheck net.toml --from hub --fit-weights
+  ramify crosscheck net.toml --from arm1@0.3 --positions-at 0.1,0.5,2
 `
 
 func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer) int {
@@ -34,6 +36,8 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	method := fs.String("method", "auto", "PDE edge elements: exact, grid, or auto")
 	probes := fs.StringArray("probe", nil, "nonlinear files: also compare the field with walkers started at POINT; repeatable")
 	growth := fs.Bool("growth", true, "nonlinear files: where the law grows with u, walkers carry growth weights (false: that part becomes a source on the computed field)")
+	posAt := fs.Float64Slice("positions-at", nil, "also compare where the walkers are at these times `T1,T2,...` with the forward (tracer) solution: a KS test of their places along the network per time")
+	posCells := fs.Int("position-cells", 400, "grid cells per edge of the forward solution for --positions-at")
 	challengers := fs.Int("challengers", 4, "controlled networks: random perturbations of the optimal policy that must do no better (besides the best constant policy)")
 	asJSON := fs.Bool("json", false, "print one JSON object on standard output")
 	file, code, ok := parseFlags(fs, args, stderr, true)
@@ -65,6 +69,9 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
+	if len(*posAt) > 0 && (graphpde.Controlled(net) || graphpde.HasLaws(net)) {
+		return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at is for linear networks without controls (%s)", file))
+	}
 	if graphpde.Controlled(net) {
 		if len(*probes) > 0 || *fit || *occ || *plot != "" || *draw != "" {
 			return badFlag(stderr, "crosscheck", fmt.Errorf("--probe, --fit-weights, --occupation, --plot and --draw do not apply to a controlled network (%s)", file))
@@ -81,7 +88,30 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
 	}
-	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ})
+	var dens []crosscheck.Density
+	if len(*posAt) > 0 {
+		if *posCells <= 0 {
+			return badFlag(stderr, "crosscheck", fmt.Errorf("--position-cells %d: must be > 0", *posCells))
+		}
+		times := slices.Clone(*posAt)
+		slices.Sort(times)
+		for _, t := range times {
+			if !(t >= 0) || math.IsInf(t, 0) {
+				return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at %g: times must be finite numbers ≥ 0", t))
+			}
+		}
+		set.PositionTimes = times
+		fwd, err := interruptible(ctx, func() ([][][]float64, error) {
+			return graphpde.ForwardDensity(net, p, times, *posCells, 0)
+		})
+		if err != nil {
+			return fail(stderr, "crosscheck", fmt.Errorf("--positions-at: %w", err))
+		}
+		for k, t := range times {
+			dens = append(dens, crosscheck.Density{T: t, Edges: fwd[k]})
+		}
+	}
+	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ}, dens)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
@@ -181,7 +211,7 @@ func hasPayoff(net *graphpde.Network) bool {
 }
 
 func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions) (*crossResult, error) {
+	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions, dens []crosscheck.Density) (*crossResult, error) {
 	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
 		// No Context: the survival function is evaluated again after the
 		// walkers, also when Ctrl-C stopped them.
@@ -208,6 +238,10 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 		if err != nil {
 			return nil, err
 		}
+		if n := len(wset.PositionTimes); n > 0 && wset.PositionTimes[n-1] > tcap {
+			tcap = wset.PositionTimes[n-1]
+			note = fmt.Sprintf("time cap raised to the last position time %.4g", tcap)
+		}
 		set := *wset
 		set.TimeCap, capNote = tcap, note
 		wset = &set
@@ -216,7 +250,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 	if err != nil {
 		return nil, err
 	}
-	pde := &crosscheck.PDE{Hit: x.Hit, Killed: x.Killed, Mean: x.Mean, Occupation: x.Occupation}
+	pde := &crosscheck.PDE{Hit: x.Hit, Killed: x.Killed, Mean: x.Mean, Occupation: x.Occupation, Positions: dens}
 	if x.HasDistribution {
 		pde.Survival = x.SurvivalAt
 	}

@@ -64,7 +64,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if errors.Is(solErr, errInterrupted) {
 		return fail(stderr, "report", solErr)
 	}
-	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, &compare.Settings{}, crossOptions{})
+	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, &compare.Settings{}, crossOptions{}, nil)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}

@@ -32,6 +32,10 @@ type PDE struct {
 	Survival func(t float64) (float64, error)
 	// Occupation[e] is the expected time spent on edge e.
 	Occupation []float64
+	// Positions, one per res.PositionTimes, are the forward densities
+	// that the walkers' places at those times are compared with
+	// (PositionChecks); nil when the run recorded no positions.
+	Positions []Density
 }
 
 // Options selects the optional parts of a cross-check.
@@ -216,6 +220,14 @@ func Run(net montecarlo.Network, start vertex.Point, pde *PDE, res *montecarlo.R
 	}
 	if sparse > 0 {
 		cc.Notes = append(cc.Notes, fmt.Sprintf("split frequencies not compared at %d junctions that walkers left fewer than %d times", sparse, minDepartures))
+	}
+	if len(res.PositionTimes) > 0 {
+		pc, notes, err := PositionChecks(net, res, pde.Positions)
+		if err != nil {
+			return nil, err
+		}
+		checks = append(checks, pc...)
+		cc.Notes = append(cc.Notes, notes...)
 	}
 	cc.Report = compare.Decide(checks, set)
 	return cc, nil
