@@ -96,8 +96,8 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		times := slices.Clone(*posAt)
 		slices.Sort(times)
 		for _, t := range times {
-			if !(t >= 0) || math.IsInf(t, 0) {
-				return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at %g: times must be finite numbers ≥ 0", t))
+			if !(t > 0) || math.IsInf(t, 0) {
+				return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at %g: times must be finite numbers > 0", t))
 			}
 		}
 		set.PositionTimes = times
