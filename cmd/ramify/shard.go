@@ -71,8 +71,8 @@ type blockOut struct {
 	Steps      int64   `json:"steps"`
 	Scalars    floats  `json:"scalars"` // max weight, Σ value, Σ value², Σ τ, Σ τ²
 	Hits       []int64 `json:"hits"`
-	Occupation floats  `json:"occupation"` // Σ and Σ² per edge, one after the other
-	Visits     floats  `json:"visits"`     // Σ and Σ² per node
+	Occupation vec     `json:"occupation"` // Σ and Σ² per edge, one after the other
+	Visits     vec     `json:"visits"`     // Σ and Σ² per node
 	Departures []int64 `json:"departures"`
 	Times      floats  `json:"times,omitempty"`
 }
@@ -100,6 +100,59 @@ func (f *floats) UnmarshalJSON(data []byte) error {
 	*f = make(floats, len(b)/8)
 	for i := range *f {
 		(*f)[i] = math.Float64frombits(binary.LittleEndian.Uint64(b[8*i:]))
+	}
+	return nil
+}
+
+// vec is a []float64 that JSON carries exactly, and compactly when most
+// entries are zero (a block of walkers on a large network touches few of
+// its edges): dense as floats, sparse as {"n": length, "at": indices, "v":
+// the non-zero values as floats}. A negative zero counts as non-zero, so
+// that every bit comes back.
+type vec []float64
+
+type sparseVec struct {
+	N  int    `json:"n"`
+	At []int  `json:"at"`
+	V  floats `json:"v"`
+}
+
+func (x vec) MarshalJSON() ([]byte, error) {
+	var at []int
+	for i, v := range x {
+		if math.Float64bits(v) != 0 {
+			at = append(at, i)
+		}
+	}
+	// A sparse entry costs about 8 bytes of index and 11 of value; a dense
+	// one 11.
+	if 19*len(at) >= 11*len(x) {
+		return floats(x).MarshalJSON()
+	}
+	sv := sparseVec{N: len(x), At: at, V: make(floats, len(at))}
+	for j, i := range at {
+		sv.V[j] = x[i]
+	}
+	return json.Marshal(sv)
+}
+
+func (x *vec) UnmarshalJSON(data []byte) error {
+	if len(data) > 0 && data[0] == '"' {
+		return (*floats)(x).UnmarshalJSON(data)
+	}
+	var sv sparseVec
+	if err := json.Unmarshal(data, &sv); err != nil {
+		return err
+	}
+	if sv.N < 0 || len(sv.At) != len(sv.V) {
+		return fmt.Errorf("a sparse vector with %d indices and %d values", len(sv.At), len(sv.V))
+	}
+	*x = make(vec, sv.N)
+	for j, i := range sv.At {
+		if i < 0 || i >= sv.N {
+			return fmt.Errorf("index %d outside a vector of %d", i, sv.N)
+		}
+		(*x)[i] = sv.V[j]
 	}
 	return nil
 }
@@ -153,8 +206,8 @@ func shardJSON(file string, net *graphpde.Network, wf *walkFlags, r *montecarlo.
 		o := blockOut{K: b.K, N: b.N, Exited: b.Exited, Killed: b.Killed, Censored: b.Censored, Steps: b.Steps,
 			Scalars: floats{b.MaxWeight, b.ValueSum, b.ValueSq, b.TimeSum, b.TimeSq},
 			Hits:    b.Hits, Departures: b.Departures, Times: b.Times}
-		o.Occupation = append(append(floats{}, b.OccSum...), b.OccSq...)
-		o.Visits = append(append(floats{}, b.VisSum...), b.VisSq...)
+		o.Occupation = append(append(vec{}, b.OccSum...), b.OccSq...)
+		o.Visits = append(append(vec{}, b.VisSum...), b.VisSq...)
 		out.Sums[j] = o
 	}
 	return out, nil

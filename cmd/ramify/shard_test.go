@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -168,4 +169,33 @@ func withoutSeconds(t *testing.T, b []byte) string {
 	delete(m, "seconds")
 	out, _ := json.MarshalIndent(m, "", " ")
 	return string(out)
+}
+
+// TestVecRoundTrip checks that the part files' vectors come back bit for
+// bit, dense and sparse, with negative zero, infinities and NaN.
+func TestVecRoundTrip(t *testing.T) {
+	nan := math.NaN()
+	sparse := make(vec, 1000)
+	sparse[3], sparse[500], sparse[999] = 1.5, math.Copysign(0, -1), math.Inf(1)
+	for _, x := range []vec{{}, {1, 2, 3}, {0, nan, math.Inf(-1), 1e-300}, sparse} {
+		b, err := json.Marshal(x)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var y vec
+		if err := json.Unmarshal(b, &y); err != nil {
+			t.Fatalf("%s: %v", b, err)
+		}
+		if len(y) != len(x) {
+			t.Fatalf("%d entries back, want %d", len(y), len(x))
+		}
+		for i := range x {
+			if math.Float64bits(x[i]) != math.Float64bits(y[i]) {
+				t.Errorf("entry %d: %v back, want %v", i, y[i], x[i])
+			}
+		}
+		if len(x) == 1000 && len(b) > 200 {
+			t.Errorf("a vector with 3 non-zeros in 1000 takes %d bytes: not sparse", len(b))
+		}
+	}
 }
