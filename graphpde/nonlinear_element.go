@@ -325,6 +325,21 @@ func (s *nlSystem) equation(ed *Edge, x, u, p, X float64) (E, Eu, Ep, EX float64
 	return E, Eu, Ep, EX, nil
 }
 
+// schemeSide is the first difference of the scheme of an equation edge at
+// an interior vertex, from ∂E/∂ux and ∂E/∂uxx at the central difference:
+// 0 for the central difference (|∂E/∂ux|·h ≤ 2 ∂E/∂uxx), +1 for the forward
+// one (∂E/∂ux > 0), −1 for the backward one. The secant network reads the
+// field's derivative with the same rule.
+func schemeSide(Ep, EX, h float64) int {
+	switch {
+	case math.Abs(Ep)*h <= 2*EX:
+		return 0
+	case Ep > 0:
+		return 1
+	}
+	return -1
+}
+
 // evalEquation evaluates the interior rows and the end derivatives of the
 // fully nonlinear edge e.
 func (s *nlSystem) evalEquation(e int, U0, UL float64, w []float64) error {
@@ -353,10 +368,10 @@ func (s *nlSystem) evalEquation(e int, U0, UL float64, w []float64) error {
 			return err
 		}
 		var ga, gb, gc float64 // ∂(hE)/∂u_{i−1}, ∂u_i, ∂u_{i+1}
-		switch {
-		case math.Abs(Ep)*h <= 2*EX:
+		switch schemeSide(Ep, EX, h) {
+		case 0:
 			ga, gb, gc = EX/h-Ep/2, h*Eu-2*EX/h, EX/h+Ep/2
-		case Ep > 0:
+		case 1:
 			p = (up - ui) / h
 			if E, Eu, Ep, EX, err = s.equation(ed, x, ui, p, X); err != nil {
 				return err

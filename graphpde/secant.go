@@ -59,7 +59,10 @@ type SecantInfo struct {
 //   - an edge with an equation E(x, u, ux, uxx) = 0 gets, at every grid
 //     vertex, A = ∫₀¹ ∂E/∂uxx, B = ∫₀¹ ∂E/∂ux, C = −∫₀¹ ∂E/∂u along
 //     θ ↦ (θû, θû', θû”), and f = E(x, 0, 0, 0): A û” + B û' − C û + f = 0,
-//     written in divergence form a = A, b = B − A', c = C;
+//     written in divergence form a = A, b = B − A', c = C; û' and û” at a
+//     vertex are the scheme's differences (one-sided where the scheme took
+//     them so, by the cell Péclet number), so that the identity holds at
+//     every vertex with the values the field solves its equation with;
 //   - a quasilinear edge keeps a(x, û) and b(x, û) (they multiply only
 //     derivatives of u: an exact identity) and gets the reaction
 //     R(x, u) = f(x, u) − c(x, u)·u by the secant, c = −∫₀¹ ∂R/∂u(x, θû),
@@ -231,8 +234,20 @@ func secantProfile(ed *Edge, sol *Solution, e int, quasi, growth bool, info *Sec
 				p = dL
 				X = 2 * (dL - (UL-val(n-1))/h) / h
 			default:
-				p = (val(i+1) - val(i-1)) / (2 * h)
-				X = (val(i+1) - 2*u + val(i-1)) / (h * h)
+				// The differences of the scheme that computed the field:
+				// one-sided where it was (schemeSide), so that the
+				// identity holds at every vertex with the derivatives
+				// the field satisfies its equation with.
+				um, up := val(i-1), val(i+1)
+				X = (up - 2*u + um) / (h * h)
+				p = (up - um) / (2 * h)
+				_, _, Ep, EX := ed.Law.Equation.Fn(x, u, p, X)
+				switch schemeSide(Ep, EX, h) {
+				case 1:
+					p = (up - u) / h
+				case -1:
+					p = (u - um) / h
+				}
 			}
 			var a, bb float64
 			for _, g := range gauss8 {

@@ -97,3 +97,68 @@ func TestSecantIdentity(t *testing.T) {
 		})
 	}
 }
+
+// TestSecantSchemeDifferences: on an equation edge the secant coefficients
+// are taken at the scheme's own differences, so the discrete identity
+// A_i X_i + B_i p_i − C_i u_i + f_i = E(x_i, u_i, p_i, X_i) (= 0 up to
+// Newton's tolerance) holds at every interior vertex to round-off — also where the scheme was one-sided
+// (cell Péclet number |∂E/∂ux|·h/∂E/∂uxx above 2), where the central
+// difference would leave an O(h) error in B, which depends on ux here
+// (derived from the secant identity of docs/nonlinear.md §4).
+// E = uxx + 160x·(ux − 2x) + (ux³ − 8x³)/100 − 2 − u³ + x⁶ (solved by
+// u = x², so the field has slope and curvature everywhere) on 40 cells:
+// central differences for x below about 1/2, upwind beyond. The coefficients are read back from the
+// profile at the vertices: b = B − A' with A' by the same differences as
+// SecantNetwork, and a negative C moved into f leaves the sum unchanged.
+// Tolerance: 1e−11 of the sum of the terms' magnitudes (round-off of
+// 8-point quadrature sums and divided differences; common practice).
+func TestSecantSchemeDifferences(t *testing.T) {
+	const cells = 40
+	eq := &Equation{Fn: func(x, u, ux, uxx float64) (e, du, dux, duxx float64) {
+		e = uxx + 160*x*(ux-2*x) + 0.01*(ux*ux*ux-8*x*x*x) - 2 - u*u*u + x*x*x*x*x*x
+		return e, -3 * u * u, 160*x + 0.03*ux*ux, 1
+	}}
+	b := newNetBuilder(t)
+	l := b.fixed("l", 0)
+	r := b.fixed("r", 1)
+	b.edge(Edge{ID: "drift", From: l, To: r, Length: 1, A: 1, Weight: [2]float64{1, 1}, Cells: cells, Law: &EdgeLaw{Equation: eq}})
+	res := mustNonlinear(t, b.net, nil)
+	sol := res.Solution
+	sec, _, err := SecantNetwork(b.net, sol, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	prof := sec.Edges[0].Profile
+	h := 1.0 / cells
+	u := make([]float64, cells+1)
+	A := make([]float64, cells+1)
+	for i := range u {
+		u[i] = atOK(t, sol, Point{Node: -1, Edge: 0, X: float64(i) * h})
+		A[i] = prof.A(float64(i) * h)
+	}
+	upwind := 0
+	for i := 1; i < cells; i++ {
+		x := float64(i) * h
+		X := (u[i+1] - 2*u[i] + u[i-1]) / (h * h)
+		p := (u[i+1] - u[i-1]) / (2 * h)
+		if (160*x+0.03*p*p)*h > 2 {
+			p = (u[i+1] - u[i]) / h // ∂E/∂ux > 0: forward
+			upwind++
+		}
+		B := prof.B(x) + (A[i+1]-A[i-1])/(2*h)
+		E, _, _, _ := eq.Fn(x, u[i], p, X) // the scheme's residual: 0 up to Newton's tolerance
+		terms := [5]float64{A[i] * X, B * p, -prof.C(x) * u[i], prof.F(x), -E}
+		sum, mag := 0.0, 0.0
+		for _, v := range terms {
+			sum += v
+			mag += math.Abs(v)
+		}
+		if math.Abs(sum) > 1e-11*mag {
+			t.Errorf("x = %g: A X + B p − C u + f − E = %.3g (terms %.4g)", x, sum, terms)
+		}
+	}
+	t.Logf("%d of %d interior vertices one-sided", upwind, cells-1)
+	if upwind == 0 || upwind == cells-1 {
+		t.Fatalf("%d one-sided vertices: the test must cover both differences", upwind)
+	}
+}
