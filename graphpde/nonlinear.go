@@ -145,7 +145,9 @@ func HasLaws(net *Network) bool {
 // Status NotElliptic). A singular Jacobian (a fold) gives Status Singular
 // and a *SingularNodeError or a *LawError naming the vertex. Running out of
 // iterations or a stalled line search gives Status IterationLimit and no
-// error: the result then has no Solution. Other errors: those of Solve
+// error, or Status Fold where the law is not monotone in u and the last
+// iterates crossed a singular Jacobian back and forth (see Fold); the
+// result then has no Solution. Other errors: those of Solve
 // (*UnanchoredError is not raised: a nonlinear law may anchor a component).
 //
 // net's parameters are read at evaluation time; net is not modified.
@@ -184,6 +186,7 @@ func SolveNonlinear(net *Network, set *NonlinearSettings) (*NonlinearResult, err
 // newton runs damped Newton from the current state of s.
 func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 	res := &NonlinearResult{Status: NotSolved}
+	var negHist []int // negative pivots of every factorisation (the determinant's sign)
 	if err := s.eval(s.U, s.w); err != nil {
 		return s.fail(res, err)
 	}
@@ -202,12 +205,14 @@ func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 		if it == set.MaxIter {
 			res.Status = IterationLimit
 			res.Notes = append(res.Notes, fmt.Sprintf("Newton stopped after %d iterations with the scaled residual at %.3g", it, rho))
+			s.judgeFold(res, negHist, "the iteration budget ran out")
 			return s.finishNotes(res), nil
 		}
 		if err := s.factor(); err != nil {
 			return s.fail(res, err)
 		}
 		s.newtonStep()
+		negHist = append(negHist, s.negPivots)
 		t, ok, lastErr := s.lineSearch(merit, set.Tol)
 		res.Iterations++
 		if !ok {
@@ -216,6 +221,7 @@ func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 			}
 			res.Status = IterationLimit
 			res.Notes = append(res.Notes, fmt.Sprintf("the line search stalled at iteration %d with the scaled residual at %.3g", it+1, rho))
+			s.judgeFold(res, negHist, "no step lowered the residual")
 			return s.finishNotes(res), nil
 		}
 		res.Steps = append(res.Steps, t)
@@ -245,6 +251,37 @@ func (s *nlSystem) fail(res *NonlinearResult, err error) (*NonlinearResult, erro
 		res.Status = NotSolved
 	}
 	return s.finishNotes(res), err
+}
+
+// foldSwitches is the number of consecutive Newton steps at the end of a
+// failed solve whose Jacobians' negative-pivot counts must go up and down
+// by exactly one, alternately, for the failure to be reported as a fold.
+const foldSwitches = 2
+
+// judgeFold turns the IterationLimit of a failed solve into Fold where the
+// evidence points to one: a law not monotone in u (a fold needs one: a
+// monotone law has one solution, which Newton's damped steps approach), and
+// iterates that straddle a singular Jacobian at the end — over the last
+// foldSwitches steps the count of negative pivots (the determinant's sign)
+// went up and down by exactly one, alternately, the signature of a simple
+// zero eigenvalue crossed back and forth while the residual norm cannot be
+// lowered (how says what ended the solve), as at a local minimum of the
+// residual beside a fold. A start far
+// from every solution, where the counts wander by several, stays an
+// iteration limit. No field is returned either way.
+func (s *nlSystem) judgeFold(res *NonlinearResult, neg []int, how string) {
+	if s.nonMono == "" || len(neg) < foldSwitches+1 {
+		return
+	}
+	tail := neg[len(neg)-foldSwitches-1:]
+	for k := 1; k < len(tail); k++ {
+		d := tail[k] - tail[k-1]
+		if (d != 1 && d != -1) || (k > 1 && d != tail[k-2]-tail[k-1]) {
+			return
+		}
+	}
+	res.Status = Fold
+	res.Notes = append(res.Notes, fmt.Sprintf("no steady solution near the iterates: the last %d Newton steps crossed a singular Jacobian back and forth (negative pivots %v) and %s, as past a fold; a sweep in a parameter locates the fold", foldSwitches, tail, how))
 }
 
 // finishNotes adds the uniqueness note, and for a law that is not monotone

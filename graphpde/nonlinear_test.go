@@ -589,3 +589,55 @@ func TestNewtonDampedStep(t *testing.T) {
 		}
 	}
 }
+
+// TestNewtonFold: past the fold of Bratu's problem (λ_c = 3.513830719 for
+// u” + λeᵘ = 0 on (0, 1), u(0) = u(1) = 0; Boyd, Appl. Math. Comput. 143
+// (2003) 189–200, from memory; docs/references.md NL1) there is no
+// solution: Newton must end with Status Fold, the evidence in its notes,
+// and no field. Below the fold it converges from 0, and from a start far
+// from both solutions (a bump of height 20 at λ = 3.4), where it runs out
+// of iterations with negative-pivot counts that wander by more than one,
+// the failure stays an iteration limit: a solution exists there.
+func TestNewtonFold(t *testing.T) {
+	bump := func(g float64) func(Point) float64 {
+		return func(p Point) float64 {
+			switch p.Edge {
+			case -1:
+				return g
+			case 0:
+				return 2 * g * p.X
+			}
+			return g * (1 - 2*p.X)
+		}
+	}
+	cases := []struct {
+		lambda float64
+		guess  func(Point) float64
+		want   Status
+	}{
+		{3.4, nil, Converged},
+		{3.6, nil, Fold},
+		{4, nil, Fold},
+		{8, nil, Fold},
+		{3.6, bump(3), Fold},
+		{3.4, bump(20), IterationLimit},
+	}
+	for _, c := range cases {
+		lambda := c.lambda
+		net, _ := bratuNet(t, &lambda, 64)
+		res, err := SolveNonlinear(net, &NonlinearSettings{Guess: c.guess})
+		if err != nil {
+			t.Fatalf("λ = %g: %v", lambda, err)
+		}
+		t.Logf("λ = %g: %v after %d iterations; %q", lambda, res.Status, res.Iterations, res.Notes)
+		if res.Status != c.want {
+			t.Errorf("λ = %g: status %v, want %v", lambda, res.Status, c.want)
+		}
+		if (res.Solution != nil) != (c.want == Converged) {
+			t.Errorf("λ = %g: status %v with a field: %v", lambda, res.Status, res.Solution != nil)
+		}
+		if c.want == Fold && !strings.Contains(strings.Join(res.Notes, "; "), "singular Jacobian") {
+			t.Errorf("λ = %g: the notes do not give the evidence of the fold: %q", lambda, res.Notes)
+		}
+	}
+}

@@ -112,8 +112,9 @@ func canceled(ctx context.Context, stage string) error {
 // Status describes how a solver ended. The linear steady solve ends
 // Converged, or Inaccurate when it cannot vouch for its values, or returns
 // an error; the iterative solvers of the package (Newton) also end at their
-// budget (IterationLimit), where an edge law loses ellipticity (NotElliptic)
-// or at a singular Jacobian (Singular), each with a Result that says so.
+// budget (IterationLimit), where an edge law loses ellipticity (NotElliptic),
+// at a singular Jacobian (Singular) or where no solution is found past a
+// fold (Fold), each with a Result that says so.
 type Status int
 
 const (
@@ -132,6 +133,12 @@ const (
 	// the node system's scaled residual stayed above its tolerance after
 	// iterative refinement (Notes says where and how far).
 	Inaccurate
+	// Fold: Newton found no solution, and the evidence points to a fold
+	// (no steady solution on that branch): a law not monotone in u, and
+	// iterates that crossed a singular Jacobian back and forth (the
+	// determinant's sign alternating) without lowering the residual.
+	// Notes gives the evidence; no field is returned.
+	Fold
 )
 
 // String returns the status in words.
@@ -149,6 +156,8 @@ func (s Status) String() string {
 		return "singular"
 	case Inaccurate:
 		return "inaccurate"
+	case Fold:
+		return "fold"
 	}
 	return fmt.Sprintf("Status(%d)", int(s))
 }

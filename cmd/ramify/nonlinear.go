@@ -43,6 +43,9 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 	}
 	if res.Status != graphpde.Converged {
 		why := fmt.Sprintf("Newton did not converge (%v after %d iterations, scaled residual %.3g)", res.Status, res.Iterations, res.Residual)
+		if res.Status == graphpde.Fold {
+			why = fmt.Sprintf("no steady solution found (fold: Newton stopped after %d iterations, scaled residual %.3g)", res.Iterations, res.Residual)
+		}
 		for _, n := range res.Notes {
 			why += "; " + n
 		}

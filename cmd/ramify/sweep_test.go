@@ -148,3 +148,35 @@ func TestSolveNonlinearRefusals(t *testing.T) {
 		t.Errorf("not elliptic: exit %d, stderr %q", code, errs)
 	}
 }
+
+// TestSolvePastFold: above the runaway current of the heated-wire example
+// (0.5618 A: TestSweepHeatedWire) the wire has no steady state; solve must
+// say so (status fold, with the evidence), exit 1 and print no field. Just
+// below it the solve converges.
+func TestSolvePastFold(t *testing.T) {
+	src, err := os.ReadFile("../../examples/heated-wire.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		current string
+		fold    bool
+	}{{"0.55", false}, {"0.7", true}, {"1.0", true}} {
+		text := strings.Replace(string(src), "\ncurrent = 0.2 ", "\ncurrent = "+c.current+" ", 1)
+		if text == string(src) {
+			t.Fatal("the example no longer sets current = 0.2 on a line of its own")
+		}
+		file := filepath.Join(t.TempDir(), "wire.toml")
+		if err := os.WriteFile(file, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		code, out, errs := runCLI(t, context.Background(), "solve", file)
+		t.Logf("current %s: exit %d: %.200s", c.current, code, errs)
+		switch {
+		case !c.fold && code != 0:
+			t.Errorf("current %s: exit %d: %s", c.current, code, errs)
+		case c.fold && (code != 1 || out != "" || !strings.Contains(errs, "no steady solution found (fold") || !strings.Contains(errs, "singular Jacobian")):
+			t.Errorf("current %s: exit %d, stdout %q, stderr %q; want exit 1, no output and the fold with its evidence", c.current, code, out, errs)
+		}
+	}
+}
