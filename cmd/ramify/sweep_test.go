@@ -139,7 +139,7 @@ func TestSweepCommand(t *testing.T) {
 func TestSolveNonlinearRefusals(t *testing.T) {
 	past := writeFile(t, "past.toml", strings.Replace(bratuFile, "lambda = 1.0", "lambda = 5.0", 1))
 	code, out, errs := runCLI(t, context.Background(), "solve", past, "--json")
-	if code != 1 || out != "" || !strings.Contains(errs, "did not converge") {
+	if code != 1 || out != "" || !strings.Contains(errs, "no steady solution found (fold") {
 		t.Errorf("past the fold: exit %d, stdout %q, stderr %q", code, out, errs)
 	}
 	bad := writeFile(t, "bad.toml", strings.Replace(bratuFile, "uxx + lambda*exp(u)", "-uxx + lambda", 1))
