@@ -112,6 +112,11 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		}
 	}
 	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ}, dens)
+	if err == nil && len(dens) > 0 {
+		if note := releaseShift(net, p, *posCells); note != "" {
+			cc.Notes = append(cc.Notes, note)
+		}
+	}
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
@@ -434,4 +439,25 @@ func drawCrosscheck(ctx context.Context, path string, inputs []string, net *grap
 		d = fieldDrawing(net, sol, title, marks)
 	}
 	return writeDrawing(path, inputs, d, "crosscheck", stderr)
+}
+
+// releaseShift says how far the forward solution's release (the grid
+// vertex nearest to the start, graphpde.ForwardDensity) lies from the
+// walkers' start, when it does not coincide with it ("" otherwise).
+func releaseShift(net *graphpde.Network, p graphpde.Point, cells int) string {
+	if p.Edge < 0 {
+		return ""
+	}
+	ed := &net.Edges[p.Edge]
+	n := ed.Cells
+	if n == 0 {
+		n = cells
+	}
+	n = max(n, 2)
+	h := ed.Length / float64(n)
+	d := math.Abs(p.X - math.Round(p.X/h)*h)
+	if d <= 1e-9*ed.Length {
+		return ""
+	}
+	return fmt.Sprintf("the forward solution releases its tracer at the grid vertex nearest to the start, %.3g away from it on edge %q: choose --position-cells so that the start lies on a vertex", d, ed.ID)
 }
