@@ -95,6 +95,9 @@ func (l *positionLaw) cdf(z float64) float64 {
 //     law is that of a bridge over the part of the line that carries the
 //     amount on the network).
 //
+// The KS check's At is the coordinate of the largest gap on that line, and
+// its Note names the place as EDGE@X.
+//
 // Walkers alive at a node are placed at the node's first edge end; walkers
 // whose place is unknown (censored before the time) count with the ended
 // ones, and notes say how many. Decide then applies the family-wise bound
@@ -144,7 +147,7 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 		n := int64(len(res.Positions[k]))
 		checks = append(checks, compare.Proportion("on-network:t="+ts, math.Min(1, l.mass), int64(len(coords)), n))
 		c := compare.Distribution("position:t="+ts, coords, l.end, ended+unknown, func(z float64) float64 { return 1 - l.cdf(z) })
-		c.Note = ""
+		c.Note = l.where(net, c.At)
 		checks = append(checks, c)
 		if unknown > 0 {
 			notes = append(notes, fmt.Sprintf("at t = %s, %d walkers had no known place (still out at the time cap, or alive at a node without edges) and count as ended", ts, unknown))
@@ -154,4 +157,22 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 		notes = append(notes, fmt.Sprintf("%d position records were taken just after their time (a step overshot it)", res.PositionLate))
 	}
 	return checks, notes, nil
+}
+
+// where names the place of the line coordinate z as a note: "largest gap
+// at EDGE@X", or at the end of the line, where the gap is in the share
+// still on the network.
+func (l *positionLaw) where(net montecarlo.Network, z float64) string {
+	if math.IsNaN(z) {
+		return ""
+	}
+	if z >= l.end {
+		return "largest gap at the end of the network: in the share still on it"
+	}
+	e := len(l.off) - 1
+	for e > 0 && l.off[e] > z {
+		e--
+	}
+	id, _, _, _, _, _ := net.WalkEdge(e)
+	return fmt.Sprintf("largest gap at %s@%.4g (edges in file order, x along each)", id, z-l.off[e])
 }
