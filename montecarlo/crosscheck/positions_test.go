@@ -286,3 +286,33 @@ func TestPositionsCoverage(t *testing.T) {
 		}
 	}
 }
+
+// TestPositionsJunctionLarge measures what is left of the stop's bias at
+// the skewed junction with 4·10⁵ walkers (KS resolution about 2e-3) against
+// the forward solution on 1000 cells per edge: each KS and on-network check
+// must keep p > 1e-3 (6 checks). RAMIFY_LONG=1 only (about 15 s).
+func TestPositionsJunctionLarge(t *testing.T) {
+	testenv.SkipUnlessLong(t, "positions of 4·10⁵ walkers at a skewed junction")
+	net := skewedJunction(t, false)
+	start := vertex.OnEdge(0, 0.3)
+	times := []float64{0.1, 0.4, 1}
+	res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 400000, Seed: 12, PositionTimes: times})
+	if err != nil {
+		t.Fatal(err)
+	}
+	fwd, err := graphpde.ForwardDensity(net, start, times, 1000, 1e-7)
+	if err != nil {
+		t.Fatal(err)
+	}
+	checks, _, err := crosscheck.PositionChecks(net, res, densities(fwd, times))
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Logf("%.1f steps per walker, %d late records", float64(res.Stats.Steps)/float64(res.Finished), res.PositionLate)
+	for _, c := range checks {
+		t.Logf("%s: pde %.5f walker %.5f D %.5f p %.3g (%s)", c.Quantity, c.PDE, c.Walker, c.Stat, c.P, c.Note)
+		if !(c.P > 1e-3) {
+			t.Errorf("%s: p = %.3g", c.Quantity, c.P)
+		}
+	}
+}
