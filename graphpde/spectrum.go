@@ -74,8 +74,9 @@ type Eigenvalue struct {
 	// accuracy of the computation.
 	Multiplicity int
 	// Err bounds |λ − Value| for the numerical solution of the problem
-	// stated (the exact method's bracket width; on the grid the Arnoldi
-	// residual bound, which does not include the discretisation error).
+	// stated (the exact method's bracket width; on the grid the bracket or
+	// the Arnoldi residual bound plus half the change from a grid of half
+	// the cell width, an estimate of the discretisation error).
 	Err float64
 }
 

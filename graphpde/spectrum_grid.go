@@ -102,8 +102,19 @@ func spectrumGrid(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	}
 	self := gridSelfAdjoint(net)
 	var runs [2]*SpectrumResult
+	// The second grid halves every cell, also on edges whose cell count
+	// the file sets (those ignore the default count).
+	fineNet := *net
+	fineNet.Edges = append([]Edge(nil), net.Edges...)
+	for e := range fineNet.Edges {
+		fineNet.Edges[e].Cells *= 2
+	}
 	for k, nc := range []int{cells, 2 * cells} {
-		sys, err := newFV(net, nc, DefaultMaxGridUnknowns)
+		grid := net
+		if k == 1 {
+			grid = &fineNet
+		}
+		sys, err := newFV(grid, nc, DefaultMaxGridUnknowns)
 		if err != nil {
 			return nil, err
 		}

@@ -193,6 +193,21 @@ func TestSpectrumGrid(t *testing.T) {
 			b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, B: 2})
 			return b.net
 		}, []want{{math.Pi*math.Pi + 1, 0}, {4*math.Pi*math.Pi + 1, 0}}},
+		// The edge sets its own cells: the second grid must still halve
+		// them (it used the same grid twice, and the bar was the Ritz
+		// residual alone, 1e-83 against an error of 2e-4).
+		{"drift, cells on the edge", func(t *testing.T) *Network {
+			b := newNetBuilder(t)
+			x, y := b.fixed("a", 0), b.fixed("b", 0)
+			b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, B: 2, Cells: 100})
+			return b.net
+		}, []want{{math.Pi*math.Pi + 1, 0}, {4*math.Pi*math.Pi + 1, 0}}},
+		{"varying diffusivity, cells on the edge", func(t *testing.T) *Network {
+			b := newNetBuilder(t)
+			x, y := b.fixed("a", 0), b.fixed("b", 0)
+			b.edge(Edge{ID: "rod", From: x, To: y, Length: 1, A: 1, Cells: 100, Profile: &Profile{A: func(x float64) float64 { return (1 + x) * (1 + x) }}})
+			return b.net
+		}, []want{{k(1)*k(1) + 0.25, 0}, {k(2)*k(2) + 0.25, 0}}},
 		{"ring with drift", func(t *testing.T) *Network {
 			b := newNetBuilder(t)
 			v := b.balance("v")
