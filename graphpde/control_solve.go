@@ -65,6 +65,9 @@ type ControlSettings struct {
 	Cells int
 	// Linear are the settings of the uncontrolled edges and the node
 	// system (Method, Cells of uncontrolled grid edges); nil: defaults.
+	// A Context here stops a policy evaluation part-way with a
+	// *CanceledError (Context below stops between evaluations and keeps
+	// the last one).
 	Linear *Settings
 	// MaxIterations bounds the policy evaluations (0: 100).
 	MaxIterations int
@@ -409,10 +412,16 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 			}
 		}
 		sys.assemble(0)
+		if sys.halt != nil { // Linear.Context
+			return nil, sys.halt
+		}
 		if err := sys.factor(); err != nil {
 			return nil, err
 		}
 		sys.solve()
+		if sys.halt != nil {
+			return nil, sys.halt
+		}
 		res.SolveTime += time.Since(ts)
 		res.Iterations++
 		if sys.bad >= 0 {
@@ -723,10 +732,17 @@ func (it *ctlIter) exactSolve(lin *Settings) ([]bool, *Solution, []string) {
 		return make([]bool, len(exact)), nil, []string{"exact re-solve of the edges with a constant policy failed (" + err.Error() + "); the grid values stand"}
 	}
 	sys.assemble(0)
-	if err := sys.factor(); err != nil {
+	err = sys.halt // Linear.Context
+	if err == nil {
+		err = sys.factor()
+	}
+	if err == nil {
+		sys.solve()
+		err = sys.halt
+	}
+	if err != nil {
 		return make([]bool, len(exact)), nil, []string{"exact re-solve of the edges with a constant policy failed (" + err.Error() + "); the grid values stand"}
 	}
-	sys.solve()
 	sys.refine()
 	sol, err := sys.solution()
 	if err != nil {

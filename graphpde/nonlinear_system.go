@@ -184,11 +184,8 @@ func newNLSystem(net *Network, set *NonlinearSettings) (*nlSystem, error) {
 	rowPtr, col := ps.pattern()
 	s.dslot, s.eslot = ps.dslot, ps.eslot
 	s.mat = nodesys.NewMatrixPattern[float64](m, rowPtr, col)
-	var fset *nodesys.Settings
-	if ctx := s.ctx; ctx != nil {
-		fset = &nodesys.Settings{Stop: func() bool { return ctx.Err() != nil }}
-	}
-	s.fac = nodesys.NewFactor[float64](fset)
+	// s.ctx is read at every look: a sweep sets it after its first point.
+	s.fac = nodesys.NewFactor[float64](&nodesys.Settings{Stop: func() bool { return s.ctx != nil && s.ctx.Err() != nil }})
 	s.rhs = make([]float64, m)
 	s.x = make([]float64, m)
 	ni := int(interior)

@@ -2,6 +2,7 @@ package graphpde
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"math"
 	"time"
@@ -21,8 +22,11 @@ type SweepSettings struct {
 	MaxPoints int
 	// Probes are the points whose values every SweepPoint lists.
 	Probes []Point
-	// Context, when not nil, stops the sweep between two points once it
-	// is done (Status SweepInterrupted, with the points computed so far).
+	// Context, when not nil, stops the sweep between two points, or
+	// inside the Newton corrector of a point after the first (which is
+	// then dropped), once it is done (Status SweepInterrupted, with the
+	// points computed so far, the first always). Solve.Context, when set,
+	// stops any solve with a *CanceledError.
 	Context context.Context
 }
 
@@ -175,6 +179,7 @@ func Sweep(net *Network, param string, to float64, set *SweepSettings) (*SweepRe
 		return nil, err
 	}
 	res.Points = append(res.Points, cur.pt)
+	own := sys.ctx // Solve.Context
 	ds := ss.Step
 	minStep := ss.Step / 1024
 	lo, hi := math.Min(from, to), math.Max(from, to)
@@ -187,7 +192,15 @@ func Sweep(net *Network, param string, to float64, set *SweepSettings) (*SweepRe
 			res.Status = SweepPointLimit
 			break
 		}
+		if own == nil {
+			sys.ctx = ss.Context // a corrector stops part-way; landing and fold location do not
+		}
 		next, its, err := c.advance(cur, ds)
+		sys.ctx = own
+		if ce := (*CanceledError)(nil); errors.As(err, &ce) {
+			res.Status = SweepInterrupted // the point under way is dropped
+			break
+		}
 		if err != nil || next == nil {
 			ds /= 2
 			if ds < minStep {
