@@ -30,6 +30,11 @@ import (
 // attribute is an error with its line. Either edge operator (-- or ->)
 // orients the edge from the first node to the second.
 func ReadDOT(r io.Reader, name string) (*graphpde.Network, error) {
+	return readDOT(r, name, nil)
+}
+
+// readDOT is ReadDOT with the options of ReadFileOptions (nil: none).
+func readDOT(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	data, err := io.ReadAll(r)
 	if err != nil {
 		return nil, &Error{File: name, Msg: "cannot read: " + errMsg(err), Err: err}
@@ -54,7 +59,7 @@ func ReadDOT(r io.Reader, name string) (*graphpde.Network, error) {
 	for i, e := range p.edges {
 		el[i] = p.edgeLine[e["id"].(string)]
 	}
-	rd := &reader{file: name, loc: lineLocator(p.nodes, p.edges, nl, el), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt, loc: lineLocator(p.nodes, p.edges, nl, el), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
 	return rd.network(root)
 }
 

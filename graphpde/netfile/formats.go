@@ -22,13 +22,14 @@ var readers = map[string]func(io.Reader, string, *Options) (*graphpde.Network, e
 	".csv":     readCSV,
 	".json":    whole(ReadJSON),
 	".geojson": whole(ReadGeoJSON),
-	".swc":     whole(ReadSWC),
-	".dot":     whole(ReadDOT),
-	".gv":      whole(ReadDOT),
+	".swc":     readSWC,
+	".dot":     readDOT,
+	".gv":      readDOT,
 }
 
-// whole adapts a reader that takes no options: the context is looked at
-// before and after it reads, and it records no lines.
+// whole adapts a reader that takes no options (JSON and GeoJSON, which
+// have no lines of nodes to record): the context is looked at before and
+// after it reads.
 func whole(read func(io.Reader, string) (*graphpde.Network, error)) func(io.Reader, string, *Options) (*graphpde.Network, error) {
 	return func(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 		net, err := read(r, name)

@@ -6,14 +6,15 @@ import "context"
 type Options struct {
 	// Context, when not nil, stops the reading once it is cancelled: the
 	// reader looks at it between batches of stopEvery tables of a network
-	// file or rows of an edge list (and before and after reading the other
-	// formats, which are decoded whole), and then returns an *Error whose
+	// file, rows of an edge list or nodes and edges of an SWC or DOT file
+	// (and before and after reading JSON and GeoJSON, which are decoded
+	// whole), and then returns an *Error whose
 	// Err is the context's error, so that errors.Is(err,
 	// context.Canceled) holds.
 	Context context.Context
 	// Lines, when not nil, is filled with the line on which every node and
-	// edge is defined (network files and edge lists; other formats leave
-	// it empty).
+	// edge is defined (network files, edge lists, SWC and DOT files; JSON
+	// and GeoJSON leave it empty).
 	Lines *Lines
 }
 

@@ -117,3 +117,36 @@ func TestReadLines(t *testing.T) {
 		t.Errorf("nil Lines: %d", got)
 	}
 }
+
+// TestReadLinesDOT checks that Options.Lines also records the lines of a
+// DOT file (the node's first statement, the edge's statement), counted by
+// hand in the file below.
+func TestReadLinesDOT(t *testing.T) {
+	const src = `// a feeder with a tap
+graph feeder {
+  edge [diffusivity = 2]
+  feed [fixed = 1]
+  feed -- mid [length = 3, id = run]
+  tap [leak = 0.25]
+  mid -- tap [length = 1, id = drop]
+}
+`
+	path := filepath.Join(t.TempDir(), "feeder.dot")
+	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	var lines Lines
+	if _, err := ReadFileOptions(path, &Options{Lines: &lines}); err != nil {
+		t.Fatal(err)
+	}
+	for id, want := range map[string]int{"feed": 4, "mid": 5, "tap": 6} {
+		if got := lines.Node(id); got != want {
+			t.Errorf("node %s: line %d, want %d", id, got, want)
+		}
+	}
+	for id, want := range map[string]int{"run": 5, "drop": 7} {
+		if got := lines.Edge(id); got != want {
+			t.Errorf("edge %s: line %d, want %d", id, got, want)
+		}
+	}
+}

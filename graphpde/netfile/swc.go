@@ -33,6 +33,11 @@ import (
 // 100 Ω·cm, 20 000 Ω·cm², 1 µF/cm² and 0 V (common values for passive
 // dendrites; common practice, no source). Errors name the file and line.
 func ReadSWC(r io.Reader, name string) (*graphpde.Network, error) {
+	return readSWC(r, name, nil)
+}
+
+// readSWC is ReadSWC with the options of ReadFileOptions (nil: none).
+func readSWC(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	sc := bufio.NewScanner(r)
 	sc.Buffer(make([]byte, 64*1024), 1<<20)
 	params := map[string]any{
@@ -148,6 +153,6 @@ func ReadSWC(r io.Reader, name string) (*graphpde.Network, error) {
 		})
 	}
 	root := map[string]any{"node": nodes, "edge": edges}
-	rd := &reader{file: name, loc: lineLocator(nodes, edges, nodeLines, edgeLines), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt, loc: lineLocator(nodes, edges, nodeLines, edgeLines), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
 	return rd.network(root)
 }
