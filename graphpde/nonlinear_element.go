@@ -190,7 +190,11 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 		// The common case in a fast loop: faces computed once, the
 		// elimination inline with its state in registers.
 		var ss float64
-		if prev, dPrev, ss, err = s.quasiConstFaces(e, &tx, react, cf, dPrev, h, in, UL); err != nil {
+		var cC, fC *Coef // the reaction's laws, read directly where there is no profile
+		if plain {
+			cC, fC = l.C, l.F
+		}
+		if prev, dPrev, ss, err = s.quasiConstFaces(e, &tx, react, plain, cC, fC, cf, dPrev, h, in, UL); err != nil {
 			return err
 		}
 		s.sumsq += ss
@@ -249,7 +253,7 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 // same elimination as elim.add, written out so that the sweep's state stays
 // in registers. It returns the last face, its difference and Σ G².
 func (s *nlSystem) quasiConstFaces(e int, tx *elim, react func(x, u float64) (float64, float64, error),
-	cf quasiFace, dPrev, h float64, in []float64, UL float64) (quasiFace, float64, float64, error) {
+	direct bool, cC, fC *Coef, cf quasiFace, dPrev, h float64, in []float64, UL float64) (quasiFace, float64, float64, error) {
 	ed := &s.net.Edges[e]
 	n := s.n[e]
 	al, b0, bs := tx.al, tx.b0, tx.bs
@@ -257,6 +261,7 @@ func (s *nlSystem) quasiConstFaces(e int, tx *elim, react func(x, u float64) (fl
 	prod, p0, ps, worst, umax := tx.prod, tx.p0, tx.ps, tx.worst, tx.umax
 	neg := 0
 	ss := 0.0
+	c0, f0 := ed.C, ed.F
 	// Rows in flux sign: a δu_{i−1} + b δu_i + c δu_{i+1} = −G with
 	// a = −L, c = −R (constant faces) and b = R + L − h·∂g/∂u.
 	ra, rc := -cf.l, -cf.r
@@ -267,9 +272,30 @@ func (s *nlSystem) quasiConstFaces(e int, tx *elim, react func(x, u float64) (fl
 			un = in[i]
 		}
 		dCur := un - ui
-		g, dg, err := react(float64(i)*h, ui)
-		if err != nil {
-			return cf, 0, 0, err
+		var g, dg float64
+		if direct {
+			// react without the closure: c and f are constants or laws.
+			x := float64(i) * h
+			c, dc, f, df := c0, 0.0, f0, 0.0
+			if cC != nil {
+				c, dc = cC.Fn(x, ui, 0)
+			}
+			if fC != nil {
+				f, df = fC.Fn(x, ui, 0)
+			}
+			g, dg = f-c*ui, df-c-ui*dc
+			if (g-g)+(dg-dg) != 0 || (dg > 0 && s.nonMono == "") {
+				// Not finite, or the first place that is not monotone:
+				// react reports or notes it.
+				if _, _, err := react(x, ui); err != nil {
+					return cf, 0, 0, err
+				}
+			}
+		} else {
+			var err error
+			if g, dg, err = react(float64(i)*h, ui); err != nil {
+				return cf, 0, 0, err
+			}
 		}
 		G := cf.r*dCur - cf.l*dPrev + h*g
 		ss += G * G
