@@ -243,7 +243,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde.EvolveResult, out *evolveOut, crossing float64) {
 	name := net.Name
 	if name == "" {
-		name = "network"
+		name = "(unnamed network)" // as solve and sweep say it
 	}
 	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), r.Status)
 	if out.Method == "exact" {
