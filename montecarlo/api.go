@@ -97,10 +97,9 @@ type Settings struct {
 	// (Result.Positions): the walker is stopped at each of them exactly in
 	// law, as docs/walkers.md ("Positions at fixed times") describes.
 	// Each must be finite, ≥ 0 and within the time cap. Refused with a
-	// shard, and (*PositionError) on networks with a node that has a
-	// leak or a capacity, arms decaying at different rates, or an arm with
-	// drift or varying coefficients. Records take 24 bytes per walker and
-	// time (at most MaxPositionBytes).
+	// shard, and (*PositionError) on networks with a balance node that
+	// has a leak or a capacity (see also Result.PositionApprox). Records
+	// take 24 bytes per walker and time (at most MaxPositionBytes).
 	PositionTimes []float64
 }
 
@@ -250,6 +249,13 @@ type Result struct {
 	// overshot it (probability below about 1e-9 per record; the place is
 	// then that after the step).
 	PositionLate int64
+	// PositionApprox reports that some records may come from approximate
+	// visits: near a record time a node whose arms decay at different
+	// rates, or with an arm that has drift or varying coefficients, is
+	// visited by a Walsh step of a small radius ε with the split w_k/Σw
+	// and the arms' mean decay, the limit of its exact visit as the
+	// radius shrinks (an error of order ε in the split, ε² in time).
+	PositionApprox bool
 }
 
 // CensoredFraction returns Censored/Finished (0 when nothing finished).

@@ -73,10 +73,11 @@ func (e *PositionError) Error() string {
 }
 
 // checkPositions validates set.PositionTimes against the model and returns
-// them sorted. Nodes with a leak or a capacity, whose arms decay at
-// different rates, or next to an edge with drift or varying coefficients
-// are refused: their visits are tabulated at one radius and cannot be
-// shrunk near a record time.
+// them sorted. Nodes with a leak or a capacity are refused: their visits
+// are tabulated at one radius and cannot be shrunk near a record time.
+// Nodes whose arms decay at different rates, or next to an edge with
+// drift or varying coefficients, are visited near a record time by an
+// approximate small star (m.posApprox).
 func (m *model) checkPositions(set *Settings) ([]float64, error) {
 	if len(set.PositionTimes) == 0 {
 		return nil, nil
@@ -104,8 +105,11 @@ func (m *model) checkPositions(set *Settings) ([]float64, error) {
 			id, _, _, _ := m.net.WalkNode(v)
 			return nil, &PositionError{Node: id, Reason: "it has a leak or a capacity"}
 		case modeStarArms:
-			id, _, _, _ := m.net.WalkNode(v)
-			return nil, &PositionError{Node: id, Reason: "its edges decay at different rates, or one has drift or varying coefficients"}
+			if !nd.posPlain {
+				id, _, _, _ := m.net.WalkNode(v)
+				return nil, &PositionError{Node: id, Reason: "it has a leak or a capacity"}
+			}
+			m.posApprox = true
 		}
 	}
 	return ts, nil

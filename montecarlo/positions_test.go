@@ -23,7 +23,8 @@ func TestPositionsRefused(t *testing.T) {
 		want any
 	}{
 		{"capacity", star(vertex.Law{Kind: vertex.Balance, Capacity: 0.5}, arms), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
-		{"different decay", star(kirchhoff, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, c: 1}, {L: 1, a: 1, rho: 1, alpha: 1}}), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
+		{"leak", star(vertex.Law{Kind: vertex.Balance, Leak: 0.5}, arms), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
+		{"leak and different decay", star(vertex.Law{Kind: vertex.Balance, Leak: 0.5}, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, c: 1}, {L: 1, a: 1, rho: 1, alpha: 1}}), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
 		{"negative time", plain, montecarlo.Settings{PositionTimes: []float64{-1}}, new(*montecarlo.SettingsError)},
 		{"beyond the cap", plain, montecarlo.Settings{TimeCap: 1, PositionTimes: []float64{2}}, new(*montecarlo.SettingsError)},
 		{"shard", plain, montecarlo.Settings{Shard: montecarlo.Shard{Index: 1, Count: 2}, PositionTimes: []float64{0.1}}, new(*montecarlo.SettingsError)},

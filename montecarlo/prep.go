@@ -69,6 +69,7 @@ type arm struct {
 	toNode     int     // ≥ 0: the step lands on this node
 	x          float64 // landing position on edge otherwise
 	ys         float64 // sqrt(ρ/a) at the node: y = ys·x in the star
+	cw         float64 // cumulative w_k/Σw up to this arm (position records)
 	cum        float64 // cumulative move probability up to this arm
 	occ        float64 // expected time on this arm per visit
 	// modeStarArms: cumulative fate probabilities up to the rim exit and
@@ -102,19 +103,25 @@ type nodeInfo struct {
 	killP, reward, hold float64
 	pMove               float64
 	tab                 *lazyTable
+	// The small star near a position record in modeStarArms (approximate,
+	// positions.go): mean decay and source rates of the arms, injection
+	// per unit radius γ/Σw, and whether the node has no leak or capacity.
+	posKill, posRate, posInject float64
+	posPlain                    bool
 }
 
 type model struct {
-	net     Network
-	edges   []edgeInfo
-	nodes   []nodeInfo
-	nDep    int
-	timeCap float64
-	rc      float64 // the RC time C·R of DefaultTimeCap
-	exact   bool
-	fin     *starlaw.Table // T_f table when a node is in modeStar
-	tables  tableStats     // visit-law tables looked up lazily
-	posT    []float64      // Settings.PositionTimes, sorted
+	net       Network
+	edges     []edgeInfo
+	nodes     []nodeInfo
+	nDep      int
+	timeCap   float64
+	rc        float64 // the RC time C·R of DefaultTimeCap
+	exact     bool
+	fin       *starlaw.Table // T_f table when a node is in modeStar
+	tables    tableStats     // visit-law tables looked up lazily
+	posT      []float64      // Settings.PositionTimes, sorted
+	posApprox bool           // some record may come from an approximate small star
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -546,6 +553,19 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			a.x = ed.L - eps
 		}
 	}
+	// The small star of a position record (positions.go): split w_k/Σw,
+	// the arms' decay and source rates averaged by the same weights.
+	var cw float64
+	for k := range co {
+		p := co[k].w / wsum
+		cw += p
+		nd.arms[k].cw = cw
+		nd.posKill += p * co[k].c / co[k].rho
+		nd.posRate += p * co[k].f / co[k].rho
+	}
+	nd.arms[n-1].cw = math.Inf(1)
+	nd.posInject = law.Inject / wsum
+	nd.posPlain = law.Leak == 0 && law.Capacity == 0
 	if nd.mode == modeLaw || nd.mode == modeStar {
 		// Σ Move = 1 up to round-off: make the last arm catch it.
 		nd.arms[n-1].cum = math.Inf(1)

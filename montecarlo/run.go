@@ -353,6 +353,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			res.Positions[k] = positions[k][:done]
 		}
 		res.PositionLate = late
+		res.PositionApprox = m.posApprox
 	}
 	if nextFold < last {
 		res.Status = Cancelled

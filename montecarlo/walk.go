@@ -236,6 +236,42 @@ loop:
 				}
 				node, e, x = depart(nd, j, acc)
 			case modeStarArms:
+				if 2*s < posU*nd.r*nd.r {
+					// A record time is near: a Walsh step of a small
+					// radius eps (split w_k/Σw, the arms' mean decay),
+					// the limit of this node's visit as the radius
+					// shrinks; its error in the split is of order eps
+					// (Result.PositionApprox).
+					eps := math.Sqrt(2 * s / posU)
+					j := 0
+					for u := rng.Float64(); u >= nd.arms[j].cw; {
+						j++
+					}
+					T, killed := killClock(rng, eps*eps/2*tb.Draw(rng), nd.posKill)
+					if t+T > tcap {
+						t += T
+						break loop
+					}
+					t += T
+					val += wgt * (nd.posRate*T + eps*nd.posInject)
+					if nd.growth > 0 {
+						wgt *= math.Exp(nd.growth * T)
+					}
+					a := &nd.arms[j]
+					w.addOcc(a.edge, T)
+					if killed {
+						fate = Killed
+						break loop
+					}
+					acc.dep[nd.depOff+j]++
+					node, e = -1, a.edge
+					if a.side == 0 {
+						x = eps / a.ys
+					} else {
+						x = m.edges[e].L - eps/a.ys
+					}
+					continue
+				}
 				// One uniform picks the fate: the leak, or per arm the
 				// rim exit or a killing on it, with its final piece.
 				T := nd.tab.Draw(rng)

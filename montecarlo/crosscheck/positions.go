@@ -153,6 +153,9 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 			notes = append(notes, fmt.Sprintf("at t = %s, %d walkers had no known place (still out at the time cap, or alive at a node without edges) and count as ended", ts, unknown))
 		}
 	}
+	if res.PositionApprox {
+		notes = append(notes, "near the position times, walkers visit junctions with drift, varying coefficients or unequal decay by small approximate stars (an error of the order of their radius, which shrinks with the time left)")
+	}
 	if res.PositionLate > 0 {
 		notes = append(notes, fmt.Sprintf("%d position records were taken just after their time (a step overshot it)", res.PositionLate))
 	}

@@ -243,6 +243,79 @@ func TestPositionsSkewedJunction(t *testing.T) {
 	}
 }
 
+// TestPositionsDriftingJunction compares walkers stopped at three times at
+// a skewed junction with drift on two arms and decay on one (the visits
+// near a record time are approximate small stars there, and the drifting
+// arms are time-stepped) with the forward solution (400 cells per edge).
+// 4·10⁴ walkers, fixed seed, p > 1e-3 per check; the density of the same
+// network with continuity of q at the junction must be rejected. The
+// walkers' own discretisation shows here: with the default Euler step
+// (5e-4) and star fraction (1/8) the KS distances were 0.026, 0.016, 0.013
+// (p < 1e-5); with a step of 2e-5 and a star fraction of 1/32, which the
+// test uses, 0.006, 0.004, 0.003 (p ≥ 0.09). RAMIFY_LONG=1 only (about
+// 3 minutes, the fine step).
+func TestPositionsDriftingJunction(t *testing.T) {
+	testenv.SkipUnlessLong(t, "positions at a drifting junction with a fine Euler step")
+	build := func(weightsAsA bool) *graphpde.Network {
+		var net graphpde.Network
+		add := func(nd graphpde.Node) int {
+			i, err := net.AddNode(nd)
+			if err != nil {
+				t.Fatal(err)
+			}
+			return i
+		}
+		c := add(graphpde.Node{ID: "c"})
+		e1 := add(graphpde.Node{ID: "e1"})
+		e2 := add(graphpde.Node{ID: "e2", Law: vertex.Law{Kind: vertex.Fixed}})
+		e3 := add(graphpde.Node{ID: "e3", Law: vertex.Law{Kind: vertex.Fixed}})
+		for _, ed := range []graphpde.Edge{
+			{ID: "a1", From: c, To: e1, Length: 1, A: 1, B: 0.8, Weight: [2]float64{2, 1}},
+			{ID: "a2", From: e2, To: c, Length: 1.5, A: 0.5, B: -0.4, C: 0.2, Weight: [2]float64{0.5, 0.25}},
+			{ID: "a3", From: c, To: e3, Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
+		} {
+			if weightsAsA {
+				ed.Weight = [2]float64{ed.A, ed.A}
+			}
+			if _, err := net.AddEdge(ed); err != nil {
+				t.Fatal(err)
+			}
+		}
+		return &net
+	}
+	net := build(false)
+	start := vertex.OnEdge(0, 0.3)
+	times := []float64{0.1, 0.4, 1}
+	res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 40000, Seed: 14, PositionTimes: times, Step: 2e-5, StarFraction: 1.0 / 32})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !res.PositionApprox {
+		t.Error("PositionApprox not set at a drifting junction")
+	}
+	for i, n := range []*graphpde.Network{net, build(true)} {
+		fwd, err := graphpde.ForwardDensity(n, start, times, 400, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		checks, _, err := crosscheck.PositionChecks(net, res, densities(fwd, times))
+		if err != nil {
+			t.Fatal(err)
+		}
+		worst := 1.0
+		for _, c := range checks {
+			t.Logf("%s: %s: pde %.4f walker %.4f D %.4f p %.3g", [2]string{"adjoint", "continuity"}[i], c.Quantity, c.PDE, c.Walker, c.Stat, c.P)
+			worst = math.Min(worst, c.P)
+		}
+		if i == 0 && !(worst > 1e-3) {
+			t.Errorf("adjoint junction condition: smallest p = %.3g", worst)
+		}
+		if i == 1 && worst > 1e-6 {
+			t.Errorf("continuity of q not detected: smallest p = %.3g", worst)
+		}
+	}
+}
+
 // TestPositionsCoverage checks the error bars of the position check
 // itself over 500 independent runs (fixed seeds 1…500) of 2000 walkers
 // against the exact image series at t = 0.1. On a long line (no walker
