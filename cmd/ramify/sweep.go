@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"fmt"
 	"io"
@@ -220,7 +221,8 @@ func printSweep(w io.Writer, net *graphpde.Network, res *graphpde.SweepResult, s
 		fmt.Fprintf(w, "fold (turning point) at %s = %.8g, %s: no steady solution on this branch beyond it\n", res.Param, f.Value, conf)
 	}
 	fmt.Fprintln(w)
-	tw := tabwriter.NewWriter(w, 2, 4, 2, ' ', 0)
+	var table bytes.Buffer // rows are trimmed: the fold marker column pads the others
+	tw := tabwriter.NewWriter(&table, 2, 4, 2, ' ', 0)
 	fmt.Fprint(tw, res.Param)
 	for _, s := range specs {
 		fmt.Fprintf(tw, "\tu(%s)", s)
@@ -250,6 +252,11 @@ func printSweep(w io.Writer, net *graphpde.Network, res *graphpde.SweepResult, s
 		row(p, "")
 	}
 	tw.Flush()
+	for _, line := range strings.SplitAfter(table.String(), "\n") {
+		if line != "" {
+			fmt.Fprintln(w, strings.TrimRight(line, " \n"))
+		}
+	}
 	for _, n := range res.Notes {
 		fmt.Fprintln(w, "note:", n)
 	}

@@ -180,3 +180,21 @@ func TestSolvePastFold(t *testing.T) {
 		}
 	}
 }
+
+// TestSweepTableTrimmed: the rows of the sweep table carry no trailing
+// spaces (the fold marker's column padded every row).
+func TestSweepTableTrimmed(t *testing.T) {
+	file := writeFile(t, "bratu.toml", bratuFile)
+	code, out, errs := runCLI(t, context.Background(), "sweep", file, "--param", "lambda", "--to", "4", "--max-points", "60")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	if !strings.Contains(out, "← fold") {
+		t.Fatalf("no fold row in\n%s", out)
+	}
+	for i, line := range strings.Split(out, "\n") {
+		if strings.HasSuffix(line, " ") {
+			t.Errorf("line %d ends in spaces: %q", i+1, line)
+		}
+	}
+}
