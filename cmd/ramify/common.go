@@ -13,6 +13,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"time"
 
 	"github.com/spf13/pflag"
 
@@ -284,6 +285,43 @@ func stoppedErr(ctx context.Context, err error) error {
 		return errInterrupted
 	}
 	return err
+}
+
+// stopGrace is how long a command whose work keeps partial results (evolve,
+// spectrum) may take after Ctrl-C to hand them over: work that is not at a
+// point where it looks at the context (setting up a large grid, a
+// factorisation) is abandoned after it, as by interruptible.
+const stopGrace = 500 * time.Millisecond
+
+// interruptibleKeep runs f, which stops by itself soon after ctx is
+// cancelled and returns what it reached; when it does not return within
+// stopGrace of the cancellation, the result is errInterrupted (nothing had
+// finished that can be printed).
+func interruptibleKeep[T any](ctx context.Context, f func() (T, error)) (T, error) {
+	if ctx.Done() == nil {
+		return f()
+	}
+	type out struct {
+		v   T
+		err error
+	}
+	ch := make(chan out, 1)
+	go func() {
+		v, err := f()
+		ch <- out{v, err}
+	}()
+	select {
+	case o := <-ch:
+		return o.v, o.err
+	case <-ctx.Done():
+	}
+	select {
+	case o := <-ch:
+		return o.v, o.err
+	case <-time.After(stopGrace):
+		var zero T
+		return zero, errInterrupted
+	}
 }
 
 // badFlag is usageFail for command cmd: a flag value that parsed but is not

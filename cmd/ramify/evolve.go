@@ -155,7 +155,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		bar.unit = "‰ of the run/s"
 		set.Progress = func(t, T float64) { bar.Progress(int64(t/T*1000), 1000) }
 	}
-	r, err := graphpde.Evolve(net, set)
+	r, err := interruptibleKeep(ctx, func() (*graphpde.EvolveResult, error) { return graphpde.Evolve(net, set) })
 	if bar != nil {
 		bar.Done()
 	}

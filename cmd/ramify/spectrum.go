@@ -65,7 +65,9 @@ func runSpectrum(ctx context.Context, args []string, stdout, stderr io.Writer) i
 	if err := controlRefusal(net, file, "spectrum"); err != nil {
 		return fail(stderr, "spectrum", err)
 	}
-	r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx, Modes: *modes != ""})
+	r, err := interruptibleKeep(ctx, func() (*graphpde.SpectrumResult, error) {
+		return graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: *count, Method: m, Cells: *cells, Context: ctx, Modes: *modes != ""})
+	})
 	if err != nil {
 		return fail(stderr, "spectrum", inFile(net, file, err))
 	}
