@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // Accuracy of a steady solve (docs/discretisation.md): the node system is
@@ -252,9 +254,34 @@ func (s *system) judge(sol *Solution) {
 		}
 	}
 	if noise {
-		for e := range sol.Flux {
-			sol.Flux[e] = [2]float64{}
+		// Zero is the right reading only when zero fluxes balance the
+		// data: every node's leak against its injection, every edge's
+		// source against its decay. A network whose injections or losses
+		// need fluxes that drown in node values far larger than them (an
+		// injection anchored only by a decay of 1e−300, u ≈ 1e300) has
+		// fluxes float64 cannot resolve: not reported, and Inaccurate.
+		defect, scale := s.zeroFluxDefect()
+		if defect <= fluxRoundingRel*scale {
+			for e := range sol.Flux {
+				sol.Flux[e] = [2]float64{}
+			}
+			return
 		}
+		worst := 0.0
+		for _, rb := range rbs {
+			worst = math.Max(worst, math.Max(rb[0], rb[1]))
+		}
+		for e := range sol.Flux {
+			sol.Flux[e] = [2]float64{math.NaN(), math.NaN()}
+		}
+		for v, nd := range net.Nodes {
+			if nd.Law.Kind == vertex.Balance && v < len(sol.Residual) {
+				sol.Residual[v] = math.NaN()
+			}
+		}
+		sol.Status = Inaccurate
+		sol.Notes = append(sol.Notes, fmt.Sprintf("no end flux is reported (NaN) and the node balances cannot be checked: the data need fluxes of size %.3g, but the node values are so large that their rounding (up to %.2g in a flux) hides them (a component anchored only by a very weak leak or decay)",
+			defect, worst))
 		return
 	}
 	var bad []string
@@ -282,4 +309,27 @@ func (s *system) judge(sol *Solution) {
 		sol.Notes = append(sol.Notes, fmt.Sprintf("end fluxes of edge %s%s are not reported (NaN): their rounding error (up to %.2g) exceeds %g of the largest flux (%.3g); the end values agree to more digits than float64 holds (a very large conductance)",
 			strings.Join(shown, ", "), more, worst, fluxRoundingRel, maxJ))
 	}
+}
+
+// zeroFluxDefect returns how far zero fluxes are from balancing the data
+// of the solved field — the largest |β u − γ| at a balance node and
+// |f − c u|·L on an edge (coefficients and u at its middle, u taken as the
+// mean of its end values) — and the size of those terms, for judging
+// fluxes that are all below their rounding. Cost O(nodes + edges).
+func (s *system) zeroFluxDefect() (defect, scale float64) {
+	for v, nd := range s.net.Nodes {
+		if nd.Law.Kind == vertex.Balance {
+			lu := nd.Law.Leak * s.u[v]
+			defect = math.Max(defect, math.Abs(lu-nd.Law.Inject))
+			scale = math.Max(scale, math.Max(math.Abs(lu), math.Abs(nd.Law.Inject)))
+		}
+	}
+	for e := range s.net.Edges {
+		ed := &s.net.Edges[e]
+		_, _, c, f, _ := ed.Coeffs(ed.Length / 2)
+		cu := c * (s.u[ed.From] + s.u[ed.To]) / 2
+		defect = math.Max(defect, ed.Length*math.Abs(f-cu))
+		scale = math.Max(scale, ed.Length*math.Max(math.Abs(f), math.Abs(cu)))
+	}
+	return defect, scale
 }

@@ -159,3 +159,44 @@ func TestAccuracyRefine(t *testing.T) {
 		}
 	}
 }
+
+// TestAccuracyDrownedFlux: an injection of 1 at a, two nodes joined by a
+// unit edge whose only anchor is a decay of 1e−300 (derived: the total
+// loss c·∫u balances the injection, so u ≈ 1/(cL) = 1e300, and the flux
+// out of a is about 1). The node values are right, but a flux of 1 is far
+// below their rounding (2ε·1e300): it used to be shown as 0 beside a
+// balance residual of 1, "converged". Now the fluxes and the balance
+// residuals are NaN, with a note, and the status is Inaccurate. With a
+// decay of 1e−3 (u ≈ 1e3) the same network is resolved and converged, its
+// flux out of a within rounding of the exact 1 − c·∫ over the half edge.
+func TestAccuracyDrownedFlux(t *testing.T) {
+	for _, m := range []Method{MethodExact, MethodGrid} {
+		for _, c := range []struct {
+			decay  float64
+			status Status
+		}{{1e-300, Inaccurate}, {1e-3, Converged}} {
+			net := mustNet(t, []Node{{ID: "a", Law: vertex.Law{Kind: vertex.Balance, Inject: 1}}, {ID: "b", Law: free}},
+				[]edgeSpec{{Edge{ID: "e", Length: 1, A: 1, C: c.decay}, "a", "b"}})
+			sol, err := Solve(net, &Settings{Method: m})
+			if err != nil {
+				t.Fatalf("%v decay %g: %v", m, c.decay, err)
+			}
+			if sol.Status != c.status {
+				t.Errorf("%v decay %g: status %v %q, want %v", m, c.decay, sol.Status, sol.Notes, c.status)
+			}
+			if rel := math.Abs(sol.U[0]*c.decay - 1); rel > 1e-3 {
+				t.Errorf("%v decay %g: u(a) = %g, want about %g", m, c.decay, sol.U[0], 1/c.decay)
+			}
+			if c.status == Inaccurate {
+				if !math.IsNaN(sol.Flux[0][0]) || !math.IsNaN(sol.Residual[0]) || len(sol.Notes) == 0 {
+					t.Errorf("%v decay %g: flux %v, residual %v, notes %q: want NaN with a note", m, c.decay, sol.Flux[0], sol.Residual, sol.Notes)
+				}
+				continue
+			}
+			// The flux out of a is the injection: 1 (the balance at a).
+			if math.Abs(sol.Flux[0][0]-1) > 1e-9 {
+				t.Errorf("%v decay %g: flux out of a %g, want 1", m, c.decay, sol.Flux[0][0])
+			}
+		}
+	}
+}

@@ -266,7 +266,7 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *
 		m, sol.Stats.ExactEdges, sol.Stats.GridEdges, plural(sol.Stats.Unknowns, "unknown"), sol.Stats.NodeUnknowns, sol.Stats.Elapsed.Seconds())
 	worst, at := 0.0, -1
 	for v, r := range sol.Residual {
-		if net.Nodes[v].Law.Kind != vertex.Balance {
+		if net.Nodes[v].Law.Kind != vertex.Balance || math.IsNaN(r) {
 			continue
 		}
 		if a := math.Abs(r); at < 0 || a > worst {
@@ -289,6 +289,9 @@ func printSolve(w io.Writer, net *graphpde.Network, sol *graphpde.Solution, nl *
 		cond := "fixed"
 		if nd.Law.Kind == vertex.Balance {
 			res = fmt.Sprintf("%.2e", sol.Residual[v])
+			if math.IsNaN(sol.Residual[v]) {
+				res = "not reported"
+			}
 			cond = "balance"
 			if nd.Law.Leak > 0 {
 				cond += ", leak " + fmtNum(nd.Law.Leak)

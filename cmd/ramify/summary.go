@@ -177,7 +177,10 @@ func summarize(net *graphpde.Network, sol *graphpde.Solution) summaryOut {
 	if split {
 		imb := src + fromFixed + carriedIn - loss - drift
 		rel := 0.0
-		if scale > 0 {
+		switch {
+		case math.IsNaN(imb):
+			rel = math.NaN()
+		case scale > 0:
 			rel = math.Abs(imb) / scale
 		}
 		s.Balance = &balanceOut{Sources: num(src), FromFixed: num(fromFixed), CarriedIn: num(carriedIn),
@@ -298,6 +301,9 @@ func fmtNum(x float64) string {
 
 // fmtSmall prints a round-off-sized number as "1.2e-16", and 0 as "0".
 func fmtSmall(x float64) string {
+	if math.IsNaN(x) {
+		return "not reported"
+	}
 	if x == 0 {
 		return "0"
 	}
