@@ -7,6 +7,10 @@ import (
 	"io"
 	"strconv"
 	"testing"
+
+	"github.com/BurntSushi/toml"
+
+	"github.com/ramify-dev/ramify/graphpde/gen"
 )
 
 // chainBytes is chainCSV(n) held in memory, for benchmarks.
@@ -75,6 +79,40 @@ func BenchmarkRead(b *testing.B) {
 			b.SetBytes(int64(len(data)))
 			for b.Loop() {
 				if _, err := Read(bytes.NewReader(data), "chain.toml"); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// BenchmarkReadMesh reads a square wire mesh written by Write (the
+// network file of a large input). The reference, toml-only, is the TOML
+// library decoding the same bytes into maps and nothing else, so the
+// ratio is what the reader adds to the library: the lexical pre-scan,
+// the checks, the line bookkeeping and building the network.
+func BenchmarkReadMesh(b *testing.B) {
+	for _, n := range []int{100} {
+		var buf bytes.Buffer
+		if err := Write(&buf, gen.SquareMesh(n, n)); err != nil {
+			b.Fatal(err)
+		}
+		data := buf.Bytes()
+		b.Run(fmt.Sprintf("netfile/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				if _, err := Read(bytes.NewReader(data), "mesh.toml"); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+		b.Run(fmt.Sprintf("toml-only/n=%d", n), func(b *testing.B) {
+			b.ReportAllocs()
+			b.SetBytes(int64(len(data)))
+			for b.Loop() {
+				var root map[string]any
+				if _, err := toml.Decode(string(data), &root); err != nil {
 					b.Fatal(err)
 				}
 			}

@@ -54,6 +54,9 @@ func (t *tbl) controlList(what string) ([]map[string]any, error) {
 // controlsGiveDiffusivity reports whether every control of an edge table
 // sets the diffusivity (then the edge itself need not).
 func (t *tbl) controlsGiveDiffusivity() bool {
+	if _, ok := t.m["controls"]; !ok {
+		return false // and no error built (its line is costly to find)
+	}
 	arr, err := t.controlList("")
 	if err != nil {
 		return false
@@ -177,7 +180,7 @@ func (rd *reader) checkControls(net *graphpde.Network, objLine int) error {
 			for id := range c.Weights {
 				e, ok := net.EdgeIndex(id)
 				if !ok || (net.Edges[e].From != v && net.Edges[e].To != v) {
-					return &Error{File: rd.file, Line: rd.nodeLine[nd.ID], Object: fmt.Sprintf("node %q", nd.ID),
+					return &Error{File: rd.file, Line: rd.nodeLineOf(nd.ID), Object: fmt.Sprintf("node %q", nd.ID),
 						Msg: fmt.Sprintf("controls entry %d: %q is not an edge at this node", i, id)}
 				}
 			}
@@ -200,12 +203,12 @@ func (rd *reader) checkControls(net *graphpde.Network, objLine int) error {
 func (rd *reader) firstControlLine(net *graphpde.Network) int {
 	for v := range net.Nodes {
 		if len(net.Nodes[v].Controls) > 0 {
-			return rd.nodeLine[net.Nodes[v].ID]
+			return rd.nodeLineOf(net.Nodes[v].ID)
 		}
 	}
 	for e := range net.Edges {
 		if len(net.Edges[e].ControlSet()) > 0 {
-			return rd.edgeLine[net.Edges[e].ID]
+			return rd.edgeLineOf(net.Edges[e].ID)
 		}
 	}
 	return 0

@@ -129,7 +129,7 @@ func (t *tbl) equationRules(ev *edgeVals) error {
 		*ev.plain(k) = 0
 	}
 	if ev.w == [2]float64{} {
-		return &Error{File: t.rd.file, Line: ev.line[ieq], Object: t.obj,
+		return &Error{File: t.rd.file, Line: ev.lineOf("equation"), Object: t.obj,
 			Msg: "an edge with an equation must give weight or weights = [from, to] (the end weights α of its node balances)"}
 	}
 	return nil

@@ -723,7 +723,7 @@ func (rd *reader) physical(net *graphpde.Network) error {
 		// at a junction the flows must add up.
 		for v, nd := range net.Nodes {
 			if nd.Law.Kind == vertex.Balance && ends[v] > 1 && math.Abs(in[v]) > 1e-9*scale[v] {
-				return &Error{File: rd.file, Line: rd.nodeLine[nd.ID], Object: fmt.Sprintf("node %q", nd.ID),
+				return &Error{File: rd.file, Line: rd.nodeLineOf(nd.ID), Object: fmt.Sprintf("node %q", nd.ID),
 					Msg: fmt.Sprintf("the channel flows do not balance here (net inflow %.4g m^3/s): tracer mass would not be conserved; make the flows φ·A·v add up, or fix the node", in[v])}
 			}
 		}

@@ -255,22 +255,53 @@ func batch(secs []section, i int) int {
 }
 
 // decodeBatch decodes the [[kind]] sections secs[i:j] (adjacent in src) and
-// returns their tables. Errors carry the line in the whole file.
-func decodeBatch(src, file, kind string, secs []section, i, j int) ([]map[string]any, error) {
+// returns their tables and, for each, its keys in file order (from the
+// order in which the library met them, so that no line lookup is needed
+// to sort them). Errors carry the line in the whole file.
+func decodeBatch(src, file, kind string, secs []section, i, j int) ([]map[string]any, [][]string, error) {
 	text := src[secs[i].start:secs[j-1].end]
 	var root map[string]any
-	if _, err := toml.Decode(text, &root); err != nil {
+	md, err := toml.Decode(text, &root)
+	if err != nil {
 		e := tomlError(text, file, err)
 		if e.Line > 0 {
 			e.Line += secs[i].line - 1
 		}
-		return nil, e
+		return nil, nil, e
 	}
 	arr, ok := root[kind].([]map[string]any)
 	if !ok || len(arr) != j-i || len(root) != 1 {
-		return nil, &Error{File: file, Line: secs[i].line, Msg: "invalid TOML: [[" + kind + "]] tables not understood"}
+		return nil, nil, &Error{File: file, Line: secs[i].line, Msg: "invalid TOML: [[" + kind + "]] tables not understood"}
 	}
-	return arr, nil
+	// Each [[kind]] header is the key [kind]; the keys below it are
+	// [kind, key, ...]. A key's first mention is where it is defined
+	// (a dotted key x.y defines x).
+	orders := make([][]string, 0, len(arr))
+	var cur []string
+	for _, k := range md.Keys() {
+		switch {
+		case len(k) == 1:
+			if len(orders) > 0 {
+				orders[len(orders)-1] = cur
+			}
+			orders = append(orders, nil)
+			cur = make([]string, 0, len(arr[len(orders)-1]))
+		case len(orders) > 0 && !slices.Contains(cur, k[1]):
+			cur = append(cur, k[1])
+		}
+	}
+	if len(orders) > 0 {
+		orders[len(orders)-1] = cur
+	}
+	if len(orders) != len(arr) {
+		return nil, nil, &Error{File: file, Line: secs[i].line, Msg: "invalid TOML: [[" + kind + "]] tables not understood"}
+	}
+	for n, o := range orders {
+		if len(o) != len(arr[n]) {
+			return nil, nil, &Error{File: file, Line: secs[i].line, Msg: "invalid TOML: [[" + kind + "]] tables not understood"}
+		}
+	}
+	return arr, orders, nil
 }
 
 // tomlError turns an error of the TOML library on text into an *Error with
@@ -304,6 +335,7 @@ type sectionIndex struct {
 type sectionBatch struct {
 	lo, hi int
 	tables []map[string]any
+	orders [][]string // keys of each table in file order
 	loc    *locator
 }
 
@@ -319,20 +351,20 @@ func (x *sectionIndex) sections(kind string) []section {
 	return x.nodes
 }
 
-// table returns the i-th [[kind]] table.
-func (x *sectionIndex) table(kind string, i int) (map[string]any, error) {
+// table returns the i-th [[kind]] table and its keys in file order.
+func (x *sectionIndex) table(kind string, i int) (map[string]any, []string, error) {
 	b := x.cache[kind]
 	if b == nil || i < b.lo || i >= b.hi {
 		secs := x.sections(kind)
 		j := batch(secs, i)
-		tabs, err := decodeBatch(x.src, x.file, kind, secs, i, j)
+		tabs, orders, err := decodeBatch(x.src, x.file, kind, secs, i, j)
 		if err != nil {
-			return nil, err
+			return nil, nil, err
 		}
-		b = &sectionBatch{lo: i, hi: j, tables: tabs}
+		b = &sectionBatch{lo: i, hi: j, tables: tabs, orders: orders}
 		x.cache[kind] = b
 	}
-	return b.tables[i-b.lo], nil
+	return b.tables[i-b.lo], b.orders[i-b.lo], nil
 }
 
 // locatorFor returns the locator of the table at path (node or edge, #i),

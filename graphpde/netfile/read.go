@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"maps"
 	"math"
 	"os"
 	"path/filepath"
@@ -144,9 +143,9 @@ type reader struct {
 	opt      *Options // context and line record (nil: none)
 	loc      *locator
 	sections *sectionIndex  // when [[node]] and [[edge]] are decoded one at a time
-	nodeLine map[string]int // node id → line of its id key
-	edgeLine map[string]int
-	cells    int64 // cells so far, for the memory guard
+	nodeLine map[string]int // node id → its index among the [[node]] tables (nodeLineOf gives the line)
+	edgeLine map[string]int // edge id → its index among the [[edge]] tables
+	cells    int64          // cells so far, for the memory guard
 
 	params *graphpde.Params // the [parameters] table (nil: none)
 	laws   []lawSpec        // general node laws, compiled once the edges are known
@@ -163,8 +162,9 @@ type tbl struct {
 	path []string // locator path of the table
 	m    map[string]any
 
+	at    int      // index among the [[node]] or [[edge]] tables
 	pk    string   // pathKey(path), set by line
-	order []string // keys in file order, set by keys
+	order []string // keys in file order, set by keys (or given by the decoder)
 }
 
 // line returns the line of key (a path below the table) or, failing that,
@@ -426,7 +426,7 @@ type edgeVals struct {
 	w                       [2]float64 // 0: default weight
 	cells                   int
 	initial                 float64
-	line                    [maxEdgeKeys]int           // line each of defaultsKeys was given on
+	from                    [maxEdgeKeys]*tbl          // table each of defaultsKeys was given in (its line is looked up on error only)
 	given                   [maxEdgeKeys]bool          // whether each of defaultsKeys was given
 	ex                      [maxEdgeKeys]*formula.Expr // the expression given for a key, if any (netfile/expr.go)
 }
@@ -434,7 +434,9 @@ type edgeVals struct {
 // lineOf returns the line edge key k was given on, 0 if not given.
 func (ev *edgeVals) lineOf(k string) int {
 	if i := slices.Index(defaultsKeys, k); i >= 0 {
-		return ev.line[i]
+		if ev.from[i] != nil {
+			return ev.from[i].line(k)
+		}
 	}
 	return 0
 }
@@ -483,7 +485,7 @@ func (t *tbl) edgeValue(key string, ev *edgeVals) error {
 		return err
 	}
 	i := slices.Index(defaultsKeys, key)
-	ev.line[i], ev.given[i] = t.line(key), true
+	ev.from[i], ev.given[i] = t, true
 	return nil
 }
 
@@ -514,7 +516,7 @@ func (t *tbl) edgeValues(ev *edgeVals) error {
 // decoded by get(i) (at once, or only when it is read).
 type tables struct {
 	n   int
-	get func(i int) (map[string]any, error)
+	get func(i int) (map[string]any, []string, error) // the table, and its keys in file order if known (else nil)
 }
 
 // splitSpec is a node's split table, checked once the edges are known.
@@ -598,7 +600,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	}{{"node", &nodes}, {"edge", &edges}} {
 		if rd.sections != nil {
 			kind := sec.key
-			*sec.dst = tables{n: len(rd.sections.sections(kind)), get: func(i int) (map[string]any, error) {
+			*sec.dst = tables{n: len(rd.sections.sections(kind)), get: func(i int) (map[string]any, []string, error) {
 				return rd.sections.table(kind, i)
 			}}
 			continue
@@ -611,7 +613,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if !isArr {
 			return nil, top.fail(sec.key, fmt.Sprintf("%s must be an array of tables: write [[%s]] before each one", sec.key, sec.key))
 		}
-		*sec.dst = tables{n: len(arr), get: func(i int) (map[string]any, error) { return arr[i], nil }}
+		*sec.dst = tables{n: len(arr), get: func(i int) (map[string]any, []string, error) { return arr[i], nil, nil }}
 	}
 	var splits []splitSpec
 	for i := range nodes.n {
@@ -620,11 +622,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 				return nil, err
 			}
 		}
-		m, err := nodes.get(i)
+		m, order, err := nodes.get(i)
 		if err != nil {
 			return nil, err
 		}
-		t := &tbl{rd: rd, obj: fmt.Sprintf("node #%d", i+1), kind: "node", path: []string{"node", index(i)}, m: m}
+		t := &tbl{rd: rd, obj: fmt.Sprintf("node #%d", i+1), kind: "node", at: i, path: []string{"node", index(i)}, m: m, order: order}
 		nd, split, err := rd.node(t)
 		if err != nil {
 			return nil, err
@@ -643,11 +645,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 				return nil, err
 			}
 		}
-		m, err := edges.get(i)
+		m, order, err := edges.get(i)
 		if err != nil {
 			return nil, err
 		}
-		t := &tbl{rd: rd, obj: fmt.Sprintf("edge #%d", i+1), kind: "edge", path: []string{"edge", index(i)}, m: m}
+		t := &tbl{rd: rd, obj: fmt.Sprintf("edge #%d", i+1), kind: "edge", at: i, path: []string{"edge", index(i)}, m: m, order: order}
 		if err := rd.edge(net, t, &def); err != nil {
 			return nil, err
 		}
@@ -668,8 +670,8 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	}
 	if rd.opt != nil && rd.opt.Lines != nil {
 		rd.opt.Lines.reset()
-		maps.Copy(rd.opt.Lines.Nodes, rd.nodeLine)
-		maps.Copy(rd.opt.Lines.Edges, rd.edgeLine)
+		rd.recordLines("node", rd.nodeLine, rd.opt.Lines.Nodes)
+		rd.recordLines("edge", rd.edgeLine, rd.opt.Lines.Edges)
 	}
 	return net, nil
 }
@@ -691,7 +693,52 @@ func (rd *reader) modelError(t *tbl, err error, line func(field string) int) err
 	return e
 }
 
-// id reads and checks the id of a node or edge table, renaming t.obj.
+// tableLine returns the line of the id key of the i-th [[kind]] table (of
+// the table's header if it has none). Lines are looked up only when they
+// are needed (for an error or the line record): scanning for them costs
+// as much as decoding.
+func (rd *reader) tableLine(kind string, i int) int {
+	t := &tbl{rd: rd, path: []string{kind, index(i)}}
+	return t.line("id")
+}
+
+// recordLines sets dst[id] to the line of every [[kind]] table in seen (id
+// → index), looking them up in file order so that each batch of tables is
+// scanned for lines once.
+func (rd *reader) recordLines(kind string, seen, dst map[string]int) {
+	n := 0
+	for _, i := range seen {
+		n = max(n, i+1)
+	}
+	ids := make([]string, n)
+	for id, i := range seen {
+		ids[i] = id
+	}
+	for i, id := range ids {
+		if _, ok := seen[id]; ok {
+			dst[id] = rd.tableLine(kind, i)
+		}
+	}
+}
+
+// nodeLineOf returns the line of node id's id key, 0 if it is unknown.
+func (rd *reader) nodeLineOf(id string) int {
+	if i, ok := rd.nodeLine[id]; ok {
+		return rd.tableLine("node", i)
+	}
+	return 0
+}
+
+// edgeLineOf returns the line of edge id's id key, 0 if it is unknown.
+func (rd *reader) edgeLineOf(id string) int {
+	if i, ok := rd.edgeLine[id]; ok {
+		return rd.tableLine("edge", i)
+	}
+	return 0
+}
+
+// id reads and checks the id of a node or edge table, renaming t.obj;
+// seen maps the ids so far to their tables' indices.
 func (rd *reader) id(t *tbl, seen map[string]int) error {
 	if _, ok := t.m["id"]; !ok {
 		return t.fail("", `missing key "id"`)
@@ -707,10 +754,10 @@ func (rd *reader) id(t *tbl, seen map[string]int) error {
 	t.obj = fmt.Sprintf("%s %q", t.kind, id)
 	if first, dup := seen[id]; dup {
 		return &Error{File: rd.file, Line: t.line("id"), Object: t.obj,
-			Msg: fmt.Sprintf("duplicate id (first used at line %d)", first),
+			Msg: fmt.Sprintf("duplicate id (first used at line %d)", rd.tableLine(t.kind, first)),
 			Err: &graphpde.ModelError{Object: t.kind, ID: id, Reason: "duplicate id"}}
 	}
-	seen[id] = t.line("id")
+	seen[id] = t.at
 	return nil
 }
 

@@ -1,0 +1,131 @@
+package netfile
+
+import (
+	"bufio"
+	"bytes"
+	"errors"
+	"fmt"
+	"strings"
+	"testing"
+
+	"github.com/ramify-dev/ramify/graphpde/gen"
+)
+
+// bigChain returns a chain of n edges as a network file (written by
+// Write), long enough that its [[node]] and [[edge]] tables are decoded in
+// many batches, so that lines asked for late belong to batches long gone.
+func bigChain(t *testing.T, n int) string {
+	t.Helper()
+	var buf bytes.Buffer
+	if err := Write(&buf, gen.Chain(n)); err != nil {
+		t.Fatal(err)
+	}
+	if buf.Len() < 4*batchBytes {
+		t.Fatalf("test file of %d bytes is not several batches", buf.Len())
+	}
+	return buf.String()
+}
+
+// idLines finds, by plain text search, the line of the id key of every
+// [[node]] and [[edge]] table of a file as Write lays it out (the
+// independent answer the reader's lazily found lines must match).
+func idLines(t *testing.T, src string) (nodes, edges map[string]int) {
+	t.Helper()
+	nodes, edges = map[string]int{}, map[string]int{}
+	var cur map[string]int
+	sc := bufio.NewScanner(strings.NewReader(src))
+	for ln := 1; sc.Scan(); ln++ {
+		s := strings.TrimSpace(sc.Text())
+		switch {
+		case s == "[[node]]":
+			cur = nodes
+		case s == "[[edge]]":
+			cur = edges
+		case strings.HasPrefix(s, "["):
+			cur = nil
+		case cur != nil && strings.HasPrefix(s, "id = "):
+			var id string
+			if _, err := fmt.Sscanf(strings.TrimPrefix(s, "id = "), "%q", &id); err != nil {
+				t.Fatalf("line %d: %v", ln, err)
+			}
+			cur[id] = ln
+		}
+	}
+	return nodes, edges
+}
+
+// TestLazyLinesRecord: the line record of a many-batch file, whose lines
+// are looked up only at the end, is the line of every id key, read table
+// by table and whole.
+func TestLazyLinesRecord(t *testing.T) {
+	src := bigChain(t, 3000)
+	wantN, wantE := idLines(t, src)
+	for _, whole := range []bool{false, true} {
+		decodeWhole = whole
+		var lines Lines
+		_, err := readTOML(strings.NewReader(src), "chain.toml", &Options{Lines: &lines})
+		decodeWhole = false
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(lines.Nodes) != len(wantN) || len(lines.Edges) != len(wantE) {
+			t.Fatalf("whole=%v: %d nodes, %d edges recorded; want %d, %d", whole, len(lines.Nodes), len(lines.Edges), len(wantN), len(wantE))
+		}
+		for id, ln := range wantN {
+			if got := lines.Node(id); got != ln {
+				t.Fatalf("whole=%v: node %q at line %d, want %d", whole, id, got, ln)
+			}
+		}
+		for id, ln := range wantE {
+			if got := lines.Edge(id); got != ln {
+				t.Fatalf("whole=%v: edge %q at line %d, want %d", whole, id, got, ln)
+			}
+		}
+	}
+}
+
+// TestLazyLinesLateErrors: errors found after the batch of the table they
+// name has been dropped still carry that table's exact line.
+func TestLazyLinesLateErrors(t *testing.T) {
+	src := bigChain(t, 3000)
+	nodes, edges := idLines(t, src)
+	lines := strings.Count(src, "\n")
+	firstEdge, firstNode := "", ""
+	for id, ln := range edges {
+		if firstEdge == "" || ln < edges[firstEdge] {
+			firstEdge = id
+		}
+	}
+	for id, ln := range nodes {
+		if firstNode == "" || ln < nodes[firstNode] {
+			firstNode = id
+		}
+	}
+	cases := []struct {
+		name, add string
+		line      int    // of the error
+		msg       string // in the error
+	}{
+		// The duplicate is met in the last batch; the first use is in the first.
+		{"duplicate edge id", fmt.Sprintf("[[edge]]\nid = %q\nfrom = %q\nto = %q\nlength = 1.0\n", firstEdge, firstNode, firstNode),
+			lines + 2, fmt.Sprintf("duplicate id (first used at line %d)", edges[firstEdge])},
+		{"duplicate node id", fmt.Sprintf("[[node]]\nid = %q\n", firstNode),
+			lines + 2, fmt.Sprintf("duplicate id (first used at line %d)", nodes[firstNode])},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			for _, whole := range []bool{false, true} {
+				decodeWhole = whole
+				_, err := Read(strings.NewReader(src+c.add), "chain.toml")
+				decodeWhole = false
+				var e *Error
+				if !errors.As(err, &e) {
+					t.Fatalf("whole=%v: error %v, want an *Error", whole, err)
+				}
+				if e.Line != c.line || !strings.Contains(e.Msg, c.msg) {
+					t.Fatalf("whole=%v: %v; want line %d and %q", whole, err, c.line, c.msg)
+				}
+			}
+		})
+	}
+}
