@@ -92,7 +92,7 @@ func BenchmarkRead(b *testing.B) {
 // ratio is what the reader adds to the library: the lexical pre-scan,
 // the checks, the line bookkeeping and building the network.
 func BenchmarkReadMesh(b *testing.B) {
-	for _, n := range []int{100} {
+	for _, n := range []int{100, 300} {
 		var buf bytes.Buffer
 		if err := Write(&buf, gen.SquareMesh(n, n)); err != nil {
 			b.Fatal(err)

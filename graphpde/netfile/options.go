@@ -1,6 +1,9 @@
 package netfile
 
-import "context"
+import (
+	"context"
+	"sync"
+)
 
 // Options are the options of ReadFileOptions. A nil *Options means none.
 type Options struct {
@@ -38,10 +41,17 @@ func (o *Options) stopped(file string) error {
 
 // Lines holds the 1-based line on which each node and edge of a file read
 // by ReadFileOptions is defined: the line of its id key in a network file,
-// of its row in an edge list (a node that only edges name has none).
+// of its row in an edge list (a node that only edges name has none). Node
+// and Edge give them; the maps hold the lines recorded up front (edge
+// lists), while the lines of a network file are looked up when asked for
+// (scanning for them costs as much as decoding the file), which keeps the
+// file's text in memory as long as l is kept.
 type Lines struct {
-	Nodes map[string]int // node id → line
-	Edges map[string]int // edge id → line
+	Nodes map[string]int // node id → line, when recorded up front
+	Edges map[string]int // edge id → line, when recorded up front
+
+	mu   sync.Mutex
+	find func(kind, id string) int // lines looked up on demand (nil: none)
 }
 
 // Node returns the line of node id, or 0 if it is not known.
@@ -49,7 +59,10 @@ func (l *Lines) Node(id string) int {
 	if l == nil {
 		return 0
 	}
-	return l.Nodes[id]
+	if ln, ok := l.Nodes[id]; ok {
+		return ln
+	}
+	return l.lookup("node", id)
 }
 
 // Edge returns the line of edge id, or 0 if it is not known.
@@ -57,11 +70,27 @@ func (l *Lines) Edge(id string) int {
 	if l == nil {
 		return 0
 	}
-	return l.Edges[id]
+	if ln, ok := l.Edges[id]; ok {
+		return ln
+	}
+	return l.lookup("edge", id)
+}
+
+// lookup asks find for the line of a node or edge (safe for concurrent use).
+func (l *Lines) lookup(kind, id string) int {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	if l.find == nil {
+		return 0
+	}
+	return l.find(kind, id)
 }
 
 // reset empties l for a new file.
 func (l *Lines) reset() {
+	l.mu.Lock()
+	defer l.mu.Unlock()
 	l.Nodes = make(map[string]int)
 	l.Edges = make(map[string]int)
+	l.find = nil
 }

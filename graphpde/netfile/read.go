@@ -670,8 +670,12 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 	}
 	if rd.opt != nil && rd.opt.Lines != nil {
 		rd.opt.Lines.reset()
-		rd.recordLines("node", rd.nodeLine, rd.opt.Lines.Nodes)
-		rd.recordLines("edge", rd.edgeLine, rd.opt.Lines.Edges)
+		rd.opt.Lines.find = func(kind, id string) int {
+			if kind == "node" {
+				return rd.nodeLineOf(id)
+			}
+			return rd.edgeLineOf(id)
+		}
 	}
 	return net, nil
 }
@@ -700,25 +704,6 @@ func (rd *reader) modelError(t *tbl, err error, line func(field string) int) err
 func (rd *reader) tableLine(kind string, i int) int {
 	t := &tbl{rd: rd, path: []string{kind, index(i)}}
 	return t.line("id")
-}
-
-// recordLines sets dst[id] to the line of every [[kind]] table in seen (id
-// → index), looking them up in file order so that each batch of tables is
-// scanned for lines once.
-func (rd *reader) recordLines(kind string, seen, dst map[string]int) {
-	n := 0
-	for _, i := range seen {
-		n = max(n, i+1)
-	}
-	ids := make([]string, n)
-	for id, i := range seen {
-		ids[i] = id
-	}
-	for i, id := range ids {
-		if _, ok := seen[id]; ok {
-			dst[id] = rd.tableLine(kind, i)
-		}
-	}
 }
 
 // nodeLineOf returns the line of node id's id key, 0 if it is unknown.
