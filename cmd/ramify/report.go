@@ -55,6 +55,11 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if err := controlRefusal(net, file, "report"); err != nil {
 		return fail(stderr, "report", err)
 	}
+	// The report's exit law and walker tables are those of a linear problem:
+	// on a nonlinear file they would describe the file with its laws dropped.
+	if err := nonlinearRefusal(net, file, "the report's exit law and walker checks are defined for linear problems only"); err != nil {
+		return fail(stderr, "report", err)
+	}
 	p, err := net.ParsePoint(*wf.from)
 	if err != nil {
 		return fail(stderr, "report", err)

@@ -155,6 +155,10 @@ func summarize(net *graphpde.Network, sol *graphpde.Solution) summaryOut {
 			s.Open = append(s.Open, openEnd{ID: nd.ID, Carried: num(c)})
 			carriedIn += c
 		}
+		if nd.Nonlinear != nil {
+			split = false // a loss or general law: no split into sources and losses here
+			continue
+		}
 		gain := nd.Law.Inject - nd.Law.Leak*sol.U[v]
 		scale += math.Abs(nd.Law.Inject) + math.Abs(nd.Law.Leak*sol.U[v])
 		switch {
@@ -186,7 +190,7 @@ func summarize(net *graphpde.Network, sol *graphpde.Solution) summaryOut {
 		s.Balance = &balanceOut{Sources: num(src), FromFixed: num(fromFixed), CarriedIn: num(carriedIn),
 			Losses: num(loss), Drift: num(drift), Imbalance: num(imb), RelImbalance: num(rel)}
 	} else if s.Note == "" {
-		s.Note = "the balance is not split into sources and losses on edges with varying or nonlinear coefficients"
+		s.Note = "the balance is not split into sources and losses on edges with varying or nonlinear coefficients or at nodes with nonlinear laws"
 	}
 	hi, lo := placeOut{U: num(math.Inf(-1))}, placeOut{U: num(math.Inf(1))}
 	for v, nd := range net.Nodes {
