@@ -210,6 +210,10 @@ type Factor[T Scalar] struct {
 	tpslot []int
 	tsx    []float64
 	sn     *snodes // supernodes, nil for the up-looking kernel
+	// amalgamate asks for relaxed amalgamation when a test forces the
+	// supernodal kernel (kernelAuto always amalgamates; a forced kernel
+	// keeps the fundamental supernodes and the exact pattern of L).
+	amalgamate bool
 	snw    *snWork[T]
 }
 

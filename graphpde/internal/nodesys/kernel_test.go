@@ -94,3 +94,75 @@ func compareKernels[T Scalar](t *testing.T, m *Matrix[T], tol float64, rnd *rand
 		t.Errorf("%v allocations per supernodal re-factorisation", a)
 	}
 }
+
+// TestAmalgamatedAgrees factors the systems of TestKernelsAgree with
+// amalgamated supernodes and compares D and every entry of L and U with the
+// up-looking kernel's, entry by entry through the row indices (the
+// amalgamated pattern is a superset of the true one: the padded positions
+// must hold exact zeros). Same arithmetic reordered, so the same roundoffK
+// bound; a wrong merge (a padded pattern missing a true entry) gives
+// differences of order one or a lost entry.
+func TestAmalgamatedAgrees(t *testing.T) {
+	const roundoffK = 1e4 * eps
+	rnd := rand.New(rand.NewPCG(32, 0))
+	cases := []struct {
+		name string
+		m    *Matrix[float64]
+	}{
+		{"mesh 25 spd", laplacian(625, mesh(25), 0.1, rnd)},
+		{"mesh 25 drift", driftSystem(625, mesh(25), 0.1, rnd)},
+		{"random cyclic spd", laplacian(400, randomCyclic(400, 500, rnd), 0.5, rnd)},
+		{"random cyclic drift", driftSystem(400, randomCyclic(400, 500, rnd), 0.5, rnd)},
+		{"tree", laplacian(300, randomTree(300, rnd), 0.5, rnd)},
+		{"mesh 40 nested dissection", laplacian(1600, mesh(40), 0.01, rnd)},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			up := NewFactor[float64](nil)
+			up.kernel = kernelUp
+			sn := NewFactor[float64](nil)
+			sn.kernel, sn.amalgamate = kernelSuper, true
+			fund := NewFactor[float64](nil)
+			fund.kernel = kernelSuper
+			for _, f := range []*Factor[float64]{up, sn, fund} {
+				if err := f.Factorize(c.m); err != nil {
+					t.Fatal(err)
+				}
+			}
+			if sn.Stats().Supernodes >= fund.Stats().Supernodes {
+				t.Errorf("amalgamation merged nothing: %d supernodes, %d fundamental", sn.Stats().Supernodes, fund.Stats().Supernodes)
+			}
+			if sn.Stats().NNZL != up.Stats().NNZL {
+				t.Errorf("reported nnz(L) %d, want the true %d", sn.Stats().NNZL, up.Stats().NNZL)
+			}
+			worst := 0.0
+			for j := range up.d {
+				worst = math.Max(worst, math.Abs(up.d[j]-sn.d[j])/(1+math.Abs(up.d[j])))
+			}
+			upper := func(f *Factor[float64]) []float64 { return f.upper() }
+			for j := 0; j < c.m.Dim(); j++ {
+				p := up.lp[j]
+				for q := sn.lp[j]; q < sn.lp[j+1]; q++ {
+					var l, u float64
+					if p < up.lp[j+1] && up.li[p] == sn.li[q] {
+						l, u = up.lx[p], upper(up)[p]
+						p++
+					}
+					worst = math.Max(worst, math.Abs(l-sn.lx[q])/(1+math.Abs(l)))
+					worst = math.Max(worst, math.Abs(u-upper(sn)[q])/(1+math.Abs(u)))
+				}
+				if p != up.lp[j+1] {
+					t.Fatalf("column %d: amalgamated pattern lacks row %d", j, up.li[p])
+				}
+			}
+			t.Logf("worst %.3g; supernodes %d amalgamated, %d fundamental; stored %d for nnz(L) %d",
+				worst, sn.Stats().Supernodes, fund.Stats().Supernodes, len(sn.li), len(up.li))
+			if worst > roundoffK {
+				t.Errorf("kernels differ by %.3g > %.3g", worst, roundoffK)
+			}
+			if a := testing.AllocsPerRun(2, func() { _ = sn.Factorize(c.m) }); a != 0 {
+				t.Errorf("%v allocations per amalgamated re-factorisation", a)
+			}
+		})
+	}
+}
