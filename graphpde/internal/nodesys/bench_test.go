@@ -174,6 +174,24 @@ func BenchmarkMesh(b *testing.B) {
 			}
 			ratio(b)
 		})
+		// The supernodal kernel on the fundamental supernodes, without
+		// relaxed amalgamation: the reference for factor's gain from it.
+		b.Run("k="+itoa(k)+"/factor-fundamental", func(b *testing.B) {
+			g := NewFactor[float64](nil)
+			g.kernel = kernelSuper
+			if err := g.Factorize(m); err != nil {
+				b.Fatal(err)
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for b.Loop() {
+				if err := g.Factorize(m); err != nil {
+					b.Fatal(err)
+				}
+			}
+			ratio(b)
+			b.ReportMetric(float64(g.Stats().Supernodes), "supernodes")
+		})
 		b.Run("k="+itoa(k)+"/solve", func(b *testing.B) {
 			b.ReportAllocs()
 			for b.Loop() {

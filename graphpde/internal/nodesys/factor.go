@@ -214,7 +214,7 @@ type Factor[T Scalar] struct {
 	// supernodal kernel (kernelAuto always amalgamates; a forced kernel
 	// keeps the fundamental supernodes and the exact pattern of L).
 	amalgamate bool
-	snw    *snWork[T]
+	snw        *snWork[T]
 }
 
 // NewFactor returns an empty factorisation with the given settings (nil for

@@ -194,6 +194,44 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 			// time to halve the traffic on W.
 			off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
 			t := fk
+			for ; t+3 < ek; t += 4 {
+				o1, o2, o3, o4 := off(t), off(t+1), off(t+2), off(t+3)
+				d1, d2, d3, d4 := d[t], d[t+1], d[t+2], d[t+3]
+				jj0 := 0
+				if sym {
+					// Two target columns at a time: each entry of the
+					// four source columns is loaded once for both.
+					for ; jj0+1 < nc; jj0 += 2 {
+						jj := jj0
+						a := lx[o1+jj : o1+mr]
+						b := lx[o2+jj : o2+mr]
+						c := lx[o3+jj : o3+mr]
+						e := lx[o4+jj : o4+mr]
+						ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
+						ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
+						wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
+						axpy4x2(wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
+							ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
+					}
+				}
+				for jj := jj0; jj < nc; jj++ {
+					dst := wl[jj*mr+jj : (jj+1)*mr]
+					a := lx[o1+jj : o1+mr]
+					b := lx[o2+jj : o2+mr]
+					c := lx[o3+jj : o3+mr]
+					e := lx[o4+jj : o4+mr]
+					if sym {
+						axpy4(dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+					} else {
+						au := ux[o1+jj : o1+mr]
+						bu := ux[o2+jj : o2+mr]
+						cu := ux[o3+jj : o3+mr]
+						eu := ux[o4+jj : o4+mr]
+						axpy4(dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
+						axpy4(wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+					}
+				}
+			}
 			for ; t+1 < ek; t += 2 {
 				o1, o2 := off(t), off(t+1)
 				d1, d2 := d[t], d[t+1]
@@ -252,7 +290,7 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 		head[s] = -1
 
 		// Dense factorisation of the trapezoid.
-		for j := f0; j < e; j++ {
+		pivot := func(j int) error {
 			dj := d[j]
 			c := f.perm[j]
 			scale := 0.0
@@ -263,7 +301,51 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 				return &SingularError{Index: c, Pivot: mag(dj), Scale: math.Max(scale, cs[j])}
 			}
 			f.notePivot(c, magMax(dj)/math.Max(scale, cs[j]))
+			return nil
+		}
+		for j := f0; j < e; j++ {
+			if err := pivot(j); err != nil {
+				return err
+			}
+			dj := d[j]
 			colL := lx[lp[j]:lp[j+1]] // unscaled: L(r,j)·d_j
+			if sym && j+1 < e {
+				// Two pivots at a time: column j updates column j+1,
+				// then both update the columns after them in one pass.
+				j1 := j + 1
+				colL1 := lx[lp[j1]:lp[j1+1]]
+				a := colL[0]
+				c := a / dj
+				d[j1] -= c * a
+				cs[j1] += magMax(c * a)
+				src := colL[1:]
+				src = src[:len(colL1)]
+				for q := range colL1 {
+					colL1[q] -= src[q] * c
+				}
+				if err := pivot(j1); err != nil {
+					return err
+				}
+				dj1 := d[j1]
+				for j2 := j + 2; j2 < e; j2++ {
+					a0, a1 := colL[j2-j-1], colL1[j2-j1-1]
+					c0, c1 := a0/dj, a1/dj1
+					d[j2] -= c0 * a0
+					d[j2] -= c1 * a1
+					cs[j2] += magMax(c0*a0) + magMax(c1*a1)
+					dst := lx[lp[j2]:lp[j2+1]]
+					axpy2(dst, colL[j2-j:], colL1[j2-j1:], -c0, -c1)
+				}
+				inv, inv1 := 1/dj, 1/dj1
+				for q := range colL {
+					colL[q] *= inv
+				}
+				for q := range colL1 {
+					colL1[q] *= inv1
+				}
+				j++
+				continue
+			}
 			if sym {
 				for j2 := j + 1; j2 < e; j2++ {
 					a := colL[j2-j-1]
@@ -333,6 +415,28 @@ func axpy1[T Scalar](dst, a []T, c T) {
 	a = a[:len(dst)]
 	for q := range dst {
 		dst[q] += a[q] * c
+	}
+}
+
+// axpy4 sets dst += ca·a + cb·b + cc·c + ce·e. All of a, b, c, e are at
+// least as long as dst.
+func axpy4[T Scalar](dst, a, b, c, e []T, ca, cb, cc, ce T) {
+	a, b, c, e = a[:len(dst)], b[:len(dst)], c[:len(dst)], e[:len(dst)]
+	for q := range dst {
+		dst[q] += a[q]*ca + b[q]*cb + c[q]*cc + e[q]*ce
+	}
+}
+
+// axpy4x2 sets d0 += ca0·a + cb0·b + cc0·c + ce0·e and d1 likewise with
+// the second coefficients. len(d0) == len(d1) ≤ len(a), len(b), len(c),
+// len(e).
+func axpy4x2[T Scalar](d0, d1, a, b, c, e []T, ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1 T) {
+	d1 = d1[:len(d0)]
+	a, b, c, e = a[:len(d0)], b[:len(d0)], c[:len(d0)], e[:len(d0)]
+	for q := range d0 {
+		aq, bq, cq, eq := a[q], b[q], c[q], e[q]
+		d0[q] += aq*ca0 + bq*cb0 + cq*cc0 + eq*ce0
+		d1[q] += aq*ca1 + bq*cb1 + cq*cc1 + eq*ce1
 	}
 }
 
