@@ -123,7 +123,11 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 			out.controlOut = controlJSON(net, ctl, obj)
 			out.Status = ctl.Status.String()
 		}
-		if err := writeJSON(stdout, out); err != nil {
+		write := writeSolveJSON
+		if !streamSolveJSON {
+			write = func(w io.Writer, out solveOut) error { return writeJSON(w, out) }
+		}
+		if err := write(stdout, out); err != nil {
 			return fail(stderr, "solve", err)
 		}
 		return 0

@@ -1,0 +1,154 @@
+package main
+
+import (
+	"bytes"
+	"context"
+	"io"
+	"math"
+	"path/filepath"
+	"regexp"
+	"testing"
+
+	"github.com/ramify-dev/ramify/graphpde"
+	"github.com/ramify-dev/ramify/graphpde/gen"
+)
+
+// secondsLine is the one line of solve --json that differs between two
+// runs of the same solve (its wall time).
+var secondsLine = regexp.MustCompile(`(?m)^  "seconds": [^\n]*$`)
+
+// TestSolveJSONStream: solve --json written in one pass (writeSolveJSON)
+// is byte for byte what encoding/json's indenting encoder writes
+// (writeJSON) for every example network, with probes, and with the
+// solve time, the one thing that differs between runs, blanked out.
+func TestSolveJSONStream(t *testing.T) {
+	files, err := filepath.Glob("../../examples/*.*")
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := 0
+	for _, f := range files {
+		if filepath.Ext(f) == ".go" {
+			continue
+		}
+		t.Run(filepath.Base(f), func(t *testing.T) {
+			var outs [2]string
+			var codes [2]int
+			for i, stream := range []bool{true, false} {
+				streamSolveJSON = stream
+				codes[i], outs[i], _ = runCLI(t, context.Background(), "solve", "--json", f)
+				streamSolveJSON = true
+			}
+			if codes[0] != codes[1] {
+				t.Fatalf("exit %d streamed, %d encoded", codes[0], codes[1])
+			}
+			if codes[0] != 0 {
+				return
+			}
+			n++
+			a := secondsLine.ReplaceAllString(outs[0], `  "seconds": 0,`)
+			b := secondsLine.ReplaceAllString(outs[1], `  "seconds": 0,`)
+			if a != b {
+				t.Fatalf("streamed JSON differs from encoded:\n%s\n----\n%s", a, b)
+			}
+		})
+	}
+	if n < 5 {
+		t.Fatalf("only %d examples solved", n)
+	}
+}
+
+// TestSolveJSONStreamCases: what the examples do not show (numbers that
+// are null, strings that encoding/json escapes, empty arrays, the
+// nonlinear and control parts) comes out as writeJSON writes it.
+func TestSolveJSONStreamCases(t *testing.T) {
+	it, r, u := 3, num(1e-12), true
+	scale := 0.25
+	base := func() solveOut {
+		return solveOut{
+			Network: "wire <a> & \"b\"\u2028é", Status: "converged", Method: "mixed",
+			Nodes: []nodeOut{
+				{ID: "a", Kind: "fixed", U: 1, Residual: 0},
+				{ID: "b.2-x_y", Kind: "balance", U: num(math.NaN()), Residual: num(math.Inf(1))},
+				{ID: "c", Kind: "balance", U: 1e-7, Residual: -3.5e21},
+			},
+			Edges: []edgeOut{
+				{ID: "e1", From: "a", To: "b.2-x_y", Flux: [2]num{0.5, num(math.Inf(-1))}},
+				{ID: "é<&>", From: "b", To: "c", Flux: [2]num{-0, 123456789.125}},
+			},
+			Probes: []probeOut{{At: "e1@0.5", U: 0.75}},
+			Summary: summaryOut{
+				Fixed: []fixedSupply{{ID: "a", Kind: "fixed", U: 1, Drawn: 0.5}},
+				Extremes: []edgeExtreme{
+					{ID: "e1", Max: 1, AtMax: 0, Min: num(math.NaN()), AtMin: 0.5, Exact: true},
+					{ID: "e<2>", Max: 2e-9, AtMax: 1, Min: -1, AtMin: 0, Flat: true},
+				},
+				Highest: placeOut{At: "a", U: 1},
+			},
+			Notes: []string{"a note <with> markup"},
+		}
+	}
+	cases := map[string]func(o *solveOut){
+		"plain":       func(o *solveOut) {},
+		"no edges":    func(o *solveOut) { o.Edges = []edgeOut{} },
+		"nil edges":   func(o *solveOut) { o.Edges = nil },
+		"no nodes":    func(o *solveOut) { o.Nodes = nil },
+		"neither":     func(o *solveOut) { o.Nodes, o.Edges = nil, nil },
+		"no extremes": func(o *solveOut) { o.Summary.Extremes = nil },
+		"policy": func(o *solveOut) {
+			o.controlOut = controlOut{Objective: "max", Policy: &policyOut{Edges: []policyEdgeOut{}}}
+		},
+		"nonlinear": func(o *solveOut) {
+			o.nonlinearOut = nonlinearOut{Iterations: &it, Residual: &r, History: []num{1, num(math.NaN())}, Unique: &u, Notes: []string{"hidden"}}
+		},
+		"controls": func(o *solveOut) {
+			o.controlOut = controlOut{Objective: "min", PolicySwitches: []int{2, 0}, ViscosityScale: &scale}
+			o.Caution = "no substitute"
+		},
+	}
+	for name, edit := range cases {
+		t.Run(name, func(t *testing.T) {
+			o := base()
+			edit(&o)
+			var got, want bytes.Buffer
+			if err := writeSolveJSON(&got, o); err != nil {
+				t.Fatal(err)
+			}
+			if err := writeJSON(&want, o); err != nil {
+				t.Fatal(err)
+			}
+			if got.String() != want.String() {
+				t.Fatalf("streamed:\n%s\nencoded:\n%s", got.String(), want.String())
+			}
+		})
+	}
+}
+
+// BenchmarkSolveJSON writes the solve --json of a 300×300 wire mesh in
+// one pass (stream) and through encoding/json's indenting encoder
+// (encoder, the reference), in the same run.
+func BenchmarkSolveJSON(b *testing.B) {
+	net := gen.SquareMesh(300, 300)
+	sol, nl, err := solveField(context.Background(), net, graphpde.MethodAuto, 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	out := solveJSON(net, sol, nil, nil)
+	out.nonlinearOut = nonlinearJSON(nl)
+	for _, c := range []struct {
+		name  string
+		write func(io.Writer, solveOut) error
+	}{
+		{"stream", writeSolveJSON},
+		{"encoder", func(w io.Writer, o solveOut) error { return writeJSON(w, o) }},
+	} {
+		b.Run(c.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				if err := c.write(io.Discard, out); err != nil {
+					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
