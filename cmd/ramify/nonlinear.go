@@ -59,11 +59,13 @@ func solveField(ctx context.Context, net *graphpde.Network, m graphpde.Method, c
 
 // nonlinearOut is what a nonlinear solve adds to the JSON of a steady solve.
 type nonlinearOut struct {
-	Iterations *int     `json:"iterations,omitempty"`
-	Residual   *num     `json:"residual,omitempty"`
-	History    []num    `json:"residual_history,omitempty"`
-	Unique     *bool    `json:"unique,omitempty"`
-	Notes      []string `json:"notes,omitempty"`
+	Iterations *int  `json:"iterations,omitempty"`
+	Residual   *num  `json:"residual,omitempty"`
+	History    []num `json:"residual_history,omitempty"`
+	Unique     *bool `json:"unique,omitempty"`
+	// Notes are merged into the solve's own "notes" (one key: an embedded
+	// field of the same name would be dropped by encoding/json).
+	Notes []string `json:"-"`
 }
 
 func nonlinearJSON(nl *graphpde.NonlinearResult) nonlinearOut {

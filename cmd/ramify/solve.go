@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"text/tabwriter"
 
@@ -119,6 +120,7 @@ func runSolve(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if *asJSON {
 		out := solveJSON(net, sol, *probes, pts)
 		out.nonlinearOut = nonlinearJSON(nl)
+		out.Notes = mergeNotes(out.Notes, out.nonlinearOut.Notes)
 		if ctl != nil {
 			out.controlOut = controlJSON(net, ctl, obj)
 			out.Status = ctl.Status.String()
@@ -409,4 +411,14 @@ func probe(sol *graphpde.Solution, p graphpde.Point) float64 {
 		return math.NaN()
 	}
 	return u
+}
+
+// mergeNotes appends the notes of more that are not already in notes.
+func mergeNotes(notes, more []string) []string {
+	for _, m := range more {
+		if !slices.Contains(notes, m) {
+			notes = append(notes, m)
+		}
+	}
+	return notes
 }

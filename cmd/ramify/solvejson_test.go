@@ -3,10 +3,12 @@ package main
 import (
 	"bytes"
 	"context"
+	"encoding/json"
 	"io"
 	"math"
 	"path/filepath"
 	"regexp"
+	"strings"
 	"testing"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -150,5 +152,40 @@ func BenchmarkSolveJSON(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// TestSolveJSONNonlinearNotes: the notes of a nonlinear solve (here that
+// Bratu's law is not monotone in u, so other solutions may exist) reach the
+// JSON's "notes"; they were dropped when the nonlinear part carried a
+// "notes" key of its own beside the solve's.
+func TestSolveJSONNonlinearNotes(t *testing.T) {
+	file := writeFile(t, "bratu.toml", `[parameters]
+lambda = 1.0
+[[node]]
+id = "l"
+fixed = 0
+[[node]]
+id = "r"
+fixed = 0
+[[edge]]
+id = "slab"
+from = "l"
+to = "r"
+length = 1
+equation = "uxx + lambda*exp(u)"
+weight = 1
+cells = 100
+`)
+	code, out, errs := runCLI(t, context.Background(), "solve", file, "--json")
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	var got struct{ Notes []string }
+	if err := json.Unmarshal([]byte(out), &got); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(strings.Join(got.Notes, " "), "not monotone") {
+		t.Errorf("notes %q, want the note that the law is not monotone in u", got.Notes)
 	}
 }
