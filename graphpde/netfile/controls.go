@@ -189,8 +189,9 @@ func (rd *reader) checkControls(net *graphpde.Network, objLine int) error {
 	ctl := graphpde.Controlled(net)
 	switch {
 	case ctl && net.Objective == graphpde.NoObjective:
-		return &Error{File: rd.file, Line: rd.firstControlLine(net), Object: "[network]",
-			Msg: `the network has controls but no objective: add objective = "min" or "max" to [network]`}
+		obj, line := rd.firstControlled(net)
+		return &Error{File: rd.file, Line: line, Object: obj,
+			Msg: `has controls but the network has no objective: add objective = "min" or "max" to [network]`}
 	case !ctl && net.Objective != graphpde.NoObjective:
 		return &Error{File: rd.file, Line: objLine, Object: "[network]",
 			Msg: "objective is given but no edge or node has controls"}
@@ -198,20 +199,20 @@ func (rd *reader) checkControls(net *graphpde.Network, objLine int) error {
 	return nil
 }
 
-// firstControlLine returns the line of the first node or edge with
-// controls (its id).
-func (rd *reader) firstControlLine(net *graphpde.Network) int {
+// firstControlled names the first node or edge with controls and gives
+// the line where it is defined.
+func (rd *reader) firstControlled(net *graphpde.Network) (object string, line int) {
 	for v := range net.Nodes {
 		if len(net.Nodes[v].Controls) > 0 {
-			return rd.nodeLineOf(net.Nodes[v].ID)
+			return fmt.Sprintf("node %q", net.Nodes[v].ID), rd.nodeLineOf(net.Nodes[v].ID)
 		}
 	}
 	for e := range net.Edges {
 		if len(net.Edges[e].ControlSet()) > 0 {
-			return rd.edgeLineOf(net.Edges[e].ID)
+			return fmt.Sprintf("edge %q", net.Edges[e].ID), rd.edgeLineOf(net.Edges[e].ID)
 		}
 	}
-	return 0
+	return "[network]", 0
 }
 
 // writeEdgeControls writes an edge's controls, every coefficient of every

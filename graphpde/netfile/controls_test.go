@@ -103,7 +103,7 @@ length = 1.0
 diffusivity = 1.0
 `
 	for _, tc := range []struct{ name, src, want string }{
-		{"no objective", edge + "controls = [ { drift = 1.0 } ]\n", "case.toml:8: "},
+		{"no objective", edge + "controls = [ { drift = 1.0 } ]\n", `case.toml:8: edge "e": has controls but the network has no objective`},
 		{"empty list", "[network]\nobjective = \"max\"\n" + edge + "controls = []\n", "controls is empty"},
 		{"not elliptic", "[network]\nobjective = \"max\"\n" + edge + "controls = [ { drift = 1.0 }, { diffusivity = -1.0 } ]\n", "would not be elliptic"},
 		{"bad objective", "[network]\nobjective = \"best\"\n" + edge + "controls = [ { drift = 1.0 } ]\n", `case.toml:2: [network]: objective "best": want "min" or "max"`},
