@@ -196,6 +196,12 @@ func (p *dotParser) expect(want string) error {
 	if err != nil {
 		return err
 	}
+	if tok == "" && p.pos >= len(p.src) {
+		// The file ended: name the line of its last text, not the empty
+		// line after a final newline.
+		last := strings.Count(strings.TrimRight(p.src, " \t\r\n"), "\n") + 1
+		return p.fail(last, fmt.Sprintf("want %q, but the file ends here (an unclosed list or graph?)", want))
+	}
 	if tok != want {
 		return p.fail(p.line, fmt.Sprintf("want %q, got %q", want, tok))
 	}

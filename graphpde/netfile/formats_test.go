@@ -174,6 +174,9 @@ graph ringmain {
 		{"digraph { a -> b", `missing "}"`, 1},
 		{"tree { }", "starts with graph or digraph", 1},
 		{"graph {\n\n a:n -- b }", "ports", 3},
+		// An attribute list left open at the end of the file: the error
+		// names the last line with text, not the empty line after it.
+		{"graph {\n  a -- b [len=2, \n}\n", "the file ends here", 3},
 	} {
 		_, err := ReadDOT(strings.NewReader(c.src), "bad.dot")
 		fe, ok := err.(*Error)
