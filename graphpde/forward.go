@@ -6,8 +6,6 @@ import (
 	"math"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
-
-	"github.com/ramify-dev/ramify/vertex"
 )
 
 // fwdSystem is the finite-volume discretisation of forward transport (the
@@ -41,26 +39,10 @@ func newForward(net *Network, cells int, maxUnknowns int64, release *Point) (*fw
 	if cells <= 0 {
 		cells = DefaultCells
 	}
-	s := &fwdSystem{net: net, unk: make([]int, len(net.Nodes)), cells: make([]int, len(net.Edges)),
-		off: make([]int, len(net.Edges)), end: make([][2]float64, len(net.Edges)), release: release}
-	for v := range net.Nodes {
-		s.unk[v] = -1
-		if net.Nodes[v].Law.Kind != vertex.Fixed {
-			s.unk[v] = s.n
-			s.n++
-		}
-	}
-	total := int64(s.n)
-	for e := range net.Edges {
-		s.cells[e] = edgeCells(&net.Edges[e], cells)
-		total += int64(s.cells[e] - 1)
-	}
-	if maxUnknowns > 0 && total > maxUnknowns {
-		return nil, &GridSizeError{Unknowns: total, Max: maxUnknowns}
-	}
-	for e := range net.Edges {
-		s.off[e] = s.n
-		s.n += s.cells[e] - 1
+	s := &fwdSystem{net: net, end: make([][2]float64, len(net.Edges)), release: release}
+	var err error
+	if s.unk, s.cells, s.off, _, s.n, err = gridNumbering(net, cells, maxUnknowns); err != nil {
+		return nil, err
 	}
 	s.M = make([]float64, s.n)
 	for v := range net.Nodes {

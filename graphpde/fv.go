@@ -135,31 +135,49 @@ func edgeCells(ed *Edge, cells int) int {
 	return max(n, 2)
 }
 
+// gridNumbering numbers the unknowns of net on a grid with the given
+// default cell count (already made positive): first every node that is not
+// Fixed (unk[v], -1 for Fixed nodes; nb of them), then the interior
+// vertices of each edge in turn (edge e has ecells[e] cells and its
+// interior vertices start at off[e]); n is the total. It returns a
+// *GridSizeError when the total exceeds maxUnknowns > 0. Used by the
+// finite-volume and the forward (density) discretisations alike.
+func gridNumbering(net *Network, cells int, maxUnknowns int64) (unk, ecells, off []int, nb, n int, err error) {
+	unk = make([]int, len(net.Nodes))
+	ecells = make([]int, len(net.Edges))
+	off = make([]int, len(net.Edges))
+	for v := range net.Nodes {
+		unk[v] = -1
+		if net.Nodes[v].Law.Kind != vertex.Fixed {
+			unk[v] = n
+			n++
+		}
+	}
+	nb = n
+	total := int64(n)
+	for e := range net.Edges {
+		ecells[e] = edgeCells(&net.Edges[e], cells)
+		total += int64(ecells[e] - 1)
+	}
+	if maxUnknowns > 0 && total > maxUnknowns {
+		return nil, nil, nil, 0, 0, &GridSizeError{Unknowns: total, Max: maxUnknowns}
+	}
+	for e := range net.Edges {
+		off[e] = n
+		n += ecells[e] - 1
+	}
+	return unk, ecells, off, nb, n, nil
+}
+
 // newFV discretises net with the given default cell count.
 func newFV(net *Network, cells int, maxUnknowns int64) (*fvSystem, error) {
 	if cells <= 0 {
 		cells = DefaultCells
 	}
-	s := &fvSystem{net: net, unk: make([]int, len(net.Nodes)), cells: make([]int, len(net.Edges)), off: make([]int, len(net.Edges))}
-	for v := range net.Nodes {
-		s.unk[v] = -1
-		if net.Nodes[v].Law.Kind != vertex.Fixed {
-			s.unk[v] = s.n
-			s.n++
-		}
-	}
-	s.nb = s.n
-	total := int64(s.n)
-	for e := range net.Edges {
-		s.cells[e] = edgeCells(&net.Edges[e], cells)
-		total += int64(s.cells[e] - 1)
-	}
-	if maxUnknowns > 0 && total > maxUnknowns {
-		return nil, &GridSizeError{Unknowns: total, Max: maxUnknowns}
-	}
-	for e := range net.Edges {
-		s.off[e] = s.n
-		s.n += s.cells[e] - 1
+	s := &fvSystem{net: net}
+	var err error
+	if s.unk, s.cells, s.off, s.nb, s.n, err = gridNumbering(net, cells, maxUnknowns); err != nil {
+		return nil, err
 	}
 	s.M = make([]float64, s.n)
 	s.r0 = make([]float64, s.n)
