@@ -150,6 +150,21 @@ func (s *system) solve() {
 	s.recover()
 }
 
+// assembleSolve assembles the system with the given shift, factors and
+// solves it. It returns the stop of Settings.Context (s.halt) when that
+// came during the assembly or the solve, or the factorisation's error.
+func (s *system) assembleSolve(shift float64) error {
+	s.assemble(shift)
+	if s.halt != nil { // Linear.Context
+		return s.halt
+	}
+	if err := s.factor(); err != nil {
+		return err
+	}
+	s.solve()
+	return s.halt
+}
+
 // recover sets every element's interior for the node values s.u and notes
 // the first edge with a non-finite value in s.bad. Constant grid edges with
 // equal cells are recovered in pairs (recoverConstPair).

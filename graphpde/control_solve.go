@@ -411,16 +411,8 @@ func solveControl(net *Network, cs ControlSettings, start *ctlIter) (*ControlRes
 				setNodeWeights(sysNet, nodeCtl[v], base, v, k)
 			}
 		}
-		sys.assemble(0)
-		if sys.halt != nil { // Linear.Context
-			return nil, sys.halt
-		}
-		if err := sys.factor(); err != nil {
+		if err := sys.assembleSolve(0); err != nil {
 			return nil, err
-		}
-		sys.solve()
-		if sys.halt != nil {
-			return nil, sys.halt
 		}
 		res.SolveTime += time.Since(ts)
 		res.Iterations++
@@ -731,16 +723,7 @@ func (it *ctlIter) exactSolve(lin *Settings) ([]bool, *Solution, []string) {
 	if err != nil {
 		return make([]bool, len(exact)), nil, []string{"exact re-solve of the edges with a constant policy failed (" + err.Error() + "); the grid values stand"}
 	}
-	sys.assemble(0)
-	err = sys.halt // Linear.Context
-	if err == nil {
-		err = sys.factor()
-	}
-	if err == nil {
-		sys.solve()
-		err = sys.halt
-	}
-	if err != nil {
+	if err := sys.assembleSolve(0); err != nil {
 		return make([]bool, len(exact)), nil, []string{"exact re-solve of the edges with a constant policy failed (" + err.Error() + "); the grid values stand"}
 	}
 	sys.refine()

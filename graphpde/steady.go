@@ -297,16 +297,8 @@ func SolveVariant(net *Network, v *Variant, set *Settings) (*Solution, error) {
 	if err != nil {
 		return nil, err
 	}
-	sys.assemble(sys.v.Shift)
-	if sys.halt != nil {
-		return nil, sys.halt
-	}
-	if err := sys.factor(); err != nil {
+	if err := sys.assembleSolve(sys.v.Shift); err != nil {
 		return nil, err
-	}
-	sys.solve()
-	if sys.halt != nil {
-		return nil, sys.halt
 	}
 	sol, err := sys.solution()
 	if err != nil {
