@@ -542,15 +542,7 @@ func (it *ctlIter) improve() int {
 		ed := &it.net.Edges[e]
 		in := s.interior(e)
 		U0, UL := s.u[ed.From], s.u[ed.To]
-		return c.n, ed.Length / float64(c.n), func(i int) float64 {
-			switch i {
-			case 0:
-				return U0
-			case c.n:
-				return UL
-			}
-			return in[i-1]
-		}
+		return c.n, ed.Length / float64(c.n), gridVertex(c.n, U0, UL, in)
 	}
 	// Interior vertices.
 	for e, c := range st.edges {

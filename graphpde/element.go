@@ -188,6 +188,21 @@ func (x *varGridEl) eval(at, U0, UL float64, in []float64) (u, du float64) {
 	return gridEval(&x.ends, x.s.net.Edges[x.e].Length, at, U0, UL, in)
 }
 
+// gridVertex returns the value at vertex i = 0…n of a grid edge with n
+// cells, end values U0, UL and interior values in (vertex i of 1…n−1 is
+// in[i−1]).
+func gridVertex(n int, U0, UL float64, in []float64) func(i int) float64 {
+	return func(i int) float64 {
+		switch i {
+		case 0:
+			return U0
+		case n:
+			return UL
+		}
+		return in[i-1]
+	}
+}
+
 // gridEval returns u and u' at x on a grid edge of length L with end terms
 // ge, end values U0, UL and interior values in (n−1): u by linear
 // interpolation between the vertices (second order, like the grid), u' at
@@ -208,15 +223,7 @@ func gridEval(ge *gridEnds, L, x, U0, UL float64, in []float64) (u, du float64) 
 		_, dL := ge.endDerivs(U0, UL, first, last)
 		return UL, dL
 	}
-	val := func(i int) float64 {
-		switch i {
-		case 0:
-			return U0
-		case n:
-			return UL
-		}
-		return in[i-1]
-	}
+	val := gridVertex(n, U0, UL, in)
 	h := L / float64(n)
 	i := int(math.Floor(x / h))
 	if i >= n {

@@ -130,15 +130,7 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 	L := ed.Length
 	h := L / float64(n)
 	in := w[o : o+n-1]
-	val := func(i int) float64 {
-		switch i {
-		case 0:
-			return U0
-		case n:
-			return UL
-		}
-		return in[i-1]
-	}
+	val := gridVertex(n, U0, UL, in)
 	l := ed.Law
 	plain := ed.Profile == nil
 	react := func(x, u float64) (g, dg float64, err error) {
@@ -374,15 +366,7 @@ func (s *nlSystem) evalEquation(e int, U0, UL float64, w []float64) error {
 	L := ed.Length
 	h := L / float64(n)
 	in := w[o : o+n-1]
-	val := func(i int) float64 {
-		switch i {
-		case 0:
-			return U0
-		case n:
-			return UL
-		}
-		return in[i-1]
-	}
+	val := gridVertex(n, U0, UL, in)
 	tx := s.newElim(e)
 	for i := 1; i < n; i++ {
 		x := float64(i) * h

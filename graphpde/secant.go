@@ -192,15 +192,7 @@ func secantProfile(ed *Edge, sol *Solution, e int, quasi, growth bool, info *Sec
 	h := L / float64(n)
 	U0, UL := sol.U[ed.From], sol.U[ed.To]
 	in := sol.gval[sol.off[e] : sol.off[e]+n-1]
-	val := func(i int) float64 {
-		switch i {
-		case 0:
-			return U0
-		case n:
-			return UL
-		}
-		return in[i-1]
-	}
+	val := gridVertex(n, U0, UL, in)
 	A := make([]float64, n+1)
 	B := make([]float64, n+1)
 	C := make([]float64, n+1)
