@@ -81,6 +81,20 @@ func sgOmega(p float64) float64 {
 	return 2 * (sgB(-p) - 1) / p
 }
 
+// vertexShare returns the exponentially fitted share m_i of grid vertex
+// i = 0…n in cells of width h: half of each adjacent cell weighted by
+// sgOmega of that cell's Péclet number (pPrev for cell i−1, p for cell i).
+func vertexShare(i, n int, h, pPrev, p float64) float64 {
+	m := 0.0
+	if i > 0 {
+		m += 0.5 * h * sgOmega(-pPrev)
+	}
+	if i < n {
+		m += 0.5 * h * sgOmega(p)
+	}
+	return m
+}
+
 // constCell holds the cell coefficients of a grid edge whose a, b, c, f are
 // constant: R, L of every cell, the diagonal and source of every interior
 // vertex, and the end terms.

@@ -222,13 +222,7 @@ func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
 				}
 			}
 			if row >= 0 {
-				m := 0.0
-				if i > 0 {
-					m += 0.5 * h * sgOmega(-pPrev)
-				}
-				if i < n {
-					m += 0.5 * h * sgOmega(p)
-				}
+				m := vertexShare(i, n, h, pPrev, p)
 				x := float64(i) * h
 				_, _, c, dc, f, df := coefAtU(ed, x, u[row], t)
 				sc := scale(i)

@@ -249,15 +249,13 @@ func (s *fvSystem) addEdge(e int) {
 		if row >= 0 {
 			x := float64(i) * h
 			_, _, c, f, rho := fvCoefs(ed, x, 0)
-			m := 0.0
+			m := vertexShare(i, n, h, pPrev, p)
 			if i > 0 {
-				m += 0.5 * h * sgOmega(-pPrev)
 				nb, nd := s.vertexUnknown(e, i-1)
 				s.couple(row, nb, nd, -sc*lPrev)
 				s.addK(row, row, sc*lPrev)
 			}
 			if i < n {
-				m += 0.5 * h * sgOmega(p)
 				nb, nd := s.vertexUnknown(e, i+1)
 				s.couple(row, nb, nd, -sc*r)
 				s.addK(row, row, sc*r)
@@ -417,13 +415,7 @@ func (s *fvSystem) load(dst []float64, t float64) {
 				if i == n {
 					sc = sL
 				}
-				m := 0.0
-				if i > 0 {
-					m += 0.5 * h * sgOmega(-pPrev)
-				}
-				if i < n {
-					m += 0.5 * h * sgOmega(p)
-				}
+				m := vertexShare(i, n, h, pPrev, p)
 				x := float64(i) * h
 				f0 := ed.Law.F
 				ft, _ := f0.Fn(x, 0, t)
