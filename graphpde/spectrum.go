@@ -458,19 +458,31 @@ func (w *wwSystem) countAt(lam float64) (int, float64, error) {
 		}
 	}
 	w.facts++
-	if err := w.fac.Factorize(w.mat); err != nil {
+	neg, g, err := inertiaSecant(w.fac, w.mat, w.e, w.x, "node")
+	if err != nil {
 		return 0, 0, err
 	}
-	neg, ok := w.fac.Inertia()
+	return clamped + neg, g, nil
+}
+
+// inertiaSecant factors the symmetric matrix A(λ) in mat with fac and
+// returns the number of its negative pivots and g(λ) = 1/(eᵀA(λ)⁻¹e) (see
+// eigenCounter), with x as scratch for A(λ)⁻¹e; what names the matrix in
+// the error of an unsymmetric factorisation.
+func inertiaSecant(fac *nodesys.Factor[float64], mat *nodesys.Matrix[float64], e, x []float64, what string) (int, float64, error) {
+	if err := fac.Factorize(mat); err != nil {
+		return 0, 0, err
+	}
+	neg, ok := fac.Inertia()
 	if !ok {
-		return 0, 0, errors.New("graphpde: node matrix not factored symmetrically")
+		return 0, 0, errors.New("graphpde: " + what + " matrix not factored symmetrically")
 	}
-	w.fac.SolveTo(w.x, w.e)
+	fac.SolveTo(x, e)
 	h := 0.0
-	for i, v := range w.x {
-		h += w.e[i] * v
+	for i, v := range x {
+		h += e[i] * v
 	}
-	return clamped + neg, 1 / h, nil
+	return neg, 1 / h, nil
 }
 
 // loopDyn returns (diag + off) per unit weight for a self-loop of length L:

@@ -78,19 +78,7 @@ func (g *gridCounter) countAt(lam float64) (int, float64, error) {
 		g.mat.Add(i, sys.kJ[k], sys.kV[k])
 	}
 	g.facts++
-	if err := g.fac.Factorize(g.mat); err != nil {
-		return 0, 0, err
-	}
-	neg, ok := g.fac.Inertia()
-	if !ok {
-		return 0, 0, errors.New("graphpde: grid matrix not factored symmetrically")
-	}
-	g.fac.SolveTo(g.x, g.e)
-	h := 0.0
-	for i, v := range g.x {
-		h += g.e[i] * v
-	}
-	return neg, 1 / h, nil
+	return inertiaSecant(g.fac, g.mat, g.e, g.x, "grid")
 }
 
 // spectrumGrid solves the eigenproblem on the grid, twice (cells and
