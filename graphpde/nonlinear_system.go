@@ -725,50 +725,30 @@ func (s *nlSystem) factor() error {
 // step is left pending for evalStep, which forms it edge by edge while
 // evaluating the new state, or for materialize (into s.dw).
 func (s *nlSystem) newtonStep() {
-	net := s.net
 	for r, v := range s.nodes {
 		s.rhs[r] = -s.nres[v]
 	}
-	for e := range net.Edges {
-		ed := &net.Edges[e]
-		nodes := [2]int{ed.From, ed.To}
-		for side := 0; side < 2; side++ {
-			if r := s.unk[nodes[side]]; r >= 0 {
-				s.rhs[r] -= s.gEnd[e][side] * s.cond[e].kN[side]
-			}
-		}
-	}
-	if len(s.nodes) > 0 {
-		s.fac.SolveTo(s.x, s.rhs)
-	}
-	for v := range net.Nodes {
-		if r := s.unk[v]; r >= 0 {
-			s.dU[v] = s.x[r]
-		} else {
-			s.dU[v] = 0
-		}
-	}
+	s.solveNodes(s.dU, true)
 	// The interior step is formed by evalStep (or materialize).
 	s.pending = true
 }
 
-// step solves J·δ = scale·b with the factored linearisation: bN holds the
-// node right-hand sides (indexed by node), bI the interior ones (indexed like
-// w); δ goes to dU (balance nodes; 0 at fixed nodes) and dW.
-func (s *nlSystem) step(dU, dW, bN, bI []float64, scale float64) {
+// solveNodes completes the node right-hand side in s.rhs with the swept
+// interior terms gEnd (end weights kN of the Newton right-hand side when
+// newton is set, k otherwise), solves the factored node system and puts the
+// node part of the step into dU (0 at fixed nodes).
+func (s *nlSystem) solveNodes(dU []float64, newton bool) {
 	net := s.net
 	for e := range net.Edges {
-		s.forward(e, bI, dW, scale)
-	}
-	for r, v := range s.nodes {
-		s.rhs[r] = scale * bN[v]
-	}
-	for e := range net.Edges {
 		ed := &net.Edges[e]
+		k := s.cond[e].k
+		if newton {
+			k = s.cond[e].kN
+		}
 		nodes := [2]int{ed.From, ed.To}
 		for side := 0; side < 2; side++ {
 			if r := s.unk[nodes[side]]; r >= 0 {
-				s.rhs[r] -= s.gEnd[e][side] * s.cond[e].k[side]
+				s.rhs[r] -= s.gEnd[e][side] * k[side]
 			}
 		}
 	}
@@ -782,6 +762,20 @@ func (s *nlSystem) step(dU, dW, bN, bI []float64, scale float64) {
 			dU[v] = 0
 		}
 	}
+}
+
+// step solves J·δ = scale·b with the factored linearisation: bN holds the
+// node right-hand sides (indexed by node), bI the interior ones (indexed like
+// w); δ goes to dU (balance nodes; 0 at fixed nodes) and dW.
+func (s *nlSystem) step(dU, dW, bN, bI []float64, scale float64) {
+	net := s.net
+	for e := range net.Edges {
+		s.forward(e, bI, dW, scale)
+	}
+	for r, v := range s.nodes {
+		s.rhs[r] = scale * bN[v]
+	}
+	s.solveNodes(dU, false)
 	for e := range net.Edges {
 		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
 			ed := &net.Edges[e]
