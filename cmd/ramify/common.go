@@ -247,15 +247,7 @@ func interruptible[T any](ctx context.Context, f func() (T, error)) (T, error) {
 		var zero T
 		return zero, errInterrupted
 	}
-	type out struct {
-		v   T
-		err error
-	}
-	ch := make(chan out, 1)
-	go func() {
-		v, err := f()
-		ch <- out{v, err}
-	}()
+	ch := goAsync(f)
 	select {
 	case o := <-ch:
 		return o.v, stoppedErr(ctx, o.err)
@@ -268,6 +260,23 @@ func interruptible[T any](ctx context.Context, f func() (T, error)) (T, error) {
 		var zero T
 		return zero, errInterrupted
 	}
+}
+
+// outcome is what a function run by goAsync returned.
+type outcome[T any] struct {
+	v   T
+	err error
+}
+
+// goAsync runs f in a new goroutine and returns the channel its outcome
+// arrives on (buffered, so the goroutine ends even when nobody reads it).
+func goAsync[T any](f func() (T, error)) <-chan outcome[T] {
+	ch := make(chan outcome[T], 1)
+	go func() {
+		v, err := f()
+		ch <- outcome[T]{v, err}
+	}()
+	return ch
 }
 
 // inFile is placed, or else err prefixed with the file name.
@@ -301,15 +310,7 @@ func interruptibleKeep[T any](ctx context.Context, f func() (T, error)) (T, erro
 	if ctx.Done() == nil {
 		return f()
 	}
-	type out struct {
-		v   T
-		err error
-	}
-	ch := make(chan out, 1)
-	go func() {
-		v, err := f()
-		ch <- out{v, err}
-	}()
+	ch := goAsync(f)
 	select {
 	case o := <-ch:
 		return o.v, o.err
