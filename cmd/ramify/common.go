@@ -307,6 +307,11 @@ const stopGrace = 500 * time.Millisecond
 // stopGrace of the cancellation, the result is errInterrupted (nothing had
 // finished that can be printed).
 func interruptibleKeep[T any](ctx context.Context, f func() (T, error)) (T, error) {
+	return interruptibleWithin(ctx, stopGrace, f)
+}
+
+// interruptibleWithin is interruptibleKeep with a grace period of its own.
+func interruptibleWithin[T any](ctx context.Context, grace time.Duration, f func() (T, error)) (T, error) {
 	if ctx.Done() == nil {
 		return f()
 	}
@@ -319,7 +324,7 @@ func interruptibleKeep[T any](ctx context.Context, f func() (T, error)) (T, erro
 	select {
 	case o := <-ch:
 		return o.v, o.err
-	case <-time.After(stopGrace):
+	case <-time.After(grace):
 		var zero T
 		return zero, errInterrupted
 	}

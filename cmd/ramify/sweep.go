@@ -72,8 +72,10 @@ func runSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	}
 	from := net.Params.Values[net.Params.Index(*param)]
 	// The first solve is interruptible at once; after it, Ctrl-C stops the
-	// sweep between two points and what was computed is printed.
-	res, err := sweepInterruptible(ctx, func() (*graphpde.SweepResult, error) {
+	// sweep between two points and what was computed is printed; when the
+	// sweep does not return within a second of Ctrl-C (the first solve, or
+	// one long point, was running), nothing is.
+	res, err := interruptibleWithin(ctx, time.Second, func() (*graphpde.SweepResult, error) {
 		return graphpde.Sweep(net, *param, *to, &graphpde.SweepSettings{
 			Solve:     &graphpde.NonlinearSettings{Method: m, Cells: *cells},
 			Step:      *step,
@@ -111,32 +113,6 @@ func runSweep(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		return exitInterrupted
 	}
 	return 0
-}
-
-// sweepInterruptible runs f; on Ctrl-C it waits up to a second for f to
-// return the points it has (the sweep stops between two points), else it
-// returns errInterrupted (the first solve, or one long point, was running).
-func sweepInterruptible(ctx context.Context, f func() (*graphpde.SweepResult, error)) (*graphpde.SweepResult, error) {
-	type out struct {
-		r   *graphpde.SweepResult
-		err error
-	}
-	ch := make(chan out, 1)
-	go func() {
-		r, err := f()
-		ch <- out{r, err}
-	}()
-	select {
-	case o := <-ch:
-		return o.r, o.err
-	case <-ctx.Done():
-	}
-	select {
-	case o := <-ch:
-		return o.r, o.err
-	case <-time.After(time.Second):
-		return nil, errInterrupted
-	}
 }
 
 type sweepPointOut struct {
