@@ -76,11 +76,9 @@ func writeSolveJSON(w io.Writer, out solveOut) error {
 			b = append(b, ",\n   \"residual\": "...)
 			b = appendNum(b, n.Residual)
 			b = append(b, "\n  }"...)
-			if len(b) > 1<<15 {
-				if _, err := bw.Write(b); err != nil {
-					return err
-				}
-				b = b[:0]
+			var err error
+			if b, err = flushFull(bw, b); err != nil {
+				return err
 			}
 		}
 		b = append(b, "\n ]"...)
@@ -107,11 +105,9 @@ func writeSolveJSON(w io.Writer, out solveOut) error {
 			b = append(b, ",\n    "...)
 			b = appendNum(b, e.Flux[1])
 			b = append(b, "\n   ]\n  }"...)
-			if len(b) > 1<<15 {
-				if _, err := bw.Write(b); err != nil {
-					return err
-				}
-				b = b[:0]
+			var err error
+			if b, err = flushFull(bw, b); err != nil {
+				return err
 			}
 		}
 		b = append(b, "\n ]"...)
@@ -139,11 +135,9 @@ func writeSolveJSON(w io.Writer, out solveOut) error {
 			b = append(b, ",\n    \"flat\": "...)
 			b = strconv.AppendBool(b, x.Flat)
 			b = append(b, "\n   }"...)
-			if len(b) > 1<<15 {
-				if _, err := bw.Write(b); err != nil {
-					return err
-				}
-				b = b[:0]
+			var err error
+			if b, err = flushFull(bw, b); err != nil {
+				return err
 			}
 		}
 		b = append(b, "\n  ],\n"...)
@@ -153,6 +147,19 @@ func writeSolveJSON(w io.Writer, out solveOut) error {
 		return err
 	}
 	return bw.Flush()
+}
+
+// flushFull writes b to bw once it holds more than 32 KiB and returns it
+// emptied (else unchanged), so that a large array is written as it is
+// formatted.
+func flushFull(bw *bufio.Writer, b []byte) ([]byte, error) {
+	if len(b) > 1<<15 {
+		if _, err := bw.Write(b); err != nil {
+			return b, err
+		}
+		b = b[:0]
+	}
+	return b, nil
 }
 
 // appendNum appends x as num's MarshalJSON writes it.
