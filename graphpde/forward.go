@@ -148,22 +148,7 @@ func (s *fwdSystem) initial(u []float64) []float64 {
 			u[s.unk[v]] = nodeVals[v]
 		}
 	}
-	for e := range net.Edges {
-		ed := &net.Edges[e]
-		n := s.cells[e]
-		h := ed.Length / float64(n)
-		for i := 1; i < n; i++ {
-			x := float64(i) * h
-			var v float64
-			if l := ed.Law; l != nil && l.Initial != nil {
-				v, _ = l.Initial.Fn(x, 0, 0)
-			} else {
-				w := x / ed.Length
-				v = (1-w)*s.end[e][0]*nodeVals[ed.From] + w*s.end[e][1]*nodeVals[ed.To]
-			}
-			u[s.off[e]+i-1] = v
-		}
-	}
+	setInitialInterior(net, s.cells, s.off, s.end, nodeVals, u)
 	return nodeVals
 }
 

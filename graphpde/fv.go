@@ -376,6 +376,34 @@ func (s *fvSystem) couple(row, nb, node int, v float64) {
 	s.fixCoef = append(s.fixCoef, -v)
 }
 
+// setInitialInterior puts the initial values of the interior grid vertices
+// of every edge (edge e has cells[e] cells, its interior vertices from
+// u[off[e]]) into u: the edge law's initial profile where it has one, else
+// the straight line between end[e][0]·nodeVals[From] and
+// end[e][1]·nodeVals[To] (end nil: factors 1).
+func setInitialInterior(net *Network, cells, off []int, end [][2]float64, nodeVals, u []float64) {
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		n := cells[e]
+		h := ed.Length / float64(n)
+		f0, fL := 1.0, 1.0
+		if end != nil {
+			f0, fL = end[e][0], end[e][1]
+		}
+		for i := 1; i < n; i++ {
+			x := float64(i) * h
+			var v float64
+			if l := ed.Law; l != nil && l.Initial != nil {
+				v, _ = l.Initial.Fn(x, 0, 0)
+			} else {
+				w := x / ed.Length
+				v = (1-w)*f0*nodeVals[ed.From] + w*fL*nodeVals[ed.To]
+			}
+			u[off[e]+i-1] = v
+		}
+	}
+}
+
 // nodeValueAt returns the value of fixed node v at time t.
 func nodeValueAt(nd *Node, t float64) float64 {
 	if tm := nd.Time; tm != nil && tm.Fixed != nil {
@@ -443,22 +471,7 @@ func (s *fvSystem) initial(u []float64) (nodeVals []float64) {
 			u[i] = nodeVals[v]
 		}
 	}
-	for e := range net.Edges {
-		ed := &net.Edges[e]
-		n := s.cells[e]
-		h := ed.Length / float64(n)
-		for i := 1; i < n; i++ {
-			x := float64(i) * h
-			var v float64
-			if l := ed.Law; l != nil && l.Initial != nil {
-				v, _ = l.Initial.Fn(x, 0, 0)
-			} else {
-				w := x / ed.Length
-				v = (1-w)*nodeVals[ed.From] + w*nodeVals[ed.To]
-			}
-			u[s.off[e]+i-1] = v
-		}
-	}
+	setInitialInterior(net, s.cells, s.off, nil, nodeVals, u)
 	for v := range net.Nodes {
 		if s.unk[v] < 0 {
 			nodeVals[v] = nodeValueAt(&net.Nodes[v], 0)
