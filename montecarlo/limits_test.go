@@ -18,9 +18,12 @@ import (
 // finished.
 func TestHugeParticleCount(t *testing.T) {
 	net := interval(tEdge{L: 1, a: 0.5}, 0, 1)
-	ctx, cancel := context.WithTimeout(context.Background(), 200*time.Millisecond)
+	// Cancelled once the first walkers are done (not after a fixed time,
+	// which on a loaded machine could come before any block finished).
+	ctx, cancel := context.WithCancel(context.Background())
 	defer cancel()
-	res, err := montecarlo.Run(ctx, net, onEdge(0, 0.3), &montecarlo.Settings{Particles: math.MaxInt64 - 100, Seed: 1})
+	rec := &cancelAfter{cancel: cancel}
+	res, err := montecarlo.Run(ctx, net, onEdge(0, 0.3), &montecarlo.Settings{Particles: math.MaxInt64 - 100, Seed: 1, Recorder: rec})
 	if err != nil {
 		t.Fatal(err)
 	}
