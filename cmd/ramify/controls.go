@@ -16,6 +16,7 @@ import (
 	"github.com/ramify-dev/ramify/examples"
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/netfile"
+	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -441,4 +442,69 @@ func benchControls(w io.Writer, size string) error {
 	fmt.Fprintf(w, "  %d evaluations (target ≤ 10); one evaluation = %.2f linear solves of the policy's network (target ≤ 1.3); the whole iteration = %.1f linear solves (%.3g s)\n",
 		evals, evalT/lin, whole/lin, whole)
 	return nil
+}
+
+// biasOut estimates the bias that frozen node visits (coefficients that
+// change within a node's star, frozen at the node) put into the walkers'
+// value. The visit error is O(ε) in the star radius (docs/controls.md), so
+// a second run with the same seed at half the star fraction has about half
+// the bias: with b(ε) = Cε, coarse − finer = Cε/2, the coarse run's bias is
+// twice that difference and the finer run's bias once it; the first-order
+// (Richardson) value 2·finer − coarse removes it (derived). Standard errors
+// combine as if the runs were independent: an upper bound, since runs with
+// the same seed are positively correlated (derived).
+type biasOut struct {
+	// Estimate is the estimated bias of the reported value (the run at
+	// StarFraction): 2·(coarse − finer).
+	Estimate          num     `json:"estimate"`
+	StdErr            num     `json:"stderr"`
+	StarFraction      float64 `json:"star_fraction"`
+	FinerStarFraction float64 `json:"finer_star_fraction"`
+	FinerValue        estOut  `json:"finer_value"`
+	// Extrapolated is 2·finer − coarse, free of the first-order bias.
+	Extrapolated estOut `json:"extrapolated"`
+}
+
+// anyFrozen reports whether some node visit froze varying coefficients.
+func anyFrozen(frozen []bool) bool {
+	for _, f := range frozen {
+		if f {
+			return true
+		}
+	}
+	return false
+}
+
+// starBias re-runs the walkers of coarse (star fraction set.StarFraction,
+// 0 meaning the default 1/8) with the same seed at half the star fraction
+// and returns the bias estimate; nil when no visit was frozen.
+func starBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set montecarlo.Settings, coarse *montecarlo.Result) (*biasOut, error) {
+	if !anyFrozen(coarse.Frozen) || coarse.Finished == 0 || coarse.Status == montecarlo.Cancelled {
+		return nil, nil
+	}
+	frac := set.StarFraction
+	if frac == 0 {
+		frac = 1.0 / 8
+	}
+	set.StarFraction = frac / 2
+	set.Seed = coarse.Seed
+	set.Recorder = nil
+	set.TimeCap = coarse.TimeCap
+	fine, err := montecarlo.Run(ctx, net, p, &set)
+	if err != nil {
+		return nil, err
+	}
+	if fine.Status == montecarlo.Cancelled {
+		return nil, errInterrupted
+	}
+	c, f := coarse.Value, fine.Value
+	return &biasOut{Estimate: num(2 * (c.Mean - f.Mean)), StdErr: num(2 * math.Hypot(c.StdErr, f.StdErr)),
+		StarFraction: frac, FinerStarFraction: frac / 2, FinerValue: estOut{num(f.Mean), num(f.StdErr)},
+		Extrapolated: estOut{num(2*f.Mean - c.Mean), num(math.Hypot(2*f.StdErr, c.StdErr))}}, nil
+}
+
+// biasLine is the human-readable form of a bias estimate.
+func biasLine(b *biasOut) string {
+	return fmt.Sprintf("bias of the frozen node visits: a second run with the same seed at star fraction %g gives %.6g ± %.2g; the visit error is O(ε) in the star radius, so the value above (star fraction %g) carries a bias of about 2·(difference) = %.3g ± %.2g, and the first-order extrapolation 2·finer − coarse is %.6g ± %.2g",
+		b.FinerStarFraction, float64(b.FinerValue.Mean), float64(b.FinerValue.StdErr), b.StarFraction, float64(b.Estimate), float64(b.StdErr), float64(b.Extrapolated.Mean), float64(b.Extrapolated.StdErr))
 }

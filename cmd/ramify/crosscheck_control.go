@@ -137,7 +137,10 @@ type controlCrossOut struct {
 	Margin      num             `json:"margin"`
 	Threshold   float64         `json:"threshold"`
 	Policy      *policyOut      `json:"policy"`
-	Notes       []string        `json:"notes,omitempty"`
+	// BiasEstimate: frozen node visits under the optimal policy (absent
+	// where every visit is exact).
+	BiasEstimate *biasOut `json:"bias_estimate,omitempty"`
+	Notes        []string `json:"notes,omitempty"`
 }
 
 // crosscheckControl is runCrosscheck for a controlled network.
@@ -172,6 +175,10 @@ func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from st
 		return fail(stderr, "crosscheck", err)
 	}
 	notes = append(notes, frozenNotes(pn, wr.Frozen)...)
+	bias, err := starBias(ctx, pn, p, *set, wr)
+	if err != nil {
+		return fail(stderr, "crosscheck", walkError(err, ""))
+	}
 	pols, names, err := challengerPolicies(net, res.Policy, p, nChallengers, set.Seed, obj)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
@@ -197,10 +204,17 @@ func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from st
 		ch = append(ch, crosscheck.PolicyRun{Name: names[i], PDE: pde, Walker: r.Value.Mean, StdErr: r.Value.StdErr, N: r.Value.N})
 	}
 	opt := crosscheck.PolicyRun{Name: "optimal", PDE: optimum, Walker: wr.Value.Mean, StdErr: wr.Value.StdErr, N: wr.Value.N}
+	if bias != nil {
+		// Widen the two-sided comparison by the estimated bias and its
+		// own error, added in quadrature (common practice, no source).
+		b, bse := float64(bias.Estimate), float64(bias.StdErr)
+		opt.StdErr = math.Sqrt(opt.StdErr*opt.StdErr + b*b + bse*bse)
+		notes = append(notes, biasLine(bias), fmt.Sprintf("the comparison under the optimal policy is widened by that bias: its standard error %.2g becomes %.2g", wr.Value.StdErr, opt.StdErr))
+	}
 	pr := crosscheck.Policy(optimum, opt, ch, obj == graphpde.Minimize, level)
 	out := controlCrossOut{Network: net.Name, From: from, Objective: obj.String(), Verdict: string(pr.Verdict), Explain: pr.Explain,
-		Optimum: num(optimum), Walker: estOut{num(opt.Walker), num(opt.StdErr)}, Checks: pr.Checks, Margin: num(pr.Margin),
-		Threshold: pr.Threshold, Policy: policyJSON(net, res.Policy), Notes: notes}
+		Optimum: num(optimum), Walker: estOut{num(opt.Walker), num(wr.Value.StdErr)}, Checks: pr.Checks, Margin: num(pr.Margin),
+		Threshold: pr.Threshold, Policy: policyJSON(net, res.Policy), Notes: notes, BiasEstimate: bias}
 	for i, c := range ch {
 		sign := 1.0
 		if obj == graphpde.Maximize {

@@ -161,11 +161,18 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if res.Status == montecarlo.Cancelled {
 		fmt.Fprintf(stderr, "ramify walk: interrupted: estimates from the %d walkers that finished (of %d)\n", res.Finished, res.Particles)
 	}
+	var bias *biasOut
 	if ctlNotes != nil {
 		notes = append(notes, frozenNotes(net, res.Frozen)...)
+		if shard.Count == 0 {
+			if bias, err = starBias(ctx, net, p, *set, res); err != nil {
+				return fail(stderr, "walk", walkError(err, ""))
+			}
+		}
 	}
 	if *asJSON {
 		out := walkJSON(viewOf(net), *wf.from, res, notes)
+		out.BiasEstimate = bias
 		if res.Part != nil {
 			if out.Shard, err = shardJSON(file, net, wf, res); err != nil {
 				return fail(stderr, "walk", err)
@@ -176,6 +183,9 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		}
 	} else {
 		printWalk(stdout, viewOf(net), *wf.from, res, notes)
+		if bias != nil {
+			fmt.Fprintln(stdout, "note:", biasLine(bias))
+		}
 	}
 	return partialCode(res.Status == montecarlo.Cancelled)
 }
@@ -262,6 +272,9 @@ type walkOut struct {
 	Notes      []string          `json:"notes,omitempty"`
 	// Shard is what 'ramify merge' needs of a part of a sharded run.
 	Shard *shardOut `json:"shard,omitempty"`
+	// BiasEstimate is the bias of the value from frozen node visits on a
+	// controlled network (absent where every visit is exact).
+	BiasEstimate *biasOut `json:"bias_estimate,omitempty"`
 }
 
 // walkView is what the walk's output needs of the network: node and edge
