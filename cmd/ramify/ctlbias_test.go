@@ -99,8 +99,8 @@ func TestWalkReportsStarBias(t *testing.T) {
 		Value struct{ Mean, StdErr float64 } `json:"value"`
 		Bias  *struct {
 			Estimate, StdErr  float64
-			StarFraction      float64 `json:"star_fraction"`
-			FinerStarFraction float64 `json:"finer_star_fraction"`
+			StarFraction      float64                        `json:"star_fraction"`
+			FinerStarFraction float64                        `json:"finer_star_fraction"`
 			FinerValue        struct{ Mean, StdErr float64 } `json:"finer_value"`
 			Extrapolated      struct{ Mean, StdErr float64 } `json:"extrapolated"`
 		} `json:"bias_estimate"`
