@@ -122,71 +122,39 @@ func (s *nlSystem) face(ed *Edge, j int, h, uj, uk float64) (quasiFace, error) {
 	return quasiFace{r: a / h * bm, l: a / h * bp, dr: 0.5 * (ra*da + rb*db), dl: 0.5 * (la*da + lb*db)}, nil
 }
 
+// quasiRun is the state of one quasilinear edge's evaluation between its
+// from end (quasiBegin) and its to end (quasiEnd).
+type quasiRun struct {
+	ed           *Edge
+	e, n         int
+	h            float64
+	in           []float64
+	react        func(x, u float64) (float64, float64, error)
+	plain, cface bool
+	cf, prev     quasiFace
+	dPrev        float64
+	tx           elim
+}
+
 // evalQuasi evaluates the interior rows and the end derivatives of
 // quasilinear edge e at end values U0, UL and interior values w.
 func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
-	ed := &s.net.Edges[e]
-	n, o := s.n[e], s.off[e]
-	L := ed.Length
-	h := L / float64(n)
-	in := w[o : o+n-1]
-	val := gridVertex(n, U0, UL, in)
-	l := ed.Law
-	plain := ed.Profile == nil
-	react := func(x, u float64) (g, dg float64, err error) {
-		var c, dc, f, df float64
-		if plain {
-			c, dc = lawCoef(l.C, x, u, ed.C)
-			f, df = lawCoef(l.F, x, u, ed.F)
-		} else {
-			_, _, _, _, c, dc, f, df = quasiCoefs(ed, x, u)
-		}
-		g, dg = f-c*u, df-c-u*dc
-		if !finite(g) || !finite(dg) {
-			return 0, 0, edgeLawError(ed, x, u, "f − c·u", g, "finite", "")
-		}
-		if dg > 0 && s.nonMono == "" {
-			s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂(f − c·u)/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(dg)))
-		}
-		return g, dg, nil
-	}
-	// Faces whose a and b are constants are computed once.
-	constFace := plain && l.A == nil && l.B == nil
-	prev, err := s.face(ed, 0, h, U0, val(1))
+	q, err := s.quasiBegin(e, U0, UL, w)
 	if err != nil {
 		return err
 	}
-	cf := prev
-	dPrev := val(1) - U0
-	// From end.
-	{
-		g, dg, err := react(0, U0)
-		if err != nil {
-			return err
-		}
-		a, da := s.coefA(ed, 0, U0)
-		if !(a > 0) {
-			return edgeLawError(ed, 0, U0, "diffusivity", a, "> 0", "the equation is not elliptic there")
-		}
-		flux := prev.r*dPrev + 0.5*h*g
-		fU := prev.dr*dPrev - prev.r + 0.5*h*dg
-		fA := prev.r + prev.dr*dPrev
-		el := endLin{d: flux / a, dSelf: fU/a - flux*da/(a*a), dAdj: fA / a, w: ed.Weight[0]}
-		if el.w == 0 {
-			el.w, el.dw = a, da
-		}
-		s.end[e][0] = el
-	}
-	tx := s.newElim(e)
-	if constFace && !s.keepRows {
+	ed, n, h, in, tx := q.ed, q.n, q.h, q.in, &q.tx
+	l := ed.Law
+	prev, dPrev, cf, react := q.prev, q.dPrev, q.cf, q.react
+	if q.cface && !s.keepRows {
 		// The common case in a fast loop: faces computed once, the
 		// elimination inline with its state in registers.
 		var ss float64
 		var cC, fC *Coef // the reaction's laws, read directly where there is no profile
-		if plain {
+		if q.plain {
 			cC, fC = l.C, l.F
 		}
-		if prev, dPrev, ss, err = s.quasiConstFaces(e, &tx, react, plain, cC, fC, cf, dPrev, h, in, UL); err != nil {
+		if prev, dPrev, ss, err = s.quasiConstFaces(e, tx, react, q.plain, cC, fC, cf, dPrev, h, in, UL); err != nil {
 			return err
 		}
 		s.sumsq += ss
@@ -197,7 +165,7 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 				un = in[i]
 			}
 			cur := cf
-			if !constFace {
+			if !q.cface {
 				if cur, err = s.face(ed, i, h, ui, un); err != nil {
 					return err
 				}
@@ -219,9 +187,77 @@ func (s *nlSystem) evalQuasi(e int, U0, UL float64, w []float64) error {
 			prev, dPrev = cur, dCur
 		}
 	}
-	tx.finish(e)
+	q.prev, q.dPrev = prev, dPrev
+	return s.quasiEnd(&q, UL)
+}
+
+// quasiBegin starts the evaluation of quasilinear edge e: the first face,
+// the from end's derivative (into s.end[e][0]) and the elimination's start.
+func (s *nlSystem) quasiBegin(e int, U0, UL float64, w []float64) (quasiRun, error) {
+	ed := &s.net.Edges[e]
+	n, o := s.n[e], s.off[e]
+	h := ed.Length / float64(n)
+	in := w[o : o+n-1]
+	l := ed.Law
+	plain := ed.Profile == nil
+	react := func(x, u float64) (g, dg float64, err error) {
+		var c, dc, f, df float64
+		if plain {
+			c, dc = lawCoef(l.C, x, u, ed.C)
+			f, df = lawCoef(l.F, x, u, ed.F)
+		} else {
+			_, _, _, _, c, dc, f, df = quasiCoefs(ed, x, u)
+		}
+		g, dg = f-c*u, df-c-u*dc
+		if !finite(g) || !finite(dg) {
+			return 0, 0, edgeLawError(ed, x, u, "f − c·u", g, "finite", "")
+		}
+		if dg > 0 && s.nonMono == "" {
+			s.noteNonMono(fmt.Sprintf("edge %q at x = %s, u = %s: ∂(f − c·u)/∂u = %s > 0", ed.ID, fmtG(x), fmtG(u), fmtG(dg)))
+		}
+		return g, dg, nil
+	}
+	q := quasiRun{ed: ed, e: e, n: n, h: h, in: in, react: react, plain: plain,
+		// Faces whose a and b are constants are computed once.
+		cface: plain && l.A == nil && l.B == nil}
+	u1 := gridVertex(n, U0, UL, in)(1)
+	var err error
+	if q.prev, err = s.face(ed, 0, h, U0, u1); err != nil {
+		return q, err
+	}
+	q.cf = q.prev
+	q.dPrev = u1 - U0
+	// From end.
+	g, dg, err := react(0, U0)
+	if err != nil {
+		return q, err
+	}
+	a, da := s.coefA(ed, 0, U0)
+	if !(a > 0) {
+		return q, edgeLawError(ed, 0, U0, "diffusivity", a, "> 0", "the equation is not elliptic there")
+	}
+	prev, dPrev := q.prev, q.dPrev
+	flux := prev.r*dPrev + 0.5*h*g
+	fU := prev.dr*dPrev - prev.r + 0.5*h*dg
+	fA := prev.r + prev.dr*dPrev
+	el := endLin{d: flux / a, dSelf: fU/a - flux*da/(a*a), dAdj: fA / a, w: ed.Weight[0]}
+	if el.w == 0 {
+		el.w, el.dw = a, da
+	}
+	s.end[e][0] = el
+	q.tx = s.newElim(e)
+	return q, nil
+}
+
+// quasiEnd finishes the evaluation of a quasilinear edge after its interior
+// loop left the last face and difference in q: the elimination's results
+// and the to end's derivative (into s.end[e][1]).
+func (s *nlSystem) quasiEnd(q *quasiRun, UL float64) error {
+	ed, e, h, L := q.ed, q.e, q.h, q.ed.Length
+	prev, dPrev := q.prev, q.dPrev
+	q.tx.finish(e)
 	// To end.
-	g, dg, err := react(L, UL)
+	g, dg, err := q.react(L, UL)
 	if err != nil {
 		return err
 	}
