@@ -591,3 +591,180 @@ func (x *nlGridEl) interiorResidual() float64 {
 	}
 	return res
 }
+
+// pairable reports whether law edges e and f can be evaluated together by
+// evalQuasiPair: both quasilinear without a profile, with constant faces,
+// the same number of cells (≥ 2), and no kept rows.
+func (s *nlSystem) pairable(e, f int) bool {
+	if s.keepRows || s.kind[e] != nlQuasi || s.kind[f] != nlQuasi || s.n[e] != s.n[f] || s.n[e] < 2 {
+		return false
+	}
+	for _, k := range [2]int{e, f} {
+		ed := &s.net.Edges[k]
+		if ed.Profile != nil || ed.Law.A != nil || ed.Law.B != nil {
+			return false
+		}
+	}
+	return true
+}
+
+// evalQuasiPair evaluates the pairable quasilinear edges e and f (see
+// pairable) at (U, w) with their interior loops interleaved, so that the two
+// independent chains of divisions of their eliminations overlap. Wherever
+// the interleaved pass meets anything but the regular case (a law error, a
+// zero or non-finite pivot, a new non-monotone note) it undoes its
+// accumulations and evaluates e and then f one at a time, so errors and
+// notes are exactly those of that order. Everything else it stores is the
+// same as there, bit for bit, except in a tie of the running maximum of
+// |r|/|b| (rhoWorst), which f starts from e's start instead of e's end and
+// which both orders keep within rounding of the exact maximum.
+func (s *nlSystem) evalQuasiPair(e, f int, U, w []float64) error {
+	sumsq, neg, worst, umax, note := s.sumsq, s.negPivots, s.rhoWorst, s.rhoUmax, s.nonMono
+	if s.tryQuasiPair(e, f, U, w) && s.nonMono == note {
+		return nil
+	}
+	s.sumsq, s.negPivots, s.rhoWorst, s.rhoUmax, s.nonMono = sumsq, neg, worst, umax, note
+	if err := s.evalEdge(e, U, w); err != nil {
+		return err
+	}
+	return s.evalEdge(f, U, w)
+}
+
+// tryQuasiPair is the interleaved pass of evalQuasiPair; it reports false
+// where the pass must be redone one edge at a time.
+func (s *nlSystem) tryQuasiPair(e, f int, U, w []float64) bool {
+	note := s.nonMono
+	ed1, ed2 := &s.net.Edges[e], &s.net.Edges[f]
+	q1, err := s.quasiBegin(e, U[ed1.From], U[ed1.To], w)
+	if err != nil || s.nonMono != note {
+		return false
+	}
+	q2, err := s.quasiBegin(f, U[ed2.From], U[ed2.To], w)
+	if err != nil || s.nonMono != note {
+		return false
+	}
+	ss1, ss2, ok := s.quasiConstPair(&q1, &q2, U[ed1.To], U[ed2.To])
+	if !ok {
+		return false
+	}
+	s.sumsq += ss1
+	w2 := q2.tx.worst
+	q1.tx.finish(e)
+	if w2 <= s.rhoWorst {
+		q2.tx.worst = s.rhoWorst
+	}
+	q2.tx.umax = math.Max(q2.tx.umax, s.rhoUmax)
+	if err := s.quasiEnd(&q1, U[ed1.To]); err != nil || s.nonMono != note {
+		return false
+	}
+	s.sumsq += ss2
+	// quasiEnd finishes q2 with the running maxima combined above.
+	return s.quasiEnd(&q2, U[ed2.To]) == nil && s.nonMono == note
+}
+
+// quasiConstPair runs the interior loops of quasiConstFaces (direct laws,
+// constant faces) of two edges with the same number of cells side by side.
+// It returns each edge's Σ G² and false at the first row that is not the
+// regular case (see evalQuasiPair); the loop state is left in q1, q2.
+func (s *nlSystem) quasiConstPair(q1, q2 *quasiRun, UL1, UL2 float64) (ss1, ss2 float64, ok bool) {
+	type side struct {
+		al, b0, bs                 []float64
+		alpha, beta0, betas        float64
+		prod, p0, ps, worst, umax  float64
+		ra, rc, rb0, c0, f0, h, dP float64
+		r, l                       float64
+		cC, fC                     *Coef
+		in                         []float64
+		UL                         float64
+	}
+	mk := func(q *quasiRun, UL float64) side {
+		t := &q.tx
+		return side{al: t.al, b0: t.b0, bs: t.bs, alpha: t.alpha, beta0: t.beta0, betas: t.betas,
+			prod: t.prod, p0: t.p0, ps: t.ps, worst: t.worst, umax: t.umax,
+			r: q.cf.r, l: q.cf.l, ra: -q.cf.l, rc: -q.cf.r, rb0: q.cf.r + q.cf.l, c0: q.ed.C, f0: q.ed.F, h: q.h, dP: q.dPrev,
+			cC: q.ed.Law.C, fC: q.ed.Law.F, in: q.in, UL: UL}
+	}
+	a, b := mk(q1, UL1), mk(q2, UL2)
+	n := q1.n
+	neg := 0
+	nomono := s.nonMono == ""
+	for i := 1; i < n; i++ {
+		ui, un := a.in[i-1], a.UL
+		vi, vn := b.in[i-1], b.UL
+		if i < n-1 {
+			un, vn = a.in[i], b.in[i]
+		}
+		dA, dB := un-ui, vn-vi
+		xa, xb := float64(i)*a.h, float64(i)*b.h
+		ca, dca, fa, dfa := a.c0, 0.0, a.f0, 0.0
+		cb, dcb, fb, dfb := b.c0, 0.0, b.f0, 0.0
+		if a.cC != nil {
+			ca, dca = a.cC.Fn(xa, ui, 0)
+		}
+		if b.cC != nil {
+			cb, dcb = b.cC.Fn(xb, vi, 0)
+		}
+		if a.fC != nil {
+			fa, dfa = a.fC.Fn(xa, ui, 0)
+		}
+		if b.fC != nil {
+			fb, dfb = b.fC.Fn(xb, vi, 0)
+		}
+		ga, dga := fa-ca*ui, dfa-ca-ui*dca
+		gb, dgb := fb-cb*vi, dfb-cb-vi*dcb
+		if (ga-ga)+(dga-dga)+(gb-gb)+(dgb-dgb) != 0 || (nomono && (dga > 0 || dgb > 0)) {
+			return 0, 0, false
+		}
+		Ga := a.r*dA - a.l*a.dP + a.h*ga
+		Gb := b.r*dB - b.l*b.dP + b.h*gb
+		ss1 += Ga * Ga
+		ss2 += Gb * Gb
+		ba, bb := a.rb0-a.h*dga, b.rb0-b.h*dgb
+		pa, pb := ba+a.ra*a.alpha, bb+b.ra*b.alpha
+		if pa == 0 || pb == 0 || (pa-pa)+(Ga-Ga)+(pb-pb)+(Gb-Gb) != 0 {
+			return 0, 0, false
+		}
+		if pa < 0 {
+			neg++
+		}
+		if pb < 0 {
+			neg++
+		}
+		ipa, ipb := 1/pa, 1/pb
+		a.alpha, b.alpha = -a.rc*ipa, -b.rc*ipb
+		a.beta0, b.beta0 = -a.ra*a.beta0*ipa, -b.ra*b.beta0*ipb
+		a.betas, b.betas = (Ga-a.ra*a.betas)*ipa, (Gb-b.ra*b.betas)*ipb
+		a.al[i-1], a.b0[i-1], a.bs[i-1] = a.alpha, a.beta0, a.betas
+		b.al[i-1], b.b0[i-1], b.bs[i-1] = b.alpha, b.beta0, b.betas
+		a.p0 += a.prod * a.beta0
+		b.p0 += b.prod * b.beta0
+		a.ps += a.prod * a.betas
+		b.ps += b.prod * b.betas
+		a.prod *= a.alpha
+		b.prod *= b.alpha
+		if ar, ab := math.Abs(Ga), math.Abs(ba); ar > a.worst*ab {
+			a.worst = ratio(ar, ab)
+		}
+		if ar, ab := math.Abs(Gb), math.Abs(bb); ar > b.worst*ab {
+			b.worst = ratio(ar, ab)
+		}
+		if au := math.Abs(ui); au > a.umax {
+			a.umax = au
+		}
+		if au := math.Abs(vi); au > b.umax {
+			b.umax = au
+		}
+		a.dP, b.dP = dA, dB
+	}
+	for _, p := range [2]struct {
+		q *quasiRun
+		t *side
+	}{{q1, &a}, {q2, &b}} {
+		t, x := p.t, &p.q.tx
+		x.alpha, x.beta0, x.betas = t.alpha, t.beta0, t.betas
+		x.prod, x.p0, x.ps, x.worst, x.umax = t.prod, t.p0, t.ps, t.worst, t.umax
+		p.q.prev, p.q.dPrev = p.q.cf, t.dP
+	}
+	s.negPivots += neg
+	return ss1, ss2, true
+}

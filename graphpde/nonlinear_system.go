@@ -60,6 +60,9 @@ type nlSystem struct {
 	// before this index have their full step in tw (by evalStep).
 	pending bool
 	fused   int
+	// onePerEdge turns off the evaluation of pairs of edges together
+	// (evalQuasiPair), for the tests that compare the two.
+	onePerEdge bool
 	// handOver lets solution() keep w as the Solution's grid values
 	// instead of copying it (SolveNonlinear discards the system after).
 	handOver bool
@@ -293,17 +296,30 @@ func (s *nlSystem) start(guess func(Point) float64) {
 // node rows. It returns a *LawError where a law fails a check.
 func (s *nlSystem) eval(U, w []float64) error {
 	s.resetEval()
-	for e := range s.net.Edges {
-		if e%stopEvery == 0 {
+	for e := 0; e < len(s.net.Edges); e++ {
+		if e%stopEvery == 0 || (e+1)%stopEvery == 0 {
 			if err := canceled(s.ctx, "Newton iteration"); err != nil {
 				return err
 			}
+		}
+		if s.pairNext(e) {
+			if err := s.evalQuasiPair(e, e+1, U, w); err != nil {
+				return err
+			}
+			e++
+			continue
 		}
 		if err := s.evalEdge(e, U, w); err != nil {
 			return err
 		}
 	}
 	return s.evalNodes(U)
+}
+
+// pairNext reports whether edges e and e+1 are evaluated together
+// (evalQuasiPair).
+func (s *nlSystem) pairNext(e int) bool {
+	return !s.onePerEdge && e+1 < len(s.net.Edges) && s.pairable(e, e+1)
 }
 
 // resetEval clears what an evaluation accumulates.
@@ -326,11 +342,23 @@ func (s *nlSystem) evalStep() error {
 	}
 	s.resetEval()
 	s.fused = 0
-	for e := range net.Edges {
-		if e%stopEvery == 0 {
+	for e := 0; e < len(net.Edges); e++ {
+		if e%stopEvery == 0 || (e+1)%stopEvery == 0 {
 			if err := canceled(s.ctx, "Newton iteration"); err != nil {
 				return err
 			}
+		}
+		if s.pairNext(e) {
+			// Both interiors stepped (two chains side by side), then
+			// both edges evaluated together.
+			e0, e1 := &net.Edges[e], &net.Edges[e+1]
+			s.backStepPair(e, e+1, s.dU[e0.From], s.dU[e0.To], s.dU[e1.From], s.dU[e1.To])
+			s.fused = e + 2
+			if err := s.evalQuasiPair(e, e+1, s.tU, s.tw); err != nil {
+				return err
+			}
+			e++
+			continue
 		}
 		if s.kind[e] == nlQuasi || s.kind[e] == nlEquation {
 			ed := &net.Edges[e]
@@ -357,6 +385,24 @@ func (s *nlSystem) backStep(e int, dU0, dUL float64) {
 	for i := n - 2; i >= 0; i-- {
 		x = al[i]*x + b0[i]*dU0 + bs[i]
 		tw[i] = w[i] + x
+	}
+}
+
+// backStepPair is backStep for edges e and f with the same number of cells,
+// their two back substitutions side by side.
+func (s *nlSystem) backStepPair(e, f int, dU0, dUL, dV0, dVL float64) {
+	n, o, p := s.n[e], s.off[e], s.off[f]
+	m := n - 1
+	al, b0, bs := s.alpha[o:o+m], s.b0[o:o+m], s.bs[o:o+m]
+	w, tw := s.w[o:o+m], s.tw[o:o+m]
+	cl, c0, cs := s.alpha[p:p+m], s.b0[p:p+m], s.bs[p:p+m]
+	v, tv := s.w[p:p+m], s.tw[p:p+m]
+	x, y := dUL, dVL
+	for i := m - 1; i >= 0; i-- {
+		x = al[i]*x + b0[i]*dU0 + bs[i]
+		y = cl[i]*y + c0[i]*dV0 + cs[i]
+		tw[i] = w[i] + x
+		tv[i] = v[i] + y
 	}
 }
 
