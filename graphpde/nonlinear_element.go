@@ -648,17 +648,15 @@ func (s *nlSystem) tryQuasiPair(e, f int, U, w []float64) bool {
 		return false
 	}
 	s.sumsq += ss1
-	w2 := q2.tx.worst
-	q1.tx.finish(e)
-	if w2 <= s.rhoWorst {
-		q2.tx.worst = s.rhoWorst
-	}
-	q2.tx.umax = math.Max(q2.tx.umax, s.rhoUmax)
 	if err := s.quasiEnd(&q1, U[ed1.To]); err != nil || s.nonMono != note {
 		return false
 	}
+	// f's running maxima started from e's start: combine them with e's.
+	if q2.tx.worst <= s.rhoWorst {
+		q2.tx.worst = s.rhoWorst
+	}
+	q2.tx.umax = math.Max(q2.tx.umax, s.rhoUmax)
 	s.sumsq += ss2
-	// quasiEnd finishes q2 with the running maxima combined above.
 	return s.quasiEnd(&q2, U[ed2.To]) == nil && s.nonMono == note
 }
 
