@@ -61,6 +61,10 @@ type Settings struct {
 	// step per edge of 1e−3 of its diffusive time L²ρ/(2a) (and at most
 	// 1e−2 of its drift time Lρ/|b|).
 	Step float64
+	// StepScale multiplies the step of every time-stepping edge (Step or
+	// its default); 0 means 1. A second run at StepScale ½ with the same
+	// seed estimates the first-order bias of the time stepping.
+	StepScale float64
 	// StarFraction is the star radius, as a fraction of the largest star
 	// that fits, at nodes whose arms decay at different rates (exact in law
 	// at any radius; the small star keeps the departure counts close to the

@@ -191,6 +191,9 @@ func prepare(net Network, set *Settings) (*model, error) {
 		if ed.dt == 0 {
 			ed.dt = math.Min(stepOfDiffusiveTime*tDiff, stepOfDriftTime*tDrift)
 		}
+		if set.StepScale > 0 {
+			ed.dt *= set.StepScale
+		}
 		ed.hz = math.Min(4*math.Sqrt(2*aoMax*ed.dt), ed.L/8)
 	}
 

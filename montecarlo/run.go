@@ -99,6 +99,8 @@ func checkSettings(s *Settings) error {
 		return bad("time cap", s.TimeCap, "must be a finite number ≥ 0")
 	case !finite(s.Step) || s.Step < 0:
 		return bad("step", s.Step, "must be a finite number ≥ 0")
+	case !finite(s.StepScale) || s.StepScale < 0:
+		return bad("step scale", s.StepScale, "must be a finite number ≥ 0")
 	case !finite(s.StarFraction) || s.StarFraction <= 0 || s.StarFraction > 1:
 		return bad("star fraction", s.StarFraction, "must be in (0, 1]")
 	}

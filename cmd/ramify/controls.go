@@ -444,23 +444,34 @@ func benchControls(w io.Writer, size string) error {
 	return nil
 }
 
-// biasOut estimates the bias that frozen node visits (coefficients that
-// change within a node's star, frozen at the node) put into the walkers'
-// value. The visit error is O(ε) in the star radius (docs/controls.md), so
-// a second run with the same seed at half the star fraction has about half
-// the bias: with b(ε) = Cε, coarse − finer = Cε/2, the coarse run's bias is
-// twice that difference and the finer run's bias once it; the first-order
-// (Richardson) value 2·finer − coarse removes it (derived). Standard errors
-// combine as if the runs were independent: an upper bound, since runs with
-// the same seed are positively correlated (derived).
+// biasOut estimates the bias that the walkers' approximate steps put into
+// their value: frozen node visits (coefficients that change within a
+// node's star, frozen at the node) and Euler–Maruyama time stepping on
+// edges with drift or varying coefficients. Both errors are first order,
+// O(ε) in the star radius (docs/controls.md §3) and O(dt) in the step
+// (docs/walkers.md), so a second run with the same seed at half the star
+// fraction and/or half the step has about half the bias: with b = Cε or
+// Cdt, coarse − finer = b/2, the coarse run's bias is twice that
+// difference and the finer run's bias once it; the first-order
+// (Richardson) value 2·finer − coarse removes it (derived). Standard
+// errors combine as if the runs were independent: an upper bound, since
+// runs with the same seed are positively correlated (derived).
 type biasOut struct {
+	// Halved names the knobs halved in the finer run: "star_fraction"
+	// (frozen visits), "step" (time stepping), or both.
+	Halved []string `json:"halved"`
 	// Estimate is the estimated bias of the reported value (the run at
-	// StarFraction): 2·(coarse − finer).
+	// StarFraction and the requested step): 2·(coarse − finer).
 	Estimate          num     `json:"estimate"`
 	StdErr            num     `json:"stderr"`
 	StarFraction      float64 `json:"star_fraction"`
 	FinerStarFraction float64 `json:"finer_star_fraction"`
-	FinerValue        estOut  `json:"finer_value"`
+	// Step is --step (0: each edge's automatic step) and FinerStepFactor
+	// the factor on every edge's step in the finer run (½, or 1 where no
+	// edge is time-stepped).
+	Step            float64 `json:"step"`
+	FinerStepFactor float64 `json:"finer_step_factor"`
+	FinerValue      estOut  `json:"finer_value"`
 	// Extrapolated is 2·finer − coarse, free of the first-order bias.
 	Extrapolated estOut `json:"extrapolated"`
 }
@@ -475,36 +486,84 @@ func anyFrozen(frozen []bool) bool {
 	return false
 }
 
-// starBias re-runs the walkers of coarse (star fraction set.StarFraction,
-// 0 meaning the default 1/8) with the same seed at half the star fraction
-// and returns the bias estimate; nil when no visit was frozen.
-func starBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set montecarlo.Settings, coarse *montecarlo.Result) (*biasOut, error) {
-	if !anyFrozen(coarse.Frozen) || coarse.Finished == 0 || coarse.Status == montecarlo.Cancelled {
-		return nil, nil
+// needsBiasPass reports whether the walkers of r took approximate steps
+// whose bias a finer pass can estimate: frozen visits or time stepping.
+func needsBiasPass(r *montecarlo.Result) bool {
+	return anyFrozen(r.Frozen) || !r.Stats.Exact
+}
+
+// walkBias re-runs the walkers of coarse with the same seed at half the
+// star fraction (set.StarFraction, 0 meaning the default 1/8) where some
+// visit was frozen and at half the step where some edge was time-stepped,
+// both in one finer run, and returns the bias estimate and the finer run;
+// nil when every step was exact.
+func walkBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set montecarlo.Settings, coarse *montecarlo.Result) (*biasOut, *montecarlo.Result, error) {
+	if !needsBiasPass(coarse) || coarse.Finished == 0 || coarse.Status == montecarlo.Cancelled {
+		return nil, nil, nil
 	}
 	frac := set.StarFraction
 	if frac == 0 {
 		frac = 1.0 / 8
 	}
-	set.StarFraction = frac / 2
+	b := &biasOut{StarFraction: frac, FinerStarFraction: frac, Step: set.Step, FinerStepFactor: 1}
+	if anyFrozen(coarse.Frozen) {
+		b.Halved = append(b.Halved, "star_fraction")
+		b.FinerStarFraction = frac / 2
+	}
+	if !coarse.Stats.Exact {
+		b.Halved = append(b.Halved, "step")
+		b.FinerStepFactor = 0.5
+	}
+	scale := set.StepScale
+	if scale == 0 {
+		scale = 1
+	}
+	set.StarFraction = b.FinerStarFraction
+	set.StepScale = scale * b.FinerStepFactor
 	set.Seed = coarse.Seed
 	set.Recorder = nil
 	set.TimeCap = coarse.TimeCap
+	set.KeepSamples = false
+	set.PositionTimes = nil
 	fine, err := montecarlo.Run(ctx, net, p, &set)
 	if err != nil {
-		return nil, err
+		return nil, nil, err
 	}
 	if fine.Status == montecarlo.Cancelled {
-		return nil, errInterrupted
+		return nil, nil, errInterrupted
 	}
 	c, f := coarse.Value, fine.Value
-	return &biasOut{Estimate: num(2 * (c.Mean - f.Mean)), StdErr: num(2 * math.Hypot(c.StdErr, f.StdErr)),
-		StarFraction: frac, FinerStarFraction: frac / 2, FinerValue: estOut{num(f.Mean), num(f.StdErr)},
-		Extrapolated: estOut{num(2*f.Mean - c.Mean), num(math.Hypot(2*f.StdErr, c.StdErr))}}, nil
+	b.Estimate, b.StdErr = num(2*(c.Mean-f.Mean)), num(2*math.Hypot(c.StdErr, f.StdErr))
+	b.FinerValue = estOut{num(f.Mean), num(f.StdErr)}
+	b.Extrapolated = estOut{num(2*f.Mean - c.Mean), num(math.Hypot(2*f.StdErr, c.StdErr))}
+	return b, fine, nil
+}
+
+// starBias is walkBias without the finer run (controlled networks).
+func starBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set montecarlo.Settings, coarse *montecarlo.Result) (*biasOut, error) {
+	b, _, err := walkBias(ctx, net, p, set, coarse)
+	return b, err
+}
+
+// biasKnobs says in words what the finer run halved.
+func biasKnobs(b *biasOut) (what, order string) {
+	var ws, os []string
+	for _, h := range b.Halved {
+		switch h {
+		case "star_fraction":
+			ws = append(ws, fmt.Sprintf("star fraction %g (instead of %g)", b.FinerStarFraction, b.StarFraction))
+			os = append(os, "the frozen node visits' error is O(ε) in the star radius")
+		case "step":
+			ws = append(ws, "half the time step")
+			os = append(os, "the time stepping's error is O(dt)")
+		}
+	}
+	return strings.Join(ws, " and "), strings.Join(os, " and ")
 }
 
 // biasLine is the human-readable form of a bias estimate.
 func biasLine(b *biasOut) string {
-	return fmt.Sprintf("bias of the frozen node visits: a second run with the same seed at star fraction %g gives %.6g ± %.2g; the visit error is O(ε) in the star radius, so the value above (star fraction %g) carries a bias of about 2·(difference) = %.3g ± %.2g, and the first-order extrapolation 2·finer − coarse is %.6g ± %.2g",
-		b.FinerStarFraction, float64(b.FinerValue.Mean), float64(b.FinerValue.StdErr), b.StarFraction, float64(b.Estimate), float64(b.StdErr), float64(b.Extrapolated.Mean), float64(b.Extrapolated.StdErr))
+	what, order := biasKnobs(b)
+	return fmt.Sprintf("bias of the approximate steps: a second run with the same seed at %s gives %.6g ± %.2g; %s, so the value above carries a bias of about 2·(difference) = %.3g ± %.2g, and the first-order extrapolation 2·finer − coarse is %.6g ± %.2g",
+		what, float64(b.FinerValue.Mean), float64(b.FinerValue.StdErr), order, float64(b.Estimate), float64(b.StdErr), float64(b.Extrapolated.Mean), float64(b.Extrapolated.StdErr))
 }

@@ -76,7 +76,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		if len(*probes) > 0 || *fit || *occ || *plot != "" || *draw != "" {
 			return badFlag(stderr, "crosscheck", fmt.Errorf("--probe, --fit-weights, --occupation, --plot and --draw do not apply to a controlled network (%s)", file))
 		}
-		return crosscheckControl(ctx, net, file, *wf.from, set, *level, *challengers, *asJSON, stdout, stderr)
+		return crosscheckControl(ctx, net, file, *wf.from, set, *level, *challengers, *wf.biasPass, *asJSON, stdout, stderr)
 	}
 	if graphpde.HasLaws(net) {
 		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *asJSON, stdout, stderr)
@@ -111,7 +111,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 			dens = append(dens, crosscheck.Density{T: t, Edges: fwd[k]})
 		}
 	}
-	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ}, dens)
+	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ}, dens, *wf.biasPass)
 	if err == nil && len(dens) > 0 {
 		if note := releaseShift(net, p, *posCells); note != "" {
 			cc.Notes = append(cc.Notes, note)
@@ -158,6 +158,40 @@ type crossResult struct {
 	exit *graphpde.ExitStats
 	*crosscheck.Result
 	fitNote string // why --fit-weights fitted nothing
+	// bias is the estimated bias of the approximate steps (nil where
+	// every step was exact or --bias-pass=false).
+	bias *biasOut
+}
+
+// widenByBias returns a copy of coarse whose value, hitting
+// probabilities, killed fraction and mean exit time carry, in their
+// standard errors, the estimated bias b = 2·(coarse − fine) of each
+// quantity and its own standard error se_b = 2·√(se_c² + se_f²):
+// se' = √(se_c² + b² + se_b²) (common practice, no source). The means stay
+// those of coarse, so a bias the walkers cannot resolve does not turn into
+// a false disagreement, while one far beyond the error bars still does.
+func widenByBias(coarse, fine *montecarlo.Result) (*montecarlo.Result, *crosscheck.Widen) {
+	w := *coarse
+	extra := func(c, f montecarlo.Estimate) float64 {
+		b := 2 * (c.Mean - f.Mean)
+		sb := 2 * math.Hypot(c.StdErr, f.StdErr)
+		return b*b + sb*sb
+	}
+	widen := func(c, f montecarlo.Estimate) montecarlo.Estimate {
+		c.StdErr = math.Sqrt(c.StdErr*c.StdErr + extra(c, f))
+		return c
+	}
+	w.Value = widen(coarse.Value, fine.Value)
+	w.ExitTime = widen(coarse.ExitTime, fine.ExitTime)
+	// Probabilities are checked from their counts; the crosscheck adds the
+	// extra variance to the binomial standard error.
+	pw := &crosscheck.Widen{Hit: make([]float64, len(coarse.Hit)), Killed: extra(coarse.Killed, fine.Killed)}
+	for v := range coarse.Hit {
+		if v < len(fine.Hit) {
+			pw.Hit[v] = extra(coarse.Hit[v], fine.Hit[v])
+		}
+	}
+	return &w, pw
 }
 
 // noFitReason says why --fit-weights found no junction to fit: there is
@@ -216,7 +250,7 @@ func hasPayoff(net *graphpde.Network) bool {
 }
 
 func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, from string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions, dens []crosscheck.Density) (*crossResult, error) {
+	wset *montecarlo.Settings, cset *compare.Settings, opt crossOptions, dens []crosscheck.Density, biasPass bool) (*crossResult, error) {
 	x, err := interruptible(ctx, func() (*graphpde.ExitStats, error) {
 		// No Context: the survival function is evaluated again after the
 		// walkers, also when Ctrl-C stopped them.
@@ -277,14 +311,33 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			pde.HasValue, pde.Value = true, u
 		}
 	}
-	r, err := crosscheck.Run(net, p, pde, res, cset, opt)
+	var bias *biasOut
+	var biasNotes []string
+	compared := res
+	if biasPass {
+		var fine *montecarlo.Result
+		bias, fine, err = walkBias(ctx, net, p, *wset, res)
+		switch {
+		case errors.Is(err, errInterrupted):
+			biasNotes = append(biasNotes, "the second run that estimates the bias of the approximate steps was interrupted: the checks are not widened by it")
+		case err != nil:
+			return nil, err
+		case bias != nil:
+			compared, opt.Widen = widenByBias(res, fine)
+			biasNotes = append(biasNotes, biasLine(bias), "the value, hitting-probability, killed and mean-exit-time checks are widened by the estimated bias of each quantity, 2·(walkers − finer run), and its standard error, added in quadrature to the walkers' standard error")
+		}
+	} else if needsBiasPass(res) {
+		biasNotes = append(biasNotes, "no bias estimate (--bias-pass=false): the time stepping or frozen node visits bias the walkers by an unmeasured amount the checks do not allow for")
+	}
+	r, err := crosscheck.Run(net, p, pde, compared, cset, opt)
 	if err != nil {
 		return nil, err
 	}
 	if capNote != "" {
 		r.Notes = append([]string{capNote}, r.Notes...)
 	}
-	cc := &crossResult{from: from, walk: res, exit: x, Result: r}
+	r.Notes = append(r.Notes, biasNotes...)
+	cc := &crossResult{from: from, walk: res, exit: x, Result: r, bias: bias}
 	if opt.Fit && len(r.Fits) == 0 {
 		cc.fitNote = noFitReason(net, res)
 	}
@@ -302,12 +355,15 @@ type crossOut struct {
 	Explanation string          `json:"explanation"`
 	Notes       []string        `json:"notes,omitempty"`
 	Weights     []weightFit     `json:"fitted_weights,omitempty"`
+	// BiasEstimate: the bias of the walkers' value from time stepping or
+	// frozen node visits (absent where every step was exact).
+	BiasEstimate *biasOut `json:"bias_estimate,omitempty"`
 }
 
 func (cc *crossResult) json() crossOut {
 	return crossOut{Start: cc.from, Particles: cc.walk.Particles, Finished: cc.walk.Finished, Partial: cc.walk.Status == montecarlo.Cancelled,
 		Seed: cc.walk.Seed, Checks: cc.Report.Checks, Verdict: string(cc.Report.Verdict), Explanation: cc.Report.Explain,
-		Notes: cc.notes(), Weights: cc.fits()}
+		Notes: cc.notes(), Weights: cc.fits(), BiasEstimate: cc.bias}
 }
 
 func (cc *crossResult) print(w io.Writer) {

@@ -144,7 +144,7 @@ type controlCrossOut struct {
 }
 
 // crosscheckControl is runCrosscheck for a controlled network.
-func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from string, set *montecarlo.Settings, level float64, nChallengers int, asJSON bool, stdout, stderr io.Writer) int {
+func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from string, set *montecarlo.Settings, level float64, nChallengers int, biasPass bool, asJSON bool, stdout, stderr io.Writer) int {
 	p, err := net.ParsePoint(from)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)
@@ -175,9 +175,11 @@ func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from st
 		return fail(stderr, "crosscheck", err)
 	}
 	notes = append(notes, frozenNotes(pn, wr.Frozen)...)
-	bias, err := starBias(ctx, pn, p, *set, wr)
-	if err != nil {
-		return fail(stderr, "crosscheck", walkError(err, ""))
+	var bias *biasOut
+	if biasPass {
+		if bias, err = starBias(ctx, pn, p, *set, wr); err != nil {
+			return fail(stderr, "crosscheck", walkError(err, ""))
+		}
 	}
 	pols, names, err := challengerPolicies(net, res.Policy, p, nChallengers, set.Seed, obj)
 	if err != nil {

@@ -91,7 +91,13 @@ func TestWalkReportsStarBias(t *testing.T) {
 	exact := switchValue(t)
 	f := writeFile(t, "switch.toml", switchNearHub)
 	pf := writeFile(t, "pol.json", switchPolicy)
-	code, out, errs := runCLI(t, context.Background(), "walk", f, "--from", "hub", "--policy", pf, "--particles", "20000", "--seed", "7", "--json")
+	// Arm g is time-stepped too (drift), so the finer run halves the step
+	// as well. --step 1e-3 (half: 5e-4) keeps the hand-off zone 4·√(2a·dt)
+	// beyond the switch at x = 0.1 in both runs, so the test isolates the
+	// star's bias. Below dt ≈ 3.5e-4 the walkers on this network settle
+	// near 0.604, about 0.013 (4–5 se) under the PDE value: an open
+	// question (the zone then ends before the drift's jump).
+	code, out, errs := runCLI(t, context.Background(), "walk", f, "--from", "hub", "--policy", pf, "--particles", "20000", "--seed", "7", "--step", "1e-3", "--json")
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}

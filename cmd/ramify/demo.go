@@ -82,7 +82,7 @@ func runDemo(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 	if isTerminal(stderr) {
 		set.Recorder = newProgressBar(stderr, "walkers")
 	}
-	cc, err := crossCheck(ctx, net, start, "well", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil)
+	cc, err := crossCheck(ctx, net, start, "well", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil, true)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}

@@ -77,7 +77,7 @@ func TestCrosscheckPower(t *testing.T) {
 			hits := 0
 			for seed := range uint64(seeds) {
 				set := &montecarlo.Settings{Particles: 100000, Seed: 1000 + seed, KeepSamples: true}
-				cc, err := crossCheck(context.Background(), net, start, "fork", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil)
+				cc, err := crossCheck(context.Background(), net, start, "fork", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil, false)
 				if err != nil {
 					t.Fatal(err)
 				}
@@ -142,7 +142,7 @@ capacity = 2.0
 	}
 	start, _ := net.ParsePoint("c")
 	set := &montecarlo.Settings{Particles: 200000, Seed: 9, KeepSamples: true}
-	cc, err := crossCheck(context.Background(), net, start, "c", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{Fit: true}, nil)
+	cc, err := crossCheck(context.Background(), net, start, "c", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{Fit: true}, nil, false)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -89,7 +89,7 @@ func TestRandomNetworks(t *testing.T) {
 			start = graphpde.Point{Node: -1, Edge: e, X: net.Edges[e].Length * (0.1 + 0.8*r.Float64())}
 		}
 		set := &montecarlo.Settings{Particles: 100000, Seed: uint64(i), KeepSamples: true}
-		cc, err := crossCheck(context.Background(), net, start, "start", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil)
+		cc, err := crossCheck(context.Background(), net, start, "start", graphpde.MethodAuto, set, &compare.Settings{}, crossOptions{}, nil, false)
 		if err != nil {
 			t.Fatalf("network %d: %v", i, err)
 		}

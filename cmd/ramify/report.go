@@ -69,7 +69,7 @@ func runReport(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	if errors.Is(solErr, errInterrupted) {
 		return fail(stderr, "report", solErr)
 	}
-	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, &compare.Settings{}, crossOptions{}, nil)
+	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, &compare.Settings{}, crossOptions{}, nil, *wf.biasPass)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
 	}

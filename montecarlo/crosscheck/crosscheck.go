@@ -42,6 +42,18 @@ type PDE struct {
 type Options struct {
 	Fit        bool // estimate node weights from the walkers' departures
 	Occupation bool // compare edge occupation times too
+	// Widen, when set, adds variances to the probability checks: the
+	// squared estimated bias of approximate walker steps and its own
+	// squared standard error (value and mean exit time are widened by the
+	// caller through the Result's standard errors).
+	Widen *Widen
+}
+
+// Widen holds per node the variance added to the hitting-probability
+// check, and the variance added to the killed-fraction check.
+type Widen struct {
+	Hit    []float64
+	Killed float64
 }
 
 // WeightFit is the fitted weight of one edge end at a node, beside the
@@ -114,14 +126,19 @@ func Run(net montecarlo.Network, start vertex.Point, pde *PDE, res *montecarlo.R
 	// walkers (censored ones in the denominator: they ended nowhere yet, so
 	// the frequency is a lower bound and the frequency plus q an upper one).
 	count := func(e montecarlo.Estimate) int64 { return int64(math.Round(e.Mean * float64(res.Finished))) }
-	prob := func(name string, pde float64, e montecarlo.Estimate) compare.Check {
+	prob := func(name string, pde float64, e montecarlo.Estimate, extra float64) compare.Check {
 		k := count(e)
-		if Negligible(q, 1, e.StdErr) {
-			return compare.Proportion(name, pde, k, res.Finished)
-		}
 		n := res.Finished
+		if Negligible(q, 1, e.StdErr) {
+			c := compare.Proportion(name, pde, k, n)
+			if extra > 0 && n > 0 {
+				c = compare.Probability(name, pde, c.Walker, math.Sqrt(c.StdErr*c.StdErr+extra))
+				c.N = n
+			}
+			return c
+		}
 		se := math.Max(compare.BinomialStdErr(float64(k)/float64(n), n), compare.BinomialStdErr(float64(k+res.Censored)/float64(n), n))
-		return compare.Bounds(name, compare.KindProbability, pde, float64(k)/float64(n), float64(k+res.Censored)/float64(n), se, q)
+		return compare.Bounds(name, compare.KindProbability, pde, float64(k)/float64(n), float64(k+res.Censored)/float64(n), math.Sqrt(se*se+extra), q)
 	}
 	ids := make([]string, nn)
 	laws := make([]vertex.Law, nn)
@@ -129,11 +146,19 @@ func Run(net montecarlo.Network, start vertex.Point, pde *PDE, res *montecarlo.R
 	for v := range nn {
 		ids[v], laws[v], ends[v], _ = net.WalkNode(v)
 		if laws[v].Kind == vertex.Fixed {
-			checks = append(checks, prob("hit:"+ids[v], pde.Hit[v], res.Hit[v]))
+			extra := 0.0
+			if opt.Widen != nil && v < len(opt.Widen.Hit) {
+				extra = opt.Widen.Hit[v]
+			}
+			checks = append(checks, prob("hit:"+ids[v], pde.Hit[v], res.Hit[v], extra))
 		}
 	}
 	if pde.Killed > killedEps || res.Killed.Mean > 0 {
-		checks = append(checks, prob("killed", pde.Killed, res.Killed))
+		extra := 0.0
+		if opt.Widen != nil {
+			extra = opt.Widen.Killed
+		}
+		checks = append(checks, prob("killed", pde.Killed, res.Killed, extra))
 	}
 	if res.Censored > 0 && pde.Survival != nil {
 		if s, err := pde.Survival(res.TimeCap); err == nil {
