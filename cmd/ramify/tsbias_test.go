@@ -9,7 +9,7 @@ import (
 
 // pushRightExact is the value at x = 0.25 of the contract case
 // pushright.toml under its optimal policy (drift +2 everywhere): the scale
-// function of u'' + 2u' = 0 with u(0) = 0, u(1) = 1,
+// function of u” + 2u' = 0 with u(0) = 0, u(1) = 1,
 // P(x) = (1 − e^{−2x})/(1 − e^{−2}) (derived).
 var pushRightExact = (1 - math.Exp(-0.5)) / (1 - math.Exp(-2))
 
