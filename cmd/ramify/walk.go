@@ -46,7 +46,7 @@ func addWalkFlags(fs *pflag.FlagSet) *walkFlags {
 		step:      fs.Float64("step", 0, "time step on edges that need time stepping (0: automatic)"),
 		star:      fs.Float64("star-fraction", 0, "star radius, as a fraction of the free radius, at nodes next to edges whose coefficients vary along them or that decay at different rates (0: 1/8)"),
 		samples:   fs.String("samples", "", "write every walker's exit time and exit node to this CSV file"),
-		biasPass:  fs.Bool("bias-pass", true, "where walkers time-step an edge or freeze a node visit, run them again with the same seed at half the step and/or star fraction to estimate the bias (false: skip it, about a third of the time saved)"),
+		biasPass:  fs.Bool("bias-pass", true, "where walkers time-step an edge or freeze a node visit, run them again with the same seed at half the step and/or star fraction to estimate the bias (false: skip it; at half the step it costs about twice the first run)"),
 	}
 }
 
