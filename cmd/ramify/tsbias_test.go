@@ -13,27 +13,11 @@ import (
 // P(x) = (1 − e^{−2x})/(1 − e^{−2}) (derived).
 var pushRightExact = (1 - math.Exp(-0.5)) / (1 - math.Exp(-2))
 
-// pushRightFile writes the track of the reference case pushright: a unit
-// track between fixed 0 and 1, a = 1, controlled drift ±2.
+// pushRightFile writes the track of the reference case pushright (the
+// pushRight network of controls_test.go) with 400 cells.
 func pushRightFile(t *testing.T) string {
 	t.Helper()
-	return writeFile(t, "pushright.toml", `[network]
-objective = "max"
-[[node]]
-id = "left"
-fixed = 0.0
-[[node]]
-id = "right"
-fixed = 1.0
-[[edge]]
-id = "track"
-from = "left"
-to = "right"
-length = 1.0
-diffusivity = 1.0
-cells = 400
-controls = [ { drift = -2.0 }, { drift = 2.0 } ]
-`)
+	return writeFile(t, "pushright.toml", pushRight+"cells = 400\n")
 }
 
 type tsBias struct {
