@@ -20,9 +20,14 @@ import (
 //
 // solved with exact elements at complex s (docs/time-and-spectrum.md §2) and
 // inverted by fixed Talbot contours (internal/laplace; about 1e-11 relative).
-// It needs constant coefficients on every edge, an initial value that is
-// constant along each edge, and fixed values and injections that do not
-// depend on time.
+// It needs constant coefficients on every edge and an initial value that is
+// constant along each edge. Fixed values and injections are constants or
+// tables (TimeTable): a table is its value at 0+ plus delayed steps and
+// ramps, and by linearity the response to C·H(t − τ) is C times the unit
+// step response R₁(t − τ) = L⁻¹[H(s)/s](t − τ), to a ramp C·(t − τ)₊ the
+// unit ramp response L⁻¹[H(s)/s²](t − τ), H the transfer function from the
+// node's data (derived). Each delayed term is inverted at its own shifted
+// time, since a Talbot contour cannot carry the factor e^{−sτ}.
 
 // laplaceNet is the transform of a network's transient problem.
 type laplaceNet struct {
@@ -36,10 +41,22 @@ type laplaceNet struct {
 	x    []complex128
 	node []complex128 // node values at the last s
 	s    complex128
+	// Tables: per node its value at 0+ (used instead of the law's
+	// constant) and the delayed steps and ramps (driven lists the nodes
+	// that have some).
+	g0     []float64
+	tabled []bool
+	kinks  [][]kink
+	driven []int
+	// drive ≥ 0 solves for the transfer function from node drive's data
+	// (unit transform there, no other data, zero initial value); −1 for the
+	// network's own data.
+	drive int
 }
 
 func newLaplaceNet(net *Network) (*laplaceNet, error) {
-	ln := &laplaceNet{net: net, unk: make([]int, len(net.Nodes)), u0: make([]float64, len(net.Edges))}
+	ln := &laplaceNet{net: net, unk: make([]int, len(net.Nodes)), u0: make([]float64, len(net.Edges)), drive: -1,
+		g0: make([]float64, len(net.Nodes)), tabled: make([]bool, len(net.Nodes)), kinks: make([][]kink, len(net.Nodes))}
 	for v := range net.Nodes {
 		nd := &net.Nodes[v]
 		ln.unk[v] = -1
@@ -47,8 +64,21 @@ func newLaplaceNet(net *Network) (*laplaceNet, error) {
 			ln.unk[v] = ln.m
 			ln.m++
 		}
-		if nd.Time != nil && (nd.Time.Fixed != nil || nd.Time.Inject != nil) {
-			return nil, &ModelError{Object: "node", ID: nd.ID, Reason: "has a fixed value or injection that depends on t: method exact needs constant ones (use grid)"}
+		tm := nd.Time
+		if tm == nil || (tm.Fixed == nil && tm.Inject == nil) || !tm.UsesT {
+			continue
+		}
+		key := "inject"
+		if tm.Fixed != nil {
+			key = "fixed"
+		}
+		if tm.Table == nil {
+			return nil, &ModelError{Object: "node", ID: nd.ID, Field: key, Reason: fmt.Sprintf("%q depends on t: method exact takes constants or a schedule table (steps or linear), not an expression of t (use --method grid, the time stepper, or give the data as a --schedule table)", tm.Src)}
+		}
+		ln.tabled[v] = true
+		ln.g0[v], ln.kinks[v] = tm.Table.expand()
+		if len(ln.kinks[v]) > 0 {
+			ln.driven = append(ln.driven, v)
 		}
 	}
 	init := func(v int) float64 {
@@ -88,6 +118,9 @@ func newLaplaceNet(net *Network) (*laplaceNet, error) {
 func (ln *laplaceNet) edgeData(e int, s complex128) (c, f complex128) {
 	ed := &ln.net.Edges[e]
 	rho := complex(ed.Rho, 0)
+	if ln.drive >= 0 {
+		return complex(ed.C, 0) + s*rho, 0
+	}
 	return complex(ed.C, 0) + s*rho, complex(ed.F, 0)/s + rho*complex(ln.u0[e], 0)
 }
 
@@ -102,13 +135,32 @@ func (ln *laplaceNet) solve(s complex128) error {
 		if i := ln.unk[v]; i >= 0 {
 			l := nd.Law
 			ln.mat.Add(i, i, complex(l.Leak, 0)+s*complex(l.Capacity, 0))
-			u0 := 0.0
-			if nd.Initial != nil {
-				u0 = *nd.Initial
+			switch {
+			case ln.drive == v:
+				ln.rhs[i] += 1
+			case ln.drive < 0:
+				u0, g := 0.0, l.Inject
+				if nd.Initial != nil {
+					u0 = *nd.Initial
+				}
+				if ln.tabled[v] {
+					g = ln.g0[v]
+				}
+				ln.rhs[i] += complex(g, 0)/s + complex(l.Capacity*u0, 0)
 			}
-			ln.rhs[i] += complex(l.Inject, 0)/s + complex(l.Capacity*u0, 0)
 		} else {
-			ln.node[v] = complex(nd.Law.Value, 0) / s
+			g := nd.Law.Value
+			if ln.tabled[v] {
+				g = ln.g0[v]
+			}
+			switch {
+			case ln.drive == v:
+				ln.node[v] = 1
+			case ln.drive < 0:
+				ln.node[v] = complex(g, 0) / s
+			default:
+				ln.node[v] = 0
+			}
 		}
 	}
 	for e := range net.Edges {
@@ -162,22 +214,52 @@ func (ln *laplaceNet) at(p Point) complex128 {
 	return exactValue[complex128](ed.A, ed.B, c, f, ed.Length, p.X, ln.node[ed.From], ln.node[ed.To])
 }
 
-// values inverts the transform at time t > 0 for every probe into dst.
-func (ln *laplaceNet) values(dst []float64, probes []Point, t float64) error {
-	ct := laplace.TalbotContour(t, laplace.DefaultM)
+// values inverts the transform at time t > 0 for every probe into dst: the
+// response to the network's own data, plus each table's delayed steps and
+// ramps that have begun by t, inverted at t − τ. It returns the number of
+// transforms solved.
+func (ln *laplaceNet) values(dst []float64, probes []Point, t float64) (int, error) {
 	clear(dst)
+	ln.drive = -1
+	if err := ln.invert(dst, probes, t, 1, 0); err != nil {
+		return 0, err
+	}
+	n := laplace.DefaultM
+	for _, v := range ln.driven {
+		ln.drive = v
+		for _, k := range ln.kinks[v] {
+			if tau := t - k.At; tau > 0 {
+				if err := ln.invert(dst, probes, tau, k.C, k.Order); err != nil {
+					ln.drive = -1
+					return n, err
+				}
+				n += laplace.DefaultM
+			}
+		}
+	}
+	ln.drive = -1
+	for _, v := range dst {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return n, errors.New("the inverse transform is not finite")
+		}
+	}
+	return n, nil
+}
+
+// invert adds c times the inverse at time t of the current transform
+// (ln.drive's data) divided by s^order to dst.
+func (ln *laplaceNet) invert(dst []float64, probes []Point, t, c float64, order int) error {
+	ct := laplace.TalbotContour(t, laplace.DefaultM)
 	for k, s := range ct.S {
 		if err := ln.solve(s); err != nil {
 			return fmt.Errorf("transform at s = %v: %w", s, err)
 		}
-		w := ct.D[k] * cmplx.Exp(complex(t, 0)*s)
+		w := ct.D[k] * cmplx.Exp(complex(t, 0)*s) * complex(c, 0)
+		for range order {
+			w /= s
+		}
 		for j, p := range probes {
 			dst[j] += real(w * ln.at(p))
-		}
-	}
-	for _, v := range dst {
-		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return errors.New("the inverse transform is not finite")
 		}
 	}
 	return nil
@@ -226,20 +308,23 @@ func evolveExact(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 			for j, p := range s.Probes {
 				vals[j] = ln.initialAt(p)
 			}
-		} else if err := ln.values(vals, s.Probes, t); err != nil {
-			return nil, fmt.Errorf("at t = %g: %w", t, err)
+		} else {
+			n, err := ln.values(vals, s.Probes, t)
+			res.Stats.Factorizations += n
+			if err != nil {
+				return nil, fmt.Errorf("at t = %g: %w", t, err)
+			}
 		}
 		res.Times = append(res.Times, t)
 		for j := range s.Probes {
 			res.Probes[j] = append(res.Probes[j], vals[j])
 		}
-		res.Stats.Factorizations += laplace.DefaultM
 		if s.Progress != nil {
 			s.Progress(t, s.Until)
 		}
 	}
 	if s.Crossing > 0 && res.Status == Converged {
-		sol, err := Solve(net, &Settings{Method: MethodExact})
+		sol, err := Solve(dataAt(net, s.Until), &Settings{Method: MethodExact})
 		if err != nil {
 			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
 		}
@@ -263,10 +348,11 @@ func evolveExact(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				lo, hi := res.Times[i-1], res.Times[i]
 				for hi-lo > 1e-9*s.Until {
 					mid := 0.5 * (lo + hi)
-					if err := ln.values(one, []Point{p}, mid); err != nil {
+					n, err := ln.values(one, []Point{p}, mid)
+					res.Stats.Factorizations += n
+					if err != nil {
 						return nil, err
 					}
-					res.Stats.Factorizations += laplace.DefaultM
 					if reached(one[0]) {
 						hi = mid
 					} else {
@@ -279,4 +365,32 @@ func evolveExact(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		}
 	}
 	return res, nil
+}
+
+// dataAt returns net with the fixed values and injections of its tables
+// as they are at time t (a copy of the node list; net itself when no node
+// has a table).
+func dataAt(net *Network, t float64) *Network {
+	var cp *Network
+	for v := range net.Nodes {
+		tm := net.Nodes[v].Time
+		if tm == nil || tm.Table == nil {
+			continue
+		}
+		if cp == nil {
+			c := *net
+			c.Nodes = append([]Node(nil), net.Nodes...)
+			cp = &c
+		}
+		nd := &cp.Nodes[v]
+		if nd.Law.Kind == vertex.Fixed {
+			nd.Law.Value = tm.Table.At(t)
+		} else {
+			nd.Law.Inject = tm.Table.At(t)
+		}
+	}
+	if cp == nil {
+		return net
+	}
+	return cp
 }

@@ -113,6 +113,10 @@ type NodeTime struct {
 	Fixed, Inject func(t float64) float64
 	UsesT         bool   // depends on t (false: on parameters only)
 	Src           string // the expression as written
+	// Table, when not nil, is the table (a schedule) that Fixed or Inject
+	// interpolate: Evolve's exact method transforms it exactly, where it
+	// refuses a general expression of t.
+	Table *TimeTable
 }
 
 // TimeDependence lists the data of net that depend on the time t, e.g.

@@ -7,7 +7,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"sort"
 	"strconv"
 	"strings"
 
@@ -99,9 +98,13 @@ func applySchedule(net *graphpde.Network, path string, steps bool) error {
 		return fmt.Errorf("%s: no rows after the header", path)
 	}
 	for k, v := range nodes {
-		fn := tableFunc(ts, vals[k], steps)
+		tab, err := graphpde.NewTimeTable(ts, vals[k], steps)
+		if err != nil {
+			return fmt.Errorf("%s: %w", path, err)
+		}
+		fn := tab.At
 		nd := &net.Nodes[v]
-		tm := &graphpde.NodeTime{UsesT: true, Src: "schedule " + path}
+		tm := &graphpde.NodeTime{UsesT: true, Src: "schedule " + path, Table: tab}
 		if nd.Law.Kind == vertex.Fixed {
 			tm.Fixed = fn
 			nd.Law.Value = fn(0)
@@ -112,24 +115,4 @@ func applySchedule(net *graphpde.Network, path string, steps bool) error {
 		nd.Time = tm
 	}
 	return nil
-}
-
-// tableFunc returns the interpolant of (ts, vs): linear, or held (steps)
-// until the next time; held beyond both ends.
-func tableFunc(ts, vs []float64, steps bool) func(float64) float64 {
-	return func(t float64) float64 {
-		i := sort.SearchFloat64s(ts, t) // first ts[i] ≥ t
-		switch {
-		case i < len(ts) && ts[i] == t:
-			return vs[i]
-		case i == 0:
-			return vs[0]
-		case i == len(ts):
-			return vs[len(vs)-1]
-		case steps:
-			return vs[i-1]
-		}
-		w := (t - ts[i-1]) / (ts[i] - ts[i-1])
-		return (1-w)*vs[i-1] + w*vs[i]
-	}
 }
