@@ -1,6 +1,9 @@
 package graphpde
 
-import "math/cmplx"
+import (
+	"math"
+	"math/cmplx"
+)
 
 // exitElementSmall is the |κL| below which exitElement hands a drifting edge
 // to exactElement: the closed form below loses about ε/|κL| relative accuracy
@@ -37,7 +40,7 @@ const exitElementSmall = 0.01
 // exitElementSmall; below it exitElement calls exactElement. The tests
 // compare the two. Cost O(1); no allocation.
 func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, g [2]complex128) {
-	lam := c / complex(a, 0)
+	lam := complex(real(c)/a, imag(c)/a)
 	CL := complex(L, 0)
 	if b == 0 {
 		kappa := cmplx.Sqrt(lam)
@@ -48,8 +51,14 @@ func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, 
 			g[1] = -g[0]
 			return d, g
 		}
-		e1 := cmplx.Exp(-z)
-		q1 := -cexpm1(-z)
+		// e^{−z} and 1 − e^{−z} from one exp, one expm1 and one
+		// sincos of half the angle (cos y = 1 − 2 sin²(y/2), as cexpm1).
+		x, y := -real(z), -imag(z)
+		ex, em1 := math.Exp(x), math.Expm1(x)
+		sh, ch := math.Sincos(y / 2)
+		siny, cosy := 2*sh*ch, 1-2*sh*sh
+		e1 := complex(ex*cosy, ex*siny)
+		q1 := complex(-(em1*cosy - 2*sh*sh), -ex*siny)
 		q := q1 * (1 + e1)
 		zq := z / (CL * q)
 		cth := zq * (1 + e1*e1)

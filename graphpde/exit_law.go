@@ -134,6 +134,7 @@ func (lw *lifetimeLaw) findDelay(mean float64) error {
 		lw.delay = best
 		lw.base = mean - best
 		lw.check = true
+		lw.wide = false // shifted windows are checked octave by octave
 	}
 	return nil
 }
@@ -206,6 +207,11 @@ type lifetimeLaw struct {
 	stehfestCheck []float64
 	cache         map[float64][2]float64
 
+	// wide: windows of two octaves [base·4^k, base·4^{k+1}] on
+	// laplace.TalbotWideWindow contours (40 nodes) instead of octaves of m
+	// nodes: for reversible walkers (no check contour) with the default
+	// number of nodes. Set before the first window.
+	wide bool
 	// check: evaluate every window also on a check contour, climbing the
 	// levels of laplace.TalbotWindowLevel until the two agree, and record
 	// where they never do (non-reversible problems only).
@@ -258,17 +264,36 @@ type lawWindow struct {
 // window returns the octave window that contains t > 0, computing it if
 // needed. The caller holds lw.mu.
 func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
-	k := int(math.Floor(math.Log2(t / lw.base)))
-	t0 := lw.base * math.Exp2(float64(k))
+	ratio := float64(laplace.WindowRatio)
+	if lw.wide && lw.check {
+		panic("graphpde: wide windows with a check contour")
+	}
+	if lw.wide {
+		ratio = laplace.WideWindowRatio
+	}
+	k := int(math.Floor(math.Log(t/lw.base) / math.Log(ratio)))
+	pow := func(k int) float64 { return lw.base * math.Pow(ratio, float64(k)) }
+	t0 := pow(k)
 	for t < t0 {
 		k--
-		t0 = lw.base * math.Exp2(float64(k))
+		t0 = pow(k)
 	}
-	for t > 2*t0 {
+	for t > ratio*t0 {
 		k++
-		t0 = lw.base * math.Exp2(float64(k))
+		t0 = pow(k)
 	}
 	if w, ok := lw.win[k]; ok {
+		return w, nil
+	}
+	if lw.wide {
+		w, err := lw.evalWindow(laplace.TalbotWideWindow(t0, ratio*t0))
+		if err != nil {
+			return nil, err
+		}
+		if w.bad {
+			lw.suspects = append(lw.suspects, [2]float64{t0, ratio * t0})
+		}
+		lw.store(k, w)
 		return w, nil
 	}
 	if !lw.check {

@@ -42,6 +42,9 @@ type exitSystem struct {
 	// steady is the factor of the s = 0 system (steadyFactor), shared by
 	// the adjoint and the forward mean.
 	steady *nodesys.Factor[float64]
+	// tree is the start's part of the system arranged for one elimination
+	// pass per transform value (buildExitTree), nil when it has a cycle.
+	tree *exitTree
 }
 
 // exitEl is one exact element of the system: a network edge or half of the
@@ -128,6 +131,7 @@ func newExitSystem(net *Network, p Point) (*exitSystem, error) {
 		ends[k] = [2]int{el.from, el.to}
 	}
 	sys.pat = newNodePattern(sys.unk, nodes, ends)
+	sys.tree = buildExitTree(sys)
 	return sys, nil
 }
 
@@ -349,8 +353,11 @@ func (sys *exitSystem) supMean(T1 []float64) float64 {
 // payment is E∫_0^{τ} e^{−st} κ(X_t) e^{−∫_0^t κ} dt, a Feynman–Kac reward
 // with rate κ: source f = c on edges and injection γ = β at nodes.
 //
-// The complex pattern is factored symbolically once; each s costs one
-// numeric re-factorisation, O(edges + nodes) on a tree.
+// When the start's part of the system is a tree (sys.tree) each s costs
+// one pass of atTree, assembly and elimination towards the start fused,
+// O(edges + nodes) with no matrix; otherwise the complex pattern is
+// factored symbolically once and each s costs one numeric
+// re-factorisation and solve.
 type transformer struct {
 	sys *exitSystem
 	m   *nodesys.Matrix[complex128]
@@ -363,15 +370,18 @@ type transformer struct {
 	// helpers are clones (own matrix, factor and vectors on the same
 	// system) that evaluate other points of a batch in parallel (atMany).
 	helpers []*transformer
+	// tree is sys.tree unless general is set; tw is atTree's workspace.
+	tree *exitTree
+	tw   []treeNode
+	// general forces the general node-system path (tests compare the
+	// two).
+	general bool
 }
 
 func newTransformer(sys *exitSystem) *transformer {
-	tr := &transformer{
-		sys: sys,
-		m:   newMatrix[complex128](sys),
-		f:   nodesys.NewFactor[complex128](nil),
-		rhs: make([]complex128, sys.nUnk),
-		u:   make([]complex128, sys.nUnk),
+	tr := &transformer{sys: sys, tree: sys.tree}
+	if tr.tree == nil {
+		tr.allocGeneral()
 	}
 	tr.ld = exitLoad[complex128]{
 		edgeF:  func(el *exitEl) complex128 { return complex(el.c, 0) },
@@ -379,6 +389,23 @@ func newTransformer(sys *exitSystem) *transformer {
 		fixedG: func(int) complex128 { return 1 },
 	}
 	return tr
+}
+
+// allocGeneral allocates the matrix, factor and vectors of the general
+// path.
+func (tr *transformer) allocGeneral() {
+	tr.m = newMatrix[complex128](tr.sys)
+	tr.f = nodesys.NewFactor[complex128](nil)
+	tr.rhs = make([]complex128, tr.sys.nUnk)
+	tr.u = make([]complex128, tr.sys.nUnk)
+}
+
+// useGeneral switches tr (and its future helpers) to the general path.
+func (tr *transformer) useGeneral() {
+	tr.general, tr.tree = true, nil
+	if tr.m == nil {
+		tr.allocGeneral()
+	}
 }
 
 // atMany evaluates L at every point of ss into out (errs[j] the error of
@@ -397,6 +424,9 @@ func (tr *transformer) atMany(ss []complex128, out []complex128, errs []error) {
 	for len(tr.helpers) < workers-1 {
 		h := newTransformer(tr.sys)
 		h.ctx = tr.ctx
+		if tr.general {
+			h.useGeneral()
+		}
 		tr.helpers = append(tr.helpers, h)
 	}
 	var next atomic.Int64
@@ -438,8 +468,18 @@ func (tr *transformer) at(s complex128) (complex128, error) {
 			return 0, fmt.Errorf("Laplace transform of the lifetime: stopped: %w", err)
 		}
 	}
-	tr.ld.s = s
 	tr.n++
+	if tr.tree != nil {
+		v, err := tr.atTree(s)
+		if err != nil {
+			return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)
+		}
+		if math.IsNaN(real(v)) || math.IsNaN(imag(v)) || math.IsInf(real(v), 0) || math.IsInf(imag(v), 0) {
+			return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v is not finite", s)
+		}
+		return v, nil
+	}
+	tr.ld.s = s
 	assemble(tr.sys, tr.m, tr.rhs, tr.ld)
 	if err := factor(tr.sys, tr.f, tr.m); err != nil {
 		return 0, fmt.Errorf("Laplace transform of the lifetime at s = %v: %w", s, err)

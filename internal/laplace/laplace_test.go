@@ -182,20 +182,37 @@ func TestTalbotWindow(t *testing.T) {
 	}
 }
 
+// TestTalbotWideWindow: one wide window serves two octaves. Measured like
+// TestTalbotWindow (81 times per window): worst 5e−12 of max|f|; the bound
+// is ten times that.
+func TestTalbotWideWindow(t *testing.T) {
+	testWindowRatio(t, "wide", func(t0, t1 float64, _ int) Contour { return TalbotWideWindow(t0, t1) }, 5e-11, WideWindowRatio, 80)
+	defer func() {
+		if recover() == nil {
+			t.Error("a wide window of ratio 5 did not panic")
+		}
+	}()
+	TalbotWideWindow(1, 5)
+}
+
 func testWindow(t *testing.T, name string, contour func(t0, t1 float64, m int) Contour, tol float64) {
+	testWindowRatio(t, name, contour, tol, WindowRatio, 40)
+}
+
+func testWindowRatio(t *testing.T, name string, contour func(t0, t1 float64, m int) Contour, tol, ratio float64, nt int) {
 	var worst float64
 	for _, p := range pairs {
 		for _, t0 := range []float64{0.01, 0.1, 0.3, 3} {
-			t1 := WindowRatio * t0
+			t1 := ratio * t0
 			c := contour(t0, t1, DefaultWindowM)
 			fs := make([]complex128, len(c.S))
 			for k, s := range c.S {
 				fs[k] = p.F(s)
 			}
 			var scale float64
-			ts := make([]float64, 41)
+			ts := make([]float64, nt+1)
 			for i := range ts {
-				ts[i] = t0 * math.Pow(t1/t0, float64(i)/40)
+				ts[i] = t0 * math.Pow(t1/t0, float64(i)/float64(nt))
 				scale = math.Max(scale, math.Abs(p.f(ts[i])))
 			}
 			for _, tt := range ts {
