@@ -34,7 +34,10 @@ type ExitSettings struct {
 	// InversionNodes is the number of Talbot nodes per octave of times
 	// (each one complex node-system solve); the transform values of an
 	// octave serve every time in it. Zero means laplace.DefaultWindowM (32,
-	// inversion error about 1e−11). A non-reversible walker (drift or
+	// inversion error about 1e−11), and for a reversible walker whose
+	// lifetime has a coefficient of variation of at least 0.5 one contour
+	// of laplace.WideWindowM (40) nodes per two octaves instead (error
+	// about 5e−12; docs/exit-statistics.md §7). A non-reversible walker (drift or
 	// skewed weights around a cycle) costs at least twice that: every
 	// octave is checked on a second contour (and taller contours of 48 and
 	// 64 nodes are tried while the two disagree).
@@ -175,8 +178,12 @@ func (e *ExitError) Unwrap() error { return e.Err }
 //     64 nodes) while the two disagree, and a disagreement that remains is
 //     reported in Notes.
 //
-// A complex factorisation reuses the symbolic analysis, so each s costs one
-// numeric factorisation, O(edges) on a tree.
+// When the unknowns joined to the start form a tree (fixed nodes cut
+// cycles) each s costs one pass that assembles and eliminates towards the
+// start, O(edges) with no matrix; otherwise a complex factorisation reuses
+// the symbolic analysis, so each s costs one numeric factorisation.
+// Reversible laws that are not sharply peaked (coefficient of variation
+// ≥ 0.5) are inverted on contours of two octaves each.
 //
 // Edges with varying coefficients (or MethodGrid) take the grid path on the
 // start's component: grid elements for every edge, one steady solve per
