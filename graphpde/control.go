@@ -455,6 +455,11 @@ func (net *Network) Apply(p *Policy) (out *Network, note string, err error) {
 			C:       func(x float64) float64 { return at(x).C },
 			F:       func(x float64) float64 { return at(x).F },
 		}
+		for i := 0; i+1 < len(ps); i++ {
+			if cs[ks[i]] != cs[ks[i+1]] {
+				pr.Jumps = append(pr.Jumps, ps[i].To)
+			}
+		}
 		if varyA {
 			pr.A = func(x float64) float64 { return at(x).A }
 			note = fmt.Sprintf("edge %q: the policy switches between controls of different diffusivity inside the edge; the policy network carries the flux a·u' across the switch, the control problem u' (values of the policy differ by the jump in a)", ed.ID)

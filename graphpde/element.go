@@ -166,7 +166,7 @@ func (x *varGridEl) linearize(_, _ float64) (edgeMap, float64) {
 	shift := s.shift
 	src := s.v.EdgeSource
 	cs := s.v.ConstSource
-	d, g, out := condenseVar(x.vst, x.n, ed.Length, func(at float64) (a, b, c, f float64) {
+	coef := func(at float64) (a, b, c, f float64) {
 		a, b, c, f, rho := ed.Coeffs(at)
 		switch {
 		case src != nil:
@@ -175,7 +175,15 @@ func (x *varGridEl) linearize(_, _ float64) (edgeMap, float64) {
 			f = cs[e]
 		}
 		return a, b, c + shift*rho, f
-	})
+	}
+	var d [2][2]float64
+	var g [2]float64
+	var out gridEnds
+	if p := ed.Profile; p != nil && len(p.Jumps) > 0 {
+		d, g, out = condenseJumps(x.vst, x.n, ed.Length, p.Jumps, coef)
+	} else {
+		d, g, out = condenseVar(x.vst, x.n, ed.Length, coef)
+	}
 	x.ends = out
 	return edgeMap{d, g, out.rs}, 0
 }

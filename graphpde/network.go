@@ -43,6 +43,11 @@ type Profile struct {
 	// which the profile is constant (a piecewise constant profile such as
 	// a policy's, Network.Apply); 0 means it may vary at once.
 	Stretch [2]float64
+	// Jumps, when set, lists (sorted, inside the edge) the points where a
+	// piecewise constant profile jumps; between them the coefficients are
+	// constant. The grid element then fits its cells exactly across them
+	// (element_jumps.go) instead of moving each jump to a cell face.
+	Jumps []float64
 }
 
 // Edge is a thin conductor of length Length between two nodes, carrying
