@@ -80,3 +80,14 @@ func (n *Network) ConstantStretch(e, side int) float64 {
 	}
 	return 0
 }
+
+// Jumps returns the points inside edge e where its piecewise constant
+// profile jumps (Profile.Jumps, set by Apply), nil otherwise. (It makes
+// *Network a montecarlo.JumpNetwork.)
+func (n *Network) Jumps(e int) []float64 {
+	ed := &n.Edges[e]
+	if ed.Law == nil && ed.Profile != nil {
+		return ed.Profile.Jumps
+	}
+	return nil
+}

@@ -2,6 +2,7 @@ package montecarlo
 
 import (
 	"math"
+	"slices"
 
 	"github.com/ramify-dev/ramify/montecarlo/internal/starlaw"
 	"github.com/ramify-dev/ramify/vertex"
@@ -62,6 +63,13 @@ type edgeInfo struct {
 	// Time-stepping edges.
 	dt, hz  float64 // Euler step and near-node zone width
 	aVaries bool    // a depends on x: the SDE drift includes a'
+	// jumps: points where piecewise constant coefficients jump
+	// (JumpNetwork), each a boundary of the walker's steps (jumps.go);
+	// skip: reach from each end of a frozen node star, within which the
+	// jumps are left to the star's freezing.
+	jumps     []float64
+	skip      [2]float64
+	piecewise bool // the network lists the jumps: a' = 0 between them
 }
 
 type arm struct {
@@ -195,6 +203,10 @@ func prepare(net Network, set *Settings) (*model, error) {
 			ed.dt *= set.StepScale
 		}
 		ed.hz = math.Min(4*math.Sqrt(2*aoMax*ed.dt), ed.L/8)
+		if jn, ok := net.(JumpNetwork); ok && !ed.constant {
+			ed.jumps = slices.Clone(jn.Jumps(e))
+			ed.piecewise = len(ed.jumps) > 0
+		}
 	}
 
 	m.nodes = make([]nodeInfo, nn)
@@ -222,6 +234,7 @@ func prepare(net Network, set *Settings) (*model, error) {
 			panic("montecarlo: unknown node kind")
 		}
 	}
+	m.trimJumps()
 	m.rc = capTot * resTot
 	m.timeCap = set.TimeCap
 	if m.timeCap == 0 {
@@ -356,7 +369,18 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			if !ed.constant {
 				// Varying coefficients: exact if they are constant over
 				// the star's reach on this arm (at most hz), else frozen.
-				if sn, ok := m.net.(StretchNetwork); !ok || sn.ConstantStretch(end.Edge, end.Side) < ed.hz {
+				// With known jumps (JumpNetwork) a stretch short of
+				// hz clips the reach at the first jump instead,
+				// unless it is shorter than StarFraction of hz.
+				st := 0.0
+				if sn, ok := m.net.(StretchNetwork); ok {
+					st = sn.ConstantStretch(end.Edge, end.Side)
+				}
+				switch {
+				case st >= ed.hz:
+				case len(ed.jumps) > 0 && st >= set.StarFraction*ed.hz:
+					ac.max = st * s
+				default:
 					varying = true
 				}
 			}
@@ -473,6 +497,12 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		}
 		nd.frozen = varying
 		nd.r = r
+		if varying {
+			for k, end := range ends {
+				sk := &m.edges[end.Edge].skip[end.Side]
+				*sk = math.Max(*sk, r/co[k].s)
+			}
+		}
 		sc := law.StarScales(w, r)
 		sw := sc.W
 		p, q := make([]float64, n), make([]float64, n)

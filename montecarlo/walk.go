@@ -469,17 +469,30 @@ loop:
 func (w *walker) tsStep(e int, x, t, val, wgt, s float64) (int, float64, float64, float64, float64, bool, int) {
 	m, rng := w.m, w.rng
 	ed := &m.edges[e]
+	// The piece of constant coefficients around x, between lo and hi
+	// (the edge's ends, or jumps: jumps.go).
+	L := ed.L
+	lo, hi, onJump := 0.0, L, -1
+	if len(ed.jumps) > 0 {
+		lo, hi, onJump = ed.piece(x)
+		if onJump >= 0 {
+			node, x2, t2, v2, w2, done, how, ok := w.jumpStep(e, onJump, lo, hi, t, val, wgt, s)
+			if ok {
+				return node, x2, t2, v2, w2, done, how
+			}
+			x = x2 // a record is due: an Euler step from the jump
+		}
+	}
 	a, b, c, f, rho := m.net.EdgeCoeffs(e, x)
-	if ed.aVaries {
+	if ed.aVaries && !ed.piecewise {
 		b += m.aPrime(e, x)
 	}
-	L := ed.L
-	d, left := x, true
-	if L-x < x {
-		d, left = L-x, false
+	d, left := x-lo, true
+	if hi-x < d {
+		d, left = hi-x, false
 	}
 	var T float64
-	near := d < ed.hz
+	near := d < ed.hz && onJump < 0
 	dt := min(ed.dt, s)
 	if near {
 		// Mean exit time of (a/ρ)u'' + (b/ρ)u' from the centre of
@@ -528,8 +541,13 @@ func (w *walker) tsStep(e int, x, t, val, wgt, s float64) (int, float64, float64
 			}
 			return -1, x - d, t, val, wgt, false, 0
 		}
-		if left {
+		switch {
+		case left && lo > 0:
+			return -1, lo, t, val, wgt, false, 0 // onto the jump
+		case left:
 			return ed.from, 0, t, val, wgt, false, 0
+		case hi < L:
+			return -1, hi, t, val, wgt, false, 0
 		}
 		return ed.to, 0, t, val, wgt, false, 0
 	}
