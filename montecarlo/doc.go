@@ -185,7 +185,13 @@
 // function, mean duration (d²ρ/2a)·tanh(μ)/μ, μ = bd/(2a), law of the
 // driftless step; at the node, the star visit above, of y-radius at most
 // hz·s_e. A step
-// that crosses a node ends there. The default dt is per edge 1e−3 of its
+// that crosses a node ends there. On an edge whose coefficients are
+// piecewise constant with known jumps (JumpNetwork), each jump is a boundary
+// of these steps like a node: the near step ends on it, and a walker on a
+// jump steps on (s − δ, s + δ) by the two pieces' scale function, with the
+// means of duration, reward and decay of the two-piece backward equation
+// (exact in mean); a node's star is clipped at the first jump on each arm
+// unless it lies within StarFraction of hz (then it is frozen, Result.Frozen). The default dt is per edge 1e−3 of its
 // diffusive time L²ρ/(2a), and at most 1e−2 of its drift time Lρ/|b|;
 // Settings.Step sets one dt for all edges. On the S1 star forced onto time
 // stepping the relative bias of E τ is linear in dt, −1.45·dt
