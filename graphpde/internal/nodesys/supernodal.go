@@ -303,7 +303,15 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 			f.notePivot(c, magMax(dj)/math.Max(scale, cs[j]))
 			return nil
 		}
-		for j := f0; j < e; j++ {
+		j := f0
+		if sym {
+			for ; j+3 < e; j += 4 {
+				if err := f.block4(j, e, cs, pivot); err != nil {
+					return err
+				}
+			}
+		}
+		for ; j < e; j++ {
 			if err := pivot(j); err != nil {
 				return err
 			}
@@ -402,6 +410,66 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 			tg := sn.of[rs[0]]
 			next[s] = head[tg]
 			head[tg] = s
+		}
+	}
+	return nil
+}
+
+// block4 factors the columns j … j+3 of the supernode whose columns end
+// before e on the LDLᵀ path (columns hold L(r,k)·d_k until scaled at the
+// end): each column first updates the later columns of the block, then the
+// four together update the columns j+4 … e−1, two target columns per pass,
+// so that every entry of a target is loaded and stored once for four
+// sources.
+func (f *Factor[T]) block4(j, e int, cs []float64, pivot func(int) error) error {
+	lp, lx, d := f.lp, f.lx, f.d
+	for i := j; i < j+4; i++ {
+		if err := pivot(i); err != nil {
+			return err
+		}
+		colI := lx[lp[i]:lp[i+1]]
+		di := d[i]
+		for i2 := i + 1; i2 < j+4; i2++ {
+			a := colI[i2-i-1]
+			if a == 0 {
+				continue
+			}
+			c := a / di
+			d[i2] -= c * a
+			cs[i2] += magMax(c * a)
+			axpy1(lx[lp[i2]:lp[i2+1]], colI[i2-i:], -c)
+		}
+	}
+	c0, c1, c2, c3 := lx[lp[j]:lp[j+1]], lx[lp[j+1]:lp[j+2]], lx[lp[j+2]:lp[j+3]], lx[lp[j+3]:lp[j+4]]
+	d0, d1, d2, d3 := d[j], d[j+1], d[j+2], d[j+3]
+	j2 := j + 4
+	for ; j2+1 < e; j2 += 2 {
+		// Rows j2 and j2+1 of the four columns.
+		a0, a1, a2, a3 := c0[j2-j-1], c1[j2-j-2], c2[j2-j-3], c3[j2-j-4]
+		b0, b1, b2, b3 := c0[j2-j], c1[j2-j-1], c2[j2-j-2], c3[j2-j-3]
+		k0, k1, k2, k3 := a0/d0, a1/d1, a2/d2, a3/d3
+		m0, m1, m2, m3 := b0/d0, b1/d1, b2/d2, b3/d3
+		d[j2] -= k0*a0 + k1*a1 + k2*a2 + k3*a3
+		cs[j2] += magMax(k0*a0) + magMax(k1*a1) + magMax(k2*a2) + magMax(k3*a3)
+		d[j2+1] -= m0*b0 + m1*b1 + m2*b2 + m3*b3
+		cs[j2+1] += magMax(m0*b0) + magMax(m1*b1) + magMax(m2*b2) + magMax(m3*b3)
+		dst0, dst1 := lx[lp[j2]:lp[j2+1]], lx[lp[j2+1]:lp[j2+2]]
+		// Entry 0 of column j2 is row j2+1, which column j2+1 lacks.
+		dst0[0] -= k0*b0 + k1*b1 + k2*b2 + k3*b3
+		axpy4x2(dst0[1:], dst1, c0[j2-j+1:], c1[j2-j:], c2[j2-j-1:], c3[j2-j-2:],
+			-k0, -k1, -k2, -k3, -m0, -m1, -m2, -m3)
+	}
+	if j2 < e {
+		a0, a1, a2, a3 := c0[j2-j-1], c1[j2-j-2], c2[j2-j-3], c3[j2-j-4]
+		k0, k1, k2, k3 := a0/d0, a1/d1, a2/d2, a3/d3
+		d[j2] -= k0*a0 + k1*a1 + k2*a2 + k3*a3
+		cs[j2] += magMax(k0*a0) + magMax(k1*a1) + magMax(k2*a2) + magMax(k3*a3)
+		axpy4(lx[lp[j2]:lp[j2+1]], c0[j2-j:], c1[j2-j-1:], c2[j2-j-2:], c3[j2-j-3:], -k0, -k1, -k2, -k3)
+	}
+	for k, col := range [4][]T{c0, c1, c2, c3} {
+		inv := 1 / d[j+k]
+		for q := range col {
+			col[q] *= inv
 		}
 	}
 	return nil
