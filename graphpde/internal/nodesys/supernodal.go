@@ -27,6 +27,7 @@ type snodes struct {
 // snWork is the per-Factor workspace of the supernodal kernel.
 type snWork[T Scalar] struct {
 	rel              []int // position of a row in the first column of the current supernode
+	relq             []int // positions in the target of one update's rows
 	head, next, npos []int // descendants waiting to update a supernode, and their next row
 	wl, wu           []T   // dense update buffers
 	cs               []float64
@@ -35,6 +36,7 @@ type snWork[T Scalar] struct {
 func newSNWork[T Scalar](n, nsup, maxW int) *snWork[T] {
 	return &snWork[T]{
 		rel:  make([]int, n),
+		relq: make([]int, n),
 		head: make([]int, nsup),
 		next: make([]int, nsup),
 		npos: make([]int, nsup),
@@ -263,19 +265,38 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 					}
 				}
 			}
+			// Scatter: the rows' positions in the target once, and a
+			// plain subtraction where they are consecutive there.
+			relq := w.relq[:mr]
+			for q := range relq {
+				relq[q] = rel[rk[q0+q]]
+			}
+			// (Row 0 is the diagonal of the first target column, which
+			// has no position below the diagonal.)
+			run := mr < 2 || relq[mr-1]-relq[1] == mr-2
 			for jj := 0; jj < nc; jj++ {
 				j := rk[q0+jj]
 				base := lp[j] - (j - f0)
 				col := wl[jj*mr : (jj+1)*mr]
 				d[j] -= col[jj]
 				cs[j] += magMax(col[jj])
+				if run {
+					if jj+1 < mr {
+						p0 := base + relq[jj+1]
+						subTo(lx[p0:p0+mr-jj-1], col[jj+1:])
+						if !sym {
+							subTo(ux[p0:p0+mr-jj-1], wu[jj*mr+jj+1:(jj+1)*mr])
+						}
+					}
+					continue
+				}
 				for q := jj + 1; q < mr; q++ {
-					lx[base+rel[rk[q0+q]]] -= col[q]
+					lx[base+relq[q]] -= col[q]
 				}
 				if !sym {
 					col := wu[jj*mr : (jj+1)*mr]
 					for q := jj + 1; q < mr; q++ {
-						ux[base+rel[rk[q0+q]]] -= col[q]
+						ux[base+relq[q]] -= col[q]
 					}
 				}
 			}
@@ -473,6 +494,14 @@ func (f *Factor[T]) block4(j, e int, cs []float64, pivot func(int) error) error 
 		}
 	}
 	return nil
+}
+
+// subTo sets dst −= src; len(src) ≥ len(dst).
+func subTo[T Scalar](dst, src []T) {
+	src = src[:len(dst)]
+	for q := range dst {
+		dst[q] -= src[q]
+	}
 }
 
 // fmaMin is the shortest vector handed to the AVX2 kernels: below it the
