@@ -158,6 +158,22 @@ func BenchmarkMesh(b *testing.B) {
 			}
 			ratio(b)
 			b.ReportMetric(float64(f.Stats().Supernodes), "supernodes")
+			b.ReportMetric(float64(f.Stats().Workers), "goroutines")
+		})
+		// The same on one goroutine: the gain of the parallel subtrees.
+		b.Run("k="+itoa(k)+"/factor-one-goroutine", func(b *testing.B) {
+			g := NewFactor[float64](&Settings{Workers: 1})
+			if err := g.Factorize(m); err != nil {
+				b.Fatal(err)
+			}
+			b.ReportAllocs()
+			b.ResetTimer()
+			for b.Loop() {
+				if err := g.Factorize(m); err != nil {
+					b.Fatal(err)
+				}
+			}
+			ratio(b)
 		})
 		b.Run("k="+itoa(k)+"/factor-uplooking", func(b *testing.B) {
 			g := NewFactor[float64](nil)

@@ -89,6 +89,11 @@ type Settings struct {
 	// whole cost is O(n) with a few operations per column, does not call
 	// it.
 	Stop func() bool
+	// Workers is the number of goroutines a supernodal factorisation (a
+	// mesh-like pattern) may use for independent subtrees of its
+	// elimination tree; zero means GOMAXPROCS, at most 8. The factors do
+	// not depend on it. Trees and sparse networks use one goroutine.
+	Workers int
 }
 
 // ErrStopped is returned by Factorize when Settings.Stop asked it to stop.
@@ -111,6 +116,9 @@ type Stats struct {
 	// is used (most of the work in supernodes of width ≥ 4, as on meshes),
 	// 0 when the up-looking kernel is (trees, sparse networks).
 	Supernodes int
+	// Workers is the number of goroutines of the last numeric
+	// factorisation (1 but for large supernodal ones).
+	Workers int
 
 	// MinPivotRatio is the smallest |d_k| / max(max_j |a_kj|, |a_kk| +
 	// Σ_j |l_kj·d_j·u_jk|) of the last numeric factorisation: the share
@@ -323,7 +331,7 @@ func (f *Factor[T]) Clone() *Factor[T] {
 	g.work = make([]T, n)
 	g.tsx, g.excess = nil, nil // own workspace; row sums are set per Factor
 	if f.sn != nil {
-		g.snw = newSNWork[T](n, len(f.sn.start)-1, f.sn.maxW)
+		g.snw = newSNWork[T](n, f.sn)
 	}
 	return &g
 }
@@ -508,6 +516,7 @@ func (f *Factor[T]) numeric(m *Matrix[T]) error {
 	f.symmetric = sym
 	f.stats.Symmetric = sym
 	f.stats.MinPivotRatio, f.stats.MinPivotIndex = 1, -1
+	f.stats.Workers = 1
 	if !sym && len(f.ux) != len(f.lx) {
 		f.ux = make([]T, len(f.lx))
 	}

@@ -1,6 +1,9 @@
 package nodesys
 
-import "math"
+import (
+	"errors"
+	"math"
+)
 
 // Numeric kernels.
 const (
@@ -21,28 +24,93 @@ type snodes struct {
 	// brow[bcp[j]:bcp[j+1]] (> j), with slots of A(row,j) in blo and of
 	// A(j,row) in bup.
 	bcp, brow, blo, bup []int
-	maxW                int // size of the update buffer
+	maxW                int     // size of the update buffer
+	plan                *snPlan // split over goroutines, nil for one
 }
 
-// snWork is the per-Factor workspace of the supernodal kernel.
+// snWork is the per-Factor workspace of the supernodal kernel: the lists
+// of descendants waiting to update each supernode (shared by the workers,
+// which touch disjoint supernodes) and one snCtx per worker.
 type snWork[T Scalar] struct {
-	rel              []int // position of a row in the first column of the current supernode
-	relq             []int // positions in the target of one update's rows
 	head, next, npos []int // descendants waiting to update a supernode, and their next row
-	wl, wu           []T   // dense update buffers
 	cs               []float64
+	ctx              []snCtx[T]
+	// Parallel runs: links to supernodes outside a task, two ints each
+	// (descendant, target), kept in the task's region pend[2·lo:2·(hi+1)],
+	// and each task's outcome.
+	pend    []int
+	outcome []snOutcome
 }
 
-func newSNWork[T Scalar](n, nsup, maxW int) *snWork[T] {
-	return &snWork[T]{
-		rel:  make([]int, n),
-		relq: make([]int, n),
+// snCtx is one worker's scratch: relative positions, the dense update
+// buffers, the range of supernodes its current task may link into, and the
+// smallest pivot ratio it met.
+type snCtx[T Scalar] struct {
+	rel      []int // position of a row in the first column of the current supernode
+	relq     []int // positions in the target of one update's rows
+	wl, wu   []T   // dense update buffers
+	hi       int   // last supernode of the current task (all: nsup−1)
+	pend     []int // links out of the task, in the order made
+	minRatio float64
+	minIdx   int
+}
+
+// snOutcome is what a task of a parallel factorisation left for the
+// replay: its error, how many links it made out of itself, its smallest
+// pivot ratio.
+type snOutcome struct {
+	err      error
+	npend    int
+	minRatio float64
+	minIdx   int
+}
+
+// errNotRun marks a task a worker skipped after an earlier task of its own
+// failed (the replay stops at that failure first).
+var errNotRun = errors.New("nodesys: task not run")
+
+func newSNWork[T Scalar](n int, sn *snodes) *snWork[T] {
+	nsup := len(sn.start) - 1
+	w := &snWork[T]{
 		head: make([]int, nsup),
 		next: make([]int, nsup),
 		npos: make([]int, nsup),
-		wl:   make([]T, maxW),
-		wu:   make([]T, maxW),
 		cs:   make([]float64, n),
+	}
+	nw := 1
+	if sn.plan != nil {
+		nw = sn.plan.workers
+		w.pend = make([]int, 2*nsup)
+		w.outcome = make([]snOutcome, len(sn.plan.tasks))
+	}
+	w.ctx = make([]snCtx[T], nw)
+	for i := range w.ctx {
+		w.ctx[i] = snCtx[T]{
+			rel:  make([]int, n),
+			relq: make([]int, n),
+			wl:   make([]T, sn.maxW),
+			wu:   make([]T, sn.maxW),
+		}
+	}
+	return w
+}
+
+// link queues descendant k to update supernode tg next: on tg's list if tg
+// lies in the current task, otherwise on the task's list of links out.
+func (c *snCtx[T]) link(w *snWork[T], k, tg int) {
+	if tg <= c.hi {
+		w.next[k] = w.head[tg]
+		w.head[tg] = k
+		return
+	}
+	c.pend = append(c.pend, k, tg)
+}
+
+// notePivot records the pivot ratio r of row idx if it is the smallest so
+// far in this context.
+func (c *snCtx[T]) notePivot(idx int, r float64) {
+	if r < c.minRatio {
+		c.minRatio, c.minIdx = r, idx
 	}
 }
 
@@ -123,315 +191,332 @@ func (f *Factor[T]) buildSupernodes() {
 			pos[i]++
 		}
 	}
+	sn.plan = f.planParallel(sn)
 	f.sn = sn
-	f.snw = newSNWork[T](n, nsup, sn.maxW)
+	f.snw = newSNWork[T](n, sn)
 }
 
 // numericSN is the left-looking supernodal factorisation: each supernode
 // gathers its columns of A, subtracts the dense updates of the supernodes
 // below it in the elimination tree (one dense block product per descendant,
-// scattered once), and factors its dense trapezoid.
+// scattered once), and factors its dense trapezoid. With a parallel plan
+// the independent subtrees go to several goroutines first
+// (numericSNParallel); the factors are the same bit for bit.
 func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 	sn, w := f.sn, f.snw
-	val := m.val
-	lp, li, lx, ux, d := f.lp, f.li, f.lx, f.ux, f.d
-	rel, head, next, npos, cs := w.rel, w.head, w.next, w.npos, w.cs
-	nsup := len(sn.start) - 1
-	for s := range head {
-		head[s] = -1
+	for s := range w.head {
+		w.head[s] = -1
 	}
-	tol := f.set.PivotTol
+	nsup := len(sn.start) - 1
+	f.stats.Workers = 1
+	if sn.plan != nil {
+		f.stats.Workers = sn.plan.workers
+		return f.numericSNParallel(m, sym)
+	}
+	c := &w.ctx[0]
+	c.hi, c.pend, c.minRatio, c.minIdx = nsup-1, c.pend[:0], 1, -1
 	for s := 0; s < nsup; s++ {
 		if s%(stopEvery/8) == 0 && f.set.Stop != nil && f.set.Stop() {
 			return ErrStopped
 		}
-		f0, e := sn.start[s], sn.start[s+1]
-		wd := e - f0
-		rs := li[lp[e-1]:lp[e]] // shared rows R_s
-		for t := 1; t < wd; t++ {
-			rel[f0+t] = t - 1
+		if err := f.snSupernode(s, m, sym, c); err != nil {
+			return err
 		}
-		for q, r := range rs {
-			rel[r] = wd - 1 + q
-		}
+	}
+	f.notePivot(c.minIdx, c.minRatio)
+	return nil
+}
 
-		// Gather A.
-		for j := f0; j < e; j++ {
-			base := lp[j] - (j - f0)
-			clear(lx[lp[j]:lp[j+1]])
+// snSupernode computes supernode s: gather, updates from the descendants
+// on its list, dense factorisation, and the link of s to its next target.
+func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) error {
+	sn, w := f.sn, f.snw
+	val := m.val
+	lp, li, lx, ux, d := f.lp, f.li, f.lx, f.ux, f.d
+	rel, head, next, npos, cs := c.rel, w.head, w.next, w.npos, w.cs
+	tol := f.set.PivotTol
+	f0, e := sn.start[s], sn.start[s+1]
+	wd := e - f0
+	rs := li[lp[e-1]:lp[e]] // shared rows R_s
+	for t := 1; t < wd; t++ {
+		rel[f0+t] = t - 1
+	}
+	for q, r := range rs {
+		rel[r] = wd - 1 + q
+	}
+
+	// Gather A.
+	for j := f0; j < e; j++ {
+		base := lp[j] - (j - f0)
+		clear(lx[lp[j]:lp[j+1]])
+		if !sym {
+			clear(ux[lp[j]:lp[j+1]])
+		}
+		d[j] = val[f.adiag[j]]
+		cs[j] = magMax(d[j])
+		for p := sn.bcp[j]; p < sn.bcp[j+1]; p++ {
+			q := base + rel[sn.brow[p]]
+			lx[q] = val[sn.blo[p]]
 			if !sym {
-				clear(ux[lp[j]:lp[j+1]])
-			}
-			d[j] = val[f.adiag[j]]
-			cs[j] = magMax(d[j])
-			for p := sn.bcp[j]; p < sn.bcp[j+1]; p++ {
-				q := base + rel[sn.brow[p]]
-				lx[q] = val[sn.blo[p]]
-				if !sym {
-					ux[q] = val[sn.bup[p]]
-				}
+				ux[q] = val[sn.bup[p]]
 			}
 		}
+	}
 
-		// Updates from descendants.
-		for k := head[s]; k >= 0; {
-			nk := next[k]
-			fk, ek := sn.start[k], sn.start[k+1]
-			rk := li[lp[ek-1]:lp[ek]]
-			q0 := npos[k]
-			q1 := q0
-			for q1 < len(rk) && rk[q1] < e {
-				q1++
-			}
-			mr, nc := len(rk)-q0, q1-q0
-			wl := w.wl[:mr*nc]
-			clear(wl)
-			var wu []T
-			if !sym {
-				wu = w.wu[:mr*nc]
-				clear(wu)
-			}
-			// W_L[q,jj] = Σ_t L(r_q,t)·d_t·U(t,j_jj) and W_U[q,jj] = Σ_t
-			// U(t,r_q)·d_t·L(j_jj,t) for rows q ≥ jj, two columns t at a
-			// time to halve the traffic on W.
-			off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
-			t := fk
-			for ; t+3 < ek; t += 4 {
-				o1, o2, o3, o4 := off(t), off(t+1), off(t+2), off(t+3)
-				d1, d2, d3, d4 := d[t], d[t+1], d[t+2], d[t+3]
-				jj0 := 0
-				if sym {
-					// Two target columns at a time: each entry of the
-					// four source columns is loaded once for both.
-					for ; jj0+1 < nc; jj0 += 2 {
-						jj := jj0
-						a := lx[o1+jj : o1+mr]
-						b := lx[o2+jj : o2+mr]
-						c := lx[o3+jj : o3+mr]
-						e := lx[o4+jj : o4+mr]
-						ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
-						ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
-						wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
-						axpy4x2(wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
-							ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
-					}
-				}
-				for jj := jj0; jj < nc; jj++ {
-					dst := wl[jj*mr+jj : (jj+1)*mr]
+	// Updates from descendants.
+	for k := head[s]; k >= 0; {
+		nk := next[k]
+		fk, ek := sn.start[k], sn.start[k+1]
+		rk := li[lp[ek-1]:lp[ek]]
+		q0 := npos[k]
+		q1 := q0
+		for q1 < len(rk) && rk[q1] < e {
+			q1++
+		}
+		mr, nc := len(rk)-q0, q1-q0
+		wl := c.wl[:mr*nc]
+		clear(wl)
+		var wu []T
+		if !sym {
+			wu = c.wu[:mr*nc]
+			clear(wu)
+		}
+		// W_L[q,jj] = Σ_t L(r_q,t)·d_t·U(t,j_jj) and W_U[q,jj] = Σ_t
+		// U(t,r_q)·d_t·L(j_jj,t) for rows q ≥ jj, two columns t at a
+		// time to halve the traffic on W.
+		off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
+		t := fk
+		for ; t+3 < ek; t += 4 {
+			o1, o2, o3, o4 := off(t), off(t+1), off(t+2), off(t+3)
+			d1, d2, d3, d4 := d[t], d[t+1], d[t+2], d[t+3]
+			jj0 := 0
+			if sym {
+				// Two target columns at a time: each entry of the
+				// four source columns is loaded once for both.
+				for ; jj0+1 < nc; jj0 += 2 {
+					jj := jj0
 					a := lx[o1+jj : o1+mr]
 					b := lx[o2+jj : o2+mr]
 					c := lx[o3+jj : o3+mr]
 					e := lx[o4+jj : o4+mr]
-					if sym {
-						axpy4(dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
-					} else {
-						au := ux[o1+jj : o1+mr]
-						bu := ux[o2+jj : o2+mr]
-						cu := ux[o3+jj : o3+mr]
-						eu := ux[o4+jj : o4+mr]
-						axpy4(dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
-						axpy4(wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
-					}
+					ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
+					ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
+					wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
+					axpy4x2(wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
+						ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
 				}
 			}
-			for ; t+1 < ek; t += 2 {
-				o1, o2 := off(t), off(t+1)
-				d1, d2 := d[t], d[t+1]
-				for jj := 0; jj < nc; jj++ {
-					dst := wl[jj*mr+jj : (jj+1)*mr]
-					a := lx[o1+jj : o1+mr]
-					b := lx[o2+jj : o2+mr]
-					if sym {
-						axpy2(dst, a, b, a[0]*d1, b[0]*d2)
-					} else {
-						au := ux[o1+jj : o1+mr]
-						bu := ux[o2+jj : o2+mr]
-						axpy2(dst, a, b, au[0]*d1, bu[0]*d2)
-						axpy2(wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
-					}
+			for jj := jj0; jj < nc; jj++ {
+				dst := wl[jj*mr+jj : (jj+1)*mr]
+				a := lx[o1+jj : o1+mr]
+				b := lx[o2+jj : o2+mr]
+				c := lx[o3+jj : o3+mr]
+				e := lx[o4+jj : o4+mr]
+				if sym {
+					axpy4(dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+				} else {
+					au := ux[o1+jj : o1+mr]
+					bu := ux[o2+jj : o2+mr]
+					cu := ux[o3+jj : o3+mr]
+					eu := ux[o4+jj : o4+mr]
+					axpy4(dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
+					axpy4(wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
 				}
 			}
-			if t < ek {
-				o1, d1 := off(t), d[t]
-				for jj := 0; jj < nc; jj++ {
-					dst := wl[jj*mr+jj : (jj+1)*mr]
-					a := lx[o1+jj : o1+mr]
-					if sym {
-						axpy1(dst, a, a[0]*d1)
-					} else {
-						au := ux[o1+jj : o1+mr]
-						axpy1(dst, a, au[0]*d1)
-						axpy1(wu[jj*mr+jj:(jj+1)*mr], au, a[0]*d1)
-					}
-				}
-			}
-			// Scatter: the rows' positions in the target once, and a
-			// plain subtraction where they are consecutive there.
-			relq := w.relq[:mr]
-			for q := range relq {
-				relq[q] = rel[rk[q0+q]]
-			}
-			// (Row 0 is the diagonal of the first target column, which
-			// has no position below the diagonal.)
-			run := mr < 2 || relq[mr-1]-relq[1] == mr-2
+		}
+		for ; t+1 < ek; t += 2 {
+			o1, o2 := off(t), off(t+1)
+			d1, d2 := d[t], d[t+1]
 			for jj := 0; jj < nc; jj++ {
-				j := rk[q0+jj]
-				base := lp[j] - (j - f0)
-				col := wl[jj*mr : (jj+1)*mr]
-				d[j] -= col[jj]
-				cs[j] += magMax(col[jj])
-				if run {
-					if jj+1 < mr {
-						p0 := base + relq[jj+1]
-						subTo(lx[p0:p0+mr-jj-1], col[jj+1:])
-						if !sym {
-							subTo(ux[p0:p0+mr-jj-1], wu[jj*mr+jj+1:(jj+1)*mr])
-						}
+				dst := wl[jj*mr+jj : (jj+1)*mr]
+				a := lx[o1+jj : o1+mr]
+				b := lx[o2+jj : o2+mr]
+				if sym {
+					axpy2(dst, a, b, a[0]*d1, b[0]*d2)
+				} else {
+					au := ux[o1+jj : o1+mr]
+					bu := ux[o2+jj : o2+mr]
+					axpy2(dst, a, b, au[0]*d1, bu[0]*d2)
+					axpy2(wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
+				}
+			}
+		}
+		if t < ek {
+			o1, d1 := off(t), d[t]
+			for jj := 0; jj < nc; jj++ {
+				dst := wl[jj*mr+jj : (jj+1)*mr]
+				a := lx[o1+jj : o1+mr]
+				if sym {
+					axpy1(dst, a, a[0]*d1)
+				} else {
+					au := ux[o1+jj : o1+mr]
+					axpy1(dst, a, au[0]*d1)
+					axpy1(wu[jj*mr+jj:(jj+1)*mr], au, a[0]*d1)
+				}
+			}
+		}
+		// Scatter: the rows' positions in the target once, and a
+		// plain subtraction where they are consecutive there.
+		relq := c.relq[:mr]
+		for q := range relq {
+			relq[q] = rel[rk[q0+q]]
+		}
+		// (Row 0 is the diagonal of the first target column, which
+		// has no position below the diagonal.)
+		run := mr < 2 || relq[mr-1]-relq[1] == mr-2
+		for jj := 0; jj < nc; jj++ {
+			j := rk[q0+jj]
+			base := lp[j] - (j - f0)
+			col := wl[jj*mr : (jj+1)*mr]
+			d[j] -= col[jj]
+			cs[j] += magMax(col[jj])
+			if run {
+				if jj+1 < mr {
+					p0 := base + relq[jj+1]
+					subTo(lx[p0:p0+mr-jj-1], col[jj+1:])
+					if !sym {
+						subTo(ux[p0:p0+mr-jj-1], wu[jj*mr+jj+1:(jj+1)*mr])
 					}
-					continue
 				}
-				for q := jj + 1; q < mr; q++ {
-					lx[base+relq[q]] -= col[q]
-				}
-				if !sym {
-					col := wu[jj*mr : (jj+1)*mr]
-					for q := jj + 1; q < mr; q++ {
-						ux[base+relq[q]] -= col[q]
-					}
-				}
-			}
-			npos[k] = q1
-			if q1 < len(rk) {
-				tg := sn.of[rk[q1]]
-				next[k] = head[tg]
-				head[tg] = k
-			}
-			k = nk
-		}
-		head[s] = -1
-
-		// Dense factorisation of the trapezoid.
-		pivot := func(j int) error {
-			dj := d[j]
-			c := f.perm[j]
-			scale := 0.0
-			for _, v := range val[m.rowPtr[c]:m.rowPtr[c+1]] {
-				scale = math.Max(scale, magMax(v))
-			}
-			if a := magMax(dj); !(a > tol*math.Max(scale, cs[j])) || math.IsInf(a, 0) {
-				return &SingularError{Index: c, Pivot: mag(dj), Scale: math.Max(scale, cs[j])}
-			}
-			f.notePivot(c, magMax(dj)/math.Max(scale, cs[j]))
-			return nil
-		}
-		j := f0
-		if sym {
-			for ; j+3 < e; j += 4 {
-				if err := f.block4(j, e, cs, pivot); err != nil {
-					return err
-				}
-			}
-		}
-		for ; j < e; j++ {
-			if err := pivot(j); err != nil {
-				return err
-			}
-			dj := d[j]
-			colL := lx[lp[j]:lp[j+1]] // unscaled: L(r,j)·d_j
-			if sym && j+1 < e {
-				// Two pivots at a time: column j updates column j+1,
-				// then both update the columns after them in one pass.
-				j1 := j + 1
-				colL1 := lx[lp[j1]:lp[j1+1]]
-				a := colL[0]
-				c := a / dj
-				d[j1] -= c * a
-				cs[j1] += magMax(c * a)
-				src := colL[1:]
-				src = src[:len(colL1)]
-				for q := range colL1 {
-					colL1[q] -= src[q] * c
-				}
-				if err := pivot(j1); err != nil {
-					return err
-				}
-				dj1 := d[j1]
-				for j2 := j + 2; j2 < e; j2++ {
-					a0, a1 := colL[j2-j-1], colL1[j2-j1-1]
-					c0, c1 := a0/dj, a1/dj1
-					d[j2] -= c0 * a0
-					d[j2] -= c1 * a1
-					cs[j2] += magMax(c0*a0) + magMax(c1*a1)
-					dst := lx[lp[j2]:lp[j2+1]]
-					axpy2(dst, colL[j2-j:], colL1[j2-j1:], -c0, -c1)
-				}
-				inv, inv1 := 1/dj, 1/dj1
-				for q := range colL {
-					colL[q] *= inv
-				}
-				for q := range colL1 {
-					colL1[q] *= inv1
-				}
-				j++
 				continue
 			}
-			if sym {
-				for j2 := j + 1; j2 < e; j2++ {
-					a := colL[j2-j-1]
-					if a == 0 {
-						continue
-					}
-					c := a / dj
-					d[j2] -= c * a
-					cs[j2] += magMax(c * a)
-					dst := lx[lp[j2]:lp[j2+1]]
-					src := colL[j2-j:]
-					src = src[:len(dst)]
-					for q := range dst {
-						dst[q] -= src[q] * c
-					}
-				}
-				inv := 1 / dj
-				for q := range colL {
-					colL[q] *= inv
-				}
-			} else {
-				colU := ux[lp[j]:lp[j+1]] // unscaled: d_j·U(j,r)
-				for j2 := j + 1; j2 < e; j2++ {
-					aL, aU := colL[j2-j-1], colU[j2-j-1]
-					cl := aU / dj // U(j,j2)
-					cu := aL / dj // L(j2,j)
-					d[j2] -= cu * aU
-					cs[j2] += magMax(cu * aU)
-					dstL := lx[lp[j2]:lp[j2+1]]
-					dstU := ux[lp[j2]:lp[j2+1]]
-					srcL := colL[j2-j:]
-					srcU := colU[j2-j:]
-					srcL, srcU = srcL[:len(dstL)], srcU[:len(dstU)]
-					if cl != 0 {
-						for q := range dstL {
-							dstL[q] -= srcL[q] * cl
-						}
-					}
-					if cu != 0 {
-						for q := range dstU {
-							dstU[q] -= srcU[q] * cu
-						}
-					}
-				}
-				inv := 1 / dj
-				for q := range colL {
-					colL[q] *= inv
-					colU[q] *= inv
+			for q := jj + 1; q < mr; q++ {
+				lx[base+relq[q]] -= col[q]
+			}
+			if !sym {
+				col := wu[jj*mr : (jj+1)*mr]
+				for q := jj + 1; q < mr; q++ {
+					ux[base+relq[q]] -= col[q]
 				}
 			}
 		}
-		if len(rs) > 0 {
-			npos[s] = 0
-			tg := sn.of[rs[0]]
-			next[s] = head[tg]
-			head[tg] = s
+		npos[k] = q1
+		if q1 < len(rk) {
+			c.link(w, k, sn.of[rk[q1]])
 		}
+		k = nk
+	}
+	head[s] = -1
+
+	// Dense factorisation of the trapezoid.
+	pivot := func(j int) error {
+		dj := d[j]
+		col := f.perm[j]
+		scale := 0.0
+		for _, v := range val[m.rowPtr[col]:m.rowPtr[col+1]] {
+			scale = max(scale, magMax(v))
+		}
+		if a := magMax(dj); !(a > tol*max(scale, cs[j])) || math.IsInf(a, 0) {
+			return &SingularError{Index: col, Pivot: mag(dj), Scale: max(scale, cs[j])}
+		}
+		c.notePivot(col, magMax(dj)/max(scale, cs[j]))
+		return nil
+	}
+	j := f0
+	if sym {
+		for ; j+3 < e; j += 4 {
+			if err := f.block4(j, e, cs, pivot); err != nil {
+				return err
+			}
+		}
+	}
+	for ; j < e; j++ {
+		if err := pivot(j); err != nil {
+			return err
+		}
+		dj := d[j]
+		colL := lx[lp[j]:lp[j+1]] // unscaled: L(r,j)·d_j
+		if sym && j+1 < e {
+			// Two pivots at a time: column j updates column j+1,
+			// then both update the columns after them in one pass.
+			j1 := j + 1
+			colL1 := lx[lp[j1]:lp[j1+1]]
+			a := colL[0]
+			c := a / dj
+			d[j1] -= c * a
+			cs[j1] += magMax(c * a)
+			src := colL[1:]
+			src = src[:len(colL1)]
+			for q := range colL1 {
+				colL1[q] -= src[q] * c
+			}
+			if err := pivot(j1); err != nil {
+				return err
+			}
+			dj1 := d[j1]
+			for j2 := j + 2; j2 < e; j2++ {
+				a0, a1 := colL[j2-j-1], colL1[j2-j1-1]
+				c0, c1 := a0/dj, a1/dj1
+				d[j2] -= c0 * a0
+				d[j2] -= c1 * a1
+				cs[j2] += magMax(c0*a0) + magMax(c1*a1)
+				dst := lx[lp[j2]:lp[j2+1]]
+				axpy2(dst, colL[j2-j:], colL1[j2-j1:], -c0, -c1)
+			}
+			inv, inv1 := 1/dj, 1/dj1
+			for q := range colL {
+				colL[q] *= inv
+			}
+			for q := range colL1 {
+				colL1[q] *= inv1
+			}
+			j++
+			continue
+		}
+		if sym {
+			for j2 := j + 1; j2 < e; j2++ {
+				a := colL[j2-j-1]
+				if a == 0 {
+					continue
+				}
+				c := a / dj
+				d[j2] -= c * a
+				cs[j2] += magMax(c * a)
+				dst := lx[lp[j2]:lp[j2+1]]
+				src := colL[j2-j:]
+				src = src[:len(dst)]
+				for q := range dst {
+					dst[q] -= src[q] * c
+				}
+			}
+			inv := 1 / dj
+			for q := range colL {
+				colL[q] *= inv
+			}
+		} else {
+			colU := ux[lp[j]:lp[j+1]] // unscaled: d_j·U(j,r)
+			for j2 := j + 1; j2 < e; j2++ {
+				aL, aU := colL[j2-j-1], colU[j2-j-1]
+				cl := aU / dj // U(j,j2)
+				cu := aL / dj // L(j2,j)
+				d[j2] -= cu * aU
+				cs[j2] += magMax(cu * aU)
+				dstL := lx[lp[j2]:lp[j2+1]]
+				dstU := ux[lp[j2]:lp[j2+1]]
+				srcL := colL[j2-j:]
+				srcU := colU[j2-j:]
+				srcL, srcU = srcL[:len(dstL)], srcU[:len(dstU)]
+				if cl != 0 {
+					for q := range dstL {
+						dstL[q] -= srcL[q] * cl
+					}
+				}
+				if cu != 0 {
+					for q := range dstU {
+						dstU[q] -= srcU[q] * cu
+					}
+				}
+			}
+			inv := 1 / dj
+			for q := range colL {
+				colL[q] *= inv
+				colU[q] *= inv
+			}
+		}
+	}
+	if len(rs) > 0 {
+		npos[s] = 0
+		c.link(w, s, sn.of[rs[0]])
 	}
 	return nil
 }
