@@ -67,6 +67,18 @@ type EvolveSettings struct {
 	// Progress, when non-nil, is called with the time reached and T after
 	// steps, at most a few hundred times per run.
 	Progress func(t, until float64)
+
+	// general steps laws of u by the general stepper even where the
+	// quasilinear one would do (tests compare the two).
+	general bool
+}
+
+// fieldSystem is what the stepping loop reads of a discretisation: the
+// initial field and the values of a field at points and along edges.
+type fieldSystem interface {
+	initial(u []float64) (nodeVals []float64)          // u(0); the node values
+	at(u []float64, p Point, t float64) float64        // value at a point
+	edgeField(u []float64, e int, t float64) []float64 // values at the grid vertices
 }
 
 // Snapshot is the whole field at one output time: the node values and the
@@ -91,13 +103,20 @@ type EvolveResult struct {
 	// Steady[k] is the steady value of probe k used for the crossing.
 	Steady []float64
 	Status Status
-	Stats  EvolveStats
+	// Notes say what the status and the numbers need said: steps shortened
+	// because a stage's Newton iteration did not converge, a run stopped
+	// early, laws that are not monotone in u.
+	Notes []string
+	Stats EvolveStats
 }
 
 // EvolveStats describes the work of Evolve.
 type EvolveStats struct {
-	Steps, Rejected int     // accepted and rejected steps
-	Factorizations  int     // of M + (γh/2)K
+	Steps, Rejected int // accepted and rejected steps
+	// NewtonRetries counts the rejected steps whose stage Newton iteration
+	// did not converge (laws of u): each was retried shorter.
+	NewtonRetries  int
+	Factorizations int     // of M + (γh/2)K, or Newton matrices with laws of u
 	Unknowns        int     // of the grid
 	MinStep         float64 // smallest and largest accepted step
 	MaxStep         float64
@@ -154,9 +173,9 @@ func Evolve(net *Network, set *EvolveSettings) (*EvolveResult, error) {
 	}
 	if needsNewton(net) {
 		if s.Forward || s.Method == MethodExact {
-			return nil, errors.New("laws that depend on u: evolve steps them on the grid, not with --forward or method exact")
+			return nil, errors.New("laws that depend on u, edge equations, node laws and coefficients of t other than the source: evolve steps them on the grid, not with --forward or method exact")
 		}
-		if err := checkNonlinearTransient(net); err != nil {
+		if err := checkGeneralTransient(net); err != nil {
 			return nil, err
 		}
 	} else if err := linearTimeInvariant(net, "evolve"); err != nil {
@@ -369,21 +388,34 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	if maxU == 0 {
 		maxU = DefaultMaxGridUnknowns
 	}
-	var sys odeSystem
-	var err error
-	if s.Forward {
-		sys, err = newForward(net, s.Cells, maxU, s.Release)
+	var sys fieldSystem
+	var ig *trbdf2
+	var nw *newtonStepper
+	var n int
+	if !s.Forward && needsNewton(net) && (s.general || generalTransient(net)) {
+		var err error
+		if nw, err = newNewtonStepper(net, s); err != nil {
+			return nil, err
+		}
+		sys, n = nw, nw.n
 	} else {
-		sys, err = newFV(net, s.Cells, maxU)
-	}
-	if err != nil {
-		return nil, err
-	}
-	n := sys.rows().n
-	ig := &trbdf2{sys: sys, rs: sys.rows(), g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
-		rhs: make([]float64, n), tm: make([]float64, n), rn: make([]float64, n)}
-	if fv, ok := sys.(*fvSystem); ok && needsNewton(net) {
-		ig.setupNL(&nlFV{fvSystem: fv, uLaw: true})
+		var ode odeSystem
+		var err error
+		if s.Forward {
+			ode, err = newForward(net, s.Cells, maxU, s.Release)
+		} else {
+			ode, err = newFV(net, s.Cells, maxU)
+		}
+		if err != nil {
+			return nil, err
+		}
+		sys = ode
+		n = ode.rows().n
+		ig = &trbdf2{sys: ode, rs: ode.rows(), g0: make([]float64, n), g1: make([]float64, n), gg: make([]float64, n),
+			rhs: make([]float64, n), tm: make([]float64, n), rn: make([]float64, n)}
+		if fv, ok := ode.(*fvSystem); ok && needsNewton(net) {
+			ig.setupNL(&nlFV{fvSystem: fv, uLaw: true})
+		}
 	}
 	u := make([]float64, n)
 	ug := make([]float64, n)
@@ -412,11 +444,16 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	var crossed []bool
 	if s.Crossing > 0 {
 		var uinf []float64
-		if ig.nl != nil {
+		var err error
+		switch {
+		case nw != nil:
+			uinf = append([]float64(nil), u...)
+			err = nw.steady(uinf, s.Until)
+		case ig.nl != nil:
 			uinf = append([]float64(nil), u...)
 			err = ig.steadyNL(uinf, s.Until)
-		} else {
-			uinf, err = steadyOf(sys, s.Until)
+		default:
+			uinf, err = steadyOf(ig.sys, s.Until)
 		}
 		if err != nil {
 			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
@@ -486,7 +523,17 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		h = quantize(s.Until * 1e-4)
 	}
 	t := 0.0
-	ig.residual(ig.g0, u, 0)
+	if nw != nil {
+		if err := nw.initialRate(u); err != nil {
+			return nil, err
+		}
+	} else {
+		ig.residual(ig.g0, u, 0)
+	}
+	umax := 0.0
+	for _, v := range u {
+		umax = math.Max(umax, math.Abs(v))
+	}
 	lastProgress := time.Now()
 	for t < s.Until {
 		if s.Context.Err() != nil {
@@ -499,7 +546,47 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 			hs = s.Until - t
 			landing = true
 		}
-		if ig.nl != nil {
+		if nw != nil {
+			// Stages to a Newton tolerance well below the step's share of
+			// Tol (scaled like NonlinearResult.Residual), within
+			// [1e-12, 1e-10].
+			share := math.Max(hs/s.Until, 1.0/minShare)
+			tolN := min(max(0.01*s.Tol*share*scale/(1+umax), 1e-12), 1e-10)
+			ok, err := nw.step(u, ug, u1, est, t, hs, tolN)
+			if err != nil {
+				var ce *CanceledError
+				if errors.As(err, &ce) {
+					res.Status = IterationLimit
+					res.Notes = append(res.Notes, fmt.Sprintf("stopped at t = %g; the output up to there is kept", t))
+					break
+				}
+				return nil, fmt.Errorf("at t = %g, step %g: %w", t, hs, err)
+			}
+			if !ok {
+				res.Stats.Rejected++
+				res.Stats.NewtonRetries++
+				if !adaptive {
+					res.Status = IterationLimit
+					msg := fmt.Sprintf("a stage's Newton iteration did not converge at t = %g in the fixed step %g, which is not shortened: the run stops there", t, hs)
+					if nw.lastErr != nil {
+						msg += " (last: " + nw.lastErr.Error() + ")"
+					}
+					res.Notes = append(res.Notes, msg)
+					break
+				}
+				h = quantize(hs / 2)
+				if h >= hs {
+					h = hs / 2
+				}
+				if h < s.Until*1e-14 {
+					if nw.lastErr != nil {
+						return nil, fmt.Errorf("at t = %g: Newton's method does not converge even in a step of %g: %w", t, hs, nw.lastErr)
+					}
+					return nil, fmt.Errorf("at t = %g: Newton's method does not converge even in a step of %g", t, hs)
+				}
+				continue
+			}
+		} else if ig.nl != nil {
 			share := math.Max(hs/s.Until, 1.0/minShare)
 			wt := func(i int) float64 { return s.Tol * share * (math.Abs(u[i]) + scale) }
 			ok, err := ig.stepNL(u, ug, u1, est, t, hs, wt)
@@ -511,6 +598,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				// Newton did not converge (or met a singular
 				// matrix): a shorter step
 				res.Stats.Rejected++
+				res.Stats.NewtonRetries++
 				h = hs / 4
 				if !adaptive || h < s.Until*1e-14 {
 					return nil, fmt.Errorf("at t = %g: Newton's method does not converge in a step of %g", t, hs)
@@ -576,7 +664,14 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		}
 		t = tEnd
 		u, u1 = u1, u
-		ig.g0, ig.g1 = ig.g1, ig.g0
+		if nw != nil {
+			nw.accept()
+			for _, v := range u {
+				umax = math.Max(umax, math.Abs(v))
+			}
+		} else {
+			ig.g0, ig.g1 = ig.g1, ig.g0
+		}
 		if s.Every == 0 || landing {
 			record(t, u)
 		}
@@ -594,7 +689,17 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	if s.Progress != nil {
 		s.Progress(t, s.Until)
 	}
-	res.Stats.Factorizations = ig.facts
+	if nw != nil {
+		res.Stats.Factorizations = nw.facts()
+		if nw.steadyNote != "" {
+			res.Notes = append(res.Notes, "a law is not monotone in u ("+nw.steadyNote+"): the field may grow without bound (a runaway), and the state it settles to need not be the only steady one")
+		}
+	} else {
+		res.Stats.Factorizations = ig.facts
+	}
+	if res.Stats.NewtonRetries > 0 {
+		res.Notes = append(res.Notes, fmt.Sprintf("%d steps were rejected because a stage's Newton iteration did not converge, and retried shorter", res.Stats.NewtonRetries))
+	}
 	return res, nil
 }
 

@@ -41,7 +41,7 @@ func needsNewton(net *Network) bool {
 			// coefficients of t (other than the source, which the
 			// linear steps take in their load) are evaluated at each
 			// stage by the same path
-			for _, c := range []*Coef{l.A, l.B, l.C} {
+			for _, c := range []*Coef{l.A, l.B, l.C, l.Rho} {
 				if c != nil && c.UsesT {
 					return true
 				}
@@ -54,10 +54,12 @@ func needsNewton(net *Network) bool {
 	return false
 }
 
-// checkNonlinearTransient rejects the laws the stepper does not handle:
-// fully nonlinear equations, general node laws, drift or capacity that
-// depend on u, and a diffusivity of u together with drift or given end
-// weights.
+// checkNonlinearTransient names the first law that this (quasilinear)
+// stepper does not handle: fully nonlinear equations, general node laws,
+// drift that depends on u, capacity that depends on u or t, and a
+// diffusivity of u together with drift or given end weights. Networks with
+// such laws are stepped by the general stepper (evolve_newton.go), which
+// refuses only a capacity of u (checkGeneralTransient).
 func checkNonlinearTransient(net *Network) error {
 	for v := range net.Nodes {
 		if nl := net.Nodes[v].Nonlinear; nl != nil && nl.Loss == nil {
