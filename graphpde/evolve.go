@@ -117,9 +117,9 @@ type EvolveStats struct {
 	// did not converge (laws of u): each was retried shorter.
 	NewtonRetries  int
 	Factorizations int     // of M + (γh/2)K, or Newton matrices with laws of u
-	Unknowns        int     // of the grid
-	MinStep         float64 // smallest and largest accepted step
-	MaxStep         float64
+	Unknowns       int     // of the grid
+	MinStep        float64 // smallest and largest accepted step
+	MaxStep        float64
 	// ErrEstimate is the largest estimated local error of an accepted step
 	// in the norm of Settings.Tol (≤ 1 when adaptive).
 	ErrEstimate float64
