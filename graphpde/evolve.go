@@ -556,8 +556,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 			if err != nil {
 				var ce *CanceledError
 				if errors.As(err, &ce) {
-					res.Status = IterationLimit
-					res.Notes = append(res.Notes, fmt.Sprintf("stopped at t = %g; the output up to there is kept", t))
+					res.Status = IterationLimit // as when stopped between steps
 					break
 				}
 				return nil, fmt.Errorf("at t = %g, step %g: %w", t, hs, err)
@@ -566,7 +565,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				res.Stats.Rejected++
 				res.Stats.NewtonRetries++
 				if !adaptive {
-					res.Status = IterationLimit
+					res.Status = NotSolved
 					msg := fmt.Sprintf("a stage's Newton iteration did not converge at t = %g in the fixed step %g, which is not shortened: the run stops there", t, hs)
 					if nw.lastErr != nil {
 						msg += " (last: " + nw.lastErr.Error() + ")"
@@ -697,8 +696,8 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	} else {
 		res.Stats.Factorizations = ig.facts
 	}
-	if res.Stats.NewtonRetries > 0 {
-		res.Notes = append(res.Notes, fmt.Sprintf("%d steps were rejected because a stage's Newton iteration did not converge, and retried shorter", res.Stats.NewtonRetries))
+	if res.Stats.NewtonRetries > 0 && s.Step == 0 {
+		res.Notes = append(res.Notes, fmt.Sprintf("Newton's method did not converge in a stage of %d steps: each was rejected and retried with a shorter step", res.Stats.NewtonRetries))
 	}
 	return res, nil
 }

@@ -50,6 +50,8 @@ type evolveOut struct {
 	Factorizations int              `json:"factorizations"`
 	Unknowns       int              `json:"unknowns"`
 	ErrEstimate    num              `json:"max_error_estimate"`
+	NewtonRetries  int              `json:"newton_retries,omitempty"`
+	Notes          []string         `json:"notes,omitempty"`
 	Seconds        float64          `json:"seconds"`
 	Caution        string           `json:"caution,omitempty"`
 }
@@ -196,7 +198,8 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 	}
 	out := evolveOut{Network: net.Name, Status: r.Status.String(), Method: "grid", Quantity: "field", Tol: num(*tol),
 		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
-		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds()}
+		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds(),
+		NewtonRetries: r.Stats.NewtonRetries, Notes: r.Notes}
 	if hazard(net) && !*forward { // a tracer's whereabouts feed no load or heating decision
 		out.Caution = caution
 	}
@@ -228,14 +231,21 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		if err := writeJSON(stdout, out); err != nil {
 			return fail(stderr, "evolve", err)
 		}
-		if r.Status == graphpde.IterationLimit {
-			return exitInterrupted
-		}
-		return 0
+		return evolveExit(r)
 	}
 	printEvolve(stdout, net, specs, r, &out, *crossing)
-	if r.Status == graphpde.IterationLimit {
+	return evolveExit(r)
+}
+
+// evolveExit is the exit code of an evolve run that printed its result:
+// interrupted, failed part way (a stage's Newton iteration at a fixed
+// step), or 0.
+func evolveExit(r *graphpde.EvolveResult) int {
+	switch r.Status {
+	case graphpde.IterationLimit:
 		return exitInterrupted
+	case graphpde.NotSolved:
+		return 1
 	}
 	return 0
 }
@@ -255,8 +265,11 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 	if out.Quantity == "concentration" {
 		fmt.Fprintln(w, "forward transport: tracer concentration per unit capacity (at a node: a·q/α, the value every edge end shares)")
 	}
-	if r.Status == graphpde.IterationLimit {
+	if r.Status == graphpde.IterationLimit || r.Status == graphpde.NotSolved {
 		fmt.Fprintf(w, "stopped early at t = %g: the values below are those reached\n", r.Times[len(r.Times)-1])
+	}
+	for _, n := range r.Notes {
+		fmt.Fprintf(w, "note: %s\n", n)
 	}
 	fmt.Fprintln(w)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', 0)
