@@ -17,11 +17,16 @@ import (
 // others needing the same one wait for it. Tables with equal parameters
 // are shared through starlaw's cache. The table built does not depend on
 // which walker builds it, so results stay the same for any Workers.
+//
+// A climb or killing law without drift is an exponential tilt of one law
+// shared by all nodes (starlaw.ExitTilt, starlaw.KillTilt): such a lazyTable
+// needs no table of its own and draws by rejection (tilt.Base set).
 type lazyTable struct {
 	tab   atomic.Pointer[starlaw.Table]
 	once  sync.Once
 	build func() *starlaw.Table
 	stats *tableStats
+	tilt  starlaw.Tilt
 }
 
 // tableStats counts the tables a run looked up and the time spent on them
@@ -33,6 +38,52 @@ type tableStats struct {
 
 func (m *model) lazy(build func() *starlaw.Table) *lazyTable {
 	return &lazyTable{build: build, stats: &m.tables}
+}
+
+// lazyShared returns the lazy table of key, made with build on the key's
+// first request in this run: nodes whose laws have the same quantised
+// parameters (starlaw.Quantise) share one table, however many there are.
+func (m *model) lazyShared(key string, build func() *starlaw.Table) *lazyTable {
+	if l, ok := m.shared[key]; ok {
+		return l
+	}
+	if m.shared == nil {
+		m.shared = map[string]*lazyTable{}
+	}
+	l := m.lazy(build)
+	m.shared[key] = l
+	return l
+}
+
+// lazyVisit returns the shared lazy table of starlaw.VisitTable(mu, eta).
+func (m *model) lazyVisit(mu, eta float64) *lazyTable {
+	return m.lazyShared(starlaw.VisitKey(starlaw.Quantise(mu), starlaw.Quantise(eta)), func() *starlaw.Table { return starlaw.VisitTable(mu, eta) })
+}
+
+// lazyMixture returns the shared lazy table of starlaw.MixtureDriftTable.
+func (m *model) lazyMixture(kappa, eta float64, p, q, g []float64) *lazyTable {
+	return m.lazyShared(starlaw.MixtureKey(kappa, eta, p, q, g), func() *starlaw.Table { return starlaw.MixtureDriftTable(kappa, eta, p, q, g) })
+}
+
+// lazyExit returns the sampler of the climb law ExitLaw(q): a tilt of T_f,
+// or a table of its own where the tilt would reject too often.
+func (m *model) lazyExit(q float64) *lazyTable {
+	if t, ok := starlaw.ExitTilt(q); ok {
+		return &lazyTable{tilt: t}
+	}
+	return m.lazyShared("e"+starlaw.VisitKey(q, 0), func() *starlaw.Table { return starlaw.ExitTable(q) })
+}
+
+// lazyKill returns the sampler of the killing law KillLawDrift(q, g), q > 0:
+// without drift a tilt of starlaw.KillBase where it rejects rarely, else a
+// table of its own.
+func (m *model) lazyKill(q, g float64) *lazyTable {
+	if g == 0 {
+		if t, ok := starlaw.KillTilt(q); ok {
+			return &lazyTable{tilt: t}
+		}
+	}
+	return m.lazyShared("k"+starlaw.VisitKey(q, g), func() *starlaw.Table { return starlaw.KillDriftTable(q, g) })
 }
 
 // get returns the table, building it on the first call.
@@ -50,7 +101,10 @@ func (l *lazyTable) get() *starlaw.Table {
 	return l.tab.Load()
 }
 
-// Draw draws from the table (see starlaw.Table.Draw).
+// Draw draws from the table (see starlaw.Table.Draw) or the tilt.
 func (l *lazyTable) Draw(rng *rand.Rand) float64 {
+	if l.tilt.Base != nil {
+		return l.tilt.Draw(rng)
+	}
 	return l.get().Draw(rng)
 }

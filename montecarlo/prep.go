@@ -126,10 +126,11 @@ type model struct {
 	timeCap   float64
 	rc        float64 // the RC time C·R of DefaultTimeCap
 	exact     bool
-	fin       *starlaw.Table // T_f table when a node is in modeStar
-	tables    tableStats     // visit-law tables looked up lazily
-	posT      []float64      // Settings.PositionTimes, sorted
-	posApprox bool           // some record may come from an approximate small star
+	fin       *starlaw.Table        // T_f table when a node is in modeStar
+	tables    tableStats            // visit-law tables looked up lazily
+	shared    map[string]*lazyTable // lazy tables by quantised law (prepare only)
+	posT      []float64             // Settings.PositionTimes, sorted
+	posApprox bool                  // some record may come from an approximate small star
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -456,7 +457,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		nd.dscale = r * r / 2
 		nd.kill = co[0].c / co[0].rho
 		nd.hold = sc.Hold
-		nd.tab = m.lazy(func() *starlaw.Table { return starlaw.VisitTable(mu, sc.Eta) })
+		nd.tab = m.lazyVisit(mu, sc.Eta)
 		// The value estimator of the exact-in-mean rule at the full
 		// radius: the mean reward per visit.
 		if plain {
@@ -525,7 +526,7 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 		}
 		nd.dscale = r * r / 2
 		kappa, eta := sc.Kappa, sc.Eta
-		nd.tab = m.lazy(func() *starlaw.Table { return starlaw.MixtureDriftTable(kappa, eta, p, q, g) })
+		nd.tab = m.lazyMixture(kappa, eta, p, q, g)
 		pl, ex, ki := starlaw.RatesDrift(sc.Kappa, p, q, g, nil, nil)
 		nd.killP = pl
 		cum := pl
@@ -542,10 +543,9 @@ func (m *model) prepareBalance(v int, id string, law vertex.Law, ends []vertex.E
 			nd.arms[k].ck = cum
 			gk := gam(k)
 			qe := q[k] + gk*gk/2
-			nd.arms[k].exitTab = m.lazy(func() *starlaw.Table { return starlaw.ExitTable(qe) })
+			nd.arms[k].exitTab = m.lazyExit(qe)
 			if q[k] > 0 {
-				qk := q[k]
-				nd.arms[k].killTab = m.lazy(func() *starlaw.Table { return starlaw.KillDriftTable(qk, gk) })
+				nd.arms[k].killTab = m.lazyKill(q[k], gk)
 			}
 		}
 		nd.arms[n-1].ck = math.Inf(1)

@@ -1,9 +1,11 @@
 package starlaw
 
 import (
+	"encoding/binary"
 	"fmt"
 	"math"
 	"math/cmplx"
+	"math/rand/v2"
 	"slices"
 	"sync"
 )
@@ -335,24 +337,162 @@ func cached(key string, build func() *Table) *Table {
 	return tb
 }
 
+// quantumBits is the number of low mantissa bits that Quantise rounds
+// away: parameters are kept to 2^−41 ≈ 5e−13 relative, so laws whose
+// parameters agree that far agree far below the tables' accuracy (about
+// 1e−11 in probability) and share one table.
+const quantumBits = 12
+
+// Quantise rounds x to quantumBits fewer mantissa bits (to nearest).
+// Tables are built from quantised parameters, so a table shared by laws
+// whose parameters round alike is the same whichever of them asks first.
+func Quantise(x float64) float64 {
+	if x == 0 || !finite(x) {
+		return x
+	}
+	b := math.Float64bits(x)
+	b = (b + 1<<(quantumBits-1)) &^ (1<<quantumBits - 1)
+	return math.Float64frombits(b)
+}
+
+// key appends the quantised values of xs to a key.
+func key(k []byte, xs ...float64) []byte {
+	for _, x := range xs {
+		k = binary.LittleEndian.AppendUint64(k, math.Float64bits(Quantise(x)))
+	}
+	return k
+}
+
+func quantised(xs []float64) []float64 {
+	if xs == nil {
+		return nil
+	}
+	out := make([]float64, len(xs))
+	for i, x := range xs {
+		out[i] = Quantise(x)
+	}
+	return out
+}
+
+// MixtureKey returns the key under which MixtureDriftTable shares its
+// tables: the quantised parameters.
+func MixtureKey(kappa, eta float64, p, q, g []float64) string {
+	k := make([]byte, 0, 8*(2+3*len(p))+2)
+	k = append(k, 'm')
+	k = key(k, kappa, eta)
+	k = key(k, p...)
+	k = key(k, q...)
+	if g != nil {
+		k = append(k, 'g')
+		k = key(k, g...)
+	}
+	return string(k)
+}
+
 // MixtureDriftTable returns a shared table of MixtureDrift(kappa, eta, p, q,
-// g) (see VisitTable).
+// g) with its parameters quantised (see VisitTable and Quantise).
 func MixtureDriftTable(kappa, eta float64, p, q, g []float64) *Table {
-	return cached(fmt.Sprint("m", kappa, eta, p, q, g), func() *Table {
-		l, _ := MixtureDrift(kappa, eta, p, q, g)
+	return cached(MixtureKey(kappa, eta, p, q, g), func() *Table {
+		l, _ := MixtureDrift(Quantise(kappa), Quantise(eta), quantised(p), quantised(q), quantised(g))
 		return NewTable(l, DefaultKnots, false)
 	})
 }
 
-// ExitTable returns a shared table of ExitLaw(q) (Final for q = 0).
+// ExitTable returns a shared table of ExitLaw(q) (Final for q = 0), q
+// quantised.
 func ExitTable(q float64) *Table {
 	if q == 0 {
 		return Final()
 	}
-	return cached(fmt.Sprint("e", q), func() *Table { return NewTable(ExitLaw(q), DefaultKnots, true) })
+	q = Quantise(q)
+	return cached(string(key([]byte{'e'}, q)), func() *Table { return NewTable(ExitLaw(q), DefaultKnots, true) })
 }
 
-// KillDriftTable returns a shared table of KillLawDrift(q, g), q > 0.
+// KillDriftTable returns a shared table of KillLawDrift(q, g), q > 0, both
+// quantised.
 func KillDriftTable(q, g float64) *Table {
-	return cached(fmt.Sprint("k", q, g), func() *Table { return NewTable(KillLawDrift(q, g), DefaultKnots, false) })
+	q, g = Quantise(q), Quantise(g)
+	return cached(string(key([]byte{'k'}, q, g)), func() *Table { return NewTable(KillLawDrift(q, g), DefaultKnots, false) })
+}
+
+// Tilted laws. ExitLaw(q) and KillLaw(q) are exponential tilts of laws
+// that do not depend on q: the climb of an excursion that survives the kill
+// rate q has the density e^{−qt}f_f(t)/ψ_f(q) (f_f that of T_f, transform
+// ψ_f(s + q)/ψ_f(q)), and the time to a killing at rate q has the density
+// e^{−qt}h(t)·q/g(q), h(t) = n(ζ∧T_1 > t), transform q·g(q + s)/((q + s)g(q)),
+// which is e^{−qt} times the density h(t)/g'(0) of KillBase (g'(0) = Φ'(0) +
+// 1/3 = 1) up to the constant q/g(q). So both are drawn exactly by rejection
+// from one shared table: draw X from the base law and keep it with
+// probability e^{−qX} (an Exp(1) draw above qX), with acceptance E e^{−qX},
+// ψ_f(q) and g(q)/q respectively (derived; rejection sampling: L. Devroye,
+// Non-Uniform Random Variate Generation, 1986, §II.3, from memory). Below
+// minAccept a table of the law itself is cheaper per draw.
+
+// minAccept is the smallest acceptance at which a tilted law is drawn by
+// rejection (at most two base draws per draw on average).
+const minAccept = 0.5
+
+// KillBase returns the law of the time from the start of an excursion to
+// its end by reaching 0 or 1, under the excursion measure normalised by its
+// mean: transform g(s)/s, g(p) = Φ(p) + 1 − ψ_f(p), poles s = −n²π²/2 for
+// odd n with weights 8/(n²π²) (the limit q → 0 of KillLaw's).
+func KillBase() *Law {
+	g := func(p complex128) complex128 { return Phi(p) + oneMinusFinal(p) }
+	l1, l2 := math.Pi*math.Pi/2, 9*math.Pi*math.Pi/2
+	return &Law{
+		Psi:  func(s complex128) complex128 { return g(s) / s },
+		Lam1: l1, C1: 4 / l1,
+		Lam2: l2, C2: 4 / l2,
+	}
+}
+
+var (
+	killBaseOnce  sync.Once
+	killBaseTable *Table
+)
+
+// KillBaseTable returns the shared table of KillBase, built on first use.
+func KillBaseTable() *Table {
+	killBaseOnce.Do(func() { killBaseTable = NewTable(KillBase(), 2*DefaultKnots, false) })
+	return killBaseTable
+}
+
+// Tilt draws from the law with density proportional to e^{−Q·x} times the
+// density of Base by rejection. Read-only, safe for concurrent use.
+type Tilt struct {
+	Base *Table
+	Q    float64
+}
+
+// Draw returns one draw: base draws and exponential draws from rng until
+// one is kept (1/acceptance pairs on average).
+func (t Tilt) Draw(rng *rand.Rand) float64 {
+	for {
+		x := t.Base.Draw(rng)
+		if rng.ExpFloat64() > t.Q*x {
+			return x
+		}
+	}
+}
+
+// ExitTilt returns the tilt of T_f that draws ExitLaw(q), q ≥ 0, and false
+// where its acceptance ψ_f(q) is below minAccept (use ExitTable there).
+func ExitTilt(q float64) (Tilt, bool) {
+	if !(q >= 0) || real(FinalTransform(complex(q, 0))) < minAccept {
+		return Tilt{}, false
+	}
+	return Tilt{Base: Final(), Q: q}, true
+}
+
+// KillTilt returns the tilt of KillBase that draws KillLaw(q), q > 0, and
+// false where its acceptance g(q)/q is below minAccept (use KillDriftTable
+// there).
+func KillTilt(q float64) (Tilt, bool) {
+	if !(q > 0) || math.IsInf(q, 0) {
+		return Tilt{}, false
+	}
+	if g := real(Phi(complex(q, 0)) + oneMinusFinal(complex(q, 0))); g/q < minAccept {
+		return Tilt{}, false
+	}
+	return Tilt{Base: KillBaseTable(), Q: q}, true
 }

@@ -240,68 +240,189 @@ const (
 )
 
 // NewTable builds a table of l with n ≥ 2 knots (and n more in a low part
-// if lowPart). Cost about 5n Talbot sums of 32 terms plus 32 transform
-// evaluations per octave spanned. It panics if n < 2.
+// if lowPart). The knots are not solved one by one: the quantile is solved
+// (Newton on Talbot inversions) at the Chebyshev points of a few panels
+// (chebPanels), its interpolant on each panel is accepted when its last
+// Chebyshev coefficients are below panelTol (else the panel is halved), and
+// the knots and their slopes are read off the interpolants. Cost about 3
+// Talbot sums of 32 terms per Chebyshev point (16 per panel, 8 panels or
+// more), plus 32 transform evaluations per octave spanned. It panics if
+// n < 2.
 func NewTable(l *Law, n int, lowPart bool) *Table {
 	if n < 2 {
 		panic("starlaw: NewTable needs at least 2 knots")
 	}
-	tTail := math.Log(math.Max(math.Abs(l.C2), 1e-300)/tailErr) / l.Lam2
-	wTail := l.Lam1*tTail - math.Log(l.C1)
-	if wTail < 0.5 {
-		wTail = 0.5
-		tTail = (wTail + math.Log(l.C1)) / l.Lam1
-	}
+	tTail, wTail := tailStart(l)
 	tb := &Table{wTail: wTail, lam: l.Lam1, lnC: math.Log(l.C1), k: make([]float64, 2*n)}
 	dv := math.Sqrt(wTail) / float64(n-1)
 	tb.inv = 1 / dv
-	prev := 0.0
-	for i := 1; i < n; i++ {
-		v := float64(i) * dv
-		w := v * v
-		var t float64
-		if i == n-1 {
-			t = tTail
-		} else {
-			// Start Newton from the previous knot continued along its
-			// slope: it then converges in two or three steps.
-			var guess float64
-			if i > 1 {
-				sg := tb.k[2*(i-1)] + tb.k[2*(i-1)+1]
-				guess = sg * sg
-			}
-			t = l.quantile(w, prev, tTail, guess)
-		}
-		st := math.Sqrt(t)
-		tb.k[2*i] = st
-		tb.k[2*i+1] = dv * 2 * v * math.Exp(-w) / l.Density(t) / (2 * st)
-		prev = t
-	}
-	// Slope at v = 0 from s(v) ≈ a v + b v²: a = 2s_1/dv − s'_1.
-	tb.k[1] = math.Max(0, 2*tb.k[2]-tb.k[3])
+	i0 := 0
 	if lowPart {
 		tb.wLow = -math.Log1p(-lowU)
+		// Knots below the low part's start are never read.
+		i0 = min(int(math.Sqrt(tb.wLow)/dv), n-2)
+	}
+	// s(v) = sqrt(t(v)); the bracket of each solve is (t at the previous
+	// point, tTail).
+	chebKnots(float64(i0)*dv, dv, n-i0, func(v, prev, guess float64) float64 {
+		return math.Sqrt(l.quantile(v*v, prev*prev, tTail, guess*guess))
+	}, func(v, dsdv float64) float64 {
+		return 2 * v * math.Exp(-v*v) / math.Abs(dsdv)
+	}, tb.k[2*i0:])
+	tb.k[2*(n-1)] = math.Sqrt(tTail)
+	if i0 == 0 {
+		tb.k[0], tb.k[1] = 0, math.Max(0, tb.k[1])
+	}
+	if lowPart {
 		tb.ell0 = -math.Log(lowU)
 		tb.dl = (ellMax - tb.ell0) / float64(n-1)
 		tb.low = make([]float64, 2*n)
 		hi := l.quantile(tb.wLow, 0, tTail, 0)
-		for i := range n {
-			ell := tb.ell0 + float64(i)*tb.dl
-			u := math.Exp(-ell)
-			t := hi
-			if i > 0 {
-				var guess float64
-				if r := tb.low[2*(i-1)] + tb.low[2*(i-1)+1]; r > 0 {
-					guess = 1 / r
-				}
-				t = l.quantile(-math.Log1p(-u), 0, hi, guess)
+		// r(ℓ) = 1/t(u = e^{−ℓ}) increases with ℓ; the bracket of each
+		// solve is (0, t at the previous point).
+		chebKnots(tb.ell0, tb.dl, n, func(ell, prev, guess float64) float64 {
+			top := hi
+			if prev > 0 {
+				top = 1 / prev
 			}
-			tb.low[2*i] = 1 / t
-			tb.low[2*i+1] = tb.dl * u / (t * t * l.Density(t))
-			hi = t
-		}
+			g := 0.0
+			if guess > 0 {
+				g = 1 / guess
+			}
+			return 1 / l.quantile(-math.Log1p(-math.Exp(-ell)), 0, top, g)
+		}, func(ell, drdl float64) float64 {
+			return math.Exp(-ell) / math.Abs(drdl)
+		}, tb.low)
+		tb.low[0] = 1 / hi
 	}
 	return tb
+}
+
+// tailStart returns where a table of l switches to the one-pole tail: the
+// time tTail at which the second pole's weight is below tailErr and its w.
+func tailStart(l *Law) (tTail, wTail float64) {
+	tTail = math.Log(math.Max(math.Abs(l.C2), 1e-300)/tailErr) / l.Lam2
+	wTail = l.Lam1*tTail - math.Log(l.C1)
+	if wTail < 0.5 {
+		wTail = 0.5
+		tTail = (wTail + math.Log(l.C1)) / l.Lam1
+	}
+	return tTail, wTail
+}
+
+// Chebyshev panels of the table builder.
+const (
+	// chebN is the number of Chebyshev points of a panel.
+	chebN = 16
+	// chebPanels is the number of panels a table's knot range starts with.
+	chebPanels = 8
+	// panelTol bounds the error in probability u of an accepted panel:
+	// the larger of its last two Chebyshev coefficients (the neglected
+	// terms of a geometrically converging series are of that order: L. N.
+	// Trefethen, Approximation Theory and Approximation Practice, 2013,
+	// ch. 8, from memory) times the largest |du/dy| on the panel.
+	panelTol = 1e-13
+	// minPanel is the smallest panel as a fraction of a starting one (a
+	// law whose inversion is noisy, the far low part of T_f, would
+	// otherwise be halved down to the knot spacing): there a panel is
+	// accepted with the error the tests measure.
+	minPanel = 1.0 / 16
+)
+
+// chebNodes are the Chebyshev points cos(π(j + ½)/N) in increasing order,
+// chebCos[k][j] = cos(πk(j + ½)/N) for them (the discrete cosine transform
+// that gives the coefficients).
+var chebNodes, chebCos = func() (x [chebN]float64, c [chebN][chebN]float64) {
+	for j := range chebN {
+		th := math.Pi * (float64(chebN-1-j) + 0.5) / chebN
+		x[j] = math.Cos(th)
+		for k := range chebN {
+			c[k][j] = math.Cos(float64(k) * th)
+		}
+	}
+	return x, c
+}()
+
+// chebKnots fills out (interleaved) with f(x_i) and h·f'(x_i) at the n
+// knots x_i = x0 + i·h from Chebyshev interpolants of f on panels of
+// [x0, x0 + (n−1)h]. solve(x, prev, guess) returns f(x), given the value
+// prev at the last point solved before x (0 at the start) and a guess
+// (0: none); it is called at increasing x within a panel. dudy(x, y'(x))
+// returns |du/dy|, the probability that an error in y moves.
+func chebKnots(x0, h float64, n int, solve func(x, prev, guess float64) float64, dudy func(x, dydx float64) float64, out []float64) {
+	x1 := x0 + float64(n-1)*h
+	type panel struct{ a, b float64 }
+	var todo []panel // a stack: the leftmost panel last
+	for p := chebPanels - 1; p >= 0; p-- {
+		todo = append(todo, panel{x0 + (x1-x0)*float64(p)/chebPanels, x0 + (x1-x0)*float64(p+1)/chebPanels})
+	}
+	if x1-x0 < 2*chebPanels*h {
+		todo = []panel{{x0, x1}}
+	}
+	var y, c [chebN]float64
+	// The last two points solved in accepted panels (NaN: none).
+	ax, ay, bx, by := math.NaN(), 0.0, math.NaN(), 0.0
+	next := 0 // first knot not yet filled
+	for len(todo) > 0 {
+		pn := todo[len(todo)-1]
+		todo = todo[:len(todo)-1]
+		mid, half := 0.5*(pn.a+pn.b), 0.5*(pn.b-pn.a)
+		x1p, y1p, x2p, y2p := ax, ay, bx, by // most recent first
+		for j := range chebN {
+			x := mid + half*chebNodes[j]
+			guess := 0.0
+			if !math.IsNaN(x2p) {
+				// Linear continuation from the last two points.
+				guess = y1p + (y1p-y2p)/(x1p-x2p)*(x-x1p)
+			}
+			y[j] = solve(x, y1p, math.Max(guess, 0))
+			x1p, y1p, x2p, y2p = x, y[j], x1p, y1p
+		}
+		for k := range chebN {
+			var s float64
+			for j := range chebN {
+				s += y[j] * chebCos[k][j]
+			}
+			c[k] = 2 * s / chebN
+		}
+		c[0] /= 2
+		// The interpolant's error in y, about the last coefficients,
+		// times the largest |du/dy| on the panel (slopes from neighbours).
+		var sens float64
+		for j := 1; j < chebN-1; j++ {
+			xl, xr := mid+half*chebNodes[j-1], mid+half*chebNodes[j+1]
+			sens = math.Max(sens, dudy(mid+half*chebNodes[j], (y[j+1]-y[j-1])/(xr-xl)))
+		}
+		tail := math.Max(math.Abs(c[chebN-1]), math.Abs(c[chebN-2]))
+		if tail*sens > panelTol && 2*half > minPanel*(x1-x0)/chebPanels && half > 2*h {
+			todo = append(todo, panel{mid, pn.b}, panel{pn.a, mid})
+			continue
+		}
+		// Fill the knots in [a, b] (the last panel takes x1 itself).
+		for ; next < n; next++ {
+			x := x0 + float64(next)*h
+			if x > pn.b && !(pn.b == x1) {
+				break
+			}
+			v, d := chebEval(&c, (x-mid)/half)
+			out[2*next] = v
+			out[2*next+1] = h * d / half
+		}
+		ax, ay, bx, by = x1p, y1p, x2p, y2p
+	}
+}
+
+// chebEval returns Σ c_k T_k(z) and its derivative in z (Clenshaw's
+// recurrence for both).
+func chebEval(c *[chebN]float64, z float64) (v, d float64) {
+	var b1, b2, d1, d2 float64
+	for k := chebN - 1; k >= 1; k-- {
+		b1, b2 = 2*z*b1-b2+c[k], b1
+		d1, d2 = 2*z*d1-d2+2*b2, d1
+	}
+	// b1, b2 are now b_1, b_2 and d1, d2 their derivatives in z:
+	// d_k = 2z d_{k+1} − d_{k+2} + 2 b_{k+1}, f' = b_1 + z d_1 − d_2.
+	return z*b1 - b2 + c[0], b1 + z*d1 - d2
 }
 
 // quantile solves P(X > t) = e^{−w} for t in (lo, hi) by Newton's method on
@@ -411,8 +532,6 @@ func (tb *Table) Draw(rng *rand.Rand) float64 { return tb.Quantile(rng.ExpFloat6
 var (
 	finalOnce  sync.Once
 	finalTable *Table
-	visitMu    sync.Mutex
-	visitCache = map[[2]float64]*Table{}
 )
 
 // maxCached bounds the number of visit tables kept for reuse across runs.
@@ -426,21 +545,13 @@ func Final() *Table {
 }
 
 // VisitTable returns a table of Visit(mu, eta) with DefaultKnots knots,
-// shared with earlier calls with the same parameters (up to 1024 are kept).
-// Safe for concurrent use. Cost: a few milliseconds when new.
+// its parameters quantised (Quantise), shared with earlier calls with the
+// same quantised parameters (up to 1024 are kept). Safe for concurrent use.
+// Cost: under a millisecond when new.
 func VisitTable(mu, eta float64) *Table {
-	key := [2]float64{mu, eta}
-	visitMu.Lock()
-	tb, ok := visitCache[key]
-	visitMu.Unlock()
-	if ok {
-		return tb
-	}
-	tb = NewTable(Visit(mu, eta), DefaultKnots, false)
-	visitMu.Lock()
-	if len(visitCache) < maxCached {
-		visitCache[key] = tb
-	}
-	visitMu.Unlock()
-	return tb
+	mu, eta = Quantise(mu), Quantise(eta)
+	return cached(VisitKey(mu, eta), func() *Table { return NewTable(Visit(mu, eta), DefaultKnots, false) })
 }
+
+// VisitKey returns the key under which VisitTable shares its tables.
+func VisitKey(mu, eta float64) string { return string(key([]byte{'v'}, mu, eta)) }
