@@ -152,6 +152,9 @@ func MixtureDrift(kappa, eta float64, p, q, g []float64) (*Law, float64) {
 	root := func(lo, hi float64) float64 { // D(lo+) = −∞ < 0 < D(hi−)
 		for range 200 {
 			mid := 0.5 * (lo + hi)
+			if mid <= lo || mid >= hi {
+				break // adjacent numbers: further halvings change nothing
+			}
 			if D(mid) < 0 {
 				lo = mid
 			} else {
@@ -163,11 +166,18 @@ func MixtureDrift(kappa, eta float64, p, q, g []float64) (*Law, float64) {
 	pole := func(s0 float64) (lam, c float64) {
 		return -s0, mu / (-s0 * Dp(s0))
 	}
+	// The transform without the constant Φ(Q_e) terms: d0 = μ − Σ p_eΦ(Q_e).
+	d0 := mu
+	for e := range p {
+		if p[e] > 0 {
+			d0 -= p[e] * phiReal(Q[e])
+		}
+	}
 	l := &Law{Psi: func(s complex128) complex128 {
-		d := complex(mu, 0) + complex(eta, 0)*s
+		d := complex(d0, 0) + complex(eta, 0)*s
 		for e := range p {
 			if p[e] > 0 {
-				d += complex(p[e], 0) * (Phi(s+complex(Q[e], 0)) - complex(phiReal(Q[e]), 0))
+				d += complex(p[e], 0) * Phi(s+complex(Q[e], 0))
 			}
 		}
 		return complex(mu, 0) / d

@@ -173,6 +173,9 @@ func Visit(mu, eta float64) *Law {
 		// g decreases from +∞ (or μ) to −∞ on (lo, hi).
 		for range 200 {
 			mid := 0.5 * (lo + hi)
+			if mid <= lo || mid >= hi {
+				break // adjacent numbers: further halvings change nothing
+			}
 			if g(mid) > 0 {
 				lo = mid
 			} else {
@@ -256,6 +259,10 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 	tb := &Table{wTail: wTail, lam: l.Lam1, lnC: math.Log(l.C1), k: make([]float64, 2*n)}
 	dv := math.Sqrt(wTail) / float64(n-1)
 	tb.inv = 1 / dv
+	// Knot 0 (v = 0, t = 0) is not solved: the panels start at knot 1,
+	// which keeps their Chebyshev points off the smallest times (each
+	// octave of time costs a window of transform values), and knot 0's
+	// slope is the first panel's, continued.
 	i0 := 0
 	if lowPart {
 		tb.wLow = -math.Log1p(-lowU)
@@ -264,7 +271,7 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 	}
 	// s(v) = sqrt(t(v)); the bracket of each solve is (t at the previous
 	// point, tTail).
-	chebKnots(float64(i0)*dv, dv, n-i0, func(v, prev, guess float64) float64 {
+	chebKnots(float64(i0)*dv, dv, n-i0, math.Max(float64(i0), 1)*dv, func(v, prev, guess float64) float64 {
 		return math.Sqrt(l.quantile(v*v, prev*prev, tTail, guess*guess))
 	}, func(v, dsdv float64) float64 {
 		return 2 * v * math.Exp(-v*v) / math.Abs(dsdv)
@@ -280,7 +287,7 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 		hi := l.quantile(tb.wLow, 0, tTail, 0)
 		// r(ℓ) = 1/t(u = e^{−ℓ}) increases with ℓ; the bracket of each
 		// solve is (0, t at the previous point).
-		chebKnots(tb.ell0, tb.dl, n, func(ell, prev, guess float64) float64 {
+		chebKnots(tb.ell0, tb.dl, n, tb.ell0, func(ell, prev, guess float64) float64 {
 			top := hi
 			if prev > 0 {
 				top = 1 / prev
@@ -313,9 +320,9 @@ func tailStart(l *Law) (tTail, wTail float64) {
 // Chebyshev panels of the table builder.
 const (
 	// chebN is the number of Chebyshev points of a panel.
-	chebN = 16
+	chebN = 24
 	// chebPanels is the number of panels a table's knot range starts with.
-	chebPanels = 8
+	chebPanels = 4
 	// panelTol bounds the error in probability u of an accepted panel:
 	// the larger of its last two Chebyshev coefficients (the neglected
 	// terms of a geometrically converging series are of that order: L. N.
@@ -345,38 +352,36 @@ var chebNodes, chebCos = func() (x [chebN]float64, c [chebN][chebN]float64) {
 
 // chebKnots fills out (interleaved) with f(x_i) and h·f'(x_i) at the n
 // knots x_i = x0 + i·h from Chebyshev interpolants of f on panels of
-// [x0, x0 + (n−1)h]. solve(x, prev, guess) returns f(x), given the value
+// [a0, x0 + (n−1)h], a0 ≥ x0 (knots below a0 from the first panel's,
+// continued). solve(x, prev, guess) returns f(x), given the value
 // prev at the last point solved before x (0 at the start) and a guess
 // (0: none); it is called at increasing x within a panel. dudy(x, y'(x))
 // returns |du/dy|, the probability that an error in y moves.
-func chebKnots(x0, h float64, n int, solve func(x, prev, guess float64) float64, dudy func(x, dydx float64) float64, out []float64) {
+func chebKnots(x0, h float64, n int, a0 float64, solve func(x, prev, guess float64) float64, dudy func(x, dydx float64) float64, out []float64) {
 	x1 := x0 + float64(n-1)*h
 	type panel struct{ a, b float64 }
 	var todo []panel // a stack: the leftmost panel last
 	for p := chebPanels - 1; p >= 0; p-- {
-		todo = append(todo, panel{x0 + (x1-x0)*float64(p)/chebPanels, x0 + (x1-x0)*float64(p+1)/chebPanels})
+		todo = append(todo, panel{a0 + (x1-a0)*float64(p)/chebPanels, a0 + (x1-a0)*float64(p+1)/chebPanels})
 	}
-	if x1-x0 < 2*chebPanels*h {
-		todo = []panel{{x0, x1}}
+	if x1-a0 < 2*chebPanels*h {
+		todo = []panel{{a0, x1}}
 	}
 	var y, c [chebN]float64
-	// The last two points solved in accepted panels (NaN: none).
-	ax, ay, bx, by := math.NaN(), 0.0, math.NaN(), 0.0
+	// The last three points solved in accepted panels, most recent first
+	// (x NaN: none).
+	nan := math.NaN()
+	acc := [3][2]float64{{nan, 0}, {nan, 0}, {nan, 0}}
 	next := 0 // first knot not yet filled
 	for len(todo) > 0 {
 		pn := todo[len(todo)-1]
 		todo = todo[:len(todo)-1]
 		mid, half := 0.5*(pn.a+pn.b), 0.5*(pn.b-pn.a)
-		x1p, y1p, x2p, y2p := ax, ay, bx, by // most recent first
+		last := acc
 		for j := range chebN {
 			x := mid + half*chebNodes[j]
-			guess := 0.0
-			if !math.IsNaN(x2p) {
-				// Linear continuation from the last two points.
-				guess = y1p + (y1p-y2p)/(x1p-x2p)*(x-x1p)
-			}
-			y[j] = solve(x, y1p, math.Max(guess, 0))
-			x1p, y1p, x2p, y2p = x, y[j], x1p, y1p
+			y[j] = solve(x, last[0][1], math.Max(extrapolate(&last, x), 0))
+			last[0], last[1], last[2] = [2]float64{x, y[j]}, last[0], last[1]
 		}
 		for k := range chebN {
 			var s float64
@@ -394,7 +399,7 @@ func chebKnots(x0, h float64, n int, solve func(x, prev, guess float64) float64,
 			sens = math.Max(sens, dudy(mid+half*chebNodes[j], (y[j+1]-y[j-1])/(xr-xl)))
 		}
 		tail := math.Max(math.Abs(c[chebN-1]), math.Abs(c[chebN-2]))
-		if tail*sens > panelTol && 2*half > minPanel*(x1-x0)/chebPanels && half > 2*h {
+		if tail*sens > panelTol && 2*half > minPanel*(x1-a0)/chebPanels && half > 2*h {
 			todo = append(todo, panel{mid, pn.b}, panel{pn.a, mid})
 			continue
 		}
@@ -408,8 +413,24 @@ func chebKnots(x0, h float64, n int, solve func(x, prev, guess float64) float64,
 			out[2*next] = v
 			out[2*next+1] = h * d / half
 		}
-		ax, ay, bx, by = x1p, y1p, x2p, y2p
+		acc = last
 	}
+}
+
+// extrapolate returns the guess at x from the last points (most recent
+// first): the parabola through three, the line through two, 0 with fewer.
+func extrapolate(p *[3][2]float64, x float64) float64 {
+	x0, y0, x1, y1, x2, y2 := p[0][0], p[0][1], p[1][0], p[1][1], p[2][0], p[2][1]
+	switch {
+	case math.IsNaN(x1):
+		return 0
+	case math.IsNaN(x2):
+		return y0 + (y0-y1)/(x0-x1)*(x-x0)
+	}
+	// Newton's divided differences.
+	d01 := (y0 - y1) / (x0 - x1)
+	d12 := (y1 - y2) / (x1 - x2)
+	return y0 + d01*(x-x0) + (d01-d12)/(x0-x2)*(x-x0)*(x-x1)
 }
 
 // chebEval returns Σ c_k T_k(z) and its derivative in z (Clenshaw's
@@ -424,6 +445,9 @@ func chebEval(c *[chebN]float64, z float64) (v, d float64) {
 	// d_k = 2z d_{k+1} − d_{k+2} + 2 b_{k+1}, f' = b_1 + z d_1 − d_2.
 	return z*b1 - b2 + c[0], b1 + z*d1 - d2
 }
+
+// newtonDone is the Newton step in ln t after which quantile stops.
+const newtonDone = 1e-8
 
 // quantile solves P(X > t) = e^{−w} for t in (lo, hi) by Newton's method on
 // ln t safeguarded by bisection (lo = 0: search downwards from hi), started
@@ -476,10 +500,13 @@ func (l *Law) quantile(w, lo, hi, guess float64) float64 {
 			xl = x
 		}
 		nx := x - hv/(d*t)
-		if !(nx > xl && nx < xh) {
+		newton := nx > xl && nx < xh
+		if !newton {
 			nx = 0.5 * (xl + xh)
 		}
-		if math.Abs(nx-x) < 1e-13 || xh-xl < 1e-13 {
+		// A Newton step of δ leaves an error of about C·δ² (C = |h”/2h'|,
+		// at most a few tens here): below newtonDone that is under 1e−14.
+		if (newton && math.Abs(nx-x) < newtonDone) || math.Abs(nx-x) < 1e-13 || xh-xl < 1e-13 {
 			return math.Exp(nx)
 		}
 		x = nx
