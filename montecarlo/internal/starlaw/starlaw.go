@@ -276,7 +276,11 @@ func NewTable(l *Law, n int, lowPart bool) *Table {
 	}, func(v, dsdv float64) float64 {
 		return 2 * v * math.Exp(-v*v) / math.Abs(dsdv)
 	}, tb.k[2*i0:])
+	// The last knot is the tail's start: its value and slope from the
+	// one-pole tail t = (w + ln C1)/Lam1, so that the quantile is smooth
+	// there (dt/dv = 2v/Lam1).
 	tb.k[2*(n-1)] = math.Sqrt(tTail)
+	tb.k[2*(n-1)+1] = dv * math.Sqrt(wTail) / (l.Lam1 * math.Sqrt(tTail))
 	if i0 == 0 {
 		tb.k[0], tb.k[1] = 0, math.Max(0, tb.k[1])
 	}

@@ -1,0 +1,146 @@
+package starlaw
+
+import (
+	"math"
+	"math/cmplx"
+	"math/rand/v2"
+	"testing"
+)
+
+// TestKillBaseLimit checks KillBase as the limit q → 0 of KillLaw: its
+// transform g(s)/s against KillLaw(q)'s at q = 1e−9 (the two differ by
+// O(q)), the total weight Σ C_n = 1 of its pole series at t = 0 (derived in
+// KillBase's comment: Σ_{odd n} 8/(n²π²) = 1), and its mean −ψ'(0) by a
+// five-point difference against the series' Σ C_n/λ_n.
+func TestKillBaseLimit(t *testing.T) {
+	const (
+		closeQ   = 1e-8 // |ψ_q − ψ_0| = O(q) for q = 1e−9
+		series   = 1e-5 // Σ_{n > N} 8/(n²π²) ≈ 4/(π²N), N = 2e5
+		diffStep = 1e-4
+		diffTol  = 1e-7 // five-point difference, error O(h⁴)
+	)
+	b, k := KillBase(), KillLaw(1e-9)
+	for _, s := range []complex128{0.01, 1, 30, complex(-2, 5), complex(3, -40)} {
+		if d := cmplx.Abs(b.Psi(s) - k.Psi(s)); d > closeQ {
+			t.Errorf("s = %v: KillBase %v, KillLaw(1e−9) %v", s, b.Psi(s), k.Psi(s))
+		}
+	}
+	var sum, mean float64
+	for n := 1; n < 200001; n += 2 {
+		lam := float64(n*n) * math.Pi * math.Pi / 2
+		sum += 4 / lam
+		mean += 4 / (lam * lam)
+	}
+	if math.Abs(sum-1) > series { // the series' tail is about 4/(π²·1e5)
+		t.Errorf("Σ C_n = %.12g, want 1", sum)
+	}
+	h := complex(diffStep, 0)
+	d := (-b.Psi(2*h) + 8*b.Psi(h) - 8*b.Psi(-h) + b.Psi(-2*h)) / (12 * h)
+	if math.Abs(-real(d)-mean) > diffTol {
+		t.Errorf("mean: −ψ'(0) = %.10g, Σ C_n/λ_n = %.10g", -real(d), mean)
+	}
+}
+
+// TestTiltDraws checks the draws by rejection from the shared T_f and
+// KillBase tables against the exact laws ExitLaw(q) and KillLaw(q): a KS
+// test against the CDF by inversion (fixed seed; each case at p > 1e−3,
+// Bonferroni for a family error near 1%) and the sample mean within 4.5
+// standard errors of the mean by inversion (−ψ'(0) by a five-point
+// difference); and that the tilt is refused where its acceptance is below
+// minAccept.
+func TestTiltDraws(t *testing.T) {
+	n := 50000
+	if testing.Short() {
+		n = 10000
+	}
+	rng := rand.New(rand.NewPCG(11, 2))
+	x := make([]float64, n)
+	type tc struct {
+		name string
+		l    *Law
+		tilt Tilt
+	}
+	var cases []tc
+	for _, q := range []float64{0, 0.03, 0.5, 2} {
+		tl, ok := ExitTilt(q)
+		if !ok {
+			t.Fatalf("ExitTilt(%g) refused", q)
+		}
+		l := ExitLaw(q)
+		cases = append(cases, tc{"exit", l, tl})
+	}
+	for _, q := range []float64{1e-6, 0.03, 0.5, 3} {
+		tl, ok := KillTilt(q)
+		if !ok {
+			t.Fatalf("KillTilt(%g) refused", q)
+		}
+		cases = append(cases, tc{"kill", KillLaw(q), tl})
+	}
+	if _, ok := ExitTilt(5); ok { // ψ_f(5) = 0.26
+		t.Errorf("ExitTilt(5) accepted")
+	}
+	if _, ok := KillTilt(30); ok { // g(30)/30 ≈ 0.23
+		t.Errorf("KillTilt(30) accepted")
+	}
+	for _, c := range cases {
+		var s, s2 float64
+		for i := range x {
+			x[i] = c.tilt.Draw(rng)
+			s += x[i]
+			s2 += x[i] * x[i]
+		}
+		mean := s / float64(n)
+		se := math.Sqrt((s2/float64(n) - mean*mean) / float64(n))
+		h := complex(1e-4, 0)
+		d := (-c.l.Psi(2*h) + 8*c.l.Psi(h) - 8*c.l.Psi(-h) + c.l.Psi(-2*h)) / (12 * h)
+		m1 := -real(d)
+		dd, p := ksTest(x, c.l.CDF)
+		t.Logf("%s q=%g: KS D = %.3g (p = %.3g), mean %.6g ± %.2g, exact %.6g", c.name, c.tilt.Q, dd, p, mean, se, m1)
+		if p < 1e-3 || math.Abs(mean-m1) > 4.5*se {
+			t.Errorf("%s q=%g: KS D = %.3g (p = %.3g), mean %.6g ± %.2g, exact %.6g", c.name, c.tilt.Q, dd, p, mean, se, m1)
+		}
+	}
+}
+
+// TestKnots checks every knot of the tables built from Chebyshev panels
+// against the law it draws: |F(t_i) − u_i| at the knots themselves, where
+// only the panels' interpolation (error in u below panelTol per panel,
+// about 1e−13) and the solves (1e−14 in ln t) enter, not the cubic between
+// knots; and the knots' slopes against the exact dt/dv = 2v·e^{−w}/f(t).
+// The last knot, the start of the one-pole tail, is TestTableError's.
+func TestKnots(t *testing.T) {
+	const (
+		// The CDF by inversion is good to about 1e−12 here (measured
+		// 1e−12 at every law: its floor, not the table's).
+		knotErr = 3e-12
+		// Relative: the derivative of an interpolant loses about N² of
+		// its accuracy, most at a panel's ends (measured 2e−8).
+		slopeErr = 1e-7
+	)
+	mix, _ := MixtureDrift(0.3, 0.1, []float64{0.5, 0.3, 0.2}, []float64{0.01, 0.04, 0.002}, nil)
+	for _, c := range []struct {
+		name string
+		l    *Law
+	}{
+		{"visit", Visit(1, 0)}, {"visit leak+capacity", Visit(1.5, 0.3)}, {"mixture", mix},
+		{"kill base", KillBase()}, {"kill q=30", KillLaw(30)},
+	} {
+		tb := NewTable(c.l, DefaultKnots, false)
+		n := len(tb.k) / 2
+		dv := 1 / tb.inv
+		var worst, worstSlope float64
+		for i := 1; i < n-1; i++ {
+			v := float64(i) * dv
+			w := v * v
+			st := tb.k[2*i]
+			tt := st * st
+			worst = math.Max(worst, math.Abs(c.l.CDF(tt)+math.Expm1(-w)))
+			exact := dv * 2 * v * math.Exp(-w) / c.l.Density(tt) / (2 * st)
+			worstSlope = math.Max(worstSlope, math.Abs(tb.k[2*i+1]-exact)/exact)
+		}
+		t.Logf("%s: max |F(t_i) − u_i| = %.2g, max relative slope error %.2g", c.name, worst, worstSlope)
+		if !(worst <= knotErr) || !(worstSlope <= slopeErr) {
+			t.Errorf("%s: max |F(t_i) − u_i| = %.3g, slope error %.3g", c.name, worst, worstSlope)
+		}
+	}
+}
