@@ -40,11 +40,15 @@ func (m *model) lazy(build func() *starlaw.Table) *lazyTable {
 	return &lazyTable{build: build, stats: &m.tables}
 }
 
+// shareTables lets nodes share tables by key (off only in tests that
+// compare against unshared tables).
+var shareTables = true
+
 // lazyShared returns the lazy table of key, made with build on the key's
 // first request in this run: nodes whose laws have the same quantised
 // parameters (starlaw.Quantise) share one table, however many there are.
 func (m *model) lazyShared(key string, build func() *starlaw.Table) *lazyTable {
-	if l, ok := m.shared[key]; ok {
+	if l, ok := m.shared[key]; ok && shareTables {
 		return l
 	}
 	if m.shared == nil {

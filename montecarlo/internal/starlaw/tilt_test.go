@@ -4,6 +4,7 @@ import (
 	"math"
 	"math/cmplx"
 	"math/rand/v2"
+	"reflect"
 	"testing"
 )
 
@@ -141,6 +142,36 @@ func TestKnots(t *testing.T) {
 		t.Logf("%s: max |F(t_i) − u_i| = %.2g, max relative slope error %.2g", c.name, worst, worstSlope)
 		if !(worst <= knotErr) || !(worstSlope <= slopeErr) {
 			t.Errorf("%s: max |F(t_i) − u_i| = %.3g, slope error %.3g", c.name, worst, worstSlope)
+		}
+	}
+}
+
+// TestQuantisedSharing: parameters that agree to about 5e−13 share one key
+// and one table, built from the quantised parameters, so it is the same
+// table whichever asks first (a fresh build from them is identical, bit
+// for bit); parameters that differ by 1e−9 do not share.
+func TestQuantisedSharing(t *testing.T) {
+	p, q := []float64{0.5, 0.3, 0.2}, []float64{0.01, 0.04, 0.002}
+	near := []float64{0.5 * (1 + 1e-15), 0.3, 0.2}
+	far := []float64{0.5 * (1 + 1e-9), 0.3, 0.2}
+	if MixtureKey(0.3, 0.1, p, q, nil) != MixtureKey(0.3, 0.1, near, q, nil) {
+		t.Errorf("parameters 1e−15 apart have different keys")
+	}
+	if MixtureKey(0.3, 0.1, p, q, nil) == MixtureKey(0.3, 0.1, far, q, nil) {
+		t.Errorf("parameters 1e−9 apart share a key")
+	}
+	a := MixtureDriftTable(0.3, 0.1, near, q, nil)
+	b := MixtureDriftTable(0.3, 0.1, p, q, nil)
+	if a != b {
+		t.Errorf("parameters 1e−15 apart got different tables")
+	}
+	l, _ := MixtureDrift(Quantise(0.3), Quantise(0.1), quantised(p), quantised(q), nil)
+	if fresh := NewTable(l, DefaultKnots, false); !reflect.DeepEqual(fresh, a) {
+		t.Errorf("a fresh table from the quantised parameters differs from the shared one")
+	}
+	for _, x := range []float64{1, 0.3, 1e-300, -2.5, 7e12} {
+		if d := math.Abs(Quantise(x)-x) / math.Abs(x); d > 0x1p-41 {
+			t.Errorf("Quantise(%g) moves it by %g relative", x, d)
 		}
 	}
 }
