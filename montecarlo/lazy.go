@@ -10,13 +10,16 @@ import (
 )
 
 // lazyTable is a visit-law table built on first use: on a large network
-// walkers reach only some nodes, and each table costs milliseconds (a
-// Laplace inversion per knot), so preparing every node's tables up front
-// would cost more than the walk. The first walker to need a table builds
-// it (so tables of different nodes are built in parallel by the workers);
-// others needing the same one wait for it. Tables with equal parameters
-// are shared through starlaw's cache. The table built does not depend on
-// which walker builds it, so results stay the same for any Workers.
+// walkers reach only some nodes, and each table costs a fraction of a
+// millisecond (about a hundred Laplace inversions), so preparing every
+// node's tables up front would cost more than the walk. The first walker to
+// need a table builds it (so tables of different nodes are built in
+// parallel by the workers); others needing the same one wait for it. Nodes
+// whose laws have the same quantised parameters share one lazyTable in a
+// run (lazyShared), and tables are shared across runs through starlaw's
+// cache. The table built depends only on the quantised parameters, not on
+// which walker or node asks first, so results stay the same for any Workers
+// and shards (docs/walkers.md §6).
 //
 // A climb or killing law without drift is an exponential tilt of one law
 // shared by all nodes (starlaw.ExitTilt, starlaw.KillTilt): such a lazyTable

@@ -77,10 +77,10 @@ func TestTiltDraws(t *testing.T) {
 		}
 		cases = append(cases, tc{"kill", KillLaw(q), tl})
 	}
-	if _, ok := ExitTilt(5); ok { // ψ_f(5) = 0.26
+	if _, ok := ExitTilt(5); ok { // ψ_f(5) = 0.27
 		t.Errorf("ExitTilt(5) accepted")
 	}
-	if _, ok := KillTilt(30); ok { // g(30)/30 ≈ 0.23
+	if _, ok := KillTilt(30); ok { // g(30)/30 = 0.26
 		t.Errorf("KillTilt(30) accepted")
 	}
 	for _, c := range cases {
