@@ -3,6 +3,7 @@ package graphpde
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -425,4 +426,23 @@ func (n *Network) ParsePoint(s string) (Point, error) {
 		return Point{}, fmt.Errorf("point %q: no node %q (write NODE or EDGE@X)", s, s)
 	}
 	return vertex.AtNode(v), nil
+}
+
+// Reserve makes room for nodes more nodes and edges more edges, so that
+// adding that many does not grow the network's arrays and indices step by
+// step (readers that know the counts call it first). It changes nothing
+// else.
+func (n *Network) Reserve(nodes, edges int) {
+	if nodes > 0 {
+		n.Nodes = slices.Grow(n.Nodes, nodes)
+		if n.nodeIndex == nil {
+			n.nodeIndex = make(map[string]int, nodes)
+		}
+	}
+	if edges > 0 {
+		n.Edges = slices.Grow(n.Edges, edges)
+		if n.edgeIndex == nil {
+			n.edgeIndex = make(map[string]int, edges)
+		}
+	}
 }

@@ -87,7 +87,7 @@ func (t *tbl) edgeControls(e *graphpde.Edge, ev *edgeVals) error {
 	}
 	var alt []graphpde.EdgeControl
 	for i, m := range arr {
-		c := &tbl{rd: t.rd, obj: t.obj, kind: t.kind, id: t.id, path: append(slices.Clip(t.path), "controls"), m: m}
+		c := &tbl{rd: t.rd, obj: t.object(), kind: t.kind, id: t.id, path: append(slices.Clip(t.path), "controls"), m: m}
 		if len(m) == 0 {
 			return t.fail("controls", fmt.Sprintf("controls entry %d is empty: give any of diffusivity, drift, decay and source", i))
 		}
@@ -154,7 +154,7 @@ func (t *tbl) nodeControls(nd *graphpde.Node) error {
 		if len(m) == 0 {
 			return t.fail("controls", fmt.Sprintf("controls entry %d is empty: give the end weight of at least one edge at the node", i))
 		}
-		c := &tbl{rd: t.rd, obj: t.obj, kind: t.kind, id: t.id, path: append(slices.Clip(t.path), "controls"), m: m}
+		c := &tbl{rd: t.rd, obj: t.object(), kind: t.kind, id: t.id, path: append(slices.Clip(t.path), "controls"), m: m}
 		w := make(map[string]float64, len(m))
 		for _, k := range c.keys() {
 			v, ok := toFloat(m[k])

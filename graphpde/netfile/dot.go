@@ -59,7 +59,7 @@ func readDOT(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 	for i, e := range p.edges {
 		el[i] = p.edgeLine[e["id"].(string)]
 	}
-	rd := &reader{file: name, opt: opt, loc: lineLocator(p.nodes, p.edges, nl, el), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt, loc: lineLocator(p.nodes, p.edges, nl, el)}
 	return rd.network(root)
 }
 

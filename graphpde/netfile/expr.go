@@ -129,7 +129,7 @@ func (t *tbl) equationRules(ev *edgeVals) error {
 		*ev.plain(k) = 0
 	}
 	if ev.w == [2]float64{} {
-		return &Error{File: t.rd.file, Line: ev.lineOf("equation"), Object: t.obj,
+		return &Error{File: t.rd.file, Line: ev.lineOf("equation"), Object: t.object(),
 			Msg: "an edge with an equation must give weight or weights = [from, to] (the end weights α of its node balances)"}
 	}
 	return nil
@@ -144,6 +144,9 @@ const profileSamples = 64
 // (and parameters) into e.Profile, which every linear engine reads; the
 // equation and the initial field into e.Law.
 func (t *tbl) edgeLaws(e *graphpde.Edge, ev *edgeVals) error {
+	if ev.ex == ([maxEdgeKeys]*formula.Expr{}) && !ev.given[slices.Index(defaultsKeys, "initial")] {
+		return nil // plain numbers only: no law, no profile
+	}
 	law := &graphpde.EdgeLaw{}
 	prof := &graphpde.Profile{}
 	usedLaw, usedProf := false, false
@@ -214,7 +217,7 @@ func (t *tbl) atLine(line int, msg string) *Error {
 	if line == 0 {
 		line = t.line()
 	}
-	return &Error{File: t.rd.file, Line: line, Object: t.obj, Msg: msg}
+	return &Error{File: t.rd.file, Line: line, Object: t.object(), Msg: msg}
 }
 
 // checkProfile checks a coefficient that varies along an edge at

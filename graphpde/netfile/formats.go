@@ -65,7 +65,7 @@ func ReadJSON(r io.Reader, name string) (*graphpde.Network, error) {
 		return ReadGeoJSON(bytes.NewReader(data), name)
 	}
 	root = fromJSON(root).(map[string]any)
-	rd := &reader{file: name, loc: locate(""), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, loc: locate("")}
 	return rd.network(root)
 }
 

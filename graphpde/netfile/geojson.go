@@ -127,7 +127,7 @@ func ReadGeoJSON(r io.Reader, name string) (*graphpde.Network, error) {
 		}
 	}
 	root := map[string]any{"node": g.nodes, "edge": g.edges}
-	rd := &reader{file: name, loc: locate(""), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, loc: locate("")}
 	return rd.network(root)
 }
 

@@ -68,7 +68,7 @@ func (t *tbl) sub(key string) (*tbl, error) {
 	if !ok {
 		return nil, t.fail(key, fmt.Sprintf("%s must be a table, e.g. %s = { ... }, not %s", key, key, typeName(t.m[key])))
 	}
-	return &tbl{rd: t.rd, obj: t.obj, kind: t.kind, id: t.id, path: append(slices.Clip(t.path), key), m: m}, nil
+	return &tbl{rd: t.rd, obj: t.object(), kind: t.kind, id: t.id, path: append(slices.Clip(t.path), key), m: m}, nil
 }
 
 // q reads key of a model table as a quantity of dimension want (a bare
@@ -545,7 +545,7 @@ func (rd *reader) nodeElement(t *tbl) error {
 	var pn graphpde.PhysicalNode
 	for _, k := range found {
 		if k == "load" {
-			lt := &tbl{rd: rd, obj: t.obj, kind: t.kind, id: t.id, path: t.path, m: t.m}
+			lt := &tbl{rd: rd, obj: t.object(), kind: t.kind, id: t.id, path: t.path, m: t.m}
 			v, err := lt.need("load", units.DimCapacitance, nonNeg)
 			if err != nil {
 				return err
@@ -630,7 +630,7 @@ func (rd *reader) nodeElement(t *tbl) error {
 	}
 	if inject != 0 {
 		if _, ok := t.m["inject"]; ok { // an electrode or heater adds to it
-			lt := &tbl{rd: rd, obj: t.obj, kind: t.kind, id: t.id, path: t.path, m: t.m}
+			lt := &tbl{rd: rd, obj: t.object(), kind: t.kind, id: t.id, path: t.path, m: t.m}
 			v, err := lt.number("inject")
 			if err != nil {
 				return err

@@ -217,20 +217,30 @@ func headerKind(h string) string {
 
 // headText returns src with the text of the [[node]] and [[edge]] sections
 // taken out but their line breaks kept, so that what is left decodes to the
-// other tables with the lines of the whole file.
+// other tables with the lines of the whole file. The line breaks of
+// sections after the last other text are left out too: the head of a large
+// file is then its first lines only, not a line break per line of it.
 func headText(src string, lay *layout) string {
 	var secs []section
 	secs = append(secs, lay.nodes...)
 	secs = append(secs, lay.edges...)
 	sortSections(secs)
 	var b strings.Builder
-	at := 0
+	at, run := 0, 0        // text before at is handled; src[run:at] is sections not yet written as line breaks
+	put := func(end int) { // the other text src[at:end]
+		b.WriteString(strings.Repeat("\n", strings.Count(src[run:at], "\n")))
+		b.WriteString(src[at:end])
+		run = end
+	}
 	for _, s := range secs {
-		b.WriteString(src[at:s.start])
-		b.WriteString(strings.Repeat("\n", strings.Count(src[s.start:s.end], "\n")))
+		if s.start > at {
+			put(s.start)
+		}
 		at = s.end
 	}
-	b.WriteString(src[at:])
+	if at < len(src) {
+		put(len(src))
+	}
 	return b.String()
 }
 
@@ -357,9 +367,12 @@ func (x *sectionIndex) table(kind string, i int) (map[string]any, []string, erro
 	if b == nil || i < b.lo || i >= b.hi {
 		secs := x.sections(kind)
 		j := batch(secs, i)
-		tabs, orders, err := decodeBatch(x.src, x.file, kind, secs, i, j)
-		if err != nil {
-			return nil, nil, err
+		tabs, orders, ok := fastBatch(x.src, kind, secs, i, j, fastTables)
+		if !ok {
+			var err error
+			if tabs, orders, err = decodeBatch(x.src, x.file, kind, secs, i, j); err != nil {
+				return nil, nil, err
+			}
 		}
 		b = &sectionBatch{lo: i, hi: j, tables: tabs, orders: orders}
 		x.cache[kind] = b

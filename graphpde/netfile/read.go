@@ -107,7 +107,7 @@ func read(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	if err != nil {
 		return nil, err
 	}
-	rd := &reader{file: name, opt: opt, nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt}
 	if lay.simple && len(lay.nodes)+len(lay.edges) > 0 && !decodeWhole {
 		// One table at a time: the head (every other table) whole, each
 		// [[node]] and [[edge]] when it is read.
@@ -142,10 +142,9 @@ type reader struct {
 	file     string
 	opt      *Options // context and line record (nil: none)
 	loc      *locator
-	sections *sectionIndex  // when [[node]] and [[edge]] are decoded one at a time
-	nodeLine map[string]int // node id → its index among the [[node]] tables (nodeLineOf gives the line)
-	edgeLine map[string]int // edge id → its index among the [[edge]] tables
-	cells    int64          // cells so far, for the memory guard
+	sections *sectionIndex     // when [[node]] and [[edge]] are decoded one at a time
+	net      *graphpde.Network // being built: node and edge i come from the i-th [[node]] and [[edge]] table (nodeLineOf gives the line)
+	cells    int64             // cells so far, for the memory guard
 
 	params *graphpde.Params // the [parameters] table (nil: none)
 	laws   []lawSpec        // general node laws, compiled once the edges are known
@@ -156,7 +155,7 @@ type reader struct {
 // [[node]] or one [[edge]].
 type tbl struct {
 	rd   *reader
-	obj  string   // as printed in errors
+	obj  string   // as printed in errors ("": object gives it)
 	kind string   // "node" or "edge" for a *graphpde.ModelError, else ""
 	id   string   // the object's id, once known
 	path []string // locator path of the table
@@ -165,6 +164,19 @@ type tbl struct {
 	at    int      // index among the [[node]] or [[edge]] tables
 	pk    string   // pathKey(path), set by line
 	order []string // keys in file order, set by keys (or given by the decoder)
+}
+
+// object names the table in errors: obj if set, else the node's or edge's
+// id once it is known, else its number ("edge #3"). Named on demand: a
+// name per table costs as much as reading the table.
+func (t *tbl) object() string {
+	switch {
+	case t.obj != "" || t.kind == "":
+		return t.obj
+	case t.id != "":
+		return fmt.Sprintf("%s %q", t.kind, t.id)
+	}
+	return fmt.Sprintf("%s #%d", t.kind, t.at+1)
 }
 
 // line returns the line of key (a path below the table) or, failing that,
@@ -195,7 +207,7 @@ func (t *tbl) fail(key, msg string) *Error {
 	} else {
 		ln = t.line(key)
 	}
-	return &Error{File: t.rd.file, Line: ln, Object: t.obj, Msg: msg}
+	return &Error{File: t.rd.file, Line: ln, Object: t.object(), Msg: msg}
 }
 
 // bad reports an inadmissible value of field given by key, wrapping a
@@ -538,6 +550,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		return nil, top.fail(k, unknownKey(k, topKeys)+" at the top level (the tables are [network], [parameters], [defaults], [[node]] and [[edge]])")
 	}
 	net := &graphpde.Network{}
+	rd.net = net
 	objLine := 0
 	if v, ok := root["network"]; ok {
 		m, isTable := v.(map[string]any)
@@ -615,6 +628,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		}
 		*sec.dst = tables{n: len(arr), get: func(i int) (map[string]any, []string, error) { return arr[i], nil, nil }}
 	}
+	net.Reserve(nodes.n, edges.n)
 	var splits []splitSpec
 	for i := range nodes.n {
 		if i%stopEvery == 0 {
@@ -626,7 +640,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if err != nil {
 			return nil, err
 		}
-		t := &tbl{rd: rd, obj: fmt.Sprintf("node #%d", i+1), kind: "node", at: i, path: []string{"node", index(i)}, m: m, order: order}
+		t := &tbl{rd: rd, kind: "node", at: i, path: []string{"node", index(i)}, m: m, order: order}
 		nd, split, err := rd.node(t)
 		if err != nil {
 			return nil, err
@@ -649,7 +663,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if err != nil {
 			return nil, err
 		}
-		t := &tbl{rd: rd, obj: fmt.Sprintf("edge #%d", i+1), kind: "edge", at: i, path: []string{"edge", index(i)}, m: m, order: order}
+		t := &tbl{rd: rd, kind: "edge", at: i, path: []string{"edge", index(i)}, m: m, order: order}
 		if err := rd.edge(net, t, &def); err != nil {
 			return nil, err
 		}
@@ -683,7 +697,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 // modelError wraps an error of AddNode or AddEdge (which the reader's own
 // checks should have caught first) with the line of its field.
 func (rd *reader) modelError(t *tbl, err error, line func(field string) int) error {
-	e := &Error{File: rd.file, Line: t.line(), Object: t.obj, Msg: err.Error(), Err: err}
+	e := &Error{File: rd.file, Line: t.line(), Object: t.object(), Msg: err.Error(), Err: err}
 	var me *graphpde.ModelError
 	if errors.As(err, &me) {
 		e.Msg = me.Reason
@@ -708,7 +722,10 @@ func (rd *reader) tableLine(kind string, i int) int {
 
 // nodeLineOf returns the line of node id's id key, 0 if it is unknown.
 func (rd *reader) nodeLineOf(id string) int {
-	if i, ok := rd.nodeLine[id]; ok {
+	if rd.net == nil {
+		return 0
+	}
+	if i, ok := rd.net.NodeIndex(id); ok {
 		return rd.tableLine("node", i)
 	}
 	return 0
@@ -716,15 +733,19 @@ func (rd *reader) nodeLineOf(id string) int {
 
 // edgeLineOf returns the line of edge id's id key, 0 if it is unknown.
 func (rd *reader) edgeLineOf(id string) int {
-	if i, ok := rd.edgeLine[id]; ok {
+	if rd.net == nil {
+		return 0
+	}
+	if i, ok := rd.net.EdgeIndex(id); ok {
 		return rd.tableLine("edge", i)
 	}
 	return 0
 }
 
-// id reads and checks the id of a node or edge table, renaming t.obj;
-// seen maps the ids so far to their tables' indices.
-func (rd *reader) id(t *tbl, seen map[string]int) error {
+// id reads and checks the id of a node or edge table (which names it in
+// errors from then on); seen gives the index of an id met before (the
+// network's index: table i is node or edge i).
+func (rd *reader) id(t *tbl, seen func(string) (int, bool)) error {
 	if _, ok := t.m["id"]; !ok {
 		return t.fail("", `missing key "id"`)
 	}
@@ -736,20 +757,18 @@ func (rd *reader) id(t *tbl, seen map[string]int) error {
 		return t.fail("id", fmt.Sprintf("id %q must be letters, digits, '_', '-' or '.'", id))
 	}
 	t.id = id
-	t.obj = fmt.Sprintf("%s %q", t.kind, id)
-	if first, dup := seen[id]; dup {
-		return &Error{File: rd.file, Line: t.line("id"), Object: t.obj,
+	if first, dup := seen(id); dup {
+		return &Error{File: rd.file, Line: t.line("id"), Object: t.object(),
 			Msg: fmt.Sprintf("duplicate id (first used at line %d)", rd.tableLine(t.kind, first)),
 			Err: &graphpde.ModelError{Object: t.kind, ID: id, Reason: "duplicate id"}}
 	}
-	seen[id] = t.at
 	return nil
 }
 
 // node reads one [[node]] table.
 func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 	nd := graphpde.Node{}
-	if err := rd.id(t, rd.nodeLine); err != nil {
+	if err := rd.id(t, rd.net.NodeIndex); err != nil {
 		return nd, nil, err
 	}
 	nd.ID = t.id
@@ -812,7 +831,7 @@ func (rd *reader) node(t *tbl) (graphpde.Node, map[string]any, error) {
 
 // edge reads one [[edge]] table and adds it to net.
 func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
-	if err := rd.id(t, rd.edgeLine); err != nil {
+	if err := rd.id(t, rd.net.EdgeIndex); err != nil {
 		return err
 	}
 	if err := rd.edgeModel(t); err != nil {
@@ -854,7 +873,7 @@ func (rd *reader) edge(net *graphpde.Network, t *tbl, def *edgeVals) error {
 	if ev.cells > 0 {
 		rd.cells += int64(ev.cells)
 		if rd.cells > MemoryLimit/BytesPerCell {
-			return &Error{File: rd.file, Line: ev.lineOf("cells"), Object: t.obj, Msg: tooManyCells(rd.cells)}
+			return &Error{File: rd.file, Line: ev.lineOf("cells"), Object: t.object(), Msg: tooManyCells(rd.cells)}
 		}
 	}
 	e := graphpde.Edge{ID: t.id, From: ends[0], To: ends[1], Length: ev.length, A: ev.a, B: ev.b, C: ev.c, F: ev.f, Rho: ev.rho, Weight: ev.w, Cells: ev.cells}
@@ -883,7 +902,7 @@ func tooManyCells(total int64) string {
 // split checks and normalises a node's split table.
 func (rd *reader) split(net *graphpde.Network, s splitSpec) error {
 	t := s.t
-	st := &tbl{rd: rd, obj: t.obj, kind: "node", id: t.id, path: append(slices.Clip(t.path), "split"), m: s.m}
+	st := &tbl{rd: rd, obj: t.object(), kind: "node", id: t.id, path: append(slices.Clip(t.path), "split"), m: s.m}
 	p := make(map[string]float64, len(s.m))
 	var sum float64
 	for _, k := range st.keys() {

@@ -153,6 +153,6 @@ func readSWC(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 		})
 	}
 	root := map[string]any{"node": nodes, "edge": edges}
-	rd := &reader{file: name, opt: opt, loc: lineLocator(nodes, edges, nodeLines, edgeLines), nodeLine: make(map[string]int), edgeLine: make(map[string]int)}
+	rd := &reader{file: name, opt: opt, loc: lineLocator(nodes, edges, nodeLines, edgeLines)}
 	return rd.network(root)
 }

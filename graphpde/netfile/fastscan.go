@@ -1,0 +1,458 @@
+package netfile
+
+import (
+	"math"
+	"strconv"
+	"strings"
+)
+
+// The [[node]] and [[edge]] tables of a large file are nearly all of its
+// text and nearly all alike: a header and a few lines of the form
+// key = value, with a number, a string or a one-line array of those. The
+// TOML library decodes them at about 10 MB/s; fastTables reads that simple
+// form directly, into the same maps the library would build, at several
+// times the speed. It accepts only text whose meaning under TOML 1.0 it is
+// sure of and declines (returns ok = false) on anything else: multi-line
+// strings and arrays, inline tables, dotted or quoted keys, dates, hex,
+// octal and binary integers, escapes other than \b \t \n \f \r \" \\,
+// control characters, bytes outside ASCII, a key given twice, any syntax
+// error. A batch it declines is decoded by the library, so that what the
+// reader accepts, the values it builds and every error message and line
+// are those of the library (TestFastTablesSameAsLibrary,
+// FuzzFastTables).
+
+// fastTables switches the direct reading of simple [[node]] and [[edge]]
+// tables (tests compare it with the library's decoding).
+var fastTables = true
+
+// fastBatch reads the [[kind]] sections secs[i:j] (adjacent in src) in the
+// simple form, returning their tables and the keys of each in file order,
+// or ok = false if any of them is not in that form (or on is false).
+func fastBatch(src, kind string, secs []section, i, j int, on bool) (tabs []map[string]any, orders [][]string, ok bool) {
+	if !on {
+		return nil, nil, false
+	}
+	tabs = make([]map[string]any, 0, j-i)
+	orders = make([][]string, 0, j-i)
+	var kv []fastKV
+	for n := i; n < j; n++ {
+		var m map[string]any
+		var order []string
+		m, order, kv, ok = fastSection(src[secs[n].start:secs[n].end], kind, kv[:0])
+		if !ok {
+			return nil, nil, false
+		}
+		tabs = append(tabs, m)
+		orders = append(orders, order)
+	}
+	return tabs, orders, true
+}
+
+// fastKV is one key and its value.
+type fastKV struct {
+	k string
+	v any
+}
+
+// fastSection reads one section: the header [[kind]] and its key = value
+// lines. kv is scratch space, returned for reuse.
+func fastSection(s, kind string, kv []fastKV) (map[string]any, []string, []fastKV, bool) {
+	p := fastParser{s: s}
+	if !p.header(kind) {
+		return nil, nil, kv, false
+	}
+	for {
+		p.blank()
+		if p.eof() {
+			break
+		}
+		switch c := p.s[p.pos]; {
+		case c == '\n':
+			p.pos++
+			continue
+		case c == '\r' && p.pos+1 < len(p.s) && p.s[p.pos+1] == '\n':
+			p.pos += 2
+			continue
+		case c == '#':
+			if !p.comment() {
+				return nil, nil, kv, false
+			}
+			continue
+		}
+		k, ok := p.key()
+		if !ok {
+			return nil, nil, kv, false
+		}
+		for _, x := range kv {
+			if x.k == k {
+				return nil, nil, kv, false // the library words the error
+			}
+		}
+		p.blank()
+		if p.eof() || p.s[p.pos] != '=' {
+			return nil, nil, kv, false
+		}
+		p.pos++
+		p.blank()
+		v, ok := p.value(true)
+		if !ok || !p.lineEnd() {
+			return nil, nil, kv, false
+		}
+		kv = append(kv, fastKV{k, v})
+	}
+	m := make(map[string]any, len(kv))
+	order := make([]string, len(kv))
+	for n, x := range kv {
+		m[x.k] = x.v
+		order[n] = x.k
+	}
+	return m, order, kv, true
+}
+
+// fastParser reads one section's text.
+type fastParser struct {
+	s   string
+	pos int
+}
+
+func (p *fastParser) eof() bool { return p.pos >= len(p.s) }
+
+// blank skips spaces and tabs.
+func (p *fastParser) blank() {
+	for p.pos < len(p.s) && (p.s[p.pos] == ' ' || p.s[p.pos] == '\t') {
+		p.pos++
+	}
+}
+
+// comment skips a comment up to its line's end (not consumed); it declines
+// control characters and bytes outside ASCII.
+func (p *fastParser) comment() bool {
+	for p.pos < len(p.s) {
+		c := p.s[p.pos]
+		switch {
+		case c == '\n':
+			return true
+		case c == '\r':
+			return p.pos+1 < len(p.s) && p.s[p.pos+1] == '\n' && p.next()
+		case c == '\t':
+		case c < 0x20 || c >= 0x7f:
+			return false
+		}
+		p.pos++
+	}
+	return true
+}
+
+// next consumes one byte and reports true.
+func (p *fastParser) next() bool {
+	p.pos++
+	return true
+}
+
+// lineEnd consumes blanks, an optional comment and the line break (or the
+// end of the text) after a value.
+func (p *fastParser) lineEnd() bool {
+	p.blank()
+	if p.eof() {
+		return true
+	}
+	switch p.s[p.pos] {
+	case '#':
+		if !p.comment() {
+			return false
+		}
+		if p.eof() {
+			return true
+		}
+		p.pos++ // the '\n' comment stopped at
+		return true
+	case '\r':
+		if p.pos+1 < len(p.s) && p.s[p.pos+1] == '\n' {
+			p.pos += 2
+			return true
+		}
+		return false
+	case '\n':
+		p.pos++
+		return true
+	}
+	return false
+}
+
+// header reads the line "[[kind]]", with blanks before it and an optional
+// comment after it.
+func (p *fastParser) header(kind string) bool {
+	p.blank()
+	h := "[[" + kind + "]]"
+	if !strings.HasPrefix(p.s[p.pos:], h) {
+		return false
+	}
+	p.pos += len(h)
+	return p.lineEnd()
+}
+
+// key reads a bare key.
+func (p *fastParser) key() (string, bool) {
+	start := p.pos
+	for p.pos < len(p.s) && isBare(p.s[p.pos]) {
+		p.pos++
+	}
+	if p.pos == start {
+		return "", false
+	}
+	return p.s[start:p.pos], true
+}
+
+// value reads a string, number, boolean or (when top) a one-line array of
+// those.
+func (p *fastParser) value(top bool) (any, bool) {
+	if p.eof() {
+		return nil, false
+	}
+	switch c := p.s[p.pos]; {
+	case c == '"':
+		if strings.HasPrefix(p.s[p.pos:], `"""`) {
+			return nil, false
+		}
+		s, ok := p.basic()
+		return s, ok
+	case c == '\'':
+		if strings.HasPrefix(p.s[p.pos:], `'''`) {
+			return nil, false
+		}
+		s, ok := p.literal()
+		return s, ok
+	case c == '[':
+		if !top {
+			return nil, false
+		}
+		return p.array()
+	case c == 't' || c == 'f':
+		for _, w := range [...]string{"true", "false"} {
+			if strings.HasPrefix(p.s[p.pos:], w) {
+				p.pos += len(w)
+				if !p.valueEnd() {
+					return nil, false
+				}
+				return w == "true", true
+			}
+		}
+		return nil, false
+	}
+	return p.number()
+}
+
+// valueEnd reports whether the byte at pos may follow a value.
+func (p *fastParser) valueEnd() bool {
+	if p.eof() {
+		return true
+	}
+	switch p.s[p.pos] {
+	case ' ', '\t', '\n', '\r', '#', ',', ']':
+		return true
+	}
+	return false
+}
+
+// basic reads a one-line basic string with the escapes \b \t \n \f \r \"
+// and \\ (the text is copied: the network keeps no reference to the file).
+func (p *fastParser) basic() (string, bool) {
+	p.pos++ // opening quote
+	start := p.pos
+	var b []byte // set once an escape is met
+	for p.pos < len(p.s) {
+		c := p.s[p.pos]
+		switch {
+		case c == '"':
+			var s string
+			if b == nil {
+				s = strings.Clone(p.s[start:p.pos])
+			} else {
+				s = string(append(b, p.s[start:p.pos]...))
+			}
+			p.pos++
+			return s, true
+		case c == '\\':
+			if p.pos+1 >= len(p.s) {
+				return "", false
+			}
+			var r byte
+			switch p.s[p.pos+1] {
+			case 'b':
+				r = '\b'
+			case 't':
+				r = '\t'
+			case 'n':
+				r = '\n'
+			case 'f':
+				r = '\f'
+			case 'r':
+				r = '\r'
+			case '"':
+				r = '"'
+			case '\\':
+				r = '\\'
+			default:
+				return "", false
+			}
+			b = append(append(b, p.s[start:p.pos]...), r)
+			p.pos += 2
+			start = p.pos
+			continue
+		case c == '\t':
+		case c < 0x20 || c >= 0x7f:
+			return "", false
+		}
+		p.pos++
+	}
+	return "", false
+}
+
+// literal reads a one-line literal string.
+func (p *fastParser) literal() (string, bool) {
+	p.pos++
+	start := p.pos
+	for p.pos < len(p.s) {
+		c := p.s[p.pos]
+		switch {
+		case c == '\'':
+			s := strings.Clone(p.s[start:p.pos])
+			p.pos++
+			return s, true
+		case c == '\t':
+		case c < 0x20 || c >= 0x7f:
+			return "", false
+		}
+		p.pos++
+	}
+	return "", false
+}
+
+// array reads a one-line array of strings, numbers and booleans (a
+// trailing comma allowed).
+func (p *fastParser) array() (any, bool) {
+	p.pos++
+	out := make([]any, 0, 2)
+	for {
+		p.blank()
+		if p.eof() {
+			return nil, false
+		}
+		if p.s[p.pos] == ']' {
+			p.pos++
+			return out, true
+		}
+		v, ok := p.value(false)
+		if !ok {
+			return nil, false
+		}
+		out = append(out, v)
+		p.blank()
+		if p.eof() {
+			return nil, false
+		}
+		switch p.s[p.pos] {
+		case ',':
+			p.pos++
+		case ']':
+			p.pos++
+			return out, true
+		default:
+			return nil, false
+		}
+	}
+}
+
+// digits reads DIGIT *( DIGIT / "_" DIGIT ) and reports whether it read
+// any and whether it held an underscore.
+func (p *fastParser) digits() (ok, under bool) {
+	if p.eof() || !isDigit(p.s[p.pos]) {
+		return false, false
+	}
+	p.pos++
+	for p.pos < len(p.s) {
+		c := p.s[p.pos]
+		switch {
+		case isDigit(c):
+			p.pos++
+		case c == '_' && p.pos+1 < len(p.s) && isDigit(p.s[p.pos+1]):
+			under = true
+			p.pos += 2
+		default:
+			return true, under
+		}
+	}
+	return true, under
+}
+
+func isDigit(c byte) bool { return c >= '0' && c <= '9' }
+
+// number reads a decimal integer (as int64) or a float, inf or nan (as
+// float64), as TOML 1.0 writes them.
+func (p *fastParser) number() (any, bool) {
+	start := p.pos
+	if p.s[p.pos] == '+' || p.s[p.pos] == '-' {
+		p.pos++
+	}
+	for _, w := range [...]string{"inf", "nan"} {
+		if strings.HasPrefix(p.s[p.pos:], w) {
+			neg := p.s[start] == '-'
+			p.pos += 3
+			if !p.valueEnd() {
+				return nil, false
+			}
+			v := math.Inf(1)
+			if w == "nan" {
+				v = math.NaN()
+			}
+			if neg {
+				v = math.Copysign(v, -1)
+			}
+			return v, true
+		}
+	}
+	intStart := p.pos
+	ok, under := p.digits()
+	if !ok || p.s[intStart] == '0' && p.pos-intStart > 1 {
+		return nil, false // no digits, or a leading zero
+	}
+	float := false
+	if p.pos < len(p.s) && p.s[p.pos] == '.' {
+		p.pos++
+		ok, u := p.digits()
+		if !ok {
+			return nil, false
+		}
+		float, under = true, under || u
+	}
+	if p.pos < len(p.s) && (p.s[p.pos] == 'e' || p.s[p.pos] == 'E') {
+		p.pos++
+		if p.pos < len(p.s) && (p.s[p.pos] == '+' || p.s[p.pos] == '-') {
+			p.pos++
+		}
+		ok, u := p.digits()
+		if !ok {
+			return nil, false
+		}
+		float, under = true, under || u
+	}
+	if !p.valueEnd() {
+		return nil, false
+	}
+	text := p.s[start:p.pos]
+	if under {
+		text = strings.ReplaceAll(text, "_", "")
+	}
+	if float {
+		v, err := strconv.ParseFloat(text, 64)
+		if err != nil {
+			return nil, false // out of range: the library words the error
+		}
+		return v, true
+	}
+	v, err := strconv.ParseInt(text, 10, 64)
+	if err != nil {
+		return nil, false
+	}
+	return v, true
+}
