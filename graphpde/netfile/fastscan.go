@@ -26,45 +26,81 @@ import (
 var fastTables = true
 
 // fastBatch reads the [[kind]] sections secs[i:j] (adjacent in src) in the
-// simple form, returning their tables and the keys of each in file order,
-// or ok = false if any of them is not in that form (or on is false).
-func fastBatch(src, kind string, secs []section, i, j int, on bool) (tabs []map[string]any, orders [][]string, ok bool) {
-	if !on {
-		return nil, nil, false
-	}
-	tabs = make([]map[string]any, 0, j-i)
-	orders = make([][]string, 0, j-i)
-	var kv []fastKV
+// simple form, returning the keys and values of each table in file order,
+// or ok = false if any of them is not in that form.
+// The tables are slices of one array, all (given for reuse: the tables
+// of the previous batch, no longer needed), returned with them.
+func fastBatch(src, kind string, secs []section, i, j int, all []fastKV) (kvs [][]fastKV, _ []fastKV, ok bool) {
+	kvs = make([][]fastKV, 0, j-i)
+	all = all[:0]
 	for n := i; n < j; n++ {
-		var m map[string]any
-		var order []string
-		m, order, kv, ok = fastSection(src[secs[n].start:secs[n].end], kind, kv[:0])
-		if !ok {
-			return nil, nil, false
+		from := len(all)
+		if all, ok = fastSection(src[secs[n].start:secs[n].end], kind, all); !ok {
+			return nil, all, false
 		}
-		tabs = append(tabs, m)
-		orders = append(orders, order)
+		kvs = append(kvs, all[from:len(all):len(all)])
 	}
-	return tabs, orders, true
+	return kvs, all, true
 }
 
-// fastKV is one key and its value.
+// fastMap returns the table of a key-value list, as the library decodes it,
+// and its keys in file order.
+func fastMap(kv []fastKV) (map[string]any, []string) {
+	m := make(map[string]any, len(kv))
+	order := make([]string, len(kv))
+	for n, x := range kv {
+		m[x.k] = x.val()
+		order[n] = x.k
+	}
+	return m, order
+}
+
+// fastKV is one key and its value: a string, an integer or a float held
+// as such (no boxing, for the direct reading of direct.go), or a boolean
+// or an array as the library decodes it.
 type fastKV struct {
-	k string
-	v any
+	k   string
+	typ fastType
+	s   string
+	f   float64
+	i   int64
+	v   any
 }
 
-// fastSection reads one section: the header [[kind]] and its key = value
-// lines. kv is scratch space, returned for reuse.
-func fastSection(s, kind string, kv []fastKV) (map[string]any, []string, []fastKV, bool) {
+type fastType uint8
+
+const (
+	fastString fastType = iota
+	fastInt
+	fastFloat
+	fastOther // v
+)
+
+// val returns the value as the library decodes it.
+func (x *fastKV) val() any {
+	switch x.typ {
+	case fastString:
+		return x.s
+	case fastInt:
+		return x.i
+	case fastFloat:
+		return x.f
+	}
+	return x.v
+}
+
+// fastSection reads one section, the header [[kind]] and its key = value
+// lines, appending its keys and values to kv.
+func fastSection(s, kind string, kv []fastKV) ([]fastKV, bool) {
 	p := fastParser{s: s}
 	if !p.header(kind) {
-		return nil, nil, kv, false
+		return kv, false
 	}
+	first := len(kv)
 	for {
 		p.blank()
 		if p.eof() {
-			break
+			return kv, true
 		}
 		switch c := p.s[p.pos]; {
 		case c == '\n':
@@ -75,38 +111,31 @@ func fastSection(s, kind string, kv []fastKV) (map[string]any, []string, []fastK
 			continue
 		case c == '#':
 			if !p.comment() {
-				return nil, nil, kv, false
+				return kv, false
 			}
 			continue
 		}
 		k, ok := p.key()
 		if !ok {
-			return nil, nil, kv, false
+			return kv, false
 		}
-		for _, x := range kv {
+		for _, x := range kv[first:] {
 			if x.k == k {
-				return nil, nil, kv, false // the library words the error
+				return kv, false // the library words the error
 			}
 		}
 		p.blank()
 		if p.eof() || p.s[p.pos] != '=' {
-			return nil, nil, kv, false
+			return kv, false
 		}
 		p.pos++
 		p.blank()
-		v, ok := p.value(true)
-		if !ok || !p.lineEnd() {
-			return nil, nil, kv, false
+		x := fastKV{k: k}
+		if !p.value(&x, true) || !p.lineEnd() {
+			return kv, false
 		}
-		kv = append(kv, fastKV{k, v})
+		kv = append(kv, x)
 	}
-	m := make(map[string]any, len(kv))
-	order := make([]string, len(kv))
-	for n, x := range kv {
-		m[x.k] = x.v
-		order[n] = x.k
-	}
-	return m, order, kv, true
 }
 
 // fastParser reads one section's text.
@@ -204,42 +233,45 @@ func (p *fastParser) key() (string, bool) {
 }
 
 // value reads a string, number, boolean or (when top) a one-line array of
-// those.
-func (p *fastParser) value(top bool) (any, bool) {
+// those into x.
+func (p *fastParser) value(x *fastKV, top bool) bool {
 	if p.eof() {
-		return nil, false
+		return false
 	}
+	var ok bool
 	switch c := p.s[p.pos]; {
 	case c == '"':
 		if strings.HasPrefix(p.s[p.pos:], `"""`) {
-			return nil, false
+			return false
 		}
-		s, ok := p.basic()
-		return s, ok
+		x.typ = fastString
+		x.s, ok = p.basic()
+		return ok
 	case c == '\'':
 		if strings.HasPrefix(p.s[p.pos:], `'''`) {
-			return nil, false
+			return false
 		}
-		s, ok := p.literal()
-		return s, ok
+		x.typ = fastString
+		x.s, ok = p.literal()
+		return ok
 	case c == '[':
 		if !top {
-			return nil, false
+			return false
 		}
-		return p.array()
+		x.typ = fastOther
+		x.v, ok = p.array()
+		return ok
 	case c == 't' || c == 'f':
 		for _, w := range [...]string{"true", "false"} {
 			if strings.HasPrefix(p.s[p.pos:], w) {
 				p.pos += len(w)
-				if !p.valueEnd() {
-					return nil, false
-				}
-				return w == "true", true
+				x.typ, x.v = fastOther, w == "true"
+				return p.valueEnd()
 			}
 		}
-		return nil, false
+		return false
 	}
-	return p.number()
+	return p.number(x)
 }
 
 // valueEnd reports whether the byte at pos may follow a value.
@@ -342,11 +374,11 @@ func (p *fastParser) array() (any, bool) {
 			p.pos++
 			return out, true
 		}
-		v, ok := p.value(false)
-		if !ok {
+		var x fastKV
+		if !p.value(&x, false) {
 			return nil, false
 		}
-		out = append(out, v)
+		out = append(out, x.val())
 		p.blank()
 		if p.eof() {
 			return nil, false
@@ -389,7 +421,7 @@ func isDigit(c byte) bool { return c >= '0' && c <= '9' }
 
 // number reads a decimal integer (as int64) or a float, inf or nan (as
 // float64), as TOML 1.0 writes them.
-func (p *fastParser) number() (any, bool) {
+func (p *fastParser) number(x *fastKV) bool {
 	start := p.pos
 	if p.s[p.pos] == '+' || p.s[p.pos] == '-' {
 		p.pos++
@@ -399,7 +431,7 @@ func (p *fastParser) number() (any, bool) {
 			neg := p.s[start] == '-'
 			p.pos += 3
 			if !p.valueEnd() {
-				return nil, false
+				return false
 			}
 			v := math.Inf(1)
 			if w == "nan" {
@@ -408,20 +440,21 @@ func (p *fastParser) number() (any, bool) {
 			if neg {
 				v = math.Copysign(v, -1)
 			}
-			return v, true
+			x.typ, x.f = fastFloat, v
+			return true
 		}
 	}
 	intStart := p.pos
 	ok, under := p.digits()
 	if !ok || p.s[intStart] == '0' && p.pos-intStart > 1 {
-		return nil, false // no digits, or a leading zero
+		return false // no digits, or a leading zero
 	}
 	float := false
 	if p.pos < len(p.s) && p.s[p.pos] == '.' {
 		p.pos++
 		ok, u := p.digits()
 		if !ok {
-			return nil, false
+			return false
 		}
 		float, under = true, under || u
 	}
@@ -432,12 +465,12 @@ func (p *fastParser) number() (any, bool) {
 		}
 		ok, u := p.digits()
 		if !ok {
-			return nil, false
+			return false
 		}
 		float, under = true, under || u
 	}
 	if !p.valueEnd() {
-		return nil, false
+		return false
 	}
 	text := p.s[start:p.pos]
 	if under {
@@ -446,13 +479,15 @@ func (p *fastParser) number() (any, bool) {
 	if float {
 		v, err := strconv.ParseFloat(text, 64)
 		if err != nil {
-			return nil, false // out of range: the library words the error
+			return false // out of range: the library words the error
 		}
-		return v, true
+		x.typ, x.f = fastFloat, v
+		return true
 	}
 	v, err := strconv.ParseInt(text, 10, 64)
 	if err != nil {
-		return nil, false
+		return false
 	}
-	return v, true
+	x.typ, x.i = fastInt, v
+	return true
 }

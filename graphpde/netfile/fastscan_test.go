@@ -194,10 +194,11 @@ func TestFastSectionAgreesOrDeclines(t *testing.T) {
 // library's decoding, reporting whether the direct reading accepted it.
 func sameTable(t *testing.T, s string) bool {
 	t.Helper()
-	m, order, _, ok := fastSection(s, "edge", nil)
+	kv, ok := fastSection(s, "edge", nil)
 	if !ok {
 		return false
 	}
+	m, order := fastMap(kv)
 	var root map[string]any
 	md, err := toml.Decode(s, &root)
 	if err != nil {

@@ -54,7 +54,11 @@ func nestingError(file string, line int) *Error {
 // than MaxNesting; any other syntax error is left to the TOML library. Cost
 // O(len(src)), memory O(tables).
 func prescan(src, file string) (*layout, error) {
-	lay := &layout{simple: true}
+	// Room for the tables a file written by Write has (a hint: a header
+	// inside a string counts too).
+	lay := &layout{simple: true,
+		nodes: make([]section, 0, strings.Count(src, "[[node]]")),
+		edges: make([]section, 0, strings.Count(src, "[[edge]]"))}
 	var cur *[]section // the array whose last section is open
 	closeSection := func(at int) {
 		if cur != nil {
@@ -221,10 +225,6 @@ func headerKind(h string) string {
 // sections after the last other text are left out too: the head of a large
 // file is then its first lines only, not a line break per line of it.
 func headText(src string, lay *layout) string {
-	var secs []section
-	secs = append(secs, lay.nodes...)
-	secs = append(secs, lay.edges...)
-	sortSections(secs)
 	var b strings.Builder
 	at, run := 0, 0        // text before at is handled; src[run:at] is sections not yet written as line breaks
 	put := func(end int) { // the other text src[at:end]
@@ -232,7 +232,13 @@ func headText(src string, lay *layout) string {
 		b.WriteString(src[at:end])
 		run = end
 	}
-	for _, s := range secs {
+	for n, e := 0, 0; n < len(lay.nodes) || e < len(lay.edges); { // both in file order: merged
+		var s section
+		if e == len(lay.edges) || n < len(lay.nodes) && lay.nodes[n].start < lay.edges[e].start {
+			s, n = lay.nodes[n], n+1
+		} else {
+			s, e = lay.edges[e], e+1
+		}
 		if s.start > at {
 			put(s.start)
 		}
@@ -242,11 +248,6 @@ func headText(src string, lay *layout) string {
 		put(len(src))
 	}
 	return b.String()
-}
-
-// sortSections sorts sections by start (they are disjoint).
-func sortSections(s []section) {
-	slices.SortFunc(s, func(a, b section) int { return a.start - b.start })
 }
 
 // batchBytes is about the most text of [[node]] or [[edge]] tables decoded
@@ -339,6 +340,7 @@ type sectionIndex struct {
 	nodes, edges []section
 	cache        map[string]*sectionBatch // by kind: tables
 	locs         map[string]*sectionBatch // by kind: line locator
+	spare        map[string][]fastKV      // by kind: the array of the last batch's keys and values, reused
 }
 
 // sectionBatch is the decoded tables, or the locator, of sections [lo, hi).
@@ -346,12 +348,13 @@ type sectionBatch struct {
 	lo, hi int
 	tables []map[string]any
 	orders [][]string // keys of each table in file order
+	kvs    [][]fastKV // instead of tables and orders: each table's keys and values in file order (fastscan.go)
 	loc    *locator
 }
 
 func newSectionIndex(src, file string, lay *layout) *sectionIndex {
 	return &sectionIndex{src: src, file: file, nodes: lay.nodes, edges: lay.edges,
-		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch)}
+		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch), spare: make(map[string][]fastKV)}
 }
 
 func (x *sectionIndex) sections(kind string) []section {
@@ -361,23 +364,50 @@ func (x *sectionIndex) sections(kind string) []section {
 	return x.nodes
 }
 
-// table returns the i-th [[kind]] table and its keys in file order.
-func (x *sectionIndex) table(kind string, i int) (map[string]any, []string, error) {
+// load returns the batch that holds the i-th [[kind]] table, decoding it
+// if it is not the last one decoded.
+func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 	b := x.cache[kind]
 	if b == nil || i < b.lo || i >= b.hi {
 		secs := x.sections(kind)
 		j := batch(secs, i)
-		tabs, orders, ok := fastBatch(x.src, kind, secs, i, j, fastTables)
+		b = &sectionBatch{lo: i, hi: j}
+		ok := false
+		if fastTables {
+			b.kvs, x.spare[kind], ok = fastBatch(x.src, kind, secs, i, j, x.spare[kind])
+		}
 		if !ok {
 			var err error
-			if tabs, orders, err = decodeBatch(x.src, x.file, kind, secs, i, j); err != nil {
-				return nil, nil, err
+			if b.tables, b.orders, err = decodeBatch(x.src, x.file, kind, secs, i, j); err != nil {
+				return nil, err
 			}
 		}
-		b = &sectionBatch{lo: i, hi: j, tables: tabs, orders: orders}
 		x.cache[kind] = b
 	}
+	return b, nil
+}
+
+// table returns the i-th [[kind]] table and its keys in file order.
+func (x *sectionIndex) table(kind string, i int) (map[string]any, []string, error) {
+	b, err := x.load(kind, i)
+	if err != nil {
+		return nil, nil, err
+	}
+	if b.kvs != nil {
+		m, order := fastMap(b.kvs[i-b.lo])
+		return m, order, nil
+	}
 	return b.tables[i-b.lo], b.orders[i-b.lo], nil
+}
+
+// simple returns the keys and values of the i-th [[kind]] table when its
+// batch is in the simple form (fastscan.go), else nil.
+func (x *sectionIndex) simple(kind string, i int) []fastKV {
+	b, err := x.load(kind, i)
+	if err != nil || b.kvs == nil {
+		return nil // an error is reported when the table is read
+	}
+	return b.kvs[i-b.lo]
 }
 
 // locatorFor returns the locator of the table at path (node or edge, #i),

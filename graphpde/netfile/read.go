@@ -636,6 +636,11 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 				return nil, err
 			}
 		}
+		if rd.sections != nil {
+			if kv := rd.sections.simple("node", i); kv != nil && rd.directNode(net, kv) {
+				continue
+			}
+		}
 		m, order, err := nodes.get(i)
 		if err != nil {
 			return nil, err
@@ -653,10 +658,16 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 			splits = append(splits, splitSpec{t: t, node: v, m: split})
 		}
 	}
+	direct := rd.sections != nil && plainDefaults(&def)
 	for i := range edges.n {
 		if i%stopEvery == 0 {
 			if err := rd.opt.stopped(rd.file); err != nil {
 				return nil, err
+			}
+		}
+		if direct {
+			if kv := rd.sections.simple("edge", i); kv != nil && rd.directEdge(net, kv, &def) {
+				continue
 			}
 		}
 		m, order, err := edges.get(i)
