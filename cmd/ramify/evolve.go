@@ -372,24 +372,31 @@ func writeProbeCSV(w io.Writer, specs []string, r *graphpde.EvolveResult) error 
 	return cw.Error()
 }
 
+// writeSnapshots writes the t,edge,x,u rows of --snapshots, streamed
+// (csvRows: the bytes encoding/csv with fmtF would write).
 func writeSnapshots(w io.Writer, net *graphpde.Network, r *graphpde.EvolveResult) error {
-	cw := csv.NewWriter(w)
-	if err := cw.Write([]string{"t", "edge", "x", "u"}); err != nil {
-		return err
+	cw := newCSVRows(w)
+	for _, h := range []string{"t", "edge", "x", "u"} {
+		cw.str(h)
 	}
+	cw.end()
 	for _, sn := range r.Snapshots {
 		for e, vals := range sn.Edges {
 			L := net.Edges[e].Length
 			n := len(vals) - 1
 			for i, v := range vals {
-				if err := cw.Write([]string{fmtF(sn.T), net.Edges[e].ID, fmtF(L * float64(i) / float64(n)), fmtF(v)}); err != nil {
-					return err
-				}
+				cw.num(sn.T, 10)
+				cw.str(net.Edges[e].ID)
+				cw.num(L*float64(i)/float64(n), 10)
+				cw.num(v, 10)
+				cw.end()
+			}
+			if cw.err != nil {
+				return cw.err
 			}
 		}
 	}
-	cw.Flush()
-	return cw.Error()
+	return cw.flush()
 }
 
 // plotProbes draws the probe curves (and the crossing times) as SVG.

@@ -2,12 +2,10 @@ package main
 
 import (
 	"context"
-	"encoding/csv"
 	"fmt"
 	"io"
 	"math"
 	"slices"
-	"strconv"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -357,29 +355,43 @@ func fieldHeader(ph *graphpde.Physical) string {
 func writeField(path, input string, sol *graphpde.Solution, step float64, stderr io.Writer) error {
 	rows := 0
 	replaced, err := saveFile(path, []string{input}, func(w io.Writer) error {
-		cw := csv.NewWriter(w)
-		cw.Write([]string{"edge", "x", "u"})
-		var pts []graphpde.FieldPoint
-		for e := range sol.Net.Edges {
-			if step > 0 {
-				pts = sampleEvery(pts[:0], sol, e, step)
-			} else {
-				pts = sol.Sample(pts[:0], e)
-			}
-			id := sol.Net.Edges[e].ID
-			for _, p := range pts {
-				cw.Write([]string{id, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
-			}
-			rows += len(pts)
-		}
-		cw.Flush()
-		return cw.Error()
+		return writeFieldRows(w, sol, step, &rows)
 	})
 	if err != nil {
 		return fmt.Errorf("--field %s: %w", path, err)
 	}
 	wrote(stderr, "solve", path, replaced, fmt.Sprintf("field at %d points on %s", rows, plural(len(sol.Net.Edges), "edge")))
 	return nil
+}
+
+// writeFieldRows writes the edge,x,u rows of --field, streamed (csvRows),
+// counting them in rows.
+func writeFieldRows(w io.Writer, sol *graphpde.Solution, step float64, rows *int) error {
+	cw := newCSVRows(w)
+	cw.str("edge")
+	cw.str("x")
+	cw.str("u")
+	cw.end()
+	var pts []graphpde.FieldPoint
+	for e := range sol.Net.Edges {
+		if step > 0 {
+			pts = sampleEvery(pts[:0], sol, e, step)
+		} else {
+			pts = sol.Sample(pts[:0], e)
+		}
+		id := sol.Net.Edges[e].ID
+		for _, p := range pts {
+			cw.str(id)
+			cw.num(p.X, 10)
+			cw.num(p.U, 12)
+			cw.end()
+		}
+		*rows += len(pts)
+		if cw.err != nil {
+			break
+		}
+	}
+	return cw.flush()
 }
 
 // maxFieldPoints bounds the rows --field-step may ask for.
