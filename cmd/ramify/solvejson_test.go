@@ -10,6 +10,7 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+	"time"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
@@ -188,4 +189,36 @@ cells = 100
 	if !strings.Contains(strings.Join(got.Notes, " "), "not monotone") {
 		t.Errorf("notes %q, want the note that the law is not monotone in u", got.Notes)
 	}
+}
+
+// BenchmarkSolveJSONWhole runs the whole `ramify solve FILE --json` on the
+// 300×300 mesh (the file written by netfile.Write, about 20 MB) and, in
+// turn, the solve alone on the network already read, and reports the
+// ratio of the two minima over the iterations (whole/solve; the issue's
+// goal is ≤ 2). Run with -benchtime 3x or more.
+func BenchmarkSolveJSONWhole(b *testing.B) {
+	file := filepath.Join(b.TempDir(), "mesh.toml")
+	if err := writeMeshFile(file, 300); err != nil {
+		b.Fatal(err)
+	}
+	net, err := load(context.Background(), file)
+	if err != nil {
+		b.Fatal(err)
+	}
+	whole, solve := math.Inf(1), math.Inf(1)
+	for b.Loop() {
+		t0 := time.Now()
+		if code := run(context.Background(), []string{"solve", file, "--json"}, io.Discard, io.Discard); code != 0 {
+			b.Fatalf("exit %d", code)
+		}
+		whole = min(whole, time.Since(t0).Seconds())
+		t0 = time.Now()
+		if _, _, err := solveField(context.Background(), net, graphpde.MethodAuto, 0); err != nil {
+			b.Fatal(err)
+		}
+		solve = min(solve, time.Since(t0).Seconds())
+	}
+	b.ReportMetric(whole/solve, "whole/solve")
+	b.ReportMetric(whole, "whole-s")
+	b.ReportMetric(solve, "solve-s")
 }

@@ -3,6 +3,7 @@ package netfile
 import (
 	"math"
 	"slices"
+	"strings"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/formula"
@@ -69,14 +70,13 @@ func (rd *reader) directNode(net *graphpde.Network, kv []fastKV) bool {
 		x := &kv[n]
 		switch x.k {
 		case "id":
-			if nd.ID, ok = x.s, x.typ == fastString; !ok {
+			if x.typ != fastString {
 				return false
 			}
+			nd.ID, ok = strings.Clone(x.s), true
 		case "xy":
-			xy, ok := plainPair(x.v, finite)
-			if !ok {
-				return false
-			}
+			var xy [2]float64
+			xy, ok = plainPair(x.v, finite)
 			nd.XY = &xy
 		case "fixed":
 			nd.Law.Kind, fixed = vertex.Fixed, true
@@ -124,9 +124,10 @@ func (rd *reader) directEdge(net *graphpde.Network, kv []fastKV, def *edgeVals) 
 		x := &kv[n]
 		switch x.k {
 		case "id":
-			if e.ID, ok = x.s, x.typ == fastString; !ok {
+			if x.typ != fastString {
 				return false
 			}
+			e.ID, ok = strings.Clone(x.s), true
 		case "from", "to":
 			if x.typ != fastString {
 				return false

@@ -8,6 +8,8 @@ import (
 	"path/filepath"
 	"reflect"
 	"slices"
+	"strconv"
+	"strings"
 	"testing"
 
 	"github.com/BurntSushi/toml"
@@ -274,4 +276,67 @@ func FuzzFastTables(f *testing.F) {
 		sameTable(t, "[[edge]]\n"+string(data)+"\n")
 		readBothWays(t, []byte(fmt.Sprintf(fastCaseFile, data)))
 	})
+}
+
+// TestDirectTablesUsed: every table of a generated mesh and of a plain
+// example is read directly (fastSection, directNode, directEdge), so that
+// a change that makes the direct reading decline them (and large files
+// slow again) fails here, not only in the benchmarks.
+func TestDirectTablesUsed(t *testing.T) {
+	var buf bytes.Buffer
+	if err := Write(&buf, gen.SquareMesh(12, 9)); err != nil {
+		t.Fatal(err)
+	}
+	mesh := buf.Bytes()
+	fork, err := os.ReadFile("../../examples/fork.toml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, src := range map[string][]byte{"mesh": mesh, "fork": fork} {
+		var n int
+		net, err := readTOML(bytes.NewReader(src), name, &Options{direct: &n})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if all := len(net.Nodes) + len(net.Edges); n != all {
+			t.Errorf("%s: %d of %d nodes and edges read directly", name, n, all)
+		}
+	}
+}
+
+// TestExactDecimal: the fast conversion of short decimals gives
+// strconv.ParseFloat's value, bit for bit (signed zeros included), on
+// numbers around the 15-digit limit, with many fraction digits, and on
+// random short decimals; forms it does not take are declined.
+func TestExactDecimal(t *testing.T) {
+	cases := []string{"0.0", "-0.0", "+0.5", "1.0", "0.1", "0.3", "299.0", "123456789012345.0", "12345678901234.5",
+		"0.000000000000001", "0.123456789012345", "9.99999999999999", "-7.25", "3.14159265358979"}
+	rnd := uint64(1)
+	for range 20000 {
+		rnd = rnd*6364136223846793005 + 1442695040888963407
+		ip := rnd >> 40 % 100000
+		fp := rnd >> 8 % 1000000000
+		cases = append(cases, fmt.Sprintf("%d.%0*d", ip, 1+int(rnd%9), fp%uint64(math.Pow10(1+int(rnd%9)))))
+	}
+	for _, c := range cases {
+		want, err := strconv.ParseFloat(c, 64)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got, ok := exactDecimal(c)
+		if !ok {
+			if len(strings.Trim(c, "+-.")) <= 15 {
+				t.Errorf("%s declined", c)
+			}
+			continue
+		}
+		if math.Float64bits(got) != math.Float64bits(want) {
+			t.Errorf("%s: %v, strconv %v", c, got, want)
+		}
+	}
+	for _, c := range []string{"1", "1e5", "1234567890123456.0", ".", "1.2.3", "", "-", "inf"} {
+		if _, ok := exactDecimal(c); ok {
+			t.Errorf("%q accepted", c)
+		}
+	}
 }

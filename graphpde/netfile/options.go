@@ -19,6 +19,8 @@ type Options struct {
 	// edge is defined (network files, edge lists, SWC and DOT files; JSON
 	// and GeoJSON leave it empty).
 	Lines *Lines
+
+	direct *int // tests: counts the nodes and edges added by directNode and directEdge
 }
 
 // stopEvery is the number of tables or rows read between two looks at
@@ -26,6 +28,13 @@ type Options struct {
 // this keeps it far below 1% of the reading while a Ctrl-C still stops a
 // reader of a million rows per second within a millisecond or so.
 const stopEvery = 1024
+
+// countDirect counts a node or edge added directly (for tests).
+func (o *Options) countDirect() {
+	if o != nil && o.direct != nil {
+		*o.direct++
+	}
+}
 
 // stopped returns the *Error for a cancelled context, or nil (also for nil
 // options).

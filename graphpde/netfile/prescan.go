@@ -86,8 +86,10 @@ func prescan(src, file string) (*layout, error) {
 			pos++
 			continue
 		case c == '#':
-			for pos < n && src[pos] != '\n' {
-				pos++
+			if i := strings.IndexByte(src[pos:], '\n'); i >= 0 {
+				pos += i
+			} else {
+				pos = n
 			}
 			continue
 		case c == '"' || c == '\'':
@@ -121,6 +123,13 @@ func prescan(src, file string) (*layout, error) {
 			continue
 		}
 		lineStart = false
+		if !prescanSpecial[c] {
+			// A run of bytes that change nothing here (most of a file):
+			// skipped in a tight loop.
+			for pos++; pos < n && !prescanSpecial[src[pos]]; pos++ {
+			}
+			continue
+		}
 		switch c {
 		case '[', '{':
 			depth++
@@ -137,6 +146,10 @@ func prescan(src, file string) (*layout, error) {
 	closeSection(n)
 	return lay, nil
 }
+
+// prescanSpecial marks the bytes prescan must look at once a line has
+// begun: line breaks, comments, quotes and brackets.
+var prescanSpecial = [256]bool{'\n': true, '#': true, '"': true, '\'': true, '[': true, ']': true, '{': true, '}': true}
 
 // lineStartOf returns the offset of the start of the line holding pos.
 func lineStartOf(src string, pos int) int {

@@ -638,6 +638,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		}
 		if rd.sections != nil {
 			if kv := rd.sections.simple("node", i); kv != nil && rd.directNode(net, kv) {
+				rd.opt.countDirect()
 				continue
 			}
 		}
@@ -667,6 +668,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		}
 		if direct {
 			if kv := rd.sections.simple("edge", i); kv != nil && rd.directEdge(net, kv, &def) {
+				rd.opt.countDirect()
 				continue
 			}
 		}
