@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // fwdSystem is the finite-volume discretisation of forward transport (the
@@ -255,23 +256,27 @@ func ForwardOccupation(net *Network, release Point, cells int) ([]float64, error
 	return occ, nil
 }
 
-// ForwardDensity returns where walkers released at release are at each of
-// the times: per time, per edge, the amount of tracer per unit length ρq
-// at the grid vertices x_i = i·Length/cells of the forward solution
-// (Evolve with Forward, tolerance tol, 0 for 1e-6). Node capacities would
-// hold point masses, which this per-edge form cannot carry: a network
-// with one is refused. Each time is its own transient run from 0. Edge
-// capacities that vary along an edge are read at each vertex.
-func ForwardDensity(net *Network, release Point, times []float64, cells int, tol float64) ([][][]float64, error) {
-	for _, nd := range net.Nodes {
-		if nd.Law.Capacity != 0 {
-			return nil, fmt.Errorf("forward density: node %q has a capacity (a point mass), not supported here", nd.ID)
-		}
-	}
+// ForwardAmount is where walkers released at a point are at one time T:
+// per edge the amount per unit length ρq at the grid vertices
+// x_i = i·Length/cells, and per node the point mass ρ_v·Q_v its capacity
+// holds (0 at a node without one). What is neither on an edge nor held at
+// a node has been absorbed or killed.
+type ForwardAmount struct {
+	T     float64
+	Edges [][]float64
+	Nodes []float64
+}
+
+// ForwardAmounts returns where walkers released at release are at each of
+// the times (the forward solution, Evolve with Forward, tolerance tol, 0
+// for 1e-6): the densities on the edges and the point masses at nodes with
+// a capacity. Each time is its own transient run from 0. Edge capacities
+// that vary along an edge are read at each vertex.
+func ForwardAmounts(net *Network, release Point, times []float64, cells int, tol float64) ([]ForwardAmount, error) {
 	if tol == 0 {
 		tol = 1e-6
 	}
-	out := make([][][]float64, len(times))
+	out := make([]ForwardAmount, len(times))
 	for k, t := range times {
 		if !(t >= 0) || math.IsInf(t, 0) {
 			return nil, fmt.Errorf("forward density: time %g must be a finite number ≥ 0", t)
@@ -291,7 +296,12 @@ func ForwardDensity(net *Network, release Point, times []float64, cells int, tol
 		if t == 0 {
 			sn = r.Snapshots[0]
 		}
-		out[k] = make([][]float64, len(net.Edges))
+		fa := ForwardAmount{T: t, Edges: make([][]float64, len(net.Edges)), Nodes: make([]float64, len(net.Nodes))}
+		for v := range net.Nodes {
+			if c := net.Nodes[v].Law.Capacity; c > 0 && net.Nodes[v].Law.Kind != vertex.Fixed {
+				fa.Nodes[v] = c * sn.Nodes[v]
+			}
+		}
 		for e, vals := range sn.Edges {
 			ed := &net.Edges[e]
 			n := len(vals) - 1
@@ -301,8 +311,30 @@ func ForwardDensity(net *Network, release Point, times []float64, cells int, tol
 				_, _, _, _, rho := fvCoefs(ed, float64(i)*h, 0)
 				d[i] = rho * q
 			}
-			out[k][e] = d
+			fa.Edges[e] = d
 		}
+		out[k] = fa
+	}
+	return out, nil
+}
+
+// ForwardDensity returns the edge densities of ForwardAmounts: per time,
+// per edge, ρq at the grid vertices. Node capacities would hold point
+// masses, which this per-edge form cannot carry: a network with one is
+// refused (use ForwardAmounts).
+func ForwardDensity(net *Network, release Point, times []float64, cells int, tol float64) ([][][]float64, error) {
+	for _, nd := range net.Nodes {
+		if nd.Law.Capacity != 0 {
+			return nil, fmt.Errorf("forward density: node %q has a capacity (a point mass), not supported here (use ForwardAmounts)", nd.ID)
+		}
+	}
+	fa, err := ForwardAmounts(net, release, times, cells, tol)
+	if err != nil {
+		return nil, err
+	}
+	out := make([][][]float64, len(fa))
+	for k := range fa {
+		out[k] = fa[k].Edges
 	}
 	return out, nil
 }

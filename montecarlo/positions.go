@@ -73,8 +73,9 @@ func (e *PositionError) Error() string {
 }
 
 // checkPositions validates set.PositionTimes against the model and returns
-// them sorted. Nodes with a leak or a capacity are refused: their visits
-// are tabulated at one radius and cannot be shrunk near a record time.
+// them sorted. Nodes with a leak or a capacity whose arms are walked on
+// intervals and share one decay rate (none with a capacity) stop walkers
+// exactly (positions_sticky.go); other leaky or sticky nodes are refused.
 // Nodes whose arms decay at different rates, or next to an edge with
 // drift or varying coefficients, are visited near a record time by an
 // approximate small star (m.posApprox).
@@ -102,12 +103,14 @@ func (m *model) checkPositions(set *Settings) ([]float64, error) {
 		nd := &m.nodes[v]
 		switch nd.mode {
 		case modeStar:
-			id, _, _, _ := m.net.WalkNode(v)
-			return nil, &PositionError{Node: id, Reason: "it has a leak or a capacity"}
+			if m.pos == nil {
+				m.pos = make([]*posNode, len(m.nodes))
+			}
+			m.pos[v] = m.preparePosStar(v)
 		case modeStarArms:
 			if !nd.posPlain {
 				id, _, _, _ := m.net.WalkNode(v)
-				return nil, &PositionError{Node: id, Reason: "it has a leak or a capacity"}
+				return nil, &PositionError{Node: id, Reason: "it has a leak or a capacity and its arms decay at different rates, carry drift, vary along the edge or decay while a capacity holds the walker"}
 			}
 			m.posApprox = true
 		}

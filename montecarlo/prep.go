@@ -131,6 +131,7 @@ type model struct {
 	shared    map[string]*lazyTable // lazy tables by quantised law (prepare only)
 	posT      []float64             // Settings.PositionTimes, sorted
 	posApprox bool                  // some record may come from an approximate small star
+	pos       []*posNode            // per node: the stop at record times at leaky or sticky nodes
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

@@ -192,6 +192,19 @@ loop:
 				}
 				node, e, x = depart(nd, j, acc)
 			case modeStar:
+				if m.pos != nil && s < math.Inf(1) {
+					// A record time is pending (positions_sticky.go).
+					if o, ok := w.stickyStep(node, t, s, acc); ok {
+						t = o.t
+						val += wgt * o.val
+						if o.done {
+							fate = o.fate
+							break loop
+						}
+						node, e, x = o.node, o.e, o.x
+						continue
+					}
+				}
 				// Fate and arm from one uniform: killed when u ≥ 1/μ,
 				// and the rescaled remainder picks the arm (w_k/W).
 				T := nd.dscale * nd.tab.Draw(rng)

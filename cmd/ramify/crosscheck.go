@@ -101,14 +101,14 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 			}
 		}
 		set.PositionTimes = times
-		fwd, err := interruptible(ctx, func() ([][][]float64, error) {
-			return graphpde.ForwardDensity(net, p, times, *posCells, 0)
+		fwd, err := interruptible(ctx, func() ([]graphpde.ForwardAmount, error) {
+			return graphpde.ForwardAmounts(net, p, times, *posCells, 0)
 		})
 		if err != nil {
 			return fail(stderr, "crosscheck", fmt.Errorf("--positions-at: %w", err))
 		}
 		for k, t := range times {
-			dens = append(dens, crosscheck.Density{T: t, Edges: fwd[k]})
+			dens = append(dens, crosscheck.Density{T: t, Edges: fwd[k].Edges, Nodes: fwd[k].Nodes})
 		}
 	}
 	cc, err := crossCheck(ctx, net, p, *wf.from, m, set, cset, crossOptions{Fit: *fit, Occupation: *occ}, dens, *wf.biasPass)

@@ -7,15 +7,18 @@ import (
 
 	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/montecarlo/compare"
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // Density is the PDE's tracer at one time: per edge, the amount per unit
 // length ρq at the equispaced points x_i = i·L/n, i = 0…n, of the forward
 // solution for walkers released at the start (docs/time-and-spectrum.md
-// §3). Linear between the points.
+// §3), linear between the points; and per node the point mass held by its
+// capacity (nil or 0 where it has none).
 type Density struct {
 	T     float64
 	Edges [][]float64
+	Nodes []float64
 }
 
 // positionLaw is a Density laid out along the network's fixed ordering:
@@ -85,8 +88,10 @@ func (l *positionLaw) cdf(z float64) float64 {
 // T it returns two checks:
 //
 //   - "on-network:t=T": the fraction of walkers still on the network
-//     (neither absorbed nor killed) against the forward solution's total
-//     amount, a proportion;
+//     (neither absorbed nor killed: on an edge or held at a node) against
+//     the forward solution's total amount, a proportion;
+//   - "held:NODE:t=T", per node with a capacity: the fraction of walkers
+//     held there against the forward solution's point mass, a proportion;
 //   - "position:t=T": the one-sample Kolmogorov–Smirnov test of the
 //     walkers' places along the network's fixed ordering (edges in index
 //     order, x along each) against the forward solution's cumulative
@@ -98,8 +103,10 @@ func (l *positionLaw) cdf(z float64) float64 {
 // The KS check's At is the coordinate of the largest gap on that line, and
 // its Note names the place as EDGE@X.
 //
-// Walkers alive at a node are placed at the node's first edge end; walkers
-// whose place is unknown (censored before the time) count with the ended
+// Walkers held at a node with a capacity are off the line (with the ended
+// ones in the KS test, whose law then carries the edges' amount only);
+// walkers alive at another node are placed at the node's first edge end
+// (a null set); walkers whose place is unknown (censored before the time) count with the ended
 // ones, and notes say how many. Decide then applies the family-wise bound
 // over these and any other checks.
 func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Density) ([]compare.Check, []string, error) {
@@ -108,8 +115,15 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 	}
 	nn, ne := net.Size()
 	firstEnd := make([][2]int, nn) // per node: an edge and its side, or edge −1
+	sticky := make([]bool, nn)     // a capacity holds walkers there
+	var stickyNodes []int
 	for v := range nn {
 		firstEnd[v] = [2]int{-1, 0}
+		_, law, ends, _ := net.WalkNode(v)
+		if law.Kind == vertex.Balance && law.Capacity > 0 && len(ends) > 0 {
+			sticky[v] = true
+			stickyNodes = append(stickyNodes, v)
+		}
 	}
 	for e := ne - 1; e >= 0; e-- {
 		_, from, to, _, _, _ := net.WalkEdge(e)
@@ -123,13 +137,20 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 		if err != nil {
 			return nil, nil, err
 		}
+		ts := strconv.FormatFloat(t, 'g', 6, 64)
+		n := int64(len(res.Positions[k]))
 		coords := make([]float64, 0, len(res.Positions[k]))
 		ended, unknown := 0, 0
+		held := make(map[int]int64)
 		for _, p := range res.Positions[k] {
 			switch p.State {
 			case montecarlo.OnEdge:
 				coords = append(coords, l.off[p.Edge]+p.X)
 			case montecarlo.AtNode:
+				if sticky[p.Node] {
+					held[int(p.Node)]++
+					continue
+				}
 				fe := firstEnd[p.Node]
 				if fe[0] < 0 {
 					unknown++
@@ -143,10 +164,26 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 				unknown++
 			}
 		}
-		ts := strconv.FormatFloat(t, 'g', 6, 64)
-		n := int64(len(res.Positions[k]))
-		checks = append(checks, compare.Proportion("on-network:t="+ts, math.Min(1, l.mass), int64(len(coords)), n))
-		c := compare.Distribution("position:t="+ts, coords, l.end, ended+unknown, func(z float64) float64 { return 1 - l.cdf(z) })
+		var heldAll int64
+		var heldPDE float64
+		var heldChecks []compare.Check
+		for _, v := range stickyNodes {
+			pde := 0.0
+			if v < len(dens[k].Nodes) {
+				pde = dens[k].Nodes[v]
+			}
+			if !(pde >= -1e-9) || math.IsInf(pde, 0) {
+				return nil, nil, fmt.Errorf("position density at t = %g: point mass %g at a node is not a finite number ≥ 0", t, pde)
+			}
+			pde = math.Max(0, pde)
+			heldAll += held[v]
+			heldPDE += pde
+			id, _, _, _ := net.WalkNode(v)
+			heldChecks = append(heldChecks, compare.Proportion("held:"+id+":t="+ts, math.Min(1, pde), held[v], n))
+		}
+		checks = append(checks, compare.Proportion("on-network:t="+ts, math.Min(1, l.mass+heldPDE), int64(len(coords))+heldAll, n))
+		checks = append(checks, heldChecks...)
+		c := compare.Distribution("position:t="+ts, coords, l.end, ended+unknown+int(heldAll), func(z float64) float64 { return 1 - l.cdf(z) })
 		c.Note = l.where(net, c.At)
 		checks = append(checks, c)
 		if unknown > 0 {

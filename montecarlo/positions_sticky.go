@@ -1,0 +1,349 @@
+package montecarlo
+
+import (
+	"math"
+	"math/cmplx"
+
+	"github.com/ramify-dev/ramify/internal/laplace"
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// Positions at leaky and sticky nodes (docs/walkers.md §10). A node with
+// a leak β or a capacity ρ_v (modeStar) has visits tabulated at one
+// radius. Near a record time, with s the time left, a walker at it
+//
+//   - takes the full visit when that ends before the record time except
+//     with probability below 3e-11 (its diffusive part (r²/2)(S + T_f) is
+//     at most (r²/2)τ₁ in law, its hold θrL_v, θ = ρ_v/Σw, L_v ~ Exp(μ)
+//     with μ ≥ 1; each gets half of s: s ≥ posU·r² and s ≥ 2·posHold·θr;
+//     without a capacity the whole of s: 2s ≥ posU·r²);
+//   - otherwise, when the star's rim is at least posJump·sqrt(2s) away,
+//     jumps straight to the record time by the exact law of the sticky,
+//     leaky Walsh motion on the unbounded star (the rim is reached within
+//     s with probability at most 4Φ(−posJump) ≈ 4e-9; a capacity only slows
+//     the walker, a leak only removes it);
+//   - otherwise takes a visit of a radius ε = r·2^{−j} of a ladder, the
+//     largest that ends before the record time as above: exact in law at
+//     any radius, with the tables of each level built on first use.
+//
+// The law of the jump (derived; the forward equation of docs/walkers.md §9
+// in the coordinate y on every arm): with W = Σw, k the arms' common decay
+// rate and D(λ) = ρ_v λ + W sqrt(λ + k) + β, the transforms in time of
+// the probability at the node, of the density at distance y on the arms
+// (shared w_e/W among them) and of the probability killed by then are
+//
+//	ρ_v/D,    W e^{−y sqrt(λ+k)}/D,    (β + kW/sqrt(λ+k))/(λD),
+//
+// which add up to 1/λ. The node's injection γ is collected at rate γ/ρ_v
+// while held (per unit local time with ρ_v = 0), so its expected amount by
+// s has the transform γ/(λD), and the expected time on the arms
+// W/(λ sqrt(λ+k) D). The jump adds these expected rewards and occupations
+// (exact in mean, the same as summing them along the path), draws the
+// fate, the arm (w_e/W) and the distance by inverting the transforms on a
+// fixed Talbot contour (internal/laplace, about 1e-11), and for a killed
+// walker the time of death by bisection on the killed probability.
+
+// posHold bounds the hold of a visit near a record time: e^{−posHold} is
+// below 1.4e-11 (derived: L_v ~ Exp(μ), μ ≥ 1).
+const posHold = 25.0
+
+// maxLadder is the deepest ladder level, a radius r·2^{−maxLadder}.
+const maxLadder = 60
+
+// posNode is what a walker needs to stop at a record time at a leaky or
+// sticky node.
+type posNode struct {
+	W, rhoV, beta, gamma float64
+	k                    float64                     // the arms' common decay rate (0 with a capacity)
+	theta                float64                     // ρ_v/W
+	srcRate              float64                     // Σ (w_e/W) f_e/ρ_e
+	levels               [maxLadder + 1]*ladderLevel // index 1…maxLadder
+}
+
+// ladderLevel is a visit at the radius eps = r·2^{−j}: the modeStar rule
+// of prepareBalance at that radius.
+type ladderLevel struct {
+	eps, dscale, pMove, reward float64
+	hold                       bool
+	occ                        []float64 // per arm, with a capacity
+	tab                        *lazyTable
+}
+
+// The fixed Talbot contour at t = 1 (internal/laplace): at time t its nodes
+// are talbotS/t, so e^{t·s} is the constant e^{talbotS} and
+// f(t) = Σ Re(talbotDE_k/t·F(talbotS_k/t)), talbotDE = D·e^{S}.
+var talbotS, talbotDE [laplace.DefaultM]complex128
+
+func init() {
+	c := laplace.TalbotContour(1, laplace.DefaultM)
+	for k := range c.S {
+		talbotS[k] = c.S[k]
+		talbotDE[k] = c.D[k] * cmplx.Exp(c.S[k])
+	}
+}
+
+// preparePosStar sets up the stop at record times at node v (modeStar).
+func (m *model) preparePosStar(v int) *posNode {
+	nd := &m.nodes[v]
+	_, law, ends, split := m.net.WalkNode(v)
+	n := len(ends)
+	alpha := make([]float64, n)
+	for k, end := range ends {
+		alpha[k] = m.edges[end.Edge].alpha[end.Side]
+	}
+	if split != nil {
+		vertex.ApplySplit(alpha, alpha, split)
+	}
+	w := make([]float64, n)
+	type armCo struct{ a, b, c, f, s float64 }
+	co := make([]armCo, n)
+	plain := true
+	pn := &posNode{rhoV: law.Capacity, beta: law.Leak, gamma: law.Inject, k: nd.kill}
+	for k, end := range ends {
+		a, b, c, f, rho := m.armCoeffs(end.Edge, end.Side)
+		s := math.Sqrt(rho / a)
+		co[k] = armCo{a, b, c, f, s}
+		w[k] = alpha[k] * s
+		pn.W += w[k]
+		if b != 0 || c != 0 || f != 0 {
+			plain = false
+		}
+	}
+	for k, end := range ends {
+		_, _, _, f, rho := m.armCoeffs(end.Edge, end.Side)
+		pn.srcRate += w[k] / pn.W * f / rho
+	}
+	pn.theta = pn.rhoV / pn.W
+	build := func(j int) *ladderLevel {
+		eps := math.Ldexp(nd.r, -j)
+		sc := law.StarScales(w, eps)
+		lv := &ladderLevel{eps: eps, dscale: eps * eps / 2, pMove: 1 / (1 + sc.Kappa), hold: sc.Hold > 0}
+		mu, eta := 1+sc.Kappa, sc.Eta
+		lv.tab = m.lazyVisit(mu, eta)
+		var visit vertex.Visit
+		if plain {
+			law.Star(&visit, w, eps)
+		} else {
+			arms := make([]vertex.Arm, n)
+			for k, ac := range co {
+				arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, eps/ac.s)
+			}
+			law.StarArms(&visit, alpha, arms)
+		}
+		lv.reward = visit.Reward
+		if lv.hold {
+			lv.occ = make([]float64, n)
+			for k := range n {
+				lv.occ[k] = eps * eps * w[k] / 2 / (pn.W + eps*law.Leak)
+			}
+		}
+		return lv
+	}
+	// The levels' rules are cheap (O(arms) each); their tables are built
+	// on first use.
+	for j := 1; j <= maxLadder; j++ {
+		pn.levels[j] = build(j)
+	}
+	return pn
+}
+
+// armShare returns w_k/Σw of arm k of nd (from the cumulative cw).
+func armShare(nd *nodeInfo, k int) float64 {
+	hi := 1.0
+	if k < len(nd.arms)-1 {
+		hi = nd.arms[k].cw
+	}
+	if k == 0 {
+		return hi
+	}
+	return hi - nd.arms[k-1].cw
+}
+
+// fits reports whether a visit of radius eps ends within s except with
+// probability below 3e-11.
+func (pn *posNode) fits(eps, s float64) bool {
+	if pn.rhoV == 0 {
+		return 2*s >= posU*eps*eps
+	}
+	return s >= posU*eps*eps && s >= 2*posHold*pn.theta*eps
+}
+
+// stepOut is where a step near a record time leaves the walker.
+type stepOut struct {
+	node, e int
+	x, t    float64
+	val     float64 // reward collected
+	done    bool    // killed or censored (fate)
+	fate    int
+}
+
+// stickyStep moves a walker at leaky or sticky node v (with a record due
+// in s) by one step near the record time; ok is false when the node's full
+// visit ends before the record time and is to be taken as usual.
+func (w *walker) stickyStep(v int, t, s float64, acc *blockAcc) (o stepOut, ok bool) {
+	m := w.m
+	nd := &m.nodes[v]
+	pn := m.pos[v]
+	if pn.fits(nd.r, s) {
+		return o, false
+	}
+	if nd.r >= posJump*math.Sqrt(2*s) {
+		return w.stickyJump(v, pn, t, s), true
+	}
+	j := 1
+	for j < maxLadder && !pn.fits(math.Ldexp(nd.r, -j), s) {
+		j++
+	}
+	lv := pn.levels[j]
+	rng := w.rng
+	T := lv.dscale * lv.tab.Draw(rng)
+	u := rng.Float64()
+	killed := u >= lv.pMove
+	if killed {
+		u = (u - lv.pMove) / (1 - lv.pMove)
+	} else {
+		u /= lv.pMove
+		T += lv.dscale * w.fin.Draw(rng)
+	}
+	a := 0
+	for u >= nd.arms[a].cw {
+		a++
+	}
+	if nd.kill > 0 {
+		var k bool
+		T, k = killClock(rng, T, nd.kill)
+		killed = killed || k
+	}
+	o.node, o.e = -1, -1
+	if t+T > m.timeCap {
+		return stepOut{t: t + T, done: true, fate: Censored}, true
+	}
+	o.t, o.val = t+T, lv.reward
+	if !lv.hold {
+		w.addOcc(nd.arms[a].edge, T)
+	} else {
+		for k := range nd.arms {
+			w.addOcc(nd.arms[k].edge, lv.occ[k])
+		}
+	}
+	if killed {
+		o.done, o.fate = true, Killed
+		return o, true
+	}
+	ar := &nd.arms[a]
+	acc.dep[nd.depOff+a]++
+	o.e = ar.edge
+	if ar.side == 0 {
+		o.x = lv.eps / ar.ys
+	} else {
+		o.x = m.edges[ar.edge].L - lv.eps/ar.ys
+	}
+	return o, true
+}
+
+// stickyJump moves a walker at node v straight to the record time t + s
+// by the exact law of the sticky, leaky motion on the unbounded star.
+func (w *walker) stickyJump(v int, pn *posNode, t, s float64) stepOut {
+	m, rng := w.m, w.rng
+	nd := &m.nodes[v]
+	if t+s > m.timeCap {
+		return stepOut{t: t + s, done: true, fate: Censored}
+	}
+	var pNode, pAway, pKill, inj, occ float64
+	var a [laplace.DefaultM]complex128 // per node: weight·W/(zD), for the distance
+	var z [laplace.DefaultM]complex128
+	for k := range talbotS {
+		lam := talbotS[k] / complex(s, 0)
+		c := talbotDE[k] / complex(s, 0)
+		zk := cmplx.Sqrt(lam + complex(pn.k, 0))
+		d := complex(pn.rhoV, 0)*lam + complex(pn.W, 0)*zk + complex(pn.beta, 0)
+		cd := c / d
+		pNode += real(cd) * pn.rhoV
+		ak := cd * complex(pn.W, 0) / zk
+		pAway += real(ak)
+		pKill += real(cd * (complex(pn.beta, 0) + complex(pn.k*pn.W, 0)/zk) / lam)
+		inj += real(cd/lam) * pn.gamma
+		occ += real(ak / lam)
+		a[k], z[k] = ak, zk
+	}
+	// Expected rewards and times on the arms over the jump.
+	val := inj + pn.srcRate*occ
+	for k := range nd.arms {
+		w.addOcc(nd.arms[k].edge, armShare(nd, k)*occ)
+	}
+	u := rng.Float64() * (pNode + pAway + pKill) // the sum is 1 to about 1e-11
+	switch {
+	case u < pKill:
+		return stepOut{node: -1, e: -1, t: t + pn.deathTime(u, s), val: val, done: true, fate: Killed}
+	case u < pKill+pNode:
+		return stepOut{node: v, e: -1, t: t + s, val: val}
+	}
+	target := u - pKill - pNode
+	// Distance: G(y) = Σ Re(a_k(1 − e^{−z_k y})) = target, G' = Σ Re(a_k z_k e^{−z_k y}).
+	lo, hi := 0.0, nd.r
+	y := math.Min(math.Sqrt(s), 0.5*hi)
+	for range 100 {
+		var g, dg float64
+		for k := range a {
+			e := cmplx.Exp(-z[k] * complex(y, 0))
+			g += real(a[k] * (1 - e))
+			dg += real(a[k] * z[k] * e)
+		}
+		if g < target {
+			lo = y
+		} else {
+			hi = y
+		}
+		next := y - (g-target)/dg
+		if !(next > lo && next < hi) || dg <= 0 {
+			next = 0.5 * (lo + hi)
+		}
+		if math.Abs(next-y) <= 1e-13*(y+math.Sqrt(s)) || hi-lo <= 1e-13*(y+math.Sqrt(s)) {
+			y = next
+			break
+		}
+		y = next
+	}
+	ar := 0
+	for u2 := rng.Float64(); u2 >= nd.arms[ar].cw; {
+		ar++
+	}
+	arm := &nd.arms[ar]
+	L := m.edges[arm.edge].L
+	x := y / arm.ys
+	if arm.side == 1 {
+		x = L - x
+	}
+	x = min(max(x, 0x1p-52*L), L*(1-0x1p-52))
+	return stepOut{node: -1, e: arm.edge, x: x, t: t + s, val: val}
+}
+
+// killedBy returns the probability that a walker at the node is killed
+// within time tau > 0.
+func (pn *posNode) killedBy(tau float64) float64 {
+	var p float64
+	for k := range talbotS {
+		lam := talbotS[k] / complex(tau, 0)
+		c := talbotDE[k] / complex(tau, 0)
+		zk := cmplx.Sqrt(lam + complex(pn.k, 0))
+		d := complex(pn.rhoV, 0)*lam + complex(pn.W, 0)*zk + complex(pn.beta, 0)
+		p += real(c * (complex(pn.beta, 0) + complex(pn.k*pn.W, 0)/zk) / (lam * d))
+	}
+	return p
+}
+
+// deathTime returns the time of death of a walker killed within s whose
+// killed probability by then is target: bisection on killedBy to a
+// relative 1e-12 of s.
+func (pn *posNode) deathTime(target, s float64) float64 {
+	lo, hi := 0.0, s
+	for hi-lo > 1e-12*s {
+		mid := 0.5 * (lo + hi)
+		if pn.killedBy(mid) < target {
+			lo = mid
+		} else {
+			hi = mid
+		}
+	}
+	return 0.5 * (lo + hi)
+}
