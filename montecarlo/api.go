@@ -100,10 +100,14 @@ type Settings struct {
 	// PositionTimes asks for every walker's place at these times
 	// (Result.Positions): the walker is stopped at each of them exactly in
 	// law, as docs/walkers.md ("Positions at fixed times") describes.
-	// Each must be finite, ≥ 0 and within the time cap. Refused with a
-	// shard, and (*PositionError) on networks with a balance node that
-	// has a leak or a capacity (see also Result.PositionApprox). Records
-	// take 24 bytes per walker and time (at most MaxPositionBytes).
+	// Each must be finite, ≥ 0 and within the time cap. Walkers held by a
+	// node's capacity at a record time are recorded AtNode there, walkers
+	// killed by a leak Ended (Killed). Refused with a shard, and
+	// (*PositionError) on networks with a balance node that has a leak or
+	// a capacity and arms that decay at different rates, carry drift,
+	// vary along the edge, or decay under a capacity (see also
+	// Result.PositionApprox). Records take 24 bytes per walker and time
+	// (at most MaxPositionBytes).
 	PositionTimes []float64
 }
 

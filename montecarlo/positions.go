@@ -12,8 +12,9 @@ type PositionState uint8
 const (
 	// OnEdge: on edge Position.Edge at Position.X.
 	OnEdge PositionState = iota
-	// AtNode: alive at node Position.Node (a balance node without edges,
-	// or, with probability of order 1e-12, a record taken at a node).
+	// AtNode: alive at node Position.Node: held by its capacity, or at a
+	// balance node without edges, or, with probability of order 1e-12, a
+	// record taken at a node.
 	AtNode
 	// Ended: absorbed at fixed node Position.Node, or killed
 	// (Position.Node = Killed), before the time.
