@@ -48,9 +48,6 @@ type condEdge struct {
 // whose unknowns are laid out as described: unk maps nodes to unknowns,
 // off and cells give each edge's interior.
 func newCondensed(rs *odeRows, net *Network, unk, off, cells []int) *condensed {
-	if rs.rp == nil {
-		rs.compress()
-	}
 	nb := 0
 	for _, u := range unk {
 		if u >= 0 {

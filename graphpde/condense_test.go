@@ -30,7 +30,6 @@ func TestCondensed(t *testing.T) {
 	}
 	for _, sys := range []odeSystem{fv, fw} {
 		rs := sys.rows()
-		rs.compress()
 		lay := sys.(gridLayout)
 		n, unk, off, cells := lay.layout()
 		c := newCondensed(rs, n, unk, off, cells)

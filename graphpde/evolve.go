@@ -256,9 +256,6 @@ func (ig *trbdf2) factorFor(h float64) (*stepFactor, error) {
 		}
 	}
 	sys := ig.rs
-	if sys.rp == nil {
-		sys.compress()
-	}
 	var f *stepFactor
 	if len(ig.cache) < keepFactors {
 		// every step size has the pattern of K: the first factor's
@@ -749,9 +746,6 @@ func crossingIn(a, m, b, level, start float64) (float64, bool) {
 // *nodesys.SingularError).
 func steadyOf(sys odeSystem, t float64) ([]float64, error) {
 	rs := sys.rows()
-	if rs.rp == nil {
-		rs.compress()
-	}
 	m := nodesys.NewMatrixPattern[float64](rs.n, rs.rp, rs.ci)
 	copy(m.Values(), rs.cv)
 	f := nodesys.NewFactor[float64](nil)

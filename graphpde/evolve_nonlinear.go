@@ -121,9 +121,6 @@ func (s *odeRows) slot(i, j int) int {
 // eval sets g = −K(u) u + r(u, t), the right-hand side of M u̇ = g, and,
 // when jac is not nil, jac = ∂g/∂u in the slots of the compressed rows.
 func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
-	if s.rp == nil {
-		s.compress()
-	}
 	net := s.net
 	clear(g)
 	if jac != nil {
@@ -135,10 +132,18 @@ func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
 		}
 		return nodeValueAt(&net.Nodes[node], t)
 	}
-	addJ := func(i, j int, v float64) {
+	// addJ adds v to the Jacobian's entry (i, j), at its slot in the
+	// grid's pattern (see gridPattern).
+	addJ := func(i, j, slot int, v float64) {
 		if jac != nil && i >= 0 && j >= 0 {
-			jac[s.slot(i, j)] += v
+			jac[slot] += v
 		}
+	}
+	dslot := func(i int) int {
+		if i < 0 {
+			return -1
+		}
+		return s.pat.dslot[i]
 	}
 	for v := range net.Nodes {
 		i := s.unk[v]
@@ -152,11 +157,11 @@ func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
 			inj = tm.Inject(t)
 		}
 		g[i] += inj - l.Leak*u[i]
-		addJ(i, i, -l.Leak)
+		addJ(i, i, dslot(i), -l.Leak)
 		if nl := nd.Nonlinear; nl != nil && nl.Loss != nil {
 			lv, ld := nl.Loss(u[i])
 			g[i] -= lv
-			addJ(i, i, -ld)
+			addJ(i, i, dslot(i), -ld)
 		}
 	}
 	for e := range net.Edges {
@@ -194,17 +199,18 @@ func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
 			du := ur - ul
 			// row l: + s·R·du; row r: − s·L·du  (da only where b = 0: R = L = a/h)
 			dR := 0.5 * da / h
+			sl := s.pat.eslot[s.base[e]+j]
 			if rl >= 0 {
 				sc := scale(j)
 				g[rl] += sc * R * du
-				addJ(rl, rl, sc*(-R+dR*du))
-				addJ(rl, rr, sc*(R+dR*du))
+				addJ(rl, rl, dslot(rl), sc*(-R+dR*du))
+				addJ(rl, rr, sl[0], sc*(R+dR*du))
 			}
 			if rr >= 0 {
 				sc := scale(j + 1)
 				g[rr] -= sc * L * du
-				addJ(rr, rl, -sc*(-L+dR*du))
-				addJ(rr, rr, -sc*(L+dR*du))
+				addJ(rr, rl, sl[1], -sc*(-L+dR*du))
+				addJ(rr, rr, dslot(rr), -sc*(L+dR*du))
 			}
 		}
 		// vertex shares: m_i (f − c u)
@@ -229,7 +235,7 @@ func (s *nlFV) eval(u []float64, t float64, g, jac []float64) {
 				_, _, c, dc, f, df := coefAtU(ed, x, u[row], t)
 				sc := scale(i)
 				g[row] += sc * m * (f - c*u[row])
-				addJ(row, row, sc*m*(df-c-dc*u[row]))
+				addJ(row, row, dslot(row), sc*m*(df-c-dc*u[row]))
 			}
 			pPrev = p
 		}
@@ -318,9 +324,6 @@ func (ig *trbdf2) stepNL(u, ug, u1, est []float64, t, h float64, wt func(i int) 
 // setupNL prepares the Newton matrices of ig for the system nl.
 func (ig *trbdf2) setupNL(nl *nlFV) {
 	ig.nl = nl
-	if nl.rp == nil {
-		nl.compress()
-	}
 	ig.jac = make([]float64, len(nl.ci))
 	ig.nlMat = nodesys.NewMatrixPattern[float64](nl.n, nl.rp, nl.ci)
 	ig.nlFac = nodesys.NewFactor[float64](nil)

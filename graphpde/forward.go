@@ -34,6 +34,8 @@ type fwdSystem struct {
 	off     []int
 	end     [][2]float64 // per edge: α/a at the from and to ends
 	release *Point
+	pat     *nodePattern // the slots of K (gridPattern)
+	base    []int        // cell j of edge e is element base[e] + j
 }
 
 func newForward(net *Network, cells int, maxUnknowns int64, release *Point) (*fwdSystem, error) {
@@ -42,14 +44,17 @@ func newForward(net *Network, cells int, maxUnknowns int64, release *Point) (*fw
 	}
 	s := &fwdSystem{net: net, end: make([][2]float64, len(net.Edges)), release: release}
 	var err error
-	if s.unk, s.cells, s.off, _, s.n, err = gridNumbering(net, cells, maxUnknowns); err != nil {
+	var nb int
+	if s.unk, s.cells, s.off, nb, s.n, err = gridNumbering(net, cells, maxUnknowns); err != nil {
 		return nil, err
 	}
 	s.M = make([]float64, s.n)
+	s.pat, s.base = gridPattern(net, s.unk, s.cells, s.off, nb, s.n)
+	s.setPattern(s.pat)
 	for v := range net.Nodes {
 		if i := s.unk[v]; i >= 0 {
 			l := net.Nodes[v].Law
-			s.addK(i, i, l.Leak)
+			s.cv[s.pat.dslot[i]] += l.Leak
 			s.M[i] += l.Capacity
 		}
 	}
@@ -91,7 +96,7 @@ func (s *fwdSystem) addEdge(e int) {
 			m = h / 2
 		}
 		s.M[row] += m * rho * f
-		s.addK(row, row, m*c*f)
+		s.cv[s.pat.dslot[row]] += m * c * f
 	}
 	// Fluxes: Φ_j leaves vertex j and enters vertex j+1.
 	for j := 0; j < n; j++ {
@@ -101,17 +106,18 @@ func (s *fwdSystem) addEdge(e int) {
 		rl, fl := s.vertex(e, j)
 		rr, fr := s.vertex(e, j+1)
 		// row j: −Φ on the right side, i.e. +Φ in K; row j+1: −Φ in K.
+		sl := s.pat.eslot[s.base[e]+j]
 		if rl >= 0 {
-			s.addK(rl, rl, cl*fl)
+			s.cv[s.pat.dslot[rl]] += cl * fl
 			if rr >= 0 {
-				s.addK(rl, rr, -cr*fr)
+				s.cv[sl[0]] += -cr * fr
 			}
 		}
 		if rr >= 0 {
 			if rl >= 0 {
-				s.addK(rr, rl, -cl*fl)
+				s.cv[sl[1]] += -cl * fl
 			}
-			s.addK(rr, rr, cr*fr)
+			s.cv[s.pat.dslot[rr]] += cr * fr
 		}
 	}
 }
@@ -223,9 +229,6 @@ func ForwardOccupation(net *Network, release Point, cells int) ([]float64, error
 	s.initial(q0)
 	for i := range q0 {
 		q0[i] *= s.M[i]
-	}
-	if s.rp == nil {
-		s.compress()
 	}
 	m := nodesys.NewMatrixPattern[float64](s.n, s.rp, s.ci)
 	copy(m.Values(), s.cv)

@@ -43,6 +43,10 @@ type fvSystem struct {
 	injT  []int // balance nodes with Time.Inject
 	srcT  []int // edges whose source depends on t
 	scale []float64
+	// The slots of K (gridPattern): cell j of edge e is element
+	// base[e] + j.
+	pat  *nodePattern
+	base []int
 }
 
 // fvCoefs returns a, b, c, f, ρ of edge ed at x and time t, from the plain
@@ -182,13 +186,15 @@ func newFV(net *Network, cells int, maxUnknowns int64) (*fvSystem, error) {
 	s.M = make([]float64, s.n)
 	s.r0 = make([]float64, s.n)
 	s.scale = make([]float64, len(net.Edges))
+	s.pat, s.base = gridPattern(net, s.unk, s.cells, s.off, s.nb, s.n)
+	s.setPattern(s.pat)
 	for v := range net.Nodes {
 		i := s.unk[v]
 		if i < 0 {
 			continue
 		}
 		l := net.Nodes[v].Law
-		s.addK(i, i, l.Leak)
+		s.cv[s.pat.dslot[i]] += l.Leak
 		s.M[i] += l.Capacity
 		s.r0[i] += l.Inject
 		if tm := net.Nodes[v].Time; tm != nil && tm.Inject != nil {
@@ -201,7 +207,77 @@ func newFV(net *Network, cells int, maxUnknowns int64) (*fvSystem, error) {
 			s.srcT = append(s.srcT, e)
 		}
 	}
+	s.rowTriplets()
 	return s, nil
+}
+
+// gridPattern is the node pattern (pattern.go) of the grid of net numbered
+// by gridNumbering (unk, cells, off, nb balance nodes, n unknowns): its
+// system nodes are the network's nodes followed by the interior grid
+// vertices (system node len(net.Nodes) + k is unknown nb + k), its elements
+// the cells of every edge in turn, cell j of edge e being element
+// base[e] + j. Grid assemblies write K's entries straight into its slots:
+// the diagonal of unknown i at dslot[i], the coupling of a cell's left
+// vertex to its right one at eslot[k][0], the reverse at eslot[k][1].
+// Cost O(unknowns + cells).
+func gridPattern(net *Network, unk, cells, off []int, nb, n int) (*nodePattern, []int) {
+	nn := len(net.Nodes)
+	sysUnk := make([]int, nn+n-nb)
+	nodes := make([]int, n)
+	copy(sysUnk, unk)
+	for v, r := range unk {
+		if r >= 0 {
+			nodes[r] = v
+		}
+	}
+	for k := 0; k < n-nb; k++ {
+		sysUnk[nn+k] = nb + k
+		nodes[nb+k] = nn + k
+	}
+	base := make([]int, len(net.Edges))
+	total := 0
+	for e := range net.Edges {
+		base[e] = total
+		total += cells[e]
+	}
+	ends := make([][2]int, total)
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		c := cells[e]
+		vtx := func(i int) int {
+			switch i {
+			case 0:
+				return ed.From
+			case c:
+				return ed.To
+			}
+			return nn + off[e] + i - 1 - nb
+		}
+		for j := 0; j < c; j++ {
+			ends[base[e]+j] = [2]int{vtx(j), vtx(j + 1)}
+		}
+	}
+	return newNodePattern(sysUnk, nodes, ends), base
+}
+
+// setPattern makes K's compressed rows those of p, with values 0.
+func (s *odeRows) setPattern(p *nodePattern) {
+	s.rp, s.ci = p.rowPtr, p.col
+	s.cv = make([]float64, len(p.col))
+}
+
+// rowTriplets sets the triplets kI, kJ, kV from the compressed rows (one
+// per entry, duplicates already summed), for the grid spectrum, which reads
+// K that way.
+func (s *odeRows) rowTriplets() {
+	s.kI = make([]int, len(s.ci))
+	s.kJ = s.ci
+	s.kV = s.cv
+	for i := 0; i < s.n; i++ {
+		for p := s.rp[i]; p < s.rp[i+1]; p++ {
+			s.kI[p] = i
+		}
+	}
 }
 
 // vertexUnknown returns the unknown of vertex i of edge e (−1 at a fixed
@@ -250,17 +326,18 @@ func (s *fvSystem) addEdge(e int) {
 			x := float64(i) * h
 			_, _, c, f, rho := fvCoefs(ed, x, 0)
 			m := vertexShare(i, n, h, pPrev, p)
+			dg := s.pat.dslot[row]
 			if i > 0 {
 				nb, nd := s.vertexUnknown(e, i-1)
-				s.couple(row, nb, nd, -sc*lPrev)
-				s.addK(row, row, sc*lPrev)
+				s.couple(row, s.pat.eslot[s.base[e]+i-1][1], nb, nd, -sc*lPrev)
+				s.cv[dg] += sc * lPrev
 			}
 			if i < n {
 				nb, nd := s.vertexUnknown(e, i+1)
-				s.couple(row, nb, nd, -sc*r)
-				s.addK(row, row, sc*r)
+				s.couple(row, s.pat.eslot[s.base[e]+i][0], nb, nd, -sc*r)
+				s.cv[dg] += sc * r
 			}
-			s.addK(row, row, sc*m*c)
+			s.cv[dg] += sc * m * c
 			s.M[row] += sc * m * rho
 			s.r0[row] += sc * m * f
 		}
@@ -269,65 +346,18 @@ func (s *fvSystem) addEdge(e int) {
 }
 
 // odeRows is M u̇ = −K u + r(t) without r: the unknowns, the diagonal of M
-// and K as triplets (duplicates summed), in assembly order.
+// and K in compressed rows (columns increasing, the diagonal present: the
+// rows of a gridPattern, assembled into its slots).
 type odeRows struct {
-	n      int
+	n  int
+	M  []float64
+	rp []int
+	ci []int
+	cv []float64
+	// K as triplets (i, j, value), one per entry of the rows, for the
+	// grid spectrum (fvSystem only: rowTriplets).
 	kI, kJ []int
 	kV     []float64
-	M      []float64
-	// K in compressed rows, built from the triplets by compress (mulK
-	// builds it on first use).
-	rp, ci []int
-	cv     []float64
-}
-
-// compress builds the compressed rows of K from the triplets: duplicates
-// summed, the diagonal always present, columns increasing (the form
-// nodesys.NewMatrixPattern takes when the pattern is symmetric, as it is
-// for the grids here). Cost O(n + entries).
-func (s *odeRows) compress() {
-	cnt := make([]int, s.n+1)
-	for _, i := range s.kI {
-		cnt[i+1]++
-	}
-	for i := 0; i < s.n; i++ {
-		cnt[i+1] += cnt[i]
-	}
-	tj := make([]int, len(s.kI))
-	tv := make([]float64, len(s.kI))
-	pos := append([]int(nil), cnt[:s.n]...)
-	for k, i := range s.kI {
-		tj[pos[i]] = s.kJ[k]
-		tv[pos[i]] = s.kV[k]
-		pos[i]++
-	}
-	rp := make([]int, s.n+1)
-	ci := make([]int, 0, len(s.kI)+s.n)
-	cv := make([]float64, 0, len(s.kI)+s.n)
-	for i := 0; i < s.n; i++ {
-		start := len(ci)
-		ci = append(ci, i)
-		cv = append(cv, 0)
-		for p := cnt[i]; p < cnt[i+1]; p++ {
-			q := start
-			for ; q < len(ci) && ci[q] != tj[p]; q++ {
-			}
-			if q == len(ci) {
-				ci = append(ci, tj[p])
-				cv = append(cv, 0)
-			}
-			cv[q] += tv[p]
-		}
-		// insertion sort of the short row
-		for x := start + 1; x < len(ci); x++ {
-			for y := x; y > start && ci[y] < ci[y-1]; y-- {
-				ci[y], ci[y-1] = ci[y-1], ci[y]
-				cv[y], cv[y-1] = cv[y-1], cv[y]
-			}
-		}
-		rp[i+1] = len(ci)
-	}
-	s.rp, s.ci, s.cv = rp, ci, cv
 }
 
 func (s *odeRows) rows() *odeRows { return s }
@@ -341,18 +371,8 @@ type odeSystem interface {
 	edgeField(u []float64, e int, t float64) []float64 // values at the grid vertices
 }
 
-// addK accumulates v into K(i, j).
-func (s *odeRows) addK(i, j int, v float64) {
-	s.kI = append(s.kI, i)
-	s.kJ = append(s.kJ, j)
-	s.kV = append(s.kV, v)
-}
-
 // mulK sets dst = K x. Cost O(entries).
 func (s *odeRows) mulK(dst, x []float64) {
-	if s.rp == nil {
-		s.compress()
-	}
 	ci, cv := s.ci, s.cv
 	for i := 0; i < s.n; i++ {
 		sum := 0.0
@@ -363,12 +383,12 @@ func (s *odeRows) mulK(dst, x []float64) {
 	}
 }
 
-// couple adds coefficient v of row's neighbour: into K, or for a fixed
-// neighbour node into the fixed-value couplings (with the sign of the
+// couple adds coefficient v of row's neighbour: into K at slot, or for a
+// fixed neighbour node into the fixed-value couplings (with the sign of the
 // right-hand side).
-func (s *fvSystem) couple(row, nb, node int, v float64) {
+func (s *fvSystem) couple(row, slot, nb, node int, v float64) {
 	if nb >= 0 {
-		s.addK(row, nb, v)
+		s.cv[slot] += v
 		return
 	}
 	s.fixRow = append(s.fixRow, row)
