@@ -217,11 +217,18 @@ func spectrumExactOK(net *Network) (bool, string) {
 // where it cancels (no pivoting): counts would then be wrong within about
 // √eps of such an eigenvalue. With the ends first, the small pivot comes
 // last and the count is right to round-off.
+//
+// The matrix is a nodePattern over the network's nodes and the inner
+// points (system node len(Nodes)+e for edge e) with three elements per
+// edge: the whole edge (element 3e), its piece from the From end to the
+// inner point (3e+1) and from the inner point to the To end (3e+2); the
+// assembly writes into their slots.
 type wwSystem struct {
 	net   *Network
 	unk   []int // node → unknown or −1
 	mid   []int // edge → unknown of its inner point
 	m     int   // balance nodes
+	pat   *nodePattern
 	mat   *nodesys.Matrix[float64]
 	fac   *nodesys.Factor[float64]
 	e, x  []float64
@@ -232,36 +239,16 @@ type wwSystem struct {
 func newWW(net *Network) *wwSystem {
 	nn, ne := len(net.Nodes), len(net.Edges)
 	w := &wwSystem{net: net, unk: make([]int, nn), mid: make([]int, ne)}
-	// Graph of the balance nodes, compressed.
-	bal := make([]int, nn) // node → balance index or −1
-	for v := range net.Nodes {
-		bal[v] = -1
-		if net.Nodes[v].Law.Kind != vertex.Fixed {
-			bal[v] = w.m
-			w.m++
-		}
+	// Minimum-degree order of the balance nodes, on the pattern of the
+	// node system alone (parallel edges merged, loops on the diagonal).
+	bal, balNodes := numberNodes(net)
+	w.m = len(balNodes)
+	ends := make([][2]int, ne)
+	for e := range net.Edges {
+		ends[e] = [2]int{net.Edges[e].From, net.Edges[e].To}
 	}
-	ptr := make([]int, w.m+1)
-	for _, ed := range net.Edges {
-		if i, j := bal[ed.From], bal[ed.To]; i >= 0 && j >= 0 && i != j {
-			ptr[i+1]++
-			ptr[j+1]++
-		}
-	}
-	for i := 0; i < w.m; i++ {
-		ptr[i+1] += ptr[i]
-	}
-	adj := make([]int, ptr[w.m])
-	fill := append([]int(nil), ptr[:w.m]...)
-	for _, ed := range net.Edges {
-		if i, j := bal[ed.From], bal[ed.To]; i >= 0 && j >= 0 && i != j {
-			adj[fill[i]] = j
-			fill[i]++
-			adj[fill[j]] = i
-			fill[j]++
-		}
-	}
-	perm := nodesys.MinimumDegreeOrder(w.m, ptr, adj)
+	np := newNodePattern(bal, balNodes, ends)
+	perm := nodesys.MinimumDegreeOrder(w.m, np.rowPtr, np.col)
 	pos := make([]int, w.m) // balance index → place in perm
 	for k, i := range perm {
 		pos[i] = k
@@ -283,24 +270,37 @@ func newWW(net *Network) *wwSystem {
 		}
 		byEnd[last] = append(byEnd[last], e)
 	}
-	node := make([]int, w.m) // balance index → node
-	for v := range net.Nodes {
-		if bal[v] >= 0 {
-			node[bal[v]] = v
-		}
-	}
 	for v := range w.unk {
 		w.unk[v] = -1
 	}
 	for _, i := range perm {
-		w.unk[node[i]] = next
+		w.unk[balNodes[i]] = next
 		next++
 		for _, e := range byEnd[i] {
 			w.mid[e] = next
 			next++
 		}
 	}
-	w.mat = nodesys.NewMatrix[float64](next)
+	// System nodes: the network's nodes, then the inner points.
+	unk := make([]int, nn+ne)
+	copy(unk, w.unk)
+	for e := range net.Edges {
+		unk[nn+e] = w.mid[e]
+	}
+	nodes := make([]int, next)
+	for s, i := range unk {
+		if i >= 0 {
+			nodes[i] = s
+		}
+	}
+	sends := make([][2]int, 3*ne)
+	for e, ed := range net.Edges {
+		sends[3*e] = [2]int{ed.From, ed.To}
+		sends[3*e+1] = [2]int{ed.From, nn + e}
+		sends[3*e+2] = [2]int{nn + e, ed.To}
+	}
+	w.pat = newNodePattern(unk, nodes, sends)
+	w.mat = nodesys.NewMatrixPattern[float64](next, w.pat.rowPtr, w.pat.col)
 	sym := true
 	// The pivots of an indefinite K(λ) may be small after cancellation
 	// without K being nearly singular (no pivoting); only their signs are
@@ -393,12 +393,14 @@ func countNudged(w eigenCounter, lam, scale float64) (n int, g, lamUsed float64,
 // any subdivision), only the conditioning.
 func (w *wwSystem) countAt(lam float64) (int, float64, error) {
 	net := w.net
+	p := w.pat
+	val := w.mat.Values()
+	clear(val)
 	clamped := 0
-	w.mat.ZeroValues()
 	for v := range net.Nodes {
 		if i := w.unk[v]; i >= 0 {
 			l := net.Nodes[v].Law
-			w.mat.Add(i, i, l.Leak-lam*l.Capacity)
+			val[p.dslot[i]] += l.Leak - lam*l.Capacity
 		}
 	}
 	for e := range net.Edges {
@@ -418,43 +420,45 @@ func (w *wwSystem) countAt(lam float64) (int, float64, error) {
 		split := dist < 0.1 && dist < math.Min(dist1, dist2)
 		if !split {
 			d1, o1, d2, o2 = 0, 0, 0, 0
-			w.mat.Add(mid, mid, 1)
+			val[p.dslot[mid]] += 1
 			clamped += cl
 		} else {
 			diag, off = 0, 0
-			w.mat.Add(mid, mid, a0*(d1+d2))
+			val[p.dslot[mid]] += a0 * (d1 + d2)
 			clamped += c1 + c2
 		}
+		// slots: whole edge (i,j), (j,i); first piece (i,mid), (mid,i);
+		// second piece (mid,j), (j,mid)
+		s0, s1, s2 := p.eslot[3*e], p.eslot[3*e+1], p.eslot[3*e+2]
 		if ed.From == ed.To {
 			if i >= 0 {
 				if split {
-					w.mat.Add(i, i, a0*(d1+d2))
-					w.mat.Add(i, mid, a0*(o1+o2))
-					w.mat.Add(mid, i, a0*(o1+o2))
+					// both pieces join i and mid: their slots are shared
+					val[p.dslot[i]] += a0 * (d1 + d2)
+					val[s1[0]] += a0 * (o1 + o2)
+					val[s1[1]] += a0 * (o1 + o2)
 				} else {
 					// diag + off on both ends: −2k tan(kL/2) without
 					// the cancellation of cot and 1/sin
-					w.mat.Add(i, i, 2*a0*loopDyn(ed, lam))
-					w.mat.Add(i, mid, 0)
-					w.mat.Add(mid, i, 0)
+					val[p.dslot[i]] += 2 * a0 * loopDyn(ed, lam)
 				}
 			}
 			continue
 		}
 		if i >= 0 {
-			w.mat.Add(i, i, a0*(diag+d1))
-			w.mat.Add(i, mid, a0*o1)
-			w.mat.Add(mid, i, a0*o1)
+			val[p.dslot[i]] += a0 * (diag + d1)
+			val[s1[0]] += a0 * o1
+			val[s1[1]] += a0 * o1
 		}
 		if j >= 0 {
-			w.mat.Add(j, j, a1*(diag+d2))
-			w.mat.Add(j, mid, a1*o2)
-			w.mat.Add(mid, j, a1*o2)
+			val[p.dslot[j]] += a1 * (diag + d2)
+			val[s2[0]] += a1 * o2
+			val[s2[1]] += a1 * o2
 		}
 		if i >= 0 && j >= 0 {
 			// a0 = a1 here (spectrumExactOK)
-			w.mat.Add(i, j, a0*off)
-			w.mat.Add(j, i, a0*off)
+			val[s0[0]] += a0 * off
+			val[s0[1]] += a0 * off
 		}
 	}
 	w.facts++
@@ -531,12 +535,17 @@ func eigenScale(net *Network) float64 {
 	return scale
 }
 
-// spectrumExact finds the s.Count smallest eigenvalues by the count.
+// spectrumExact finds the s.Count smallest eigenvalues by the count: below
+// fastLimit with the node system alone, trial values from shift-invert
+// Lanczos and Newton steps (spectrum_fast.go), above it with the split
+// system and the secant.
 func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	w := newWW(net)
 	w.scale = eigenScale(net)
 	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
-	if err := byCount(w, w.scale, s, res); err != nil {
+	c := newExactCounter(net, w)
+	seeds := lanczosSeeds(c, w.scale, s.Count, func() bool { return s.Context.Err() != nil })
+	if err := byCount(c, w.scale, s, res, seeds); err != nil {
 		return nil, err
 	}
 	if s.Modes {
@@ -548,30 +557,97 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	return res, nil
 }
 
+// slopeCounter is an eigenCounter that also gives g'(λ) of its last count
+// (NaN when it has none), for Newton steps.
+type slopeCounter interface {
+	lastSlope() float64
+}
+
+// probeCounter is an eigenCounter whose vector x of g(λ) = 1/(xᵀA(λ)⁻¹x)
+// can be reset (setProbe(nil)) and advanced by one step of inverse
+// iteration at its last count.
+type probeCounter interface {
+	setProbe(x []float64)
+	advanceProbe() bool
+}
+
+func (c *exactCounter) lastSlope() float64 { return c.slope }
+
 // byCount finds the s.Count smallest eigenvalues of a self-adjoint problem
-// by bracketing with the counter c and refining each by a secant on g,
+// by bracketing with the counter c and refining each by Newton steps on g
+// where the counter gives g' (slopeCounter), by a secant on g otherwise,
 // safeguarded by bisection; scale is the size of the smallest eigenvalues.
-func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumResult) error {
+// seeds (nil: none) add counts already taken and estimates of eigenvalues,
+// tried as trial values before bisection.
+func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumResult, seeds *countSeeds) error {
 	absTol := 1e-13 * scale
 	type eval struct {
-		lam, g float64
-		n      int
+		lam, g, slope float64
+		n             int
+	}
+	sc, _ := w.(slopeCounter)
+	pc, _ := w.(probeCounter)
+	count := func(lam float64) (eval, error) {
+		n, g, err := w.countAt(lam)
+		ev := eval{lam: lam, g: g, n: n, slope: math.NaN()}
+		if sc != nil {
+			ev.slope = sc.lastSlope()
+		}
+
+		return ev, err
 	}
 	// Bracket: N(lo) = 0 (every eigenvalue is ≥ 0), N(hi) ≥ Count.
 	// Every evaluation narrows the bracket of every later eigenvalue.
-	evals := []eval{{lam: -0.7 * scale, g: math.NaN()}}
+	evals := []eval{{lam: -0.7 * scale, g: math.NaN(), slope: math.NaN()}}
+	var est []float64
+	if seeds != nil {
+		for _, c := range seeds.counts {
+			evals = append(evals, eval{lam: c.lam, n: c.n, g: math.NaN(), slope: math.NaN()})
+		}
+		est = seeds.est
+	}
 	hi := eval{lam: 1.3 * scale}
-	var err error
-	for {
+	top := math.Inf(1) // least λ counted with N ≥ Count so far
+	base := evals[0]   // greatest λ counted with N < Count so far
+	for _, ev := range evals {
+		if ev.n >= s.Count {
+			top = math.Min(top, ev.lam)
+		} else if ev.lam > base.lam {
+			base = ev
+		}
+	}
+	grow := false // grow the trial value from base while it is below fastLimit
+	if len(est) > 0 && math.IsInf(top, 1) {
+		// just above the estimate of the last wanted eigenvalue
+		j := min(len(est), s.Count) - 1
+		e := est[j]
+		if j+1 < len(est) {
+			hi.lam = 0.5 * (e + est[j+1])
+		} else {
+			hi.lam = e + 0.05*math.Max(e-base.lam, 0) + absTol
+		}
+		grow = true
+	}
+	for math.IsInf(top, 1) {
+		var err error
 		hi.n, hi.g, hi.lam, err = countNudged(w, hi.lam, scale)
 		if err != nil {
 			return err
 		}
+		hi.slope = math.NaN()
 		evals = append(evals, hi)
 		if hi.n >= s.Count || hi.lam > 1e300 {
 			break // (fewer eigenvalues than asked: a network of nodes only)
 		}
-		hi = eval{lam: 2 * hi.lam}
+		next := math.Max(2*hi.lam, 1.3*scale)
+		if grow {
+			// twice as far from the last count below the wanted ones,
+			// which on a dense spectrum is about twice as many
+			if d := base.lam + 2*(hi.lam-base.lam); d > hi.lam && d < next {
+				next = d
+			}
+		}
+		hi = eval{lam: next}
 	}
 	bracket := func(k int) (eval, eval) {
 		l, h := eval{lam: math.Inf(-1)}, eval{lam: math.Inf(1)}
@@ -593,11 +669,17 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 		}
 		k := found + 1
 		l, h := bracket(k)
+
 		if math.IsInf(h.lam, 1) {
 			break
 		}
+		if pc != nil {
+			pc.setProbe(nil)
+		}
+		tried := map[float64]bool{} // estimates evaluated for this k
 		var prev, last *eval
 		shrink, width2 := math.Inf(1), math.Inf(1) // bracket widths one and two steps back
+		lastStep := math.Inf(1)                    // size of the last Newton step
 		var lam float64
 		done := false
 		// add records an evaluation and narrows the bracket with it.
@@ -620,7 +702,7 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 					if x <= l.lam || x >= h.lam {
 						continue
 					}
-					n, _, err := w.countAt(x)
+					ev, err := count(x)
 					var se *nodesys.SingularError
 					if errors.As(err, &se) {
 						continue
@@ -628,7 +710,8 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 					if err != nil {
 						return false, err
 					}
-					add(eval{lam: x, n: n, g: math.NaN()})
+					ev.g, ev.slope = math.NaN(), math.NaN()
+					add(ev)
 				}
 				if h.lam-l.lam < w0 {
 					return true, nil
@@ -646,16 +729,44 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 				done = true
 				break
 			}
-			// Secant on g through the last two evaluations, if it falls
-			// inside the bracket and the bracket has at least halved over
-			// the last two steps; otherwise bisection.
+			// A Newton step on g from the last evaluation where the
+			// counter gives g', if it falls inside the bracket and is
+			// less than half the step before; else a secant on g through
+			// the last two evaluations, if it falls inside the bracket
+			// and the bracket has at least halved over the last two
+			// steps; else an estimate inside the bracket not tried yet;
+			// otherwise bisection.
 			cand := 0.5 * (l.lam + h.lam)
 			secant := false
 			width := h.lam - l.lam
-			if prev != nil && last != nil && last.g != prev.g && !math.IsNaN(last.g) && !math.IsNaN(prev.g) && width <= 0.5*shrink {
+			if last != nil && !math.IsNaN(last.slope) && !math.IsNaN(last.g) && last.slope != 0 {
+				step := -last.g / last.slope
+				c := last.lam + step
+				switch {
+				case math.Abs(step) < tol && last.lam >= l.lam && last.lam <= h.lam:
+					cand, secant = c, true // converged (c may round to last.lam)
+				case c > l.lam && c < h.lam && math.Abs(step) <= 0.5*lastStep:
+					cand, secant = c, true
+					lastStep = math.Abs(step)
+				case pc != nil && (c <= l.lam || c >= h.lam):
+					// The probe is locked onto a mode outside the
+					// bracket: start it afresh.
+					pc.setProbe(nil)
+				}
+			} else if prev != nil && last != nil && math.IsNaN(prev.slope) && last.g != prev.g && !math.IsNaN(last.g) && !math.IsNaN(prev.g) && width <= 0.5*shrink {
 				c := last.lam - last.g*(last.lam-prev.lam)/(last.g-prev.g)
 				if c > l.lam && c < h.lam {
 					cand, secant = c, true
+				}
+			}
+			if !secant {
+				lastStep = math.Inf(1)
+				for _, e := range est {
+					if e > l.lam+tol && e < h.lam-tol && !tried[e] {
+						cand = e
+						tried[e] = true
+						break
+					}
 				}
 			}
 			shrink, width2 = width2, width
@@ -663,16 +774,17 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 				shrink = math.Inf(1) // a bisection restarts the safeguard
 			}
 			if secant && math.Abs(cand-last.lam) < tol {
-				// The secant has converged next to the last evaluation:
-				// one count on the other side of it finishes, or else a
-				// bracket of width 2·tol around it.
+				// The iteration has converged next to the last
+				// evaluation: one count on the other side of it finishes,
+				// or else a bracket of width 2·tol around it.
 				x := cand + tol
 				if last.n >= k {
 					x = cand - tol
 				}
 				if x > l.lam && x < h.lam {
-					if n, _, err := w.countAt(x); err == nil {
-						add(eval{lam: x, n: n, g: math.NaN()})
+					if ev, err := count(x); err == nil {
+						ev.g, ev.slope = math.NaN(), math.NaN()
+						add(ev)
 						if h.lam-l.lam <= 2*tol {
 							continue
 						}
@@ -684,7 +796,7 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 				prev, last = nil, nil
 				continue
 			}
-			n, g, err := w.countAt(cand)
+			ev, err := count(cand)
 			var se *nodesys.SingularError
 			switch {
 			case errors.As(err, &se):
@@ -705,8 +817,11 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 			case err != nil:
 				return err
 			}
-			add(eval{lam: cand, n: n, g: g})
+			add(ev)
 			prev, last = last, &evals[len(evals)-1]
+			if pc != nil {
+				pc.advanceProbe()
+			}
 		}
 		if !done {
 			res.Status = IterationLimit

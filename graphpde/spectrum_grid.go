@@ -109,7 +109,7 @@ func spectrumGrid(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 		r := &SpectrumResult{Method: "grid", SelfAdjoint: self, Status: Converged}
 		if self {
 			gc := newGridCounter(sys)
-			if err := byCount(gc, eigenScale(net), s, r); err != nil {
+			if err := byCount(gc, eigenScale(net), s, r, nil); err != nil {
 				return nil, err
 			}
 			if s.Modes && k == 1 {

@@ -1,0 +1,267 @@
+package graphpde
+
+import (
+	"math"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
+)
+
+// dynSystem is the node matrix K(λ) of the exact elements on the non-fixed
+// nodes alone (no inner points), for values of λ below fastZ on every edge
+// (see fastLimit), where no edge is near one of its clamped eigenvalues and
+// no edge needs splitting. It is assembled through the slots of a
+// nodePattern (no search per entry) and factored with the default
+// minimum-degree ordering, which on a tree is the forest kernel of nodesys:
+// a count costs one pass over the edges for their entries and a few linear
+// passes for the factor.
+//
+// It also keeps the entries of M(λ) = −K'(λ): per unit weight the
+// derivatives of the exact element's entries, which form the Gram matrix
+// ∫ρ φ_i φ_j of the element's shape functions at λ (positive definite on
+// the unknowns), the leak's −ρ_v on the diagonal. The linearised pencil
+// K(σ) − μ M(σ) is what the shift-invert Lanczos of spectrum_fast.go
+// works on.
+type dynSystem struct {
+	net *Network
+	pat *nodePattern
+	mat *nodesys.Matrix[float64]
+	fac *nodesys.Factor[float64]
+	n   int
+	w   []float64 // edge → weight α (the same at both unknown ends)
+	// Per edge the weighted entries of the last assembly: diagonal kd
+	// (both ends; a loop's whole contribution), off-diagonal ko; and those
+	// of M: md, mo.
+	kd, ko, md, mo []float64
+	// Per unknown: leak − λ·capacity, and the capacity.
+	nk, nm []float64
+	lam    float64
+	facts  int
+	e, x   []float64
+}
+
+// fastZ is the largest kL (k² = (λρ − c)/a) of any edge in the fast
+// window: entries of K(λ) stay within about 10 times their size at λ = c/ρ,
+// and no edge is anywhere near its first clamped eigenvalue (kL = π), where
+// the count splits edges (|sin kL| < 0.1).
+const fastZ = 0.9 * math.Pi
+
+// fastLimit returns the upper end of the fast window: the least λ at which
+// an edge reaches kL = fastZ (+Inf when none does: no capacity on any
+// edge).
+func fastLimit(net *Network) float64 {
+	lim := math.Inf(1)
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		if ed.Rho > 0 {
+			lim = math.Min(lim, (ed.C+ed.A*(fastZ/ed.Length)*(fastZ/ed.Length))/ed.Rho)
+		}
+	}
+	return lim
+}
+
+func newDyn(net *Network) *dynSystem {
+	unk, nodes := numberNodes(net)
+	ends := make([][2]int, len(net.Edges))
+	ne := len(net.Edges)
+	d := &dynSystem{net: net, n: len(nodes), w: make([]float64, ne),
+		kd: make([]float64, ne), ko: make([]float64, ne), md: make([]float64, ne), mo: make([]float64, ne)}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		ends[e] = [2]int{ed.From, ed.To}
+		d.w[e] = ed.EndWeight(0)
+		if unk[ed.From] < 0 {
+			d.w[e] = ed.EndWeight(1) // (the weight at a fixed end does not enter)
+		}
+	}
+	d.pat = newNodePattern(unk, nodes, ends)
+	d.mat = nodesys.NewMatrixPattern[float64](d.n, d.pat.rowPtr, d.pat.col)
+	sym := true
+	d.fac = nodesys.NewFactor[float64](&nodesys.Settings{Symmetric: &sym, PivotTol: 0x1p-60})
+	d.nk, d.nm = make([]float64, d.n), make([]float64, d.n)
+	d.e, d.x = make([]float64, d.n), make([]float64, d.n)
+	for i := range d.e {
+		d.e[i] = 1 + 0.5*math.Sin(1.7*float64(i)+0.3)
+	}
+	return d
+}
+
+// assemble sets the matrix values to K(λ) and the element arrays to K(λ)'s
+// and M(λ)'s entries. Cost O(nodes + edges).
+func (d *dynSystem) assemble(lam float64) {
+	net := d.net
+	p := d.pat
+	val := d.mat.Values()
+	clear(val)
+	d.lam = lam
+	for i, v := range p.nodes {
+		l := net.Nodes[v].Law
+		d.nk[i] = l.Leak - lam*l.Capacity
+		d.nm[i] = l.Capacity
+		val[p.dslot[i]] = d.nk[i]
+	}
+	for e := range net.Edges {
+		ed := &net.Edges[e]
+		w := d.w[e]
+		en := p.ends[e]
+		r0, r1 := p.unk[en[0]], p.unk[en[1]]
+		diag, off, dm, om := edgeDynAll(ed, ed.Length, lam)
+		if en[0] == en[1] {
+			if r0 >= 0 {
+				k := 2 * w * loopDyn(ed, lam)
+				d.kd[e], d.ko[e] = k, 0
+				d.md[e], d.mo[e] = -2*w*(dm+om), 0
+				val[p.dslot[r0]] += k
+			}
+			continue
+		}
+		d.kd[e], d.ko[e] = w*diag, w*off
+		d.md[e], d.mo[e] = -w*dm, -w*om
+		sl := p.eslot[e]
+		if r0 >= 0 {
+			val[p.dslot[r0]] += w * diag
+			if r1 >= 0 {
+				val[sl[0]] += w * off
+				val[sl[1]] += w * off
+			}
+		}
+		if r1 >= 0 {
+			val[p.dslot[r1]] += w * diag
+		}
+	}
+}
+
+// countAt assembles and factors K(λ): N(λ) is its number of negative
+// pivots (no edge has a clamped eigenvalue below λ in the fast window),
+// g(λ) = 1/(eᵀK(λ)⁻¹e) as for the other counters.
+func (d *dynSystem) countAt(lam float64) (int, float64, error) {
+	d.assemble(lam)
+	d.facts++
+	return inertiaSecant(d.fac, d.mat, d.e, d.x, "node")
+}
+
+func (d *dynSystem) factorizations() int { return d.facts }
+
+// mulK sets y = K(λ)x for the λ of the last assembly. Cost O(nodes + edges).
+func (d *dynSystem) mulK(y, x []float64) { d.mul(y, x, d.nk, d.kd, d.ko) }
+
+// mulM sets y = M(λ)x = −K'(λ)x for the λ of the last assembly.
+func (d *dynSystem) mulM(y, x []float64) { d.mul(y, x, d.nm, d.md, d.mo) }
+
+func (d *dynSystem) mul(y, x, node, diag, off []float64) {
+	p := d.pat
+	for i := range y {
+		y[i] = node[i] * x[i]
+	}
+	for e, en := range p.ends {
+		r0, r1 := p.unk[en[0]], p.unk[en[1]]
+		if en[0] == en[1] {
+			if r0 >= 0 {
+				y[r0] += diag[e] * x[r0]
+			}
+			continue
+		}
+		switch {
+		case r0 >= 0 && r1 >= 0:
+			y[r0] += diag[e]*x[r0] + off[e]*x[r1]
+			y[r1] += diag[e]*x[r1] + off[e]*x[r0]
+		case r0 >= 0:
+			y[r0] += diag[e] * x[r0]
+		case r1 >= 0:
+			y[r1] += diag[e] * x[r1]
+		}
+	}
+}
+
+// edgeDynDeriv returns the derivatives in λ of the entries of edgeDyn (per
+// unit weight, piece of length L). With w = qL² = (λρ − c)L²/a the entries
+// are F(w)/L and −G(w)/L, F(w) = z cot z and G(w) = z/sin z for z = √w
+// (z coth z and z/sinh z for w < 0), so
+//
+//	d diag/dλ = (ρL/a) F'(w),   d off/dλ = −(ρL/a) G'(w),
+//
+// F'(w) = (cot z − z/sin²z)/(2z), G'(w) = (1/sin z − z cos z/sin²z)/(2z)
+// (derived), with the Taylor series of z cot z and z/sin z (Abramowitz and
+// Stegun, Handbook of Mathematical Functions, 4.3.70 and 4.3.68) for
+// |w| < 0.01, and exponentially scaled forms for large negative w. At w = 0
+// they are −ρL/(3a) and −ρL/(6a): the consistent mass matrix of a linear
+// element, as it must be (M = −K' is the Gram matrix of the shape
+// functions).
+func edgeDynDeriv(ed *Edge, L, lam float64) (dDiag, dOff float64) {
+	a, c, rho := ed.A, ed.C, ed.Rho
+	w := (lam*rho - c) / a * L * L
+	var fp, gp float64
+	switch {
+	case math.Abs(w) < 0.01:
+		fp = -1.0/3 - w*(2.0/45+w*(6.0/945+w*4.0/4725))
+		gp = 1.0/6 + w*(7.0/180+w*(31.0/5040+w*127.0/151200))
+	case w > 0:
+		z := math.Sqrt(w)
+		s, co := math.Sincos(z)
+		fp = (co/s - z/(s*s)) / (2 * z)
+		gp = (1/s - z*co/(s*s)) / (2 * z)
+	default:
+		z := math.Sqrt(-w)
+		e2 := math.Exp(-2 * z)
+		den := -math.Expm1(-2 * z) // 1 − e^{−2z}
+		coth := (1 + e2) / den
+		ez := math.Exp(-z)
+		// z/sinh²z = 4z e^{−2z}/(1 − e^{−2z})², 1/sinh z = 2e^{−z}/(1 − e^{−2z}),
+		// cosh z/sinh²z = 2e^{−z}(1 + e^{−2z})/(1 − e^{−2z})²
+		fp = -(coth - 4*z*e2/(den*den)) / (2 * z)
+		gp = -(2*ez/den - 2*z*ez*(1+e2)/(den*den)) / (2 * z)
+	}
+	return rho * L / a * fp, -rho * L / a * gp
+}
+
+// edgeDynAll returns the entries of edgeDyn and their derivatives of
+// edgeDynDeriv with one evaluation of the trigonometric or exponential
+// functions (the values as edgeDyn forms them).
+func edgeDynAll(ed *Edge, L, lam float64) (diag, off, dDiag, dOff float64) {
+	a, c, rho := ed.A, ed.C, ed.Rho
+	q := (lam*rho - c) / a
+	w := q * L * L
+	var fp, gp float64
+	small := math.Abs(w) < 0.01
+	if small {
+		fp = -1.0/3 - w*(2.0/45+w*(6.0/945+w*4.0/4725))
+		gp = 1.0/6 + w*(7.0/180+w*(31.0/5040+w*127.0/151200))
+	}
+	switch {
+	case q > 0:
+		z := math.Sqrt(q) * L
+		if z < 1e-4 {
+			z2 := z * z
+			diag = 1 - z2/3
+			off = -(1 + z2/6)
+		} else {
+			s, co := math.Sincos(z)
+			diag = z * co / s
+			off = -z / s
+			if !small {
+				fp = (co/s - z/(s*s)) / (2 * z)
+				gp = (1/s - z*co/(s*s)) / (2 * z)
+			}
+		}
+	case q < 0:
+		z := math.Sqrt(-q) * L
+		if z < 1e-4 {
+			z2 := z * z
+			diag = 1 + z2/3
+			off = -(1 - z2/6)
+		} else {
+			e2 := math.Exp(-2 * z)
+			den := -math.Expm1(-2 * z)
+			ez := math.Exp(-z)
+			diag = z * (1 + e2) / den
+			off = -2 * z * ez / den
+			if !small {
+				coth := (1 + e2) / den
+				fp = -(coth - 4*z*e2/(den*den)) / (2 * z)
+				gp = -(2*ez/den - 2*z*ez*(1+e2)/(den*den)) / (2 * z)
+			}
+		}
+	default:
+		diag, off = 1, -1
+	}
+	return diag / L, off / L, rho * L / a * fp, -rho * L / a * gp
+}

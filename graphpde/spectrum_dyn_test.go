@@ -1,0 +1,41 @@
+package graphpde
+
+import (
+	"math"
+	"testing"
+)
+
+// TestEdgeDynDeriv checks the derivatives of the exact element's entries
+// in λ against central differences of edgeDyn (step 1e-6 of the scale of
+// λ: truncation about 1e-12, rounding about 1e-10 relative, so 1e-7), on
+// both sides of q = 0, in the series range and near kL = π; and that at
+// q = 0 they are minus the consistent mass matrix ρL/3, ρL/6 of a linear
+// element (derived: M = −K' is the Gram matrix of the shape functions,
+// which are linear at q = 0). The merged edgeDynAll must give the same
+// values as edgeDyn and edgeDynDeriv.
+func TestEdgeDynDeriv(t *testing.T) {
+	const fdTol = 1e-7
+	ed := &Edge{A: 1.7, C: 0.3, Rho: 1.3}
+	for _, L := range []float64{0.05, 0.7, 2.3} {
+		for _, w := range []float64{-400, -30, -1, -0.02, -0.005, -1e-9, 0, 1e-9, 0.005, 0.02, 1, 5, 9} {
+			lam := (w/(L*L)*ed.A + ed.C) / ed.Rho
+			dd, do := edgeDynDeriv(ed, L, lam)
+			h := 1e-6 * math.Max(1, math.Abs(lam))
+			d1, o1, _, _ := edgeDyn(ed, L, lam+h)
+			d0, o0, _, _ := edgeDyn(ed, L, lam-h)
+			fd, fo := (d1-d0)/(2*h), (o1-o0)/(2*h)
+			if math.Abs(dd-fd) > fdTol*math.Max(1, math.Abs(fd)) || math.Abs(do-fo) > fdTol*math.Max(1, math.Abs(fo)) {
+				t.Errorf("L=%g w=%g: derivative %.10g %.10g, differences %.10g %.10g", L, w, dd, do, fd, fo)
+			}
+			d, o, _, _ := edgeDyn(ed, L, lam)
+			ad, ao, add, ado := edgeDynAll(ed, L, lam)
+			if ad != d || ao != o || math.Abs(add-dd) > 1e-14*math.Abs(dd) || math.Abs(ado-do) > 1e-14*math.Abs(do)+1e-300 {
+				t.Errorf("L=%g w=%g: edgeDynAll %g %g %g %g, want %g %g %g %g", L, w, ad, ao, add, ado, d, o, dd, do)
+			}
+		}
+		dd, do := edgeDynDeriv(ed, L, ed.C/ed.Rho)
+		if m := ed.Rho * L / ed.A; math.Abs(dd+m/3) > 1e-15*m || math.Abs(do+m/6) > 1e-15*m {
+			t.Errorf("L=%g: at q = 0 %g %g, want %g %g", L, dd, do, -m/3, -m/6)
+		}
+	}
+}

@@ -1,0 +1,136 @@
+package graphpde
+
+import (
+	"context"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"testing"
+
+	"github.com/ramify-dev/ramify/vertex"
+)
+
+// fastNet draws a random network for the fast path: a random tree of n
+// nodes (one fixed), some extra edges closing cycles, a self-loop, leaks
+// and capacities at some nodes, and an equilateral star of arms sealed
+// at their tips hung on a random node, whose modes that vanish at the
+// star's centre give multiple eigenvalues (derived: on each arm
+// cos(k(L − x)), any combination of arms with zero sum at the centre).
+func fastNet(r *rand.Rand, n, arms int) *Network {
+	net := &Network{}
+	u := func(lo, hi float64) float64 { return lo + (hi-lo)*r.Float64() }
+	for i := range n {
+		law := vertex.Law{Kind: vertex.Balance}
+		switch {
+		case i == 0:
+			law = vertex.Law{Kind: vertex.Fixed}
+		case r.Float64() < 0.2:
+			law.Leak = u(0.01, 0.5)
+		case r.Float64() < 0.2:
+			law.Capacity = u(0.1, 2)
+		}
+		net.AddNode(Node{ID: fmt.Sprintf("n%d", i), Law: law})
+	}
+	edge := func(from, to int, L, a float64) {
+		net.AddEdge(Edge{ID: fmt.Sprintf("e%d", len(net.Edges)), From: from, To: to, Length: L, A: a, C: u(0, 0.3)})
+	}
+	for i := 1; i < n; i++ {
+		edge(r.IntN(i), i, u(0.5, 2), u(0.5, 2))
+	}
+	for range 1 + n/5 {
+		i, j := 1+r.IntN(n-1), 1+r.IntN(n-1)
+		edge(i, j, u(0.5, 2), u(0.5, 2)) // a cycle, or a self-loop when i = j
+	}
+	if arms > 0 {
+		centre := 1 + r.IntN(n-1)
+		L, a, c := u(0.5, 1.5), u(0.5, 2), u(0, 0.3)
+		for k := range arms {
+			tip, _ := net.AddNode(Node{ID: fmt.Sprintf("tip%d", k), Law: vertex.Law{Kind: vertex.Balance}})
+			net.AddEdge(Edge{ID: fmt.Sprintf("arm%d", k), From: centre, To: tip, Length: L, A: a, C: c})
+		}
+	}
+	return net
+}
+
+// TestSpectrumFastAgainstCount: the fast path (Lanczos trial values,
+// Newton steps, node system alone below fastLimit) against the plain count
+// with bisection and secant on the split system (byCount on wwSystem
+// without seeds), on random trees with cycles, loops and multiple
+// eigenvalues. Both bracket every eigenvalue between two counts, so the
+// values must agree within the sum of their brackets (about 1e-13 of the
+// scale each, plus a few units of round-off), and the multiplicities, the
+// jumps of the count, exactly.
+func TestSpectrumFastAgainstCount(t *testing.T) {
+	r := rand.New(rand.NewPCG(11, 5))
+	multiple, fast := 0, 0
+	for trial := range 12 {
+		n, arms, count := 5+r.IntN(40), 2+r.IntN(4), 12
+		if trial == 11 {
+			n, arms, count = 1000, 3, 20 // the size of a bench network
+		}
+		net := fastNet(r, n, arms)
+		t.Run(fmt.Sprint(trial), func(t *testing.T) {
+			got, err := Spectrum(net, &SpectrumSettings{Count: count, Method: MethodExact})
+			if err != nil {
+				t.Fatal(err)
+			}
+			w := newWW(net)
+			w.scale = eigenScale(net)
+			ref := &SpectrumResult{Status: Converged}
+			if err := byCount(w, w.scale, &SpectrumSettings{Count: count, Context: context.Background()}, ref, nil); err != nil {
+				t.Fatal(err)
+			}
+			if got.Status != Converged || ref.Status != Converged {
+				t.Fatalf("status %v, reference %v", got.Status, ref.Status)
+			}
+			if len(got.Eigenvalues) != len(ref.Eigenvalues) {
+				t.Fatalf("%d distinct eigenvalues %v, reference %d %v", len(got.Eigenvalues), got.Eigenvalues, len(ref.Eigenvalues), ref.Eigenvalues)
+			}
+			lim := fastLimit(net)
+			for i, e := range got.Eigenvalues {
+				f := ref.Eigenvalues[i]
+				if e.Multiplicity != f.Multiplicity {
+					t.Errorf("λ_%d = %.15g: multiplicity %d, reference %d", i+1, e.Value, e.Multiplicity, f.Multiplicity)
+				}
+				if d := math.Abs(e.Value - f.Value); d > e.Err+f.Err+1e-14*math.Abs(f.Value) {
+					t.Errorf("λ_%d = %.16g ± %.1e, reference %.16g ± %.1e", i+1, e.Value, e.Err, f.Value, f.Err)
+				}
+				if e.Multiplicity > 1 && e.Value < lim {
+					multiple++
+				}
+				if e.Value < lim {
+					fast++
+				}
+			}
+			t.Logf("n=%d: %d factorisations (count alone %d); %d distinct eigenvalues, below the fast limit %.3g: %d", n, got.Stats.Factorizations, ref.Stats.Factorizations, len(got.Eigenvalues), lim, fast)
+		})
+	}
+	// The trials must have exercised what they claim to check.
+	if multiple == 0 || fast == 0 {
+		t.Errorf("multiple eigenvalues in the fast window: %d, eigenvalues there: %d", multiple, fast)
+	}
+}
+
+// TestDynCountAgainstSplit: below fastLimit the node system alone and the
+// split system (whose inner points are then decoupled) count the same
+// number of eigenvalues (Sylvester's law of inertia, any elimination
+// order), at random λ on random networks.
+func TestDynCountAgainstSplit(t *testing.T) {
+	r := rand.New(rand.NewPCG(3, 9))
+	for range 20 {
+		net := fastNet(r, 5+r.IntN(60), r.IntN(4))
+		d, w := newDyn(net), newWW(net)
+		lim := fastLimit(net)
+		for range 10 {
+			lam := lim * (r.Float64()*1.1 - 0.1)
+			n1, _, err1 := d.countAt(lam)
+			n2, _, err2 := w.countAt(lam)
+			if err1 != nil || err2 != nil {
+				continue // λ an eigenvalue to working precision
+			}
+			if n1 != n2 {
+				t.Errorf("N(%.6g) = %d with the node system, %d split", lam, n1, n2)
+			}
+		}
+	}
+}
