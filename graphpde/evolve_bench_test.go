@@ -2,6 +2,7 @@ package graphpde_test
 
 import (
 	"fmt"
+	"math"
 	"testing"
 	"time"
 
@@ -54,11 +55,15 @@ func BenchmarkSpectrum20(b *testing.B) {
 		b.Run(fmt.Sprintf("edges=%d", edges), func(b *testing.B) {
 			net := gen.RandomTree(edges, 1, 0)
 			for b.Loop() {
-				t0 := time.Now()
-				if _, err := graphpde.Solve(net, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
-					b.Fatal(err)
+				// best of 3 steady solves (the first pays for fresh memory)
+				steady := time.Duration(math.MaxInt64)
+				for range 3 {
+					t0 := time.Now()
+					if _, err := graphpde.Solve(net, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
+						b.Fatal(err)
+					}
+					steady = min(steady, time.Since(t0))
 				}
-				steady := time.Since(t0)
 				r, err := graphpde.Spectrum(net, &graphpde.SpectrumSettings{Count: 20, Method: graphpde.MethodExact})
 				if err != nil {
 					b.Fatal(err)

@@ -35,8 +35,11 @@ import (
 // (Sylvester's law of inertia). N is exact, so no eigenvalue is missed and
 // multiplicities are the jumps of N — also where several edges' sin(kL)
 // vanish together, where a secular Σ cot equation loses roots. Each
-// eigenvalue is bracketed by N and refined by a secant on 1/(eᵀK(λ)⁻¹e),
-// safeguarded by bisection, to a relative width of about 1e-13.
+// eigenvalue is bracketed by N to a width of about 1e-13 of the scale.
+// Below the least λ at which an edge nears a clamped eigenvalue the trial
+// values come from shift-invert Lanczos on the linearised pencil and
+// Newton steps on 1/(xᵀK(λ)⁻¹x) (spectrum_fast.go); above it from a
+// secant on 1/(eᵀK(λ)⁻¹e), safeguarded by bisection either way.
 //
 // Other networks (coefficients varying along edges, drift, unequal end
 // weights) are discretised on the finite-volume grid of the steady solver and

@@ -249,9 +249,12 @@ func edgeDynAll(ed *Edge, L, lam float64) (diag, off, dDiag, dOff float64) {
 			diag = 1 + z2/3
 			off = -(1 - z2/6)
 		} else {
-			e2 := math.Exp(-2 * z)
-			den := -math.Expm1(-2 * z)
 			ez := math.Exp(-z)
+			e2 := ez * ez
+			den := 1 - e2
+			if z < 0.5 {
+				den = -math.Expm1(-2 * z) // (1 − e^{−2z} would cancel)
+			}
 			diag = z * (1 + e2) / den
 			off = -2 * z * ez / den
 			if !small {

@@ -45,6 +45,7 @@ type exactCounter struct {
 	// a count with ww).
 	probe, y, my []float64
 	slope        float64
+	fresh        bool // the probe was reset since the last count
 }
 
 func newExactCounter(net *Network, w *wwSystem) *exactCounter {
@@ -88,10 +89,15 @@ func (c *exactCounter) countAt(lam float64) (int, float64, error) {
 	if x == nil {
 		x = d.e
 	} else {
-		// Two steps of inverse iteration at λ first: g is then that of
-		// (nearly) the mode of the eigenvalue nearest λ, whose pole the
-		// other modes do not disturb.
-		for range 2 {
+		// Steps of inverse iteration at λ first (two after a reset of
+		// the probe, one when it was advanced at the last count): g is
+		// then that of (nearly) the mode of the eigenvalue nearest λ,
+		// whose pole the other modes do not disturb.
+		steps := 1
+		if c.fresh {
+			steps, c.fresh = 2, false
+		}
+		for range steps {
 			d.fac.SolveTo(c.y, x)
 			nrm := math.Sqrt(dot(c.y, c.y))
 			if !(nrm > 0) || math.IsInf(nrm, 0) {
@@ -126,6 +132,7 @@ func (c *exactCounter) setProbe(x []float64) {
 		x = c.dyn.e
 	}
 	copy(c.probe, x)
+	c.fresh = true
 }
 
 // advanceProbe replaces the probe by K(λ)⁻¹x of the last count with dyn,
@@ -184,7 +191,9 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 	if !(sigma < c.lim) || stop() {
 		return seeds
 	}
-	n, est0, err := c.dyn.lanczos(sigma, steps)
+	// (the first shift is for the least eigenvalue and a rough picture:
+	// fewer steps)
+	n, est0, err := c.dyn.lanczos(sigma, min(steps, count+10))
 	if err != nil || len(est0) == 0 {
 		return seeds
 	}

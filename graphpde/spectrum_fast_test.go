@@ -6,6 +6,7 @@ import (
 	"math"
 	"math/rand/v2"
 	"testing"
+	"time"
 
 	"github.com/ramify-dev/ramify/vertex"
 )
@@ -132,5 +133,60 @@ func TestDynCountAgainstSplit(t *testing.T) {
 				t.Errorf("N(%.6g) = %d with the node system, %d split", lam, n1, n2)
 			}
 		}
+	}
+}
+
+// benchTree is the random tree of gen.RandomTree(edges, seed, 0) (the same
+// draws; gen imports this package, so its tests cannot use it).
+func benchTree(edges int, seed uint64) *Network {
+	rnd := rand.New(rand.NewPCG(seed, 0))
+	net := &Network{}
+	net.AddNode(Node{ID: "r0", Law: vertex.Law{Kind: vertex.Fixed}})
+	for k := 1; k <= edges; k++ {
+		net.AddNode(Node{ID: fmt.Sprintf("r%d", k)})
+		net.AddEdge(Edge{ID: fmt.Sprintf("t%d", k), From: rnd.IntN(k), To: k,
+			Length: 0.5 + 1.5*rnd.Float64(), A: 0.5 + 1.5*rnd.Float64(), C: 0.2 * rnd.Float64(), F: 1})
+	}
+	return net
+}
+
+// BenchmarkSpectrumPaths times, in one run, the 20 smallest eigenvalues of
+// the bench's random tree by the fast path (Spectrum) and by the plain
+// count (byCount on the split system, no seeds: the path before it),
+// each against the best of three steady exact solves of the tree.
+func BenchmarkSpectrumPaths(b *testing.B) {
+	for _, edges := range []int{1000, 10000} {
+		b.Run(fmt.Sprintf("edges=%d", edges), func(b *testing.B) {
+			net := benchTree(edges, 1)
+			for b.Loop() {
+				steady := math.Inf(1)
+				for range 3 {
+					t0 := time.Now()
+					if _, err := Solve(net, &Settings{Method: MethodExact}); err != nil {
+						b.Fatal(err)
+					}
+					steady = math.Min(steady, time.Since(t0).Seconds())
+				}
+				t0 := time.Now()
+				r, err := Spectrum(net, &SpectrumSettings{Count: 20, Method: MethodExact})
+				if err != nil {
+					b.Fatal(err)
+				}
+				fast := time.Since(t0).Seconds()
+				t0 = time.Now()
+				w := newWW(net)
+				w.scale = eigenScale(net)
+				ref := &SpectrumResult{}
+				if err := byCount(w, w.scale, &SpectrumSettings{Count: 20, Context: context.Background()}, ref, nil); err != nil {
+					b.Fatal(err)
+				}
+				plain := time.Since(t0).Seconds()
+				b.ReportMetric(steady, "steady-s")
+				b.ReportMetric(fast/steady, "fast/steady")
+				b.ReportMetric(plain/steady, "plain/steady")
+				b.ReportMetric(float64(r.Stats.Factorizations), "fast-factorisations")
+				b.ReportMetric(float64(ref.Stats.Factorizations), "plain-factorisations")
+			}
+		})
 	}
 }

@@ -125,19 +125,24 @@ func benchTime(w io.Writer, size string) error {
 	fmt.Fprintf(w, "  one step %.3g s = %.2f steady grid solves (%.3g s); 1000 steps = %.0f steady solves (target ≤ 20%s)\n",
 		per, per/steady, steady, 1000*per/steady, unmet(1000*per/steady > 20))
 	sp := gen.RandomTree(spEdges, 1, 0)
-	t0 := time.Now()
-	if _, err := graphpde.Solve(sp, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
-		return err
+	// best of 3 steady solves as the reference (the first one pays for
+	// fresh memory)
+	exactSteady := math.Inf(1)
+	for range 3 {
+		t0 := time.Now()
+		if _, err := graphpde.Solve(sp, &graphpde.Settings{Method: graphpde.MethodExact}); err != nil {
+			return err
+		}
+		exactSteady = math.Min(exactSteady, time.Since(t0).Seconds())
 	}
-	exactSteady := time.Since(t0)
 	r, err := graphpde.Spectrum(sp, &graphpde.SpectrumSettings{Count: 20, Method: graphpde.MethodExact})
 	if err != nil {
 		return err
 	}
+	ratio := r.Stats.Time.Seconds() / exactSteady
 	fmt.Fprintf(w, "spectrum, 20 smallest eigenvalues of a random tree of %d exact edges:\n", spEdges)
-	fmt.Fprintf(w, "  %d factorisations, %.3g s = %.0f steady exact solves (target ≤ 50%s)\n",
-		r.Stats.Factorizations, r.Stats.Time.Seconds(), r.Stats.Time.Seconds()/exactSteady.Seconds(),
-		unmet(r.Stats.Time.Seconds()/exactSteady.Seconds() > 50))
+	fmt.Fprintf(w, "  %d factorisations, %.3g s = %.0f steady exact solves (best of 3, %.3g s) (target ≤ 50%s)\n",
+		r.Stats.Factorizations, r.Stats.Time.Seconds(), ratio, exactSteady, unmet(ratio > 50))
 	return nil
 }
 
