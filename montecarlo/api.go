@@ -109,6 +109,13 @@ type Settings struct {
 	// Result.PositionApprox). Records take 24 bytes per walker and time
 	// (at most MaxPositionBytes).
 	PositionTimes []float64
+	// KeepBlocks keeps the per-block sums of value, lifetime, fates and
+	// hits in Result.Blocks (without occupations, visits, departures or
+	// lifetimes). Two runs with the same seed walk block k from the same
+	// random stream, so their block sums are paired: the standard error of
+	// a difference between the runs follows from the differences of the
+	// block sums (PairedStdErr), including the covariance of the runs.
+	KeepBlocks bool
 }
 
 // BlockSize is the number of walkers per block: the unit of work, of random
@@ -248,6 +255,10 @@ type Result struct {
 	// Part holds the block sums of a sharded run (Settings.Shard), nil
 	// otherwise.
 	Part *Part
+	// Blocks holds the block sums in block order with
+	// Settings.KeepBlocks (Hits only while blocks × nodes stays within
+	// MaxBlockHits), nil otherwise.
+	Blocks []Block
 	// PositionTimes are Settings.PositionTimes in ascending order, and
 	// Positions[k][i] is the place of walker i (of the Finished, in walker
 	// order) at PositionTimes[k]; nil without position times.

@@ -319,6 +319,8 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			Arms: l.arms, DepOff: l.depOff}
 	}
 	var late int64
+	var blocks []Block
+	keepHits := int64(last-first)*int64(len(m.nodes)) <= MaxBlockHits
 	pending := make(map[int]*blockAcc)
 	nextFold := first
 	for acc := range results {
@@ -335,6 +337,9 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 			if part != nil {
 				part.Sums = append(part.Sums, b.toBlock(blockTimes(b.k)))
 			}
+			if s.KeepBlocks {
+				blocks = append(blocks, b.toPairBlock(keepHits))
+			}
 			select {
 			case free <- b:
 			default:
@@ -347,6 +352,7 @@ func Run(ctx context.Context, net Network, start vertex.Point, set *Settings) (*
 
 	res := f.result(&l, N, s.Seed)
 	res.Part = part
+	res.Blocks = blocks
 	done := f.done
 	if positions != nil {
 		res.PositionTimes = m.posT

@@ -453,9 +453,13 @@ func benchControls(w io.Writer, size string) error {
 // fraction and/or half the step has about half the bias: with b = Cε or
 // Cdt, coarse − finer = b/2, the coarse run's bias is twice that
 // difference and the finer run's bias once it; the first-order
-// (Richardson) value 2·finer − coarse removes it (derived). Standard
-// errors combine as if the runs were independent: an upper bound, since
-// runs with the same seed are positively correlated (derived).
+// (Richardson) value 2·finer − coarse removes it (derived). The two runs
+// walk block k of their walkers from the same random stream, so their
+// block sums are paired and positively correlated: standard errors of
+// the estimate and the extrapolation come from the blocks' differences
+// (montecarlo.PairedStdErr), which carry that covariance; with fewer than
+// montecarlo.MinPairedBlocks blocks (or without the coarse run's blocks)
+// they combine as if the runs were independent, an upper bound.
 type biasOut struct {
 	// Halved names the knobs halved in the finer run: "star_fraction"
 	// (frozen visits), "step" (time stepping), or both.
@@ -474,6 +478,40 @@ type biasOut struct {
 	FinerValue      estOut  `json:"finer_value"`
 	// Extrapolated is 2·finer − coarse, free of the first-order bias.
 	Extrapolated estOut `json:"extrapolated"`
+	// PairedBlocks is the number of paired blocks of walkers the standard
+	// errors come from; 0 when they combine the runs' standard errors as
+	// if independent.
+	PairedBlocks int `json:"paired_blocks"`
+}
+
+// Quantities of a run as ratios of block sums, for montecarlo.PairedStdErr.
+var (
+	blockN      = func(b *montecarlo.Block) float64 { return float64(b.N) }
+	blockValue  = func(b *montecarlo.Block) float64 { return b.ValueSum }
+	blockTime   = func(b *montecarlo.Block) float64 { return b.TimeSum }
+	blockExited = func(b *montecarlo.Block) float64 { return float64(b.Exited) }
+	blockKilled = func(b *montecarlo.Block) float64 { return float64(b.Killed) }
+)
+
+// blockHit is the hit count of node v in a block, as a PairedStdErr
+// numerator (NaN without kept hits, which PairedStdErr's callers check).
+func blockHit(v int) func(b *montecarlo.Block) float64 {
+	return func(b *montecarlo.Block) float64 {
+		if v >= len(b.Hits) {
+			return math.NaN()
+		}
+		return float64(b.Hits[v])
+	}
+}
+
+// pairedSE is the standard error of α·coarse + β·fine for the quantity
+// num/den of two runs with paired blocks, or, where they do not pair, of
+// the runs taken as independent (ok false).
+func pairedSE(coarse, fine *montecarlo.Result, c, f montecarlo.Estimate, alpha, beta float64, num, den func(*montecarlo.Block) float64) (se float64, ok bool) {
+	if s, ok := montecarlo.PairedStdErr(coarse.Blocks, fine.Blocks, alpha, beta, num, den); ok && !math.IsNaN(s) {
+		return s, true
+	}
+	return math.Hypot(alpha*c.StdErr, beta*f.StdErr), false
 }
 
 // anyFrozen reports whether some node visit froze varying coefficients.
@@ -525,6 +563,7 @@ func walkBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set 
 	set.TimeCap = coarse.TimeCap
 	set.KeepSamples = false
 	set.PositionTimes = nil
+	set.KeepBlocks = true
 	fine, err := montecarlo.Run(ctx, net, p, &set)
 	if err != nil {
 		return nil, nil, err
@@ -533,9 +572,14 @@ func walkBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set 
 		return nil, nil, errInterrupted
 	}
 	c, f := coarse.Value, fine.Value
-	b.Estimate, b.StdErr = num(2*(c.Mean-f.Mean)), num(2*math.Hypot(c.StdErr, f.StdErr))
+	seB, paired := pairedSE(coarse, fine, c, f, 2, -2, blockValue, blockN)
+	seX, _ := pairedSE(coarse, fine, c, f, -1, 2, blockValue, blockN)
+	if paired {
+		b.PairedBlocks = len(fine.Blocks)
+	}
+	b.Estimate, b.StdErr = num(2*(c.Mean-f.Mean)), num(seB)
 	b.FinerValue = estOut{num(f.Mean), num(f.StdErr)}
-	b.Extrapolated = estOut{num(2*f.Mean - c.Mean), num(math.Hypot(2*f.StdErr, c.StdErr))}
+	b.Extrapolated = estOut{num(2*f.Mean - c.Mean), num(seX)}
 	return b, fine, nil
 }
 

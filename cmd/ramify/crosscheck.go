@@ -172,23 +172,25 @@ type crossResult struct {
 // a false disagreement, while one far beyond the error bars still does.
 func widenByBias(coarse, fine *montecarlo.Result) (*montecarlo.Result, *crosscheck.Widen) {
 	w := *coarse
-	extra := func(c, f montecarlo.Estimate) float64 {
+	// Each quantity's bias 2·(c − f), with the standard error of that
+	// difference from the paired blocks (pairedSE).
+	extra := func(c, f montecarlo.Estimate, num, den func(*montecarlo.Block) float64) float64 {
 		b := 2 * (c.Mean - f.Mean)
-		sb := 2 * math.Hypot(c.StdErr, f.StdErr)
+		sb, _ := pairedSE(coarse, fine, c, f, 2, -2, num, den)
 		return b*b + sb*sb
 	}
-	widen := func(c, f montecarlo.Estimate) montecarlo.Estimate {
-		c.StdErr = math.Sqrt(c.StdErr*c.StdErr + extra(c, f))
+	widen := func(c, f montecarlo.Estimate, num, den func(*montecarlo.Block) float64) montecarlo.Estimate {
+		c.StdErr = math.Sqrt(c.StdErr*c.StdErr + extra(c, f, num, den))
 		return c
 	}
-	w.Value = widen(coarse.Value, fine.Value)
-	w.ExitTime = widen(coarse.ExitTime, fine.ExitTime)
+	w.Value = widen(coarse.Value, fine.Value, blockValue, blockN)
+	w.ExitTime = widen(coarse.ExitTime, fine.ExitTime, blockTime, blockExited)
 	// Probabilities are checked from their counts; the crosscheck adds the
 	// extra variance to the binomial standard error.
-	pw := &crosscheck.Widen{Hit: make([]float64, len(coarse.Hit)), Killed: extra(coarse.Killed, fine.Killed)}
+	pw := &crosscheck.Widen{Hit: make([]float64, len(coarse.Hit)), Killed: extra(coarse.Killed, fine.Killed, blockKilled, blockN)}
 	for v := range coarse.Hit {
 		if v < len(fine.Hit) {
-			pw.Hit[v] = extra(coarse.Hit[v], fine.Hit[v])
+			pw.Hit[v] = extra(coarse.Hit[v], fine.Hit[v], blockHit(v), blockN)
 		}
 	}
 	return &w, pw
@@ -285,6 +287,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 		set.TimeCap, capNote = tcap, note
 		wset = &set
 	}
+	wset.KeepBlocks = biasPass // pairs the bias pass with this run
 	res, err := montecarlo.Run(ctx, net, p, wset)
 	if err != nil {
 		return nil, err

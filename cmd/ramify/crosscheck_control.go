@@ -170,6 +170,7 @@ func crosscheckControl(ctx context.Context, net *graphpde.Network, file, from st
 		}
 		return r, nil
 	}
+	set.KeepBlocks = biasPass // pairs the bias pass with this run
 	wr, err := run(pn, set.Seed)
 	if err != nil {
 		return fail(stderr, "crosscheck", err)

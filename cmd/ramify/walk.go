@@ -148,6 +148,7 @@ func runWalk(ctx context.Context, args []string, stdout, stderr io.Writer) int {
 		}
 	}
 	set.Shard = shard
+	set.KeepBlocks = *wf.biasPass && shard.Count == 0 // pairs the bias pass with this run
 	res, err := montecarlo.Run(ctx, net, p, set)
 	if bar, ok := set.Recorder.(*progressBar); ok {
 		bar.Done()
