@@ -43,7 +43,7 @@ func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, 
 	lam := complex(real(c)/a, imag(c)/a)
 	CL := complex(L, 0)
 	if b == 0 {
-		kappa := cmplx.Sqrt(lam)
+		kappa := csqrt(lam)
 		z := kappa * CL
 		if z == 0 {
 			d = [2][2]complex128{{complex(-1/L, 0), complex(1/L, 0)}, {complex(-1/L, 0), complex(1/L, 0)}}
@@ -51,20 +51,29 @@ func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, 
 			g[1] = -g[0]
 			return d, g
 		}
-		// e^{−z} and 1 − e^{−z} from one exp, one expm1 and one
-		// sincos of half the angle (cos y = 1 − 2 sin²(y/2), as cexpm1).
+		// e^{−z} and 1 − e^{−z} from one exp or expm1 (x = −Re z ≤ 0:
+		// above −0.5 e^x = 1 + expm1(x) ≥ 0.6 and below it
+		// expm1(x) = e^x − 1 ≤ −0.39, neither cancels) and one sincos of
+		// half the angle (cos y = 1 − 2 sin²(y/2), as cexpm1).
 		x, y := -real(z), -imag(z)
-		ex, em1 := math.Exp(x), math.Expm1(x)
+		var ex, em1 float64
+		if x > -0.5 {
+			em1 = math.Expm1(x)
+			ex = 1 + em1
+		} else {
+			ex = math.Exp(x)
+			em1 = ex - 1
+		}
 		sh, ch := math.Sincos(y / 2)
 		siny, cosy := 2*sh*ch, 1-2*sh*sh
 		e1 := complex(ex*cosy, ex*siny)
 		q1 := complex(-(em1*cosy - 2*sh*sh), -ex*siny)
 		q := q1 * (1 + e1)
-		zq := z / (CL * q)
+		zq := cdiv(z, CL*q)
 		cth := zq * (1 + e1*e1)
 		csch := 2 * zq * e1
 		d = [2][2]complex128{{-cth, csch}, {-csch, cth}}
-		g[0] = f * complex(L/a, 0) * q1 / (z * (1 + e1))
+		g[0] = f * complex(L/a, 0) * cdiv(q1, z*(1+e1))
 		g[1] = -g[0]
 		return d, g
 	}
@@ -117,4 +126,41 @@ func exitElementT[T scalar](a, b float64, c, f T, L float64) (d [2][2]T, g [2]T)
 		g[i] = fromC[T](gc[i])
 	}
 	return d, g
+}
+
+// csqrt is the principal square root, as cmplx.Sqrt, from two real square
+// roots and a division, without cmplx.Sqrt's scaling against overflow
+// (hypot): it hands arguments with |w|² outside (1e−300, 1e300) to
+// cmplx.Sqrt. √w = (t, y/(2t)), t = √((|w| + x)/2) for x ≥ 0 and
+// (|y|/(2t), ±t), t = √((|w| − x)/2) for x < 0, the sign that of y: no
+// cancellation in either (the textbook formulas; common practice, no
+// source). The element of a Laplace transform evaluates one per edge and
+// transform value.
+func csqrt(w complex128) complex128 {
+	x, y := real(w), imag(w)
+	r2 := x*x + y*y
+	if !(r2 > 1e-300 && r2 < 1e300) {
+		return cmplx.Sqrt(w)
+	}
+	r := math.Sqrt(r2)
+	if x >= 0 {
+		t := math.Sqrt((r + x) / 2)
+		return complex(t, y/(2*t))
+	}
+	t := math.Sqrt((r - x) / 2)
+	return complex(math.Abs(y)/(2*t), math.Copysign(t, y))
+}
+
+// cdiv is a/b by the plain formula a·conj(b)/|b|², a few ε relative, for
+// |b|² inside (1e−300, 1e300); outside it hands the division to Go's
+// (which scales against overflow). Common practice, no source.
+func cdiv(a, b complex128) complex128 {
+	br, bi := real(b), imag(b)
+	d := br*br + bi*bi
+	if !(d > 1e-300 && d < 1e300) {
+		return a / b
+	}
+	inv := 1 / d
+	ar, ai := real(a), imag(a)
+	return complex((ar*br+ai*bi)*inv, (ai*br-ar*bi)*inv)
 }

@@ -9,6 +9,7 @@ import (
 	"fmt"
 	"math"
 	"math/cmplx"
+	"runtime"
 	"sync"
 
 	"github.com/ramify-dev/ramify/internal/laplace"
@@ -111,9 +112,10 @@ func (lw *lifetimeLaw) findDelay(mean float64) error {
 	logEps := math.Log(delayMass)
 	best := math.Inf(-1)
 	down := 0
+	vals := lw.realValues(41, mean)
 	for k := 0; k <= 40; k++ {
 		s := math.Exp2(float64(k)) / mean
-		L, err := lw.realValue(s)
+		L, err := vals(k)
 		if err != nil {
 			return err
 		}
@@ -129,6 +131,16 @@ func (lw *lifetimeLaw) findDelay(mean float64) error {
 				break
 			}
 		}
+		if n := len(lw.chernoff); n >= 2 && best < minDelay*mean {
+			// ln L is convex (L is a Laplace transform), so beyond s it
+			// lies above its secant through the last two points: with
+			// slope m ≥ −minDelay·mean, φ stays below minDelay·mean for
+			// every larger s as well, and no delay can be found there.
+			a, b := lw.chernoff[n-2], lw.chernoff[n-1]
+			if (b[1]-a[1])/(b[0]-a[0]) >= -minDelay*mean {
+				break
+			}
+		}
 	}
 	if best >= minDelay*mean && best < mean {
 		lw.delay = best
@@ -137,6 +149,33 @@ func (lw *lifetimeLaw) findDelay(mean float64) error {
 		lw.wide = false // shifted windows are checked octave by octave
 	}
 	return nil
+}
+
+// realValues returns a function giving L(2^k/mean) for k = 0 … n−1 in
+// turn, on either path: on the exact path the values are computed in
+// batches of GOMAXPROCS (atMany), so that a caller stopping at k has paid
+// for at most the rest of its batch. The caller must not hold lw.mu.
+func (lw *lifetimeLaw) realValues(n int, mean float64) func(k int) (float64, error) {
+	if lw.real != nil {
+		return func(k int) (float64, error) { return lw.realValue(math.Exp2(float64(k)) / mean) }
+	}
+	var got []complex128
+	var errs []error
+	return func(k int) (float64, error) {
+		if k >= len(got) {
+			b := min(runtime.GOMAXPROCS(0), n-len(got))
+			ss := make([]complex128, b)
+			for j := range ss {
+				ss[j] = complex(math.Exp2(float64(len(got)+j))/mean, 0)
+			}
+			v, e := make([]complex128, b), make([]error, b)
+			lw.mu.Lock()
+			lw.tr.atMany(ss, v, e)
+			lw.mu.Unlock()
+			got, errs = append(got, v...), append(errs, e...)
+		}
+		return real(got[k]), errs[k]
+	}
 }
 
 // realValue returns L(s) at a real s > 0 on either path. The caller must
@@ -286,6 +325,16 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 		return w, nil
 	}
 	if lw.wide {
+		// Windows (t0, 4t0]: a lattice time mean·4^k of the quantile
+		// brackets closes the window below it, which the times just
+		// below it need anyway, instead of opening one above.
+		if t <= t0*(1+1e-12) {
+			k--
+			t0 = pow(k)
+		}
+		if w, ok := lw.win[k]; ok {
+			return w, nil
+		}
 		w, err := lw.evalWindow(laplace.TalbotWideWindow(t0, ratio*t0))
 		if err != nil {
 			return nil, err

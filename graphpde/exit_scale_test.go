@@ -7,12 +7,40 @@ import (
 	"strconv"
 	"testing"
 	"time"
-
-	"github.com/ramify-dev/ramify/vertex"
 )
 
+// wholeTree returns a random tree of n edges whose only fixed node is a
+// leaf, so that the exit problem of any start involves every edge (fixed
+// nodes cut a network into independent systems: the random trees of
+// randomTree, absorbing at every leaf, fall into small ones, and a fixed
+// root with several subtrees would leave only the start's subtree): node
+// k hangs from a uniformly chosen earlier node, the last node (a leaf) is
+// fixed; lengths and diffusivities vary, every edge decays a little.
+// `ramify bench` builds its trees the same way (gen.RandomTree with the
+// fixed node moved from the root to the last leaf).
+func wholeTree(n int, rnd *rand.Rand) *Network {
+	net := &Network{}
+	if _, err := net.AddNode(Node{ID: "r0", Law: free}); err != nil {
+		panic(err)
+	}
+	for k := 1; k <= n; k++ {
+		law := free
+		if k == n {
+			law = fixedAt(0)
+		}
+		if _, err := net.AddNode(Node{ID: "r" + strconv.Itoa(k), Law: law}); err != nil {
+			panic(err)
+		}
+		if _, err := net.AddEdge(Edge{ID: "t" + strconv.Itoa(k), From: rnd.IntN(k), To: k,
+			Length: 0.5 + 1.5*rnd.Float64(), A: 0.5 + 1.5*rnd.Float64(), C: 0.2 * rnd.Float64(), F: 1}); err != nil {
+			panic(err)
+		}
+	}
+	return net
+}
+
 // BenchmarkExitScale times the exit statistics (4 survival times, 5
-// quantiles, the moments) on random trees of 2.5·10⁴, 5·10⁴ and 10⁵ edges
+// quantiles, the moments) on random trees (wholeTree) of 2.5·10⁴, 5·10⁴ and 10⁵ edges
 // against one steady solve of the same tree in the same run, with the
 // transform values spread over every core and on one core, and reports the
 // growth exponent of the exit time between the smallest and the largest
@@ -22,11 +50,8 @@ func BenchmarkExitScale(b *testing.B) {
 	sizes := []int{25000, 50000, 100000}
 	var first, last float64
 	for _, n := range sizes {
-		net := randomTree(b, n, rand.New(rand.NewPCG(1, uint64(n))))
+		net := wholeTree(n, rand.New(rand.NewPCG(1, uint64(n))))
 		start := Point{Node: n / 2, Edge: -1}
-		if net.Nodes[start.Node].Law.Kind == vertex.Fixed {
-			start = Point{Node: -1, Edge: n / 2, X: 0.1}
-		}
 		set := &ExitSettings{Times: []float64{0.1, 0.5, 1, 2}}
 		b.Run("edges="+strconv.Itoa(n), func(b *testing.B) {
 			for b.Loop() {
@@ -101,4 +126,45 @@ func TestTransformParallel(t *testing.T) {
 	if tr.n != len(ss) {
 		t.Errorf("%d evaluations counted, want %d", tr.n, len(ss))
 	}
+}
+
+// BenchmarkExitTransform times one value of the Laplace transform of the
+// lifetime on a random tree of 10⁵ edges (wholeTree), by the tree pass and by the
+// general complex factorisation and solve, against one steady solve of the
+// same tree in the same run: the cost of one of the transform values that
+// ExitStatistics spends (Transforms), so that exit / solve ≈ Transforms ×
+// tree/solve ÷ cores. Run with -benchtime 20x.
+func BenchmarkExitTransform(b *testing.B) {
+	n := 100000
+	net := wholeTree(n, rand.New(rand.NewPCG(1, uint64(n))))
+	start := Point{Node: -1, Edge: n / 2, X: 0.1}
+	sys, err := newExitSystem(net, start)
+	if err != nil {
+		b.Fatal(err)
+	}
+	fast, slow := newTransformer(sys), newTransformer(sys)
+	slow.useGeneral()
+	s := complex(-0.3, 2.5)
+	var tTree, tGeneral, tSolve time.Duration
+	for b.Loop() {
+		t0 := time.Now()
+		if _, err := Solve(net, nil); err != nil {
+			b.Fatal(err)
+		}
+		tSolve += time.Since(t0)
+		t0 = time.Now()
+		if _, err := fast.at(s); err != nil {
+			b.Fatal(err)
+		}
+		tTree += time.Since(t0)
+		t0 = time.Now()
+		if _, err := slow.at(s); err != nil {
+			b.Fatal(err)
+		}
+		tGeneral += time.Since(t0)
+	}
+	b.ReportMetric(float64(len(sys.tree.par)), "unknowns")
+	b.ReportMetric(tTree.Seconds()/tSolve.Seconds(), "tree/solve")
+	b.ReportMetric(tGeneral.Seconds()/tSolve.Seconds(), "general/solve")
+	b.ReportMetric(tTree.Seconds()/float64(b.N)/float64(len(sys.tree.els))*1e9, "ns/element")
 }

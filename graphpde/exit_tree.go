@@ -257,10 +257,11 @@ func (tr *transformer) atTree(s complex128) (complex128, error) {
 			}
 		}
 		dk := nd.a - nd.t
-		scale := math.Max(nd.sc, math.Max(magC(nd.a), magC(akp)))
-		cs := magC(nd.a) + nd.cs
-		if a := magC(dk); !(a > tol*math.Max(scale, cs)) || math.IsInf(a, 0) {
-			return 0, &SingularNodeError{Node: tr.sys.ids[t.sys[k]], Pivot: cmplx.Abs(dk), Scale: math.Max(scale, cs)}
+		ma := magC(nd.a)
+		scale := maxF(maxF(nd.sc, ma), magC(akp))
+		cs := ma + nd.cs
+		if a := magC(dk); !(a > tol*maxF(scale, cs)) || math.IsInf(a, 0) {
+			return 0, &SingularNodeError{Node: tr.sys.ids[t.sys[k]], Pivot: cmplx.Abs(dk), Scale: maxF(scale, cs)}
 		}
 		if pk < 0 {
 			return nd.r / dk, nil
@@ -271,10 +272,26 @@ func (tr *transformer) atTree(s complex128) (complex128, error) {
 		pp.t += tk
 		pp.cs += magC(tk)
 		pp.r -= l * nd.r
-		pp.sc = math.Max(pp.sc, magC(apk))
+		pp.sc = maxF(pp.sc, magC(apk))
 	}
 	return 0, fmt.Errorf("exit tree without a root") // unreachable: the start is last
 }
 
 // magC is max(|Re z|, |Im z|), the magnitude of the pivot tests.
-func magC(z complex128) float64 { return math.Max(math.Abs(real(z)), math.Abs(imag(z))) }
+// Plain comparisons, not math.Max: a NaN makes the pivot test fail
+// anyway (it compares with !(a > …)), and this is in the inner loop.
+func magC(z complex128) float64 {
+	a, b := math.Abs(real(z)), math.Abs(imag(z))
+	if b > a {
+		return b
+	}
+	return a
+}
+
+// maxF is the larger of a and b, the first when either is NaN.
+func maxF(a, b float64) float64 {
+	if b > a {
+		return b
+	}
+	return a
+}
