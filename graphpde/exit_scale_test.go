@@ -91,40 +91,50 @@ func BenchmarkExitScale(b *testing.B) {
 
 // TestTransformParallel checks that transform values spread over several
 // goroutines (atMany, on a system above parallelTransformUnknowns) are
-// those of one transformer evaluating them in turn, bit for bit, and that
-// the evaluation count adds the helpers' evaluations.
+// those of one transformer evaluating them in turn, bit for bit, on the
+// tree pass and on the general path, and that the evaluation count adds
+// the helpers' evaluations.
 func TestTransformParallel(t *testing.T) {
 	n := 3 * parallelTransformUnknowns
-	net := randomTree(t, n, rand.New(rand.NewPCG(4, 2)))
+	net := wholeTree(n, rand.New(rand.NewPCG(4, 2)))
 	start := Point{Node: -1, Edge: n / 2, X: 0.1}
 	sys, err := newExitSystem(net, start)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if sys.nUnk < parallelTransformUnknowns {
+	if sys.tree == nil || len(sys.tree.par) < parallelTransformUnknowns {
 		t.Fatalf("%d unknowns: too few for the parallel path", sys.nUnk)
 	}
 	ss := make([]complex128, 17)
 	for j := range ss {
 		ss[j] = complex(0.5+float64(j), 3*float64(j)-20)
 	}
-	serial := newTransformer(sys)
-	tr := newTransformer(sys)
-	got, errs := make([]complex128, len(ss)), make([]error, len(ss))
-	prev := runtime.GOMAXPROCS(2)
-	defer runtime.GOMAXPROCS(prev)
-	tr.atMany(ss, got, errs)
-	for j, s := range ss {
-		want, err := serial.at(s)
-		if err != nil || errs[j] != nil {
-			t.Fatalf("s = %v: %v, %v", s, err, errs[j])
+	for _, general := range []bool{false, true} {
+		serial := newTransformer(sys)
+		tr := newTransformer(sys)
+		if general {
+			serial.useGeneral()
+			tr.useGeneral()
 		}
-		if got[j] != want {
-			t.Errorf("s = %v: parallel %v, serial %v", s, got[j], want)
+		got, errs := make([]complex128, len(ss)), make([]error, len(ss))
+		prev := runtime.GOMAXPROCS(2)
+		tr.atMany(ss, got, errs)
+		runtime.GOMAXPROCS(prev)
+		for j, s := range ss {
+			want, err := serial.at(s)
+			if err != nil || errs[j] != nil {
+				t.Fatalf("general %v s = %v: %v, %v", general, s, err, errs[j])
+			}
+			if got[j] != want {
+				t.Errorf("general %v s = %v: parallel %v, serial %v", general, s, got[j], want)
+			}
 		}
-	}
-	if tr.n != len(ss) {
-		t.Errorf("%d evaluations counted, want %d", tr.n, len(ss))
+		if tr.n != len(ss) {
+			t.Errorf("general %v: %d evaluations counted, want %d", general, tr.n, len(ss))
+		}
+		if len(tr.helpers) == 0 || tr.helpers[0].general != general {
+			t.Errorf("general %v: helpers %d on the wrong path", general, len(tr.helpers))
+		}
 	}
 }
 

@@ -415,7 +415,11 @@ func (tr *transformer) useGeneral() {
 // independent assembly, factorisation and solve.
 func (tr *transformer) atMany(ss []complex128, out []complex128, errs []error) {
 	workers := min(runtime.GOMAXPROCS(0), len(ss))
-	if workers <= 1 || tr.sys.nUnk < parallelTransformUnknowns {
+	size := tr.sys.nUnk
+	if tr.tree != nil {
+		size = len(tr.tree.par)
+	}
+	if workers <= 1 || size < parallelTransformUnknowns {
 		for j, s := range ss {
 			out[j], errs[j] = tr.at(s)
 		}
