@@ -79,7 +79,7 @@ func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, 
 	}
 	mu := b / (2 * a)
 	M := complex(mu, 0)
-	kappa := cmplx.Sqrt(M*M + lam)
+	kappa := csqrt(M*M + lam)
 	z := kappa * CL
 	if cmplx.Abs(z) < exitElementSmall {
 		return exactElement(a, b, c, f, L)
@@ -91,24 +91,25 @@ func exitElement(a, b float64, c, f complex128, L float64) (d [2][2]complex128, 
 		p, qq = kappa-M, lam/(kappa-M)
 	}
 	e2 := cmplx.Exp(-2 * z)
-	q := -cexpm1(-2 * z)
-	cz := 2 * z * e2 / q
+	iq := cdiv(1, -cexpm1(-2*z)) // 1/q
+	cz := 2 * z * e2 * iq
 	ep := cmplx.Exp(-p * CL)
 	eq := cmplx.Exp(-qq * CL)
-	d[0][0] = -qq - cz/CL
-	d[1][1] = p + cz/CL
-	d[0][1] = 2 * kappa * ep / q
-	d[1][0] = -2 * kappa * eq / q
+	czL := cz * complex(1/L, 0)
+	d[0][0] = -qq - czL
+	d[1][1] = p + czL
+	d[0][1] = 2 * kappa * ep * iq
+	d[1][0] = -2 * kappa * eq * iq
 	E := func(r complex128) complex128 {
 		if r == 0 {
 			return CL
 		}
-		return -cexpm1(-r*CL) / r
+		return cdiv(-cexpm1(-r*CL), r)
 	}
 	Ep, Eq := E(p), E(qq)
-	fa := f / complex(a, 0)
-	g[0] = fa * (Ep - ep*Eq) / q
-	g[1] = -fa * (Eq - eq*Ep) / q
+	fa := f * complex(1/a, 0)
+	g[0] = fa * (Ep - ep*Eq) * iq
+	g[1] = -fa * (Eq - eq*Ep) * iq
 	return d, g
 }
 
