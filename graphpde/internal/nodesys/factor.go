@@ -129,6 +129,11 @@ type Stats struct {
 	MinPivotRatio float64
 	MinPivotIndex int
 
+	// Reused reports whether the last Factorize kept an earlier analysis
+	// (same pattern, or a Factor made by Clone or NewFactorFrom) instead
+	// of ordering and analysing anew.
+	Reused bool
+
 	// Wall-clock times of the last analysis (ordering and symbolic
 	// factorisation) and of the last numeric factorisation.
 	OrderTime, SymbolicTime, NumericTime time.Duration
@@ -259,16 +264,19 @@ func (f *Factor[T]) Stats() Stats { return f.stats }
 // re-factorisation on an unchanged pattern allocates nothing.
 func (f *Factor[T]) Factorize(m *Matrix[T]) error {
 	m.freeze()
+	reused := true
 	switch {
 	case f.mat == m && f.version == m.version:
 	case f.patPtr != nil && f.samePattern(m):
 		f.mat, f.version = m, m.version
 	default:
+		reused = false
 		if err := f.analyze(m); err != nil {
 			f.ready = false
 			return err
 		}
 	}
+	f.stats.Reused = reused
 	f.ready = false
 	t0 := time.Now()
 	err := f.numeric(m)
@@ -317,7 +325,66 @@ func (f *Factor[T]) Clone() *Factor[T] {
 	if f.patPtr == nil {
 		return NewFactor[T](&f.set)
 	}
+	return f.cloneWith(f.set)
+}
+
+// Analysis is the ordering and symbolic factorisation of one pattern as a
+// Factor computed it: read-only, shared by every Factor made from it by
+// NewFactorFrom, so that solves of the same pattern with other values (the
+// steps of Newton's method, time steps, points of a Laplace contour, a
+// steady problem with other sources or coefficients) pay for the analysis
+// once. It stays valid when the Factor it came from analyses another
+// pattern later.
+type Analysis[T Scalar] struct {
+	f Factor[T] // a snapshot of the analysed Factor; its numeric storage is never used
+}
+
+// Analysis returns the analysis of f's last Factorize or Analyze, or nil
+// if f has none. Cost O(1).
+func (f *Factor[T]) Analysis() *Analysis[T] {
+	if f.patPtr == nil {
+		return nil
+	}
+	return &Analysis[T]{f: *f}
+}
+
+// Analyze computes the ordering and the symbolic factorisation of m's
+// pattern, as the first Factorize would, without a numeric factorisation
+// (nothing when f has analysed that pattern already). It freezes m's
+// pattern. It returns a *SizeError when the factor would exceed
+// Settings.MaxNNZL.
+func (f *Factor[T]) Analyze(m *Matrix[T]) error {
+	m.freeze()
+	switch {
+	case f.mat == m && f.version == m.version:
+	case f.patPtr != nil && f.samePattern(m):
+		f.mat, f.version = m, m.version
+	default:
+		f.ready = false
+		return f.analyze(m)
+	}
+	return nil
+}
+
+// NewFactorFrom returns a Factor with settings set (nil for the defaults)
+// that starts from the analysis a: its Factorize of a matrix with a's
+// pattern skips the ordering and the symbolic factorisation. A nil a, or
+// settings with another Ordering, or a MaxNNZL the analysed factor
+// exceeds, give a Factor that analyses on its first Factorize as
+// NewFactor's does. Cost O(nnz(L)) allocation.
+func NewFactorFrom[T Scalar](a *Analysis[T], set *Settings) *Factor[T] {
+	g := NewFactor[T](set)
+	if a == nil || a.f.set.Ordering != g.set.Ordering || (g.set.MaxNNZL > 0 && a.f.stats.NNZL > g.set.MaxNNZL) {
+		return g
+	}
+	return a.f.cloneWith(g.set)
+}
+
+// cloneWith returns a Factor with settings set that shares f's analysis
+// and has its own numeric storage and workspace.
+func (f *Factor[T]) cloneWith(set Settings) *Factor[T] {
 	g := *f
+	g.set = set
 	n, nnzL := f.n, len(f.li)
 	g.ready = false
 	g.lx = make([]T, nnzL)
@@ -331,7 +398,14 @@ func (f *Factor[T]) Clone() *Factor[T] {
 	g.work = make([]T, n)
 	g.tsx, g.excess = nil, nil // own workspace; row sums are set per Factor
 	if f.sn != nil {
-		g.snw = newSNWork[T](n, f.sn)
+		if g.workers() != f.workers() {
+			// Another number of goroutines: the same supernodes, a
+			// plan of its own.
+			sn := *f.sn
+			sn.plan = g.planParallel(&sn)
+			g.sn = &sn
+		}
+		g.snw = newSNWork[T](n, g.sn)
 	}
 	return &g
 }
