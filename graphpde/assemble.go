@@ -130,6 +130,18 @@ func (s *system) factor() error {
 	s.pivotRatio, s.pivotAt = fs.MinPivotRatio, fs.MinPivotIndex
 	s.stats.FillNNZ = fs.NNZL
 	s.stats.FactorTime = fs.OrderTime + fs.SymbolicTime + fs.NumericTime
+	if s.ana != nil && !s.anaSeen {
+		// The first factorisation of this system tells whether the
+		// analysis came from Settings.Analysis; a new one is kept there.
+		s.anaSeen = true
+		s.stats.Reused = fs.Reused
+		if !fs.Reused {
+			s.ana.a = s.fac.Analysis()
+		}
+	}
+	if s.stats.Reused {
+		s.stats.FactorTime = fs.NumericTime
+	}
 	return nil
 }
 

@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"strings"
 	"time"
+
+	"github.com/ramify-dev/ramify/graphpde/internal/nodesys"
 )
 
 // Method chooses the edge elements of a solve.
@@ -74,6 +76,21 @@ type Settings struct {
 	// *CanceledError (errors.Is(err, context.Canceled) or
 	// context.DeadlineExceeded holds) and no solution. Nil: never stopped.
 	Context context.Context
+	// Analysis, when not nil, keeps the ordering and the symbolic
+	// factorisation of the node system between solves: a solve whose node
+	// system has the pattern kept there (the same network again, or one
+	// with the same nodes and edges and other values, sources, fixed
+	// values, methods or cells) skips them and factors at once; any other
+	// solve analyses its own pattern and keeps that. Stats.Reused says
+	// which happened. The results are the same bit for bit. One solve at
+	// a time may use a NodeAnalysis.
+	Analysis *NodeAnalysis
+}
+
+// NodeAnalysis holds the ordering and symbolic factorisation of a node
+// system for later solves (Settings.Analysis). The zero value is empty.
+type NodeAnalysis struct {
+	a *nodesys.Analysis[float64]
 }
 
 // CanceledError reports a solve stopped by its context. Err is the
@@ -170,7 +187,11 @@ type Stats struct {
 	GridEdges    int
 	FillNNZ      int           // entries of the node system's factor L (diagonal included)
 	FactorTime   time.Duration // ordering, symbolic and numeric factorisation of the node system
-	Elapsed      time.Duration // wall-clock time of the whole solve
+	// Reused reports that the node system's ordering and symbolic
+	// factorisation came from Settings.Analysis (FactorTime is then the
+	// numeric factorisation alone).
+	Reused  bool
+	Elapsed time.Duration // wall-clock time of the whole solve
 	// Refinements is the number of iterative refinement steps the node
 	// solve took (0 when the first solve was accurate to a few ε).
 	Refinements int

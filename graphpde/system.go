@@ -64,10 +64,14 @@ type system struct {
 	dslot []int                    // unknown → slot of its diagonal entry in mat (pat.dslot)
 	eslot [][2]int                 // edge → slots of (From,To) and (To,From), −1 at a fixed end (pat.eslot)
 	fac   *nodesys.Factor[float64]
-	rhs   []float64
-	x     []float64
-	u     []float64 // node values
-	stats Stats
+	// Settings.Analysis, and whether the first factorisation has looked
+	// at it.
+	ana     *NodeAnalysis
+	anaSeen bool
+	rhs     []float64
+	x       []float64
+	u       []float64 // node values
+	stats   Stats
 
 	// Accuracy (accuracy.go): the node matrix pattern, the residual and
 	// refinement step, and the scaled residual after refine.
@@ -296,7 +300,16 @@ func newSystemCtl(net *Network, v *Variant, set *Settings, ctl *ctlState) (*syst
 	if ctx := s.ctx; ctx != nil {
 		fset.Stop = func() bool { return ctx.Err() != nil }
 	}
-	s.fac = nodesys.NewFactor[float64](fset)
+	if set != nil && set.Analysis != nil {
+		s.ana = set.Analysis
+		var a *nodesys.Analysis[float64]
+		if s.ana.a != nil && s.ana.a.Dim() == m {
+			a = s.ana.a // the pattern itself is compared at Factorize
+		}
+		s.fac = nodesys.NewFactorFrom(a, fset)
+	} else {
+		s.fac = nodesys.NewFactor[float64](fset)
+	}
 	s.ex = make([]float64, m)
 	s.fac.SetRowExcess(s.ex)
 	s.rhs = make([]float64, m)

@@ -348,6 +348,9 @@ func (f *Factor[T]) Analysis() *Analysis[T] {
 	return &Analysis[T]{f: *f}
 }
 
+// Dim returns the dimension of the analysed pattern.
+func (a *Analysis[T]) Dim() int { return a.f.n }
+
 // Analyze computes the ordering and the symbolic factorisation of m's
 // pattern, as the first Factorize would, without a numeric factorisation
 // (nothing when f has analysed that pattern already). It freezes m's
