@@ -19,7 +19,7 @@ func TestBenchScale(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := b.String()
-	for _, want := range []string{"merged numbers identical: true", "tables built on first visit", "growth exponent"} {
+	for _, want := range []string{"merged numbers identical: true", "tables built on first visit", "growth exponent", "factorisation / that kernel"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("bench output lacks %q:\n%s", want, out)
 		}

@@ -228,13 +228,16 @@ type Factor[T Scalar] struct {
 	// keeps the fundamental supernodes and the exact pattern of L).
 	amalgamate bool
 	snw        *snWork[T]
+	// fma selects the AVX2 kernels for real values (useFMA unless a test
+	// or MeasureKernels asks for the Go loops).
+	fma bool
 }
 
 // NewFactor returns an empty factorisation with the given settings (nil for
 // the defaults). The settings are copied. It panics on an unknown Ordering or
 // a negative PivotTol or MaxNNZL (programmer mistakes).
 func NewFactor[T Scalar](set *Settings) *Factor[T] {
-	f := &Factor[T]{}
+	f := &Factor[T]{fma: useFMA}
 	if set != nil {
 		f.set = *set
 	}

@@ -19,8 +19,8 @@ func cpuid(eaxArg, ecxArg uint32) (eax, ebx, ecx, edx uint32)
 
 func xgetbv() (eax, edx uint32)
 
-// useFMA reports whether the AVX2 kernels run (tests switch it off to
-// compare with the Go loops).
+// useFMA reports whether the processor has the AVX2 kernels; a Factor
+// uses them unless a test or MeasureKernels asks for the Go loops.
 var useFMA = detectFMA()
 
 // detectFMA checks for AVX2 and FMA (CPUID leaves 1 and 7) and for the

@@ -4,7 +4,7 @@ package nodesys
 
 // Without the amd64 kernels the Go loops of supernodal.go run.
 
-var useFMA = false
+const useFMA = false
 
 func axpy4x2FMA(d0, d1, a, b, c, e *float64, n int, co *[8]float64) {
 	panic("nodesys: no AVX2 kernels on this architecture")

@@ -34,10 +34,12 @@ type snPlan struct {
 type snTask struct{ lo, hi, worker int }
 
 // parallelMinWork is the least predicted work (multiply-adds) of a
-// factorisation that is split over goroutines: below about a millisecond
-// of work the start and the wait cost more than they save (common
-// practice, no source; a variable so that tests can split small systems).
-var parallelMinWork = 2e6
+// factorisation that is split over goroutines, a few milliseconds: below
+// it the second goroutine's start and the wait for a core on a busy
+// machine cost about what they save (measured on the 100×100 mesh, 5·10⁶
+// multiply-adds: no gain; a variable so that tests can split small
+// systems).
+var parallelMinWork = 2e7
 
 // maxWorkers caps the goroutines of one factorisation.
 const maxWorkers = 8
@@ -64,7 +66,7 @@ func (f *Factor[T]) workers() int {
 func (f *Factor[T]) planParallel(sn *snodes) *snPlan {
 	p := f.workers()
 	nsup := len(sn.start) - 1
-	if p < 2 || nsup < 2 {
+	if p < 2 || nsup < 2 || f.kernel == kernelRef {
 		return nil
 	}
 	lp, li := f.lp, f.li

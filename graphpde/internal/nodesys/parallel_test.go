@@ -144,7 +144,6 @@ func TestKernelPathsAgainstDense(t *testing.T) {
 		{"mesh 24 drift", driftSystem(576, mesh(24), 0.1, rnd), false, false},
 	}
 	hasFMA := useFMA
-	t.Cleanup(func() { useFMA = hasFMA })
 	type path struct {
 		name    string
 		kernel  int
@@ -202,8 +201,8 @@ func TestKernelPathsAgainstDense(t *testing.T) {
 				tol = 1e3 * backwardIndef * lu.Cond()
 			}
 			for _, p := range paths {
-				useFMA = p.fma
 				f := NewFactor[float64](&Settings{Workers: p.workers})
+				f.fma = p.fma
 				f.kernel, f.amalgamate = p.kernel, p.kernel == kernelSuper
 				if err := f.Factorize(c.m); err != nil {
 					t.Fatalf("%s: %v", p.name, err)

@@ -10,6 +10,7 @@ const (
 	kernelAuto  = iota // supernodal when most of the work lies in wide supernodes
 	kernelUp           // up-looking, row by row
 	kernelSuper        // left-looking supernodal
+	kernelRef          // the supernodal reference of MeasureKernels (measure_ref.go)
 )
 
 // snodes is the supernode partition of L: columns start[s] ≤ j < start[s+1]
@@ -146,7 +147,7 @@ func (f *Factor[T]) buildSupernodes() {
 		maxR = max(maxR, lp[e]-lp[e-1])
 		maxWidth = max(maxWidth, e-f0)
 	}
-	use := f.kernel == kernelSuper || (f.kernel == kernelAuto && wide >= 0.5*work && work > 0)
+	use := f.kernel == kernelSuper || f.kernel == kernelRef || (f.kernel == kernelAuto && wide >= 0.5*work && work > 0)
 	if !use {
 		f.sn, f.snw = nil, nil
 		return
@@ -209,6 +210,9 @@ func (f *Factor[T]) numericSN(m *Matrix[T], sym bool) error {
 	}
 	nsup := len(sn.start) - 1
 	f.stats.Workers = 1
+	if f.kernel == kernelRef {
+		return f.numericSNRef(m, sym)
+	}
 	if sn.plan != nil {
 		f.stats.Workers = sn.plan.workers
 		return f.numericSNParallel(m, sym)
@@ -235,6 +239,7 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 	lp, li, lx, ux, d := f.lp, f.li, f.lx, f.ux, f.d
 	rel, head, next, npos, cs := c.rel, w.head, w.next, w.npos, w.cs
 	tol := f.set.PivotTol
+	fma := f.fma
 	f0, e := sn.start[s], sn.start[s+1]
 	wd := e - f0
 	rs := li[lp[e-1]:lp[e]] // shared rows R_s
@@ -302,7 +307,7 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 					ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
 					ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
 					wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
-					axpy4x2(wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
+					axpy4x2(fma, wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
 						ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
 				}
 			}
@@ -313,14 +318,14 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 				c := lx[o3+jj : o3+mr]
 				e := lx[o4+jj : o4+mr]
 				if sym {
-					axpy4(dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+					axpy4(fma, dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
 				} else {
 					au := ux[o1+jj : o1+mr]
 					bu := ux[o2+jj : o2+mr]
 					cu := ux[o3+jj : o3+mr]
 					eu := ux[o4+jj : o4+mr]
-					axpy4(dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
-					axpy4(wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+					axpy4(fma, dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
+					axpy4(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
 				}
 			}
 		}
@@ -332,12 +337,12 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 				a := lx[o1+jj : o1+mr]
 				b := lx[o2+jj : o2+mr]
 				if sym {
-					axpy2(dst, a, b, a[0]*d1, b[0]*d2)
+					axpy2(fma, dst, a, b, a[0]*d1, b[0]*d2)
 				} else {
 					au := ux[o1+jj : o1+mr]
 					bu := ux[o2+jj : o2+mr]
-					axpy2(dst, a, b, au[0]*d1, bu[0]*d2)
-					axpy2(wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
+					axpy2(fma, dst, a, b, au[0]*d1, bu[0]*d2)
+					axpy2(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
 				}
 			}
 		}
@@ -451,7 +456,7 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 				d[j2] -= c1 * a1
 				cs[j2] += magMax(c0*a0) + magMax(c1*a1)
 				dst := lx[lp[j2]:lp[j2+1]]
-				axpy2(dst, colL[j2-j:], colL1[j2-j1:], -c0, -c1)
+				axpy2(fma, dst, colL[j2-j:], colL1[j2-j1:], -c0, -c1)
 			}
 			inv, inv1 := 1/dj, 1/dj1
 			for q := range colL {
@@ -528,7 +533,7 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 // so that every entry of a target is loaded and stored once for four
 // sources.
 func (f *Factor[T]) block4(j, e int, cs []float64, pivot func(int) error) error {
-	lp, lx, d := f.lp, f.lx, f.d
+	lp, lx, d, fma := f.lp, f.lx, f.d, f.fma
 	for i := j; i < j+4; i++ {
 		if err := pivot(i); err != nil {
 			return err
@@ -562,7 +567,7 @@ func (f *Factor[T]) block4(j, e int, cs []float64, pivot func(int) error) error 
 		dst0, dst1 := lx[lp[j2]:lp[j2+1]], lx[lp[j2+1]:lp[j2+2]]
 		// Entry 0 of column j2 is row j2+1, which column j2+1 lacks.
 		dst0[0] -= k0*b0 + k1*b1 + k2*b2 + k3*b3
-		axpy4x2(dst0[1:], dst1, c0[j2-j+1:], c1[j2-j:], c2[j2-j-1:], c3[j2-j-2:],
+		axpy4x2(fma, dst0[1:], dst1, c0[j2-j+1:], c1[j2-j:], c2[j2-j-1:], c3[j2-j-2:],
 			-k0, -k1, -k2, -k3, -m0, -m1, -m2, -m3)
 	}
 	if j2 < e {
@@ -570,7 +575,7 @@ func (f *Factor[T]) block4(j, e int, cs []float64, pivot func(int) error) error 
 		k0, k1, k2, k3 := a0/d0, a1/d1, a2/d2, a3/d3
 		d[j2] -= k0*a0 + k1*a1 + k2*a2 + k3*a3
 		cs[j2] += magMax(k0*a0) + magMax(k1*a1) + magMax(k2*a2) + magMax(k3*a3)
-		axpy4(lx[lp[j2]:lp[j2+1]], c0[j2-j:], c1[j2-j-1:], c2[j2-j-2:], c3[j2-j-3:], -k0, -k1, -k2, -k3)
+		axpy4(fma, lx[lp[j2]:lp[j2+1]], c0[j2-j:], c1[j2-j-1:], c2[j2-j-2:], c3[j2-j-3:], -k0, -k1, -k2, -k3)
 	}
 	for k, col := range [4][]T{c0, c1, c2, c3} {
 		inv := 1 / d[j+k]
@@ -615,9 +620,9 @@ func axpy1[T Scalar](dst, a []T, c T) {
 
 // axpy4 sets dst += ca·a + cb·b + cc·c + ce·e. All of a, b, c, e are at
 // least as long as dst.
-func axpy4[T Scalar](dst, a, b, c, e []T, ca, cb, cc, ce T) {
+func axpy4[T Scalar](fma bool, dst, a, b, c, e []T, ca, cb, cc, ce T) {
 	a, b, c, e = a[:len(dst)], b[:len(dst)], c[:len(dst)], e[:len(dst)]
-	if useFMA && len(dst) >= fmaMin {
+	if fma && len(dst) >= fmaMin {
 		if p, ok := any(&dst[0]).(*float64); ok {
 			co := [4]float64{real64(ca), real64(cb), real64(cc), real64(ce)}
 			axpy4FMA(p, any(&a[0]).(*float64), any(&b[0]).(*float64), any(&c[0]).(*float64), any(&e[0]).(*float64), len(dst), &co)
@@ -632,10 +637,10 @@ func axpy4[T Scalar](dst, a, b, c, e []T, ca, cb, cc, ce T) {
 // axpy4x2 sets d0 += ca0·a + cb0·b + cc0·c + ce0·e and d1 likewise with
 // the second coefficients. len(d0) == len(d1) ≤ len(a), len(b), len(c),
 // len(e).
-func axpy4x2[T Scalar](d0, d1, a, b, c, e []T, ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1 T) {
+func axpy4x2[T Scalar](fma bool, d0, d1, a, b, c, e []T, ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1 T) {
 	d1 = d1[:len(d0)]
 	a, b, c, e = a[:len(d0)], b[:len(d0)], c[:len(d0)], e[:len(d0)]
-	if useFMA && len(d0) >= fmaMin {
+	if fma && len(d0) >= fmaMin {
 		if p, ok := any(&d0[0]).(*float64); ok {
 			co := [8]float64{real64(ca0), real64(cb0), real64(cc0), real64(ce0), real64(ca1), real64(cb1), real64(cc1), real64(ce1)}
 			axpy4x2FMA(p, any(&d1[0]).(*float64), any(&a[0]).(*float64), any(&b[0]).(*float64), any(&c[0]).(*float64), any(&e[0]).(*float64), len(d0), &co)
@@ -650,9 +655,9 @@ func axpy4x2[T Scalar](d0, d1, a, b, c, e []T, ca0, cb0, cc0, ce0, ca1, cb1, cc1
 }
 
 // axpy2 sets dst += ca·a + cb·b. len(a), len(b) ≥ len(dst).
-func axpy2[T Scalar](dst, a, b []T, ca, cb T) {
+func axpy2[T Scalar](fma bool, dst, a, b []T, ca, cb T) {
 	a, b = a[:len(dst)], b[:len(dst)]
-	if useFMA && len(dst) >= fmaMin {
+	if fma && len(dst) >= fmaMin {
 		if p, ok := any(&dst[0]).(*float64); ok {
 			axpy2FMA(p, any(&a[0]).(*float64), any(&b[0]).(*float64), len(dst), real64(ca), real64(cb))
 			return
