@@ -68,8 +68,8 @@ type EvolveSettings struct {
 	// steps, at most a few hundred times per run.
 	Progress func(t, until float64)
 
-	// general steps laws of u by the general stepper even where the
-	// quasilinear one would do (tests compare the two).
+	// general steps the network by the general stepper even where the
+	// linear or the quasilinear one would do (tests compare them).
 	general bool
 }
 
@@ -389,7 +389,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	var ig *trbdf2
 	var nw *newtonStepper
 	var n int
-	if !s.Forward && needsNewton(net) && (s.general || generalTransient(net)) {
+	if !s.Forward && (s.general || needsNewton(net) && generalTransient(net)) {
 		var err error
 		if nw, err = newNewtonStepper(net, s); err != nil {
 			return nil, err

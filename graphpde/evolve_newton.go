@@ -107,6 +107,7 @@ func newNewtonStepper(net *Network, s *EvolveSettings) (*newtonStepper, error) {
 		return nil, err
 	}
 	sys.keepInterior()
+	sys.noSolution = true
 	ts.sys = sys
 	nn := len(net.Nodes)
 	ts.m = len(sys.nodes)
@@ -548,7 +549,9 @@ func (ts *newtonStepper) accept() { ts.vN, ts.v1 = ts.v1, ts.vN }
 // the stage's Jacobian, as the linear stepper filters through M + (γh/2)K:
 // est = (∂R/∂y)⁻¹ [R(y, z − raw) − R(y, z)] with R the stage residual at the
 // converged BDF2 stage (a first-order change in z, exact where the time
-// term enters linearly). The system is left evaluated at the stage.
+// term enters linearly). The Jacobian is taken at (y, z − raw), where the
+// second residual is evaluated: it depends on z only through the half
+// cells of equation edges, which is immaterial for an estimate.
 func (ts *newtonStepper) estimate(est []float64) error {
 	s := ts.sys
 	for r, v := range s.nodes {
@@ -561,23 +564,23 @@ func (ts *newtonStepper) estimate(est []float64) error {
 	for i := range ts.zW {
 		ts.zW[i] -= ts.raw[ts.m+i]
 	}
-	err := s.eval(s.U, s.w)
-	for r, v := range s.nodes {
-		ts.zU[v] += ts.raw[r]
-		ts.bN[v] = s.nres[v] - ts.r0N[r]
-	}
-	for i := range ts.zW {
-		ts.zW[i] += ts.raw[ts.m+i]
-	}
-	if err != nil {
+	defer func() {
+		for r, v := range s.nodes {
+			ts.zU[v] += ts.raw[r]
+		}
+		for i := range ts.zW {
+			ts.zW[i] += ts.raw[ts.m+i]
+		}
+	}()
+	if err := s.eval(s.U, s.w); err != nil {
 		return err
+	}
+	for r, v := range s.nodes {
+		ts.bN[v] = s.nres[v] - ts.r0N[r]
 	}
 	bI := ts.r0I // reused: R(y, z − raw) − R(y, z) inside
 	for i := range bI {
 		bI[i] = s.ires[i] - bI[i]
-	}
-	if err := s.eval(s.U, s.w); err != nil {
-		return err
 	}
 	if err := s.prepare(s.U, s.w); err != nil {
 		return err

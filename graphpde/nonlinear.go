@@ -227,6 +227,9 @@ func (s *nlSystem) newton(set *NonlinearSettings) (*NonlinearResult, error) {
 		res.Steps = append(res.Steps, t)
 		merit = s.merit()
 	}
+	if s.noSolution {
+		return s.finishNotes(res), nil
+	}
 	sol, err := s.solution()
 	if err != nil {
 		res.Status = NotSolved

@@ -66,6 +66,9 @@ type nlSystem struct {
 	// handOver lets solution() keep w as the Solution's grid values
 	// instead of copying it (SolveNonlinear discards the system after).
 	handOver bool
+	// noSolution: newton leaves a converged state in (U, w) and returns
+	// no Solution (the transient stages read the state themselves).
+	noSolution bool
 	// Interior rows of Law edges (indexed like w): the Jacobian row
 	// (coefficients of u_{i−1}, u_i, u_{i+1}) and the residual, in
 	// "flux sign" (minus the cell integral of the generator-sign equation).
