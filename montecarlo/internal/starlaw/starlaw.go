@@ -52,14 +52,39 @@ import (
 // Phi returns Φ(s) = sqrt(2s)·coth(sqrt(2s)) − 1 for s off the negative real
 // axis (principal square root). Cost: one complex exponential.
 func Phi(s complex128) complex128 {
-	z := cmplx.Sqrt(2 * s)
-	if cmplx.Abs(z) < 0.1 {
+	z := csqrt(2 * s)
+	if real(z)*real(z)+imag(z)*imag(z) < 0.01 {
 		z2 := z * z
 		// z coth z − 1 = z²/3 − z⁴/45 + 2z⁶/945 − z⁸/4725 + 2z¹⁰/93555 − …
 		return z2 * (1.0/3 + z2*(-1.0/45+z2*(2.0/945+z2*(-1.0/4725+z2*2/93555))))
 	}
+	if real(z) > 19 {
+		// coth z = 1 + 2e^{−2z}/(1 − e^{−2z}), |e^{−2z}| < e^{−38} = 3e−17.
+		return z - 1
+	}
 	e := cmplx.Exp(-2 * z)
 	return z*(1+e)/(1-e) - 1
+}
+
+// csqrt returns the principal square root of w like cmplx.Sqrt, for the
+// moderate |w| of the transforms here (no scaling against overflow):
+// sqrt((|w| + a)/2) and b/(2·that) for a = Re w ≥ 0, the mirror for a < 0
+// (no cancellation either way).
+func csqrt(w complex128) complex128 {
+	a, b := real(w), imag(w)
+	if b == 0 || math.Abs(a) > 1e150 || math.Abs(b) > 1e150 {
+		return cmplx.Sqrt(w) // signed zeros, and no overflow of a² + b²
+	}
+	r := math.Sqrt(a*a + b*b)
+	if a >= 0 {
+		re := math.Sqrt(0.5 * (r + a))
+		return complex(re, b/(2*re))
+	}
+	im := math.Sqrt(0.5 * (r - a))
+	if b < 0 {
+		im = -im
+	}
+	return complex(b/(2*im), im)
 }
 
 // FinalTransform returns E e^{−sT_f} = sqrt(2s)/sinh(sqrt(2s)).
@@ -123,7 +148,7 @@ func (l *Law) eval(t float64) (f, g, d float64) {
 		panic("starlaw: time outside its octave")
 	}
 	for k, s := range o.c.S {
-		e := o.c.D[k] * cmplx.Exp(s*complex(t, 0))
+		e := o.c.D[k] * cmplx.Exp(complex(real(s)*t, imag(s)*t))
 		f += real(e * o.fcdf[k])
 		g += real(e * o.fsurv[k])
 		d += real(e * o.fden[k])
@@ -345,6 +370,10 @@ const (
 	minPanel = 1.0 / 16
 )
 
+// guessPoints is the number of points through which a solve's starting
+// guess is extrapolated.
+const guessPoints = 6
+
 // chebNodes are the Chebyshev points cos(π(j + ½)/N) in increasing order,
 // chebCos[k][j] = cos(πk(j + ½)/N) for them (the discrete cosine transform
 // that gives the coefficients).
@@ -377,10 +406,13 @@ func chebKnots(x0, h float64, n int, a0 float64, solve func(x, prev, guess float
 		todo = []panel{{a0, x1}}
 	}
 	var y, c [chebN]float64
-	// The last three points solved in accepted panels, most recent first
-	// (x NaN: none).
+	// The last points solved in accepted panels, most recent first (x
+	// NaN: none).
 	nan := math.NaN()
-	acc := [3][2]float64{{nan, 0}, {nan, 0}, {nan, 0}}
+	var acc [guessPoints][2]float64
+	for i := range acc {
+		acc[i][0] = nan
+	}
 	next := 0 // first knot not yet filled
 	for len(todo) > 0 {
 		pn := todo[len(todo)-1]
@@ -390,7 +422,8 @@ func chebKnots(x0, h float64, n int, a0 float64, solve func(x, prev, guess float
 		for j := range chebN {
 			x := mid + half*chebNodes[j]
 			y[j] = solve(x, last[0][1], math.Max(extrapolate(&last, x), 0))
-			last[0], last[1], last[2] = [2]float64{x, y[j]}, last[0], last[1]
+			copy(last[1:], last[:guessPoints-1])
+			last[0] = [2]float64{x, y[j]}
 		}
 		for k := range chebN {
 			var s float64
@@ -427,19 +460,24 @@ func chebKnots(x0, h float64, n int, a0 float64, solve func(x, prev, guess float
 }
 
 // extrapolate returns the guess at x from the last points (most recent
-// first): the parabola through three, the line through two, 0 with fewer.
-func extrapolate(p *[3][2]float64, x float64) float64 {
-	x0, y0, x1, y1, x2, y2 := p[0][0], p[0][1], p[1][0], p[1][1], p[2][0], p[2][1]
-	switch {
-	case math.IsNaN(x1):
-		return 0
-	case math.IsNaN(x2):
-		return y0 + (y0-y1)/(x0-x1)*(x-x0)
+// first, x NaN: none): the polynomial through all of them (Neville's
+// scheme), 0 with fewer than two.
+func extrapolate(p *[guessPoints][2]float64, x float64) float64 {
+	var q [guessPoints]float64
+	n := 0
+	for n < guessPoints && !math.IsNaN(p[n][0]) {
+		q[n] = p[n][1]
+		n++
 	}
-	// Newton's divided differences.
-	d01 := (y0 - y1) / (x0 - x1)
-	d12 := (y1 - y2) / (x1 - x2)
-	return y0 + d01*(x-x0) + (d01-d12)/(x0-x2)*(x-x0)*(x-x1)
+	if n < 2 {
+		return 0
+	}
+	for m := 1; m < n; m++ {
+		for i := 0; i < n-m; i++ {
+			q[i] = ((x-p[i+m][0])*q[i] - (x-p[i][0])*q[i+1]) / (p[i][0] - p[i+m][0])
+		}
+	}
+	return q[0]
 }
 
 // chebEval returns Σ c_k T_k(z) and its derivative in z (Clenshaw's

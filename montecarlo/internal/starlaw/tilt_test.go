@@ -175,3 +175,19 @@ func TestQuantisedSharing(t *testing.T) {
 		}
 	}
 }
+
+// TestCsqrt checks csqrt against cmplx.Sqrt (the principal root) in every
+// quadrant, on the axes and across magnitudes: equal to a few units in the
+// last place.
+func TestCsqrt(t *testing.T) {
+	const ulps = 4e-16
+	for _, a := range []float64{-1e6, -3, -1e-9, 0, 1e-9, 2, 7e5} {
+		for _, b := range []float64{-2e6, -0.5, -1e-12, 0, 1e-12, 0.25, 3e7} {
+			w := complex(a, b)
+			got, want := csqrt(w), cmplx.Sqrt(w)
+			if cmplx.Abs(got-want) > ulps*cmplx.Abs(want) {
+				t.Errorf("csqrt(%v) = %v, cmplx.Sqrt %v", w, got, want)
+			}
+		}
+	}
+}
