@@ -79,7 +79,7 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		return crosscheckControl(ctx, net, file, *wf.from, set, *level, *challengers, *wf.biasPass, *asJSON, stdout, stderr)
 	}
 	if graphpde.HasLaws(net) {
-		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *asJSON, stdout, stderr)
+		return crosscheckNonlinear(ctx, net, file, append([]string{*wf.from}, *probes...), m, set, cset, *growth, *wf.biasPass, *asJSON, stdout, stderr)
 	}
 	if len(*probes) > 0 {
 		return badFlag(stderr, "crosscheck", fmt.Errorf("--probe is for files with nonlinear laws (a linear file is compared from --from)"))

@@ -2,8 +2,10 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
 	"io"
+	"math"
 	"text/tabwriter"
 
 	"github.com/ramify-dev/ramify/graphpde"
@@ -29,13 +31,34 @@ type nonlinearCheck struct {
 	Partial    bool     `json:"partial,omitempty"`
 	// MaxWeight is the largest growth weight of any walker (1: none grew).
 	MaxWeight num `json:"max_weight"`
+	// BiasEstimate is the bias pass at the start (absent when every step
+	// of the secant problem's walkers was exact, or with
+	// --bias-pass=false), ProbeBiasEstimates those at the probes, in the
+	// order of their checks.
+	BiasEstimate *biasOut `json:"bias_estimate,omitempty"`
+	// Walkers are the walkers' own values and standard errors, in the
+	// order of the checks (whose standard errors include the bias).
+	Walkers            []estOut       `json:"walkers"`
+	ProbeBiasEstimates []probeBiasOut `json:"probe_bias_estimates,omitempty"`
+}
+
+// probeBiasOut is the bias estimate of the walkers at one probe.
+type probeBiasOut struct {
+	Quantity string `json:"quantity"`
+	biasOut
 }
 
 // checkNonlinear solves net by Newton, builds the linear problem that the
 // field solves (graphpde.SecantNetwork) and compares the field with that
-// problem's walkers at every point of specs (the start first).
+// problem's walkers at every point of specs (the start first). The secant
+// problem's coefficients vary along its edges, so its walkers time-step
+// them and freeze visits next to them: with biasPass, each point's walkers
+// are run a second time with the same seed at half the step and star
+// fraction (walkBias), and its check is widened by the estimated bias and
+// its standard error in quadrature, √(se² + b² + se_b²), as the linear
+// crosscheck does.
 func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings, growth bool) (*nonlinearCheck, error) {
+	wset *montecarlo.Settings, cset *compare.Settings, growth, biasPass bool) (*nonlinearCheck, error) {
 	pts, err := parsePoints(net, specs)
 	if err != nil {
 		return nil, err
@@ -54,6 +77,8 @@ func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, 
 		wset.Growth = true
 	}
 	var checks []compare.Check
+	wset.KeepBlocks = biasPass // pairs the bias pass with each run
+	unmeasured, widened := false, false
 	for i, p := range pts {
 		if p.Edge < 0 && net.Nodes[p.Node].Law.Kind == vertex.Fixed {
 			out.Notes = append(out.Notes, fmt.Sprintf("%s is a fixed node: nothing to compare there", specs[i]))
@@ -75,12 +100,44 @@ func checkNonlinear(ctx context.Context, net *graphpde.Network, specs []string, 
 		if i > 0 {
 			name = "value@" + specs[i]
 		}
-		c := compare.Mean(name, u, res.Value.Mean, res.Value.StdErr)
+		se := res.Value.StdErr
+		if res.Status != montecarlo.Cancelled && needsBiasPass(res) {
+			if !biasPass {
+				unmeasured = true
+			} else {
+				b, _, err := walkBias(ctx, sec, p, *wset, res)
+				switch {
+				case errors.Is(err, errInterrupted):
+					out.Partial = true
+					out.Notes = append(out.Notes, fmt.Sprintf("%s: the second run that estimates the bias of the approximate steps was interrupted: the check is not widened by it", name))
+				case err != nil:
+					return nil, err
+				case b != nil:
+					e, sb := float64(b.Estimate), float64(b.StdErr)
+					se = math.Sqrt(se*se + e*e + sb*sb)
+					widened = true
+					out.Notes = append(out.Notes, name+": "+biasLine(b))
+					if i == 0 {
+						out.BiasEstimate = b
+					} else {
+						out.ProbeBiasEstimates = append(out.ProbeBiasEstimates, probeBiasOut{Quantity: name, biasOut: *b})
+					}
+				}
+			}
+		}
+		c := compare.Mean(name, u, res.Value.Mean, se)
 		c.N = res.Finished
+		out.Walkers = append(out.Walkers, estOut{num(res.Value.Mean), num(res.Value.StdErr)})
 		checks = append(checks, c)
-		if res.Status == montecarlo.Cancelled {
+		if res.Status == montecarlo.Cancelled || out.Partial {
 			break
 		}
+	}
+	if widened {
+		out.Notes = append(out.Notes, "each check is widened by its walkers' estimated bias, 2·(walkers − finer run), and that estimate's standard error, added in quadrature to the walkers' standard error (the finer run's values are in the notes above)")
+	}
+	if unmeasured {
+		out.Notes = append(out.Notes, "no bias estimate (--bias-pass=false): the time stepping or frozen node visits of the secant problem's walkers bias them by an unmeasured amount the checks do not allow for")
 	}
 	out.Report = compare.Decide(checks, cset)
 	return out, nil
@@ -109,9 +166,9 @@ func (c *nonlinearCheck) print(w io.Writer, file string) {
 
 // crosscheckNonlinear is ramify crosscheck on a file with nonlinear laws.
 func crosscheckNonlinear(ctx context.Context, net *graphpde.Network, file string, specs []string, m graphpde.Method,
-	wset *montecarlo.Settings, cset *compare.Settings, growth, asJSON bool, stdout, stderr io.Writer) int {
+	wset *montecarlo.Settings, cset *compare.Settings, growth, biasPass, asJSON bool, stdout, stderr io.Writer) int {
 	wset.KeepSamples = false
-	c, err := checkNonlinear(ctx, net, specs, m, wset, cset, growth)
+	c, err := checkNonlinear(ctx, net, specs, m, wset, cset, growth, biasPass)
 	if bar, ok := wset.Recorder.(*progressBar); ok {
 		bar.Done()
 	}
