@@ -562,7 +562,8 @@ func walkBias(ctx context.Context, net *graphpde.Network, p graphpde.Point, set 
 	set.Recorder = nil
 	set.TimeCap = coarse.TimeCap
 	set.KeepSamples = false
-	set.PositionTimes = nil
+	// Position times are kept: crosscheck widens its position checks by
+	// the difference of the two runs' places.
 	set.KeepBlocks = true
 	fine, err := montecarlo.Run(ctx, net, p, &set)
 	if err != nil {

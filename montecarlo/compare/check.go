@@ -82,6 +82,11 @@ type Check struct {
 	// whose end is unknown, Upper − Walker for a probability).
 	Bounded bool    `json:"-"`
 	Upper   float64 `json:"-"`
+	// Slack, for a distribution check widened by an estimated bias of the
+	// walkers (the caller reduced Stat by it before taking P), is that
+	// bias: the check can hide a difference of its critical distance plus
+	// Slack, which Decide reads against the resolution.
+	Slack float64 `json:"bias,omitempty"`
 
 	// lnP is ln P computed in log space, so that checks whose p-values
 	// underflow to 0 can still be ranked; 0 means "not set, use ln P".

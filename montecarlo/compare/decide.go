@@ -185,6 +185,8 @@ func Decide(checks []Check, set *Settings) Report {
 		switch {
 		case math.IsInf(det, 1):
 			r.Explain = fmt.Sprintf("no disagreement found, but %s has no walker data", c.Quantity)
+		case c.Slack > 0 && 2*c.Slack >= det:
+			r.Explain = fmt.Sprintf("no disagreement found, but the walkers' estimated discretisation bias in %s, %.2g, is not below the resolution %s: a finer --step or --star-fraction, not more walkers, would settle it", c.Quantity, c.Slack, tol)
 		case c.Bounded && c.inResolutionUnits(c.Upper-c.Walker) > res:
 			r.Explain = fmt.Sprintf("no disagreement found, but %.3g%% of the walkers were still out at the time cap, so %s is only bounded, to [%.4g, %.4g]; a longer time cap would settle it",
 				100*c.Censored, c.Quantity, c.Walker, c.Upper)
@@ -233,7 +235,7 @@ func (c *Check) detectable(zc, threshold float64) float64 {
 		if c.N <= 0 {
 			return math.Inf(1)
 		}
-		return CriticalD(threshold, int(c.N), c.CensorAt)
+		return CriticalD(threshold, int(c.N), c.CensorAt) + c.Slack
 	}
 	h := zc * c.StdErr
 	if c.Bounded {

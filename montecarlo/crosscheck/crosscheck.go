@@ -47,6 +47,11 @@ type Options struct {
 	// squared standard error (value and mean exit time are widened by the
 	// caller through the Result's standard errors).
 	Widen *Widen
+	// PositionsFine, when set, is the finer run (half the step and star
+	// fraction, same seed, same position times) whose records widen the
+	// position checks by the estimated bias of the places
+	// (PositionChecksBias).
+	PositionsFine *montecarlo.Result
 }
 
 // Widen holds per node the variance added to the hitting-probability
@@ -247,7 +252,7 @@ func Run(net montecarlo.Network, start vertex.Point, pde *PDE, res *montecarlo.R
 		cc.Notes = append(cc.Notes, fmt.Sprintf("split frequencies not compared at %d junctions that walkers left fewer than %d times", sparse, minDepartures))
 	}
 	if len(res.PositionTimes) > 0 {
-		pc, notes, err := PositionChecks(net, res, pde.Positions)
+		pc, notes, err := PositionChecksBias(net, res, opt.PositionsFine, pde.Positions)
 		if err != nil {
 			return nil, err
 		}

@@ -3,7 +3,9 @@ package crosscheck
 import (
 	"fmt"
 	"math"
+	"slices"
 	"strconv"
+	"strings"
 
 	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/montecarlo/compare"
@@ -110,6 +112,32 @@ func (l *positionLaw) cdf(z float64) float64 {
 // ones, and notes say how many. Decide then applies the family-wise bound
 // over these and any other checks.
 func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Density) ([]compare.Check, []string, error) {
+	return PositionChecksBias(net, res, nil, dens)
+}
+
+// PositionChecksBias is PositionChecks widened by the estimated bias of
+// the walkers' places when fine, a second run with the same seed at half
+// the step (and star fraction) that also recorded positions, is not nil
+// (docs/walkers.md §10). With a bias of first order, coarse − exact ≈
+// 2·(coarse − fine) (derived), so per time:
+//
+//   - the KS check: b = 2·D(coarse, fine), the largest gap between the two
+//     runs' laws along the same line (held and ended walkers off it); the
+//     walkers' distance to the forward law is reduced by b before its
+//     p-value is taken, and b is the check's Slack (added to the
+//     difference it could hide, so a bias above the resolution makes the
+//     verdict inconclusive rather than agree);
+//   - each proportion: its bias b = 2(p_c − p_f) and the standard error
+//     of b, 2·sqrt(se_c² + se_f²), are added in quadrature to its
+//     standard error (as widenByBias in the command does for values).
+//
+// b includes the two runs' own noise, so the widening errs on the side of
+// "inconclusive"; a difference far beyond it, such as a wrong junction
+// condition, still disagrees.
+func PositionChecksBias(net montecarlo.Network, res, fine *montecarlo.Result, dens []Density) ([]compare.Check, []string, error) {
+	if fine != nil && len(fine.PositionTimes) != len(res.PositionTimes) {
+		fine = nil
+	}
 	if len(dens) != len(res.PositionTimes) {
 		return nil, nil, fmt.Errorf("position check: %d densities for %d times", len(dens), len(res.PositionTimes))
 	}
@@ -139,31 +167,7 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 		}
 		ts := strconv.FormatFloat(t, 'g', 6, 64)
 		n := int64(len(res.Positions[k]))
-		coords := make([]float64, 0, len(res.Positions[k]))
-		ended, unknown := 0, 0
-		held := make(map[int]int64)
-		for _, p := range res.Positions[k] {
-			switch p.State {
-			case montecarlo.OnEdge:
-				coords = append(coords, l.off[p.Edge]+p.X)
-			case montecarlo.AtNode:
-				if sticky[p.Node] {
-					held[int(p.Node)]++
-					continue
-				}
-				fe := firstEnd[p.Node]
-				if fe[0] < 0 {
-					unknown++
-					continue
-				}
-				_, _, _, length, _, _ := net.WalkEdge(fe[0])
-				coords = append(coords, l.off[fe[0]]+float64(fe[1])*length)
-			case montecarlo.Ended:
-				ended++
-			default:
-				unknown++
-			}
-		}
+		coords, ended, unknown, held := placeRecords(net, l, firstEnd, sticky, res.Positions[k])
 		var heldAll int64
 		var heldPDE float64
 		var heldChecks []compare.Check
@@ -181,10 +185,28 @@ func PositionChecks(net montecarlo.Network, res *montecarlo.Result, dens []Densi
 			id, _, _, _ := net.WalkNode(v)
 			heldChecks = append(heldChecks, compare.Proportion("held:"+id+":t="+ts, math.Min(1, pde), held[v], n))
 		}
-		checks = append(checks, compare.Proportion("on-network:t="+ts, math.Min(1, l.mass+heldPDE), int64(len(coords))+heldAll, n))
-		checks = append(checks, heldChecks...)
+		onNet := compare.Proportion("on-network:t="+ts, math.Min(1, l.mass+heldPDE), int64(len(coords))+heldAll, n)
 		c := compare.Distribution("position:t="+ts, coords, l.end, ended+unknown+int(heldAll), func(z float64) float64 { return 1 - l.cdf(z) })
 		c.Note = l.where(net, c.At)
+		if fine != nil && k < len(fine.Positions) {
+			fc, _, _, fheld := placeRecords(net, l, firstEnd, sticky, fine.Positions[k])
+			fn := int64(len(fine.Positions[k]))
+			var fheldAll int64
+			for _, v := range stickyNodes {
+				fheldAll += fheld[v]
+			}
+			widenProportion(&onNet, int64(len(fc))+fheldAll, fn)
+			for i, v := range stickyNodes {
+				widenProportion(&heldChecks[i], fheld[v], fn)
+			}
+			if b := 2 * lineGap(coords, int(n), fc, int(fn)); b > 0 && c.N > 0 && !math.IsNaN(c.P) {
+				c.Slack = b
+				c.P = compare.CensoredKSPValue(math.Max(0, c.Stat-b), int(c.N), c.CensorAt)
+				c.Note = strings.TrimSpace(c.Note + fmt.Sprintf("; widened by the estimated bias of the places, 2·D(walkers, finer run) = %.2g", b))
+			}
+		}
+		checks = append(checks, onNet)
+		checks = append(checks, heldChecks...)
 		checks = append(checks, c)
 		if unknown > 0 {
 			notes = append(notes, fmt.Sprintf("at t = %s, %d walkers had no known place (still out at the time cap, or alive at a node without edges) and count as ended", ts, unknown))
@@ -215,4 +237,82 @@ func (l *positionLaw) where(net montecarlo.Network, z float64) string {
 	}
 	id, _, _, _, _, _ := net.WalkEdge(e)
 	return fmt.Sprintf("largest gap at %s@%.4g (edges in file order, x along each)", id, z-l.off[e])
+}
+
+// placeRecords sorts the records of one time into line coordinates (on an
+// edge, or alive at a node without a capacity: at its first edge end),
+// walkers ended, of unknown place, and held per node with a capacity.
+func placeRecords(net montecarlo.Network, l *positionLaw, firstEnd [][2]int, sticky []bool, recs []montecarlo.Position) (coords []float64, ended, unknown int, held map[int]int64) {
+	coords = make([]float64, 0, len(recs))
+	held = make(map[int]int64)
+	for _, p := range recs {
+		switch p.State {
+		case montecarlo.OnEdge:
+			coords = append(coords, l.off[p.Edge]+p.X)
+		case montecarlo.AtNode:
+			if sticky[p.Node] {
+				held[int(p.Node)]++
+				continue
+			}
+			fe := firstEnd[p.Node]
+			if fe[0] < 0 {
+				unknown++
+				continue
+			}
+			_, _, _, length, _, _ := net.WalkEdge(fe[0])
+			coords = append(coords, l.off[fe[0]]+float64(fe[1])*length)
+		case montecarlo.Ended:
+			ended++
+		default:
+			unknown++
+		}
+	}
+	return coords, ended, unknown, held
+}
+
+// lineGap returns the largest gap sup_z |A(z)/na − B(z)/nb| between the
+// sub-distributions of two samples of line coordinates out of na and nb
+// walkers (the rest off the line). a and b are sorted in place.
+func lineGap(a []float64, na int, b []float64, nb int) float64 {
+	if na == 0 || nb == 0 {
+		return 0
+	}
+	slices.Sort(a)
+	slices.Sort(b)
+	var d float64
+	i, j := 0, 0
+	for i < len(a) || j < len(b) {
+		var z float64
+		switch {
+		case j == len(b) || (i < len(a) && a[i] <= b[j]):
+			z = a[i]
+		default:
+			z = b[j]
+		}
+		for i < len(a) && a[i] <= z {
+			i++
+		}
+		for j < len(b) && b[j] <= z {
+			j++
+		}
+		d = math.Max(d, math.Abs(float64(i)/float64(na)-float64(j)/float64(nb)))
+	}
+	return d
+}
+
+// widenProportion adds to a proportion check the estimated bias of the
+// walkers, b = 2(p − p_fine), and its standard error in quadrature (see
+// PositionChecksBias), and recomputes its z and p.
+func widenProportion(c *compare.Check, hits, n int64) {
+	if n == 0 || c.N == 0 || math.IsNaN(c.Walker) {
+		return
+	}
+	pf := float64(hits) / float64(n)
+	b := 2 * (c.Walker - pf)
+	seb := 2 * math.Hypot(c.StdErr, compare.BinomialStdErr(pf, n))
+	c.StdErr = math.Sqrt(c.StdErr*c.StdErr + b*b + seb*seb)
+	if c.StdErr > 0 {
+		c.Z = (c.Walker - c.PDE) / c.StdErr
+		c.P = math.Erfc(math.Abs(c.Z) / math.Sqrt2)
+	}
 }
