@@ -13,10 +13,9 @@ import (
 // radius. Near a record time, with s the time left, a walker at it
 //
 //   - takes the full visit when that ends before the record time except
-//     with probability below 3e-11 (its diffusive part (r²/2)(S + T_f) is
+//     with probability below 5e-11 (its diffusive part (r²/2)(S + T_f) is
 //     at most (r²/2)τ₁ in law, its hold θrL_v, θ = ρ_v/Σw, L_v ~ Exp(μ)
-//     with μ ≥ 1; each gets half of s: s ≥ posU·r² and s ≥ 2·posHold·θr;
-//     without a capacity the whole of s: 2s ≥ posU·r²);
+//     with μ ≥ 1; they share s: s ≥ (posU/2)r² + posHold·θr, see fits);
 //   - otherwise, when the star's rim is at least posJump·sqrt(2s) away,
 //     jumps straight to the record time by the exact law of the sticky,
 //     leaky Walsh motion on the unbounded star (the rim is reached within
@@ -160,12 +159,13 @@ func armShare(nd *nodeInfo, k int) float64 {
 }
 
 // fits reports whether a visit of radius eps ends within s except with
-// probability below 3e-11.
+// probability below 5e-11: s is shared between the diffusive part, which
+// outlasts its share s_d with probability below 3e-11 when
+// 2s_d/ε² ≥ posU, and the hold, which outlasts s_h with probability
+// e^{−s_h/(θε)} ≤ e^{−posHold} when s_h ≥ posHold·θε; such shares exist
+// when s ≥ (posU/2)ε² + posHold·θε.
 func (pn *posNode) fits(eps, s float64) bool {
-	if pn.rhoV == 0 {
-		return 2*s >= posU*eps*eps
-	}
-	return s >= posU*eps*eps && s >= 2*posHold*pn.theta*eps
+	return s >= posU/2*eps*eps+posHold*pn.theta*eps
 }
 
 // stepOut is where a step near a record time leaves the walker.

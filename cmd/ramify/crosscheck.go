@@ -388,6 +388,9 @@ func (cc *crossResult) print(w io.Writer) {
 			mark = "DIFFERS"
 		}
 		if c.Kind == compare.KindLaw {
+			if c.Slack > 0 {
+				mark += fmt.Sprintf(" (allowing a bias of %.2g)", c.Slack)
+			}
 			fmt.Fprintf(tw, "%s\t\t\t\tD=%.4f\t%.3g\t%s\n", c.Quantity, c.Stat, c.P, mark)
 			continue
 		}

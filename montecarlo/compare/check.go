@@ -141,6 +141,9 @@ func (c Check) MarshalJSON() ([]byte, error) {
 	if (c.Kind == KindLaw || c.Bounded) && c.Censored > 0 {
 		num("censored", c.Censored)
 	}
+	if c.Slack > 0 {
+		num("bias", c.Slack)
+	}
 	b.WriteString(`,"pass":` + strconv.FormatBool(c.Pass))
 	if c.Note != "" {
 		n, err := json.Marshal(c.Note)
