@@ -543,20 +543,20 @@ func eigenScale(net *Network) float64 {
 // Lanczos and Newton steps (spectrum_fast.go), above it with the split
 // system and the secant.
 func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
-	w := newWW(net)
-	w.scale = eigenScale(net)
+	scale := eigenScale(net)
 	res := &SpectrumResult{Method: "exact", SelfAdjoint: true, Status: Converged}
-	c := newExactCounter(net, w)
-	seeds := lanczosSeeds(c, w.scale, s.Count, func() bool { return s.Context.Err() != nil })
-	if err := byCount(c, w.scale, s, res, seeds); err != nil {
+	c := newExactCounter(net, scale)
+	seeds := lanczosSeeds(c, scale, s.Count, func() bool { return s.Context.Err() != nil })
+	if err := byCount(c, scale, s, res, seeds); err != nil {
 		return nil, err
 	}
 	if s.Modes {
-		if err := exactModes(net, w, res); err != nil {
+		if err := exactModes(net, c.split(), res); err != nil {
 			return nil, err
 		}
 	}
-	res.Stats.Unknowns = w.m
+	_, nodes := numberNodes(net)
+	res.Stats.Unknowns = len(nodes)
 	return res, nil
 }
 

@@ -35,11 +35,14 @@ import (
 // are those of wwSystem (edges split near their poles).
 
 // exactCounter counts with the node system dyn below lim and with the
-// split system ww above.
+// split system ww above (built on first use: on a large network the
+// wanted eigenvalues usually lie below lim).
 type exactCounter struct {
-	ww  *wwSystem
-	dyn *dynSystem // nil: no unknowns
-	lim float64
+	net   *Network
+	scale float64
+	ww    *wwSystem  // nil until split() builds it
+	dyn   *dynSystem // nil: no unknowns
+	lim   float64
 	// probe is the vector x of g (nil: dyn's fixed vector); y is K(λ)⁻¹x
 	// and my = M y of the last count with dyn, slope g'(λ) there (NaN after
 	// a count with ww).
@@ -48,10 +51,10 @@ type exactCounter struct {
 	fresh        bool // the probe was reset since the last count
 }
 
-func newExactCounter(net *Network, w *wwSystem) *exactCounter {
-	c := &exactCounter{ww: w, lim: math.Inf(-1), slope: math.NaN()}
+func newExactCounter(net *Network, scale float64) *exactCounter {
+	c := &exactCounter{net: net, scale: scale, lim: math.Inf(-1), slope: math.NaN()}
 	lim := fastLimit(net)
-	if w.m > 0 && lim > 0 {
+	if _, nodes := numberNodes(net); len(nodes) > 0 && lim > 0 {
 		c.dyn = newDyn(net)
 		c.lim = lim
 		c.y = make([]float64, c.dyn.n)
@@ -60,8 +63,20 @@ func newExactCounter(net *Network, w *wwSystem) *exactCounter {
 	return c
 }
 
+// split returns the split system, building it on first use.
+func (c *exactCounter) split() *wwSystem {
+	if c.ww == nil {
+		c.ww = newWW(c.net)
+		c.ww.scale = c.scale
+	}
+	return c.ww
+}
+
 func (c *exactCounter) factorizations() int {
-	n := c.ww.facts
+	n := 0
+	if c.ww != nil {
+		n = c.ww.facts
+	}
 	if c.dyn != nil {
 		n += c.dyn.facts
 	}
@@ -73,7 +88,7 @@ func (c *exactCounter) factorizations() int {
 func (c *exactCounter) countAt(lam float64) (int, float64, error) {
 	c.slope = math.NaN()
 	if c.dyn == nil || !(lam < c.lim) {
-		return c.ww.countAt(lam)
+		return c.split().countAt(lam)
 	}
 	d := c.dyn
 	d.assemble(lam)
