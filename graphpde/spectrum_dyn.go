@@ -28,6 +28,11 @@ type dynSystem struct {
 	fac *nodesys.Factor[float64]
 	n   int
 	w   []float64 // edge → weight α (the same at both unknown ends)
+	// Per edge, copied out of the Edge structs for one linear pass: a, c,
+	// ρ, L, the unknowns at the ends (−1 fixed) and whether it is a loop.
+	ea, ec, er, el []float64
+	r0, r1         []int
+	loop           []bool
 	// Per edge the weighted entries of the last assembly: diagonal kd
 	// (both ends; a loop's whole contribution), off-diagonal ko; and those
 	// of M: md, mo.
@@ -65,6 +70,8 @@ func newDyn(net *Network) *dynSystem {
 	ne := len(net.Edges)
 	d := &dynSystem{net: net, n: len(nodes), w: make([]float64, ne),
 		kd: make([]float64, ne), ko: make([]float64, ne), md: make([]float64, ne), mo: make([]float64, ne)}
+	d.ea, d.ec, d.er, d.el = make([]float64, ne), make([]float64, ne), make([]float64, ne), make([]float64, ne)
+	d.r0, d.r1, d.loop = make([]int, ne), make([]int, ne), make([]bool, ne)
 	for e := range net.Edges {
 		ed := &net.Edges[e]
 		ends[e] = [2]int{ed.From, ed.To}
@@ -72,6 +79,8 @@ func newDyn(net *Network) *dynSystem {
 		if unk[ed.From] < 0 {
 			d.w[e] = ed.EndWeight(1) // (the weight at a fixed end does not enter)
 		}
+		d.ea[e], d.ec[e], d.er[e], d.el[e] = ed.A, ed.C, ed.Rho, ed.Length
+		d.r0[e], d.r1[e], d.loop[e] = unk[ed.From], unk[ed.To], ed.From == ed.To
 	}
 	d.pat = newNodePattern(unk, nodes, ends)
 	d.mat = nodesys.NewMatrixPattern[float64](d.n, d.pat.rowPtr, d.pat.col)
@@ -99,27 +108,25 @@ func (d *dynSystem) assemble(lam float64) {
 		d.nm[i] = l.Capacity
 		val[p.dslot[i]] = d.nk[i]
 	}
-	for e := range net.Edges {
-		ed := &net.Edges[e]
-		w := d.w[e]
-		en := p.ends[e]
-		r0, r1 := p.unk[en[0]], p.unk[en[1]]
-		diag, off, dm, om := edgeDynAll(ed, ed.Length, lam)
-		if en[0] == en[1] {
-			if r0 >= 0 {
-				k := 2 * w * loopDyn(ed, lam)
-				d.kd[e], d.ko[e] = k, 0
-				d.md[e], d.mo[e] = -2*w*(dm+om), 0
-				val[p.dslot[r0]] += k
-			}
+	for e, w := range d.w {
+		r0, r1 := d.r0[e], d.r1[e]
+		if r0 < 0 && r1 < 0 {
+			continue
+		}
+		diag, off, dm, om := edgeDynCoef(d.ea[e], d.ec[e], d.er[e], d.el[e], lam)
+		if d.loop[e] {
+			k := 2 * w * loopDyn(&net.Edges[e], lam)
+			d.kd[e], d.ko[e] = k, 0
+			d.md[e], d.mo[e] = -2*w*(dm+om), 0
+			val[p.dslot[r0]] += k
 			continue
 		}
 		d.kd[e], d.ko[e] = w*diag, w*off
 		d.md[e], d.mo[e] = -w*dm, -w*om
-		sl := p.eslot[e]
 		if r0 >= 0 {
 			val[p.dslot[r0]] += w * diag
 			if r1 >= 0 {
+				sl := p.eslot[e]
 				val[sl[0]] += w * off
 				val[sl[1]] += w * off
 			}
@@ -148,19 +155,16 @@ func (d *dynSystem) mulK(y, x []float64) { d.mul(y, x, d.nk, d.kd, d.ko) }
 func (d *dynSystem) mulM(y, x []float64) { d.mul(y, x, d.nm, d.md, d.mo) }
 
 func (d *dynSystem) mul(y, x, node, diag, off []float64) {
-	p := d.pat
 	for i := range y {
 		y[i] = node[i] * x[i]
 	}
-	for e, en := range p.ends {
-		r0, r1 := p.unk[en[0]], p.unk[en[1]]
-		if en[0] == en[1] {
+	for e, r0 := range d.r0 {
+		r1 := d.r1[e]
+		switch {
+		case d.loop[e]:
 			if r0 >= 0 {
 				y[r0] += diag[e] * x[r0]
 			}
-			continue
-		}
-		switch {
 		case r0 >= 0 && r1 >= 0:
 			y[r0] += diag[e]*x[r0] + off[e]*x[r1]
 			y[r1] += diag[e]*x[r1] + off[e]*x[r0]
@@ -213,11 +217,11 @@ func edgeDynDeriv(ed *Edge, L, lam float64) (dDiag, dOff float64) {
 	return rho * L / a * fp, -rho * L / a * gp
 }
 
-// edgeDynAll returns the entries of edgeDyn and their derivatives of
-// edgeDynDeriv with one evaluation of the trigonometric or exponential
-// functions (the values as edgeDyn forms them).
-func edgeDynAll(ed *Edge, L, lam float64) (diag, off, dDiag, dOff float64) {
-	a, c, rho := ed.A, ed.C, ed.Rho
+// edgeDynCoef returns the entries of edgeDyn and their derivatives of
+// edgeDynDeriv, for an edge with coefficients a, c, ρ and length L, with
+// one evaluation of the trigonometric or exponential functions (the values
+// as edgeDyn forms them).
+func edgeDynCoef(a, c, rho, L, lam float64) (diag, off, dDiag, dOff float64) {
 	q := (lam*rho - c) / a
 	w := q * L * L
 	var fp, gp float64

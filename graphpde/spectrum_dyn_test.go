@@ -11,7 +11,7 @@ import (
 // both sides of q = 0, in the series range and near kL = π; and that at
 // q = 0 they are minus the consistent mass matrix ρL/3, ρL/6 of a linear
 // element (derived: M = −K' is the Gram matrix of the shape functions,
-// which are linear at q = 0). The merged edgeDynAll must give the same
+// which are linear at q = 0). The merged edgeDynCoef must give the same
 // values as edgeDyn and edgeDynDeriv.
 func TestEdgeDynDeriv(t *testing.T) {
 	const fdTol = 1e-7
@@ -28,9 +28,9 @@ func TestEdgeDynDeriv(t *testing.T) {
 				t.Errorf("L=%g w=%g: derivative %.10g %.10g, differences %.10g %.10g", L, w, dd, do, fd, fo)
 			}
 			d, o, _, _ := edgeDyn(ed, L, lam)
-			ad, ao, add, ado := edgeDynAll(ed, L, lam)
+			ad, ao, add, ado := edgeDynCoef(ed.A, ed.C, ed.Rho, L, lam)
 			if ad != d || ao != o || math.Abs(add-dd) > 1e-14*math.Abs(dd) || math.Abs(ado-do) > 1e-14*math.Abs(do)+1e-300 {
-				t.Errorf("L=%g w=%g: edgeDynAll %g %g %g %g, want %g %g %g %g", L, w, ad, ao, add, ado, d, o, dd, do)
+				t.Errorf("L=%g w=%g: edgeDynCoef %g %g %g %g, want %g %g %g %g", L, w, ad, ao, add, ado, d, o, dd, do)
 			}
 		}
 		dd, do := edgeDynDeriv(ed, L, ed.C/ed.Rho)

@@ -208,7 +208,7 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 	}
 	// (the first shift is for the least eigenvalue and a rough picture:
 	// fewer steps)
-	n, est0, err := c.dyn.lanczos(sigma, min(steps, count+10))
+	n, est0, err := c.dyn.lanczos(sigma, min(steps, count+10), stop)
 	if err != nil || len(est0) == 0 {
 		return seeds
 	}
@@ -228,7 +228,7 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 		return seeds
 	}
 	sigma = sigma + 0.9*(est0[0]-sigma)
-	n, est1, err := c.dyn.lanczos(sigma, steps)
+	n, est1, err := c.dyn.lanczos(sigma, steps, stop)
 	if err != nil {
 		return seeds
 	}
@@ -243,7 +243,7 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 		// the two shifts.
 		s2 := est1[len(est1)-1] + 1e-3*(est1[len(est1)-1]-sigma)
 		if s2 < c.lim {
-			if n2, est2, err := c.dyn.lanczos(s2, steps); err == nil {
+			if n2, est2, err := c.dyn.lanczos(s2, steps, stop); err == nil {
 				add(s2, n2)
 				mid := 0.5 * (sigma + s2)
 				var merged []float64
@@ -272,8 +272,10 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 }
 
 // lanczosSteps is the dimension of the Krylov space: twice the count and
-// 20 more, at most the number of unknowns.
-func lanczosSteps(count, n int) int { return min(n, 2*count+20) }
+// 20 more, at most the number of unknowns and 300 (the dense eigenproblem
+// of the tridiagonal matrix costs its cube; eigenvalues beyond the
+// estimates are found by the count alone).
+func lanczosSteps(count, n int) int { return min(n, 2*count+20, 300) }
 
 // lanczos factors K(σ) and runs steps of the Lanczos process on
 // K(σ)⁻¹M(σ), self-adjoint in the M inner product, without
@@ -282,8 +284,9 @@ func lanczosSteps(count, n int) int { return min(n, 2*count+20) }
 // "ghost"), which does no harm to seeds that are only trial values of the
 // count, and is merged here. It returns N(σ) and the estimates σ + 1/θ of
 // the Ritz values θ whose residual bound |β_k y_k| is below 1e-3 of |θ|,
-// sorted and with values closer than 1e-9 relative merged.
-func (d *dynSystem) lanczos(sigma float64, steps int) (int, []float64, error) {
+// sorted and with values closer than 1e-9 relative merged. When stop
+// returns true (checked at every step) it ends with the steps taken.
+func (d *dynSystem) lanczos(sigma float64, steps int, stop func() bool) (int, []float64, error) {
 	d.assemble(sigma)
 	d.facts++
 	if err := d.fac.Factorize(d.mat); err != nil {
@@ -311,7 +314,7 @@ func (d *dynSystem) lanczos(sigma float64, steps int) (int, []float64, error) {
 	}
 	var alpha, beta []float64
 	betaPrev := 0.0
-	for j := 0; j < steps; j++ {
+	for j := 0; j < steps && (j == 0 || !stop()); j++ {
 		d.fac.SolveTo(w, p)
 		for i := range w {
 			w[i] -= betaPrev * q0[i]
