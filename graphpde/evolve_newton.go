@@ -60,6 +60,9 @@ type newtonStepper struct {
 	lastErr error
 	iters   int // Newton iterations of all stages
 	ests    int // factorisations for error estimates
+	// facD is the d of the stage whose Jacobian the node system's factor
+	// holds (NaN: none yet).
+	facD float64
 }
 
 // facts returns the number of factorisations of the node system.
@@ -132,6 +135,7 @@ func newNewtonStepper(net *Network, s *EvolveSettings) (*newtonStepper, error) {
 		sys.conds[v] = c
 	}
 	ts.nset = NonlinearSettings{MaxIter: 20, Tol: 1e-10, Context: s.Context}
+	ts.facD = math.NaN()
 	return ts, nil
 }
 
@@ -387,6 +391,9 @@ func (ts *newtonStepper) stage(y []float64, tau, d float64, z []float64) (bool, 
 	res, err := ts.sys.newton(&ts.nset)
 	if res != nil {
 		ts.iters += res.Iterations
+		if res.Iterations > 0 {
+			ts.facD = d
+		}
 	}
 	if err != nil {
 		if stageFailure(err) {
@@ -549,9 +556,14 @@ func (ts *newtonStepper) accept() { ts.vN, ts.v1 = ts.v1, ts.vN }
 // the stage's Jacobian, as the linear stepper filters through M + (γh/2)K:
 // est = (∂R/∂y)⁻¹ [R(y, z − raw) − R(y, z)] with R the stage residual at the
 // converged BDF2 stage (a first-order change in z, exact where the time
-// term enters linearly). The Jacobian is taken at (y, z − raw), where the
-// second residual is evaluated: it depends on z only through the half
-// cells of equation edges, which is immaterial for an estimate.
+// term enters linearly). The Jacobian is that of the stage's last Newton
+// iteration — its node system's factor, and the grid interiors' elimination
+// at (y, z − raw), where the second residual is evaluated — as ode codes
+// reuse Jacobians for their estimates: the differences are of the size of
+// the last Newton step (which met the tolerance) and, through the half
+// cells of equation edges, of raw, immaterial for an estimate. Only when
+// that iteration took no step (its factor is of an earlier step size) is
+// the node system factored afresh.
 func (ts *newtonStepper) estimate(est []float64) error {
 	s := ts.sys
 	for r, v := range s.nodes {
@@ -582,12 +594,17 @@ func (ts *newtonStepper) estimate(est []float64) error {
 	for i := range bI {
 		bI[i] = s.ires[i] - bI[i]
 	}
-	if err := s.prepare(s.U, s.w); err != nil {
-		return err
-	}
-	ts.ests++
-	if err := s.factor(); err != nil {
-		return err
+	if ts.facD != ts.d {
+		// The node system's factor is of another step size (the stage's
+		// Newton iteration converged at its start): a new one.
+		if err := s.prepare(s.U, s.w); err != nil {
+			return err
+		}
+		ts.ests++
+		if err := s.factor(); err != nil {
+			return err
+		}
+		ts.facD = ts.d
 	}
 	dW := est[ts.m:]
 	s.step(ts.dU, dW, ts.bN, bI, 1)
