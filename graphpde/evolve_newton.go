@@ -487,8 +487,15 @@ func (ts *newtonStepper) initialRate(u []float64) error {
 			}
 			rc := s.nres[v]
 			slope := (rc - rPrev[r]) / (vCur[r] - vPrev[r])
-			if rc == 0 || slope == 0 || !finite(slope) {
+			if rc == 0 {
 				done[r] = true
+				continue
+			}
+			if slope == 0 || !finite(slope) {
+				// The balance does not involve the node's rate (no
+				// storage that reaches it): an algebraic node, whose
+				// rate is not used.
+				vCur[r], done[r] = 0, true
 				continue
 			}
 			next := vCur[r] - rc/slope
