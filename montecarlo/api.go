@@ -104,9 +104,8 @@ type Settings struct {
 	// node's capacity at a record time are recorded AtNode there, walkers
 	// killed by a leak Ended (Killed). Refused with a shard, and
 	// (*PositionError) on networks with a balance node that has a leak or
-	// a capacity and arms that decay at different rates, carry drift,
-	// vary along the edge, or decay under a capacity (see also
-	// Result.PositionApprox). Records take 24 bytes per walker and time
+	// a capacity next to a time-stepped arm (drift or varying
+	// coefficients); see also Result.PositionApprox. Records take 24 bytes per walker and time
 	// (at most MaxPositionBytes).
 	PositionTimes []float64
 	// KeepBlocks keeps the per-block sums of value, lifetime, fates and

@@ -5,12 +5,14 @@ import (
 	"math/cmplx"
 
 	"github.com/ramify-dev/ramify/internal/laplace"
+	"github.com/ramify-dev/ramify/montecarlo/internal/starlaw"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
 // Positions at leaky and sticky nodes (docs/walkers.md §10). A node with
-// a leak β or a capacity ρ_v (modeStar) has visits tabulated at one
-// radius. Near a record time, with s the time left, a walker at it
+// a leak β or a capacity ρ_v (modeStar, or modeStarArms when its arms
+// decay at different rates or decay under a capacity) has visits
+// tabulated at one radius. Near a record time, with s the time left, a walker at it
 //
 //   - takes the full visit when that ends before the record time except
 //     with probability below 5e-11 (its diffusive part (r²/2)(S + T_f) is
@@ -26,17 +28,19 @@ import (
 //     any radius, with the tables of each level built on first use.
 //
 // The law of the jump (derived; the forward equation of docs/walkers.md §9
-// in the coordinate y on every arm): with W = Σw, k the arms' common decay
-// rate and D(λ) = ρ_v λ + W sqrt(λ + k) + β, the transforms in time of
-// the probability at the node, of the density at distance y on the arms
-// (shared w_e/W among them) and of the probability killed by then are
+// in the coordinate y on every arm): with k_e = c_e/ρ_e the decay rate of
+// arm e, z_e = sqrt(λ + k_e) and D(λ) = ρ_v λ + Σ w_e z_e + β, the
+// transforms in time of the probability at the node, of the density at
+// distance y on arm e and of the probability killed by then are
 //
-//	ρ_v/D,    W e^{−y sqrt(λ+k)}/D,    (β + kW/sqrt(λ+k))/(λD),
+//	ρ_v/D,    w_e e^{−y z_e}/D,    (β + Σ k_e w_e/z_e)/(λD),
 //
 // which add up to 1/λ. The node's injection γ is collected at rate γ/ρ_v
 // while held (per unit local time with ρ_v = 0), so its expected amount by
-// s has the transform γ/(λD), and the expected time on the arms
-// W/(λ sqrt(λ+k) D). The jump adds these expected rewards and occupations
+// s has the transform γ/(λD), and the expected time on arm e
+// w_e/(λ z_e D). At a modeStarArms node (arms walked on intervals with
+// their own decay rates, or a common rate under a capacity) the ladder's
+// visits are the node's own rule at the smaller radius. The jump adds these expected rewards and occupations
 // (exact in mean, the same as summing them along the path), draws the
 // fate, the arm (w_e/W) and the distance by inverting the transforms on a
 // fixed Talbot contour (internal/laplace, about 1e-11), and for a killed
@@ -53,19 +57,23 @@ const maxLadder = 60
 // sticky node.
 type posNode struct {
 	W, rhoV, beta, gamma float64
-	k                    float64                     // the arms' common decay rate (0 with a capacity)
 	theta                float64                     // ρ_v/W
-	srcRate              float64                     // Σ (w_e/W) f_e/ρ_e
+	w, k, rate           []float64                   // per arm: weight w_e, decay rate c_e/ρ_e, source rate f_e/ρ_e
 	levels               [maxLadder + 1]*ladderLevel // index 1…maxLadder
 }
 
-// ladderLevel is a visit at the radius eps = r·2^{−j}: the modeStar rule
-// of prepareBalance at that radius.
+// ladderLevel is a visit at the radius eps = r·2^{−j}: the node's rule of
+// prepareBalance (modeStar or modeStarArms) at that radius.
 type ladderLevel struct {
 	eps, dscale, pMove, reward float64
 	hold                       bool
-	occ                        []float64 // per arm, with a capacity
+	occ                        []float64 // per arm: with a capacity (modeStar), always (modeStarArms)
 	tab                        *lazyTable
+	// modeStarArms: the leak's probability, per arm the cumulative fate
+	// probabilities and the tables of the final pieces.
+	killP            float64
+	cx, ck           []float64
+	exitTab, killTab []*lazyTable
 }
 
 // The fixed Talbot contour at t = 1 (internal/laplace): at time t its nodes
@@ -94,25 +102,74 @@ func (m *model) preparePosStar(v int) *posNode {
 		vertex.ApplySplit(alpha, alpha, split)
 	}
 	w := make([]float64, n)
-	type armCo struct{ a, b, c, f, s float64 }
+	type armCo struct{ a, b, c, f, rho, s float64 }
 	co := make([]armCo, n)
 	plain := true
-	pn := &posNode{rhoV: law.Capacity, beta: law.Leak, gamma: law.Inject, k: nd.kill}
+	pn := &posNode{rhoV: law.Capacity, beta: law.Leak, gamma: law.Inject, w: w, k: make([]float64, n), rate: make([]float64, n)}
 	for k, end := range ends {
 		a, b, c, f, rho := m.armCoeffs(end.Edge, end.Side)
 		s := math.Sqrt(rho / a)
-		co[k] = armCo{a, b, c, f, s}
+		co[k] = armCo{a, b, c, f, rho, s}
 		w[k] = alpha[k] * s
 		pn.W += w[k]
+		pn.k[k], pn.rate[k] = c/rho, f/rho
 		if b != 0 || c != 0 || f != 0 {
 			plain = false
 		}
 	}
-	for k, end := range ends {
-		_, _, _, f, rho := m.armCoeffs(end.Edge, end.Side)
-		pn.srcRate += w[k] / pn.W * f / rho
-	}
 	pn.theta = pn.rhoV / pn.W
+	buildArms := func(j int) *ladderLevel {
+		// prepareBalance's modeStarArms rule at the radius eps.
+		eps := math.Ldexp(nd.r, -j)
+		sc := law.StarScales(w, eps)
+		lv := &ladderLevel{eps: eps, dscale: eps * eps / 2, occ: make([]float64, n), cx: make([]float64, n), ck: make([]float64, n),
+			exitTab: make([]*lazyTable, n), killTab: make([]*lazyTable, n)}
+		p, q := make([]float64, n), make([]float64, n)
+		var g []float64
+		for k, ac := range co {
+			p[k] = w[k] / sc.W
+			q[k] = ac.c / ac.rho * eps * eps / 2
+			if ac.b != 0 {
+				if g == nil {
+					g = make([]float64, n)
+				}
+				g[k] = ac.b * (eps / ac.s) / (2 * ac.a)
+			}
+		}
+		lv.tab = m.lazyMixture(sc.Kappa, sc.Eta, p, q, g)
+		pl, ex, ki := starlaw.RatesDrift(sc.Kappa, p, q, g, nil, nil)
+		lv.killP = pl
+		cum := pl
+		arms := make([]vertex.Arm, n)
+		var den float64
+		for k, ac := range co {
+			ek := eps / ac.s
+			arms[k] = vertex.NewArm(ac.a, ac.b, ac.c, ac.f, ek)
+			den += alpha[k] * (arms[k].AmB + arms[k].B)
+			lv.occ[k] = alpha[k] * vertex.NewArm(ac.a, ac.b, ac.c, ac.rho, ek).F
+			cum += ex[k]
+			lv.cx[k] = cum
+			cum += ki[k]
+			lv.ck[k] = cum
+			gk := 0.0
+			if g != nil {
+				gk = g[k]
+			}
+			lv.exitTab[k] = m.lazyExit(q[k] + gk*gk/2)
+			if q[k] > 0 {
+				lv.killTab[k] = m.lazyKill(q[k], gk)
+			}
+		}
+		lv.ck[n-1] = math.Inf(1)
+		den += law.Leak
+		for k := range co {
+			lv.occ[k] /= den
+		}
+		var visit vertex.Visit
+		law.StarArms(&visit, alpha, arms)
+		lv.reward = visit.Reward
+		return lv
+	}
 	build := func(j int) *ladderLevel {
 		eps := math.Ldexp(nd.r, -j)
 		sc := law.StarScales(w, eps)
@@ -141,7 +198,11 @@ func (m *model) preparePosStar(v int) *posNode {
 	// The levels' rules are cheap (O(arms) each); their tables are built
 	// on first use.
 	for j := 1; j <= maxLadder; j++ {
-		pn.levels[j] = build(j)
+		if nd.mode == modeStarArms {
+			pn.levels[j] = buildArms(j)
+		} else {
+			pn.levels[j] = build(j)
+		}
 	}
 	return pn
 }
@@ -195,6 +256,9 @@ func (w *walker) stickyStep(v int, t, s float64, acc *blockAcc) (o stepOut, ok b
 		j++
 	}
 	lv := pn.levels[j]
+	if nd.mode == modeStarArms {
+		return w.ladderArms(nd, lv, t, acc), true
+	}
 	rng := w.rng
 	T := lv.dscale * lv.tab.Draw(rng)
 	u := rng.Float64()
@@ -241,35 +305,99 @@ func (w *walker) stickyStep(v int, t, s float64, acc *blockAcc) (o stepOut, ok b
 	return o, true
 }
 
+// ladderArms makes a visit of ladder level lv at a modeStarArms node: the
+// node's own rule (walk.go) at that radius.
+func (w *walker) ladderArms(nd *nodeInfo, lv *ladderLevel, t float64, acc *blockAcc) stepOut {
+	m, rng := w.m, w.rng
+	T := lv.tab.Draw(rng)
+	u := rng.Float64()
+	killed := true
+	j := 0
+	if u >= lv.killP {
+		for u >= lv.ck[j] {
+			j++
+		}
+		if u < lv.cx[j] || lv.killTab[j] == nil {
+			killed = false
+			T += lv.exitTab[j].Draw(rng)
+		} else {
+			T += lv.killTab[j].Draw(rng)
+		}
+	}
+	T *= lv.dscale
+	if t+T > m.timeCap {
+		return stepOut{node: -1, e: -1, t: t + T, done: true, fate: Censored}
+	}
+	for k := range nd.arms {
+		w.addOcc(nd.arms[k].edge, lv.occ[k])
+	}
+	o := stepOut{node: -1, e: -1, t: t + T, val: lv.reward}
+	if killed {
+		o.done, o.fate = true, Killed
+		return o
+	}
+	ar := &nd.arms[j]
+	acc.dep[nd.depOff+j]++
+	o.e = ar.edge
+	if ar.side == 0 {
+		o.x = lv.eps / ar.ys
+	} else {
+		o.x = m.edges[ar.edge].L - lv.eps/ar.ys
+	}
+	return o
+}
+
 // stickyJump moves a walker at node v straight to the record time t + s
-// by the exact law of the sticky, leaky motion on the unbounded star.
+// by the exact law of the sticky, leaky motion on the unbounded star, each
+// arm decaying at its own rate (drift and varying coefficients frozen out:
+// Result.PositionApprox there).
 func (w *walker) stickyJump(v int, pn *posNode, t, s float64) stepOut {
 	m, rng := w.m, w.rng
 	nd := &m.nodes[v]
 	if t+s > m.timeCap {
-		return stepOut{t: t + s, done: true, fate: Censored}
+		return stepOut{node: -1, e: -1, t: t + s, done: true, fate: Censored}
 	}
-	var pNode, pAway, pKill, inj, occ float64
-	var a [laplace.DefaultM]complex128 // per node: weight·W/(zD), for the distance
-	var z [laplace.DefaultM]complex128
+	n, M := len(pn.w), len(talbotS)
+	if cap(w.jz) < n*M {
+		w.jz, w.ja = make([]complex128, n*M), make([]complex128, n*M)
+	}
+	z, a := w.jz[:n*M], w.ja[:n*M] // per arm e and contour node k: [e*M+k]
+	if cap(w.jp) < 2*n {
+		w.jp = make([]float64, 2*n)
+	}
+	pArm, occ := w.jp[:n], w.jp[n:2*n] // per arm: probability there at s, expected time there by s
+	clear(w.jp[:2*n])
+	var pNode, pKill, inj, val float64
 	for k := range talbotS {
 		lam := talbotS[k] / complex(s, 0)
 		c := talbotDE[k] / complex(s, 0)
-		zk := cmplx.Sqrt(lam + complex(pn.k, 0))
-		d := complex(pn.rhoV, 0)*lam + complex(pn.W, 0)*zk + complex(pn.beta, 0)
+		d := complex(pn.rhoV, 0)*lam + complex(pn.beta, 0)
+		for e := range n {
+			ze := cmplx.Sqrt(lam + complex(pn.k[e], 0))
+			z[e*M+k] = ze
+			d += complex(pn.w[e], 0) * ze
+		}
 		cd := c / d
 		pNode += real(cd) * pn.rhoV
-		ak := cd * complex(pn.W, 0) / zk
-		pAway += real(ak)
-		pKill += real(cd * (complex(pn.beta, 0) + complex(pn.k*pn.W, 0)/zk) / lam)
+		kill := complex(pn.beta, 0)
+		for e := range n {
+			ae := cd * complex(pn.w[e], 0) / z[e*M+k]
+			a[e*M+k] = ae
+			pArm[e] += real(ae)
+			kill += complex(pn.k[e]*pn.w[e], 0) / z[e*M+k]
+			occ[e] += real(ae / lam)
+		}
+		pKill += real(cd * kill / lam)
 		inj += real(cd/lam) * pn.gamma
-		occ += real(ak / lam)
-		a[k], z[k] = ak, zk
 	}
-	// Expected rewards and times on the arms over the jump.
-	val := inj + pn.srcRate*occ
-	for k := range nd.arms {
-		w.addOcc(nd.arms[k].edge, armShare(nd, k)*occ)
+	val += inj
+	for e := range n {
+		w.addOcc(nd.arms[e].edge, occ[e])
+		val += pn.rate[e] * occ[e]
+	}
+	var pAway float64
+	for _, p := range pArm {
+		pAway += p
 	}
 	u := rng.Float64() * (pNode + pAway + pKill) // the sum is 1 to about 1e-11
 	switch {
@@ -279,15 +407,23 @@ func (w *walker) stickyJump(v int, pn *posNode, t, s float64) stepOut {
 		return stepOut{node: v, e: -1, t: t + s, val: val}
 	}
 	target := u - pKill - pNode
-	// Distance: G(y) = Σ Re(a_k(1 − e^{−z_k y})) = target, G' = Σ Re(a_k z_k e^{−z_k y}).
+	e := 0
+	for e < n-1 && target >= pArm[e] {
+		target -= pArm[e]
+		e++
+	}
+	target = min(target, pArm[e])
+	ae, ze := a[e*M:(e+1)*M], z[e*M:(e+1)*M]
+	// Distance on arm e: G(y) = Σ Re(a_k(1 − e^{−z_k y})) = target,
+	// G' = Σ Re(a_k z_k e^{−z_k y}); Newton's method safeguarded by bisection.
 	lo, hi := 0.0, nd.r
 	y := math.Min(math.Sqrt(s), 0.5*hi)
 	for range 100 {
 		var g, dg float64
-		for k := range a {
-			e := cmplx.Exp(-z[k] * complex(y, 0))
-			g += real(a[k] * (1 - e))
-			dg += real(a[k] * z[k] * e)
+		for k := range ae {
+			ex := cmplx.Exp(-ze[k] * complex(y, 0))
+			g += real(ae[k] * (1 - ex))
+			dg += real(ae[k] * ze[k] * ex)
 		}
 		if g < target {
 			lo = y
@@ -298,17 +434,13 @@ func (w *walker) stickyJump(v int, pn *posNode, t, s float64) stepOut {
 		if !(next > lo && next < hi) || dg <= 0 {
 			next = 0.5 * (lo + hi)
 		}
-		if math.Abs(next-y) <= 1e-13*(y+math.Sqrt(s)) || hi-lo <= 1e-13*(y+math.Sqrt(s)) {
-			y = next
+		done := math.Abs(next-y) <= 1e-13*(y+math.Sqrt(s)) || hi-lo <= 1e-13*(y+math.Sqrt(s))
+		y = next
+		if done {
 			break
 		}
-		y = next
 	}
-	ar := 0
-	for u2 := rng.Float64(); u2 >= nd.arms[ar].cw; {
-		ar++
-	}
-	arm := &nd.arms[ar]
+	arm := &nd.arms[e]
 	L := m.edges[arm.edge].L
 	x := y / arm.ys
 	if arm.side == 1 {
@@ -325,9 +457,14 @@ func (pn *posNode) killedBy(tau float64) float64 {
 	for k := range talbotS {
 		lam := talbotS[k] / complex(tau, 0)
 		c := talbotDE[k] / complex(tau, 0)
-		zk := cmplx.Sqrt(lam + complex(pn.k, 0))
-		d := complex(pn.rhoV, 0)*lam + complex(pn.W, 0)*zk + complex(pn.beta, 0)
-		p += real(c * (complex(pn.beta, 0) + complex(pn.k*pn.W, 0)/zk) / (lam * d))
+		d := complex(pn.rhoV, 0)*lam + complex(pn.beta, 0)
+		kill := complex(pn.beta, 0)
+		for e := range pn.w {
+			ze := cmplx.Sqrt(lam + complex(pn.k[e], 0))
+			d += complex(pn.w[e], 0) * ze
+			kill += complex(pn.k[e]*pn.w[e], 0) / ze
+		}
+		p += real(c * kill / (lam * d))
 	}
 	return p
 }

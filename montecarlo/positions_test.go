@@ -11,10 +11,9 @@ import (
 )
 
 // TestPositionsRefused: settings and networks on which walkers cannot be
-// stopped at fixed times exactly are refused with a typed error (a leaky
-// or sticky node whose arms decay at different rates, or decay while a
-// capacity holds the walker; plain leaky and sticky nodes stop walkers
-// exactly, TestPositionsSticky in package crosscheck).
+// stopped at fixed times are refused with a typed error (a leaky or
+// sticky node next to a time-stepped arm; other leaky and sticky nodes
+// stop walkers exactly: TestPositionsSticky in package crosscheck).
 func TestPositionsRefused(t *testing.T) {
 	arms := []starArm{{L: 1, a: 1, rho: 1, alpha: 1}, {L: 2, a: 1, rho: 1, alpha: 2}}
 	plain := star(kirchhoff, arms)
@@ -25,8 +24,7 @@ func TestPositionsRefused(t *testing.T) {
 		set  montecarlo.Settings
 		want any
 	}{
-		{"capacity with decay on the arms", star(vertex.Law{Kind: vertex.Balance, Capacity: 0.5}, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, c: 1}, {L: 1, a: 1, rho: 1, alpha: 1, c: 1}}), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
-		{"leak and different decay", star(vertex.Law{Kind: vertex.Balance, Leak: 0.5}, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, c: 1}, {L: 1, a: 1, rho: 1, alpha: 1}}), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
+		{"capacity next to a drifting arm", star(vertex.Law{Kind: vertex.Balance, Capacity: 0.5}, []starArm{{L: 1, a: 1, rho: 1, alpha: 1, b: 0.5}, {L: 1, a: 1, rho: 1, alpha: 1}}), montecarlo.Settings{PositionTimes: []float64{0.1}}, new(*montecarlo.PositionError)},
 		{"negative time", plain, montecarlo.Settings{PositionTimes: []float64{-1}}, new(*montecarlo.SettingsError)},
 		{"beyond the cap", plain, montecarlo.Settings{TimeCap: 1, PositionTimes: []float64{2}}, new(*montecarlo.SettingsError)},
 		{"shard", plain, montecarlo.Settings{Shard: montecarlo.Shard{Index: 1, Count: 2}, PositionTimes: []float64{0.1}}, new(*montecarlo.SettingsError)},

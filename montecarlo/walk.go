@@ -72,6 +72,9 @@ type walker struct {
 	touchedV []int32
 	pos      []Position // the current walker's records at m.posT
 	late     int64      // records taken after their time (overshoots)
+	// Scratch of the jumps at leaky and sticky nodes (positions_sticky.go).
+	jz, ja []complex128
+	jp     []float64
 }
 
 func newWalker(m *model, stop *atomic.Bool) *walker {
@@ -249,7 +252,20 @@ loop:
 				}
 				node, e, x = depart(nd, j, acc)
 			case modeStarArms:
-				if 2*s < posU*nd.r*nd.r {
+				if m.pos != nil && m.pos[node] != nil && s < math.Inf(1) {
+					// A leaky or sticky node with a record pending
+					// (positions_sticky.go).
+					if o, ok := w.stickyStep(node, t, s, acc); ok {
+						t = o.t
+						val += wgt * o.val
+						if o.done {
+							fate = o.fate
+							break loop
+						}
+						node, e, x = o.node, o.e, o.x
+						continue
+					}
+				} else if 2*s < posU*nd.r*nd.r {
 					// A record time is near: a Walsh step of a small
 					// radius eps (split w_k/Σw, the arms' mean decay),
 					// the limit of this node's visit as the radius

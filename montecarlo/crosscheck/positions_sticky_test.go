@@ -18,6 +18,11 @@ import (
 // weights: to an absorbing end, to a second absorbing end, and to a sealed
 // end (a balance node without anything).
 func stickyStar(t *testing.T, capacity, leak, decay float64) *graphpde.Network {
+	return stickyStarArms(t, capacity, leak, [3]float64{decay, decay, decay})
+}
+
+// stickyStarArms is stickyStar with a decay rate of its own on each arm.
+func stickyStarArms(t *testing.T, capacity, leak float64, decay [3]float64) *graphpde.Network {
 	var net graphpde.Network
 	add := func(nd graphpde.Node) int {
 		i, err := net.AddNode(nd)
@@ -31,9 +36,9 @@ func stickyStar(t *testing.T, capacity, leak, decay float64) *graphpde.Network {
 	e2 := add(graphpde.Node{ID: "e2", Law: vertex.Law{Kind: vertex.Fixed}})
 	e3 := add(graphpde.Node{ID: "e3"})
 	for _, ed := range []graphpde.Edge{
-		{ID: "a1", From: hub, To: e1, Length: 1, A: 1, C: decay, Weight: [2]float64{1.5, 1}},
-		{ID: "a2", From: e2, To: hub, Length: 1.5, A: 0.5, C: decay, Weight: [2]float64{0.5, 0.25}},
-		{ID: "a3", From: hub, To: e3, Length: 0.8, A: 1, C: decay},
+		{ID: "a1", From: hub, To: e1, Length: 1, A: 1, C: decay[0], Weight: [2]float64{1.5, 1}},
+		{ID: "a2", From: e2, To: hub, Length: 1.5, A: 0.5, C: decay[1], Weight: [2]float64{0.5, 0.25}},
+		{ID: "a3", From: hub, To: e3, Length: 0.8, A: 1, C: decay[2]},
 	} {
 		if _, err := net.AddEdge(ed); err != nil {
 			t.Fatal(err)
@@ -94,20 +99,26 @@ func exactShares(t *testing.T, net func() *graphpde.Network, p graphpde.Point, v
 // share held at the centre and the share still in the network with their
 // exact values (exactShares), as proportions within 4 binomial standard
 // errors (fixed seeds). Cases: capacity and leak, capacity only, leak with
-// a common decay on the arms; released at the centre and on an arm. 20000
-// walkers: standard errors about 3e-3.
+// a common decay on the arms, capacity and leak with a common decay, and
+// with arms decaying at their own rates, with and without a capacity;
+// released at the centre and on an arm. 20000 walkers: standard errors
+// about 3e-3.
 func TestPositionsStickyExact(t *testing.T) {
 	times := []float64{0.05, 0.3, 1}
 	for ci, tc := range []struct {
-		capacity, leak, decay float64
-		start                 vertex.Point
+		capacity, leak float64
+		decay          [3]float64
+		start          vertex.Point
 	}{
-		{0.6, 0.8, 0, vertex.AtNode(0)},
-		{0.6, 0.8, 0, vertex.OnEdge(0, 0.3)},
-		{1.5, 0, 0, vertex.AtNode(0)},
-		{0, 1.5, 0.7, vertex.AtNode(0)},
+		{0.6, 0.8, [3]float64{}, vertex.AtNode(0)},
+		{0.6, 0.8, [3]float64{}, vertex.OnEdge(0, 0.3)},
+		{1.5, 0, [3]float64{}, vertex.AtNode(0)},
+		{0, 1.5, [3]float64{0.7, 0.7, 0.7}, vertex.AtNode(0)},
+		{0.6, 0.8, [3]float64{0.7, 0.7, 0.7}, vertex.AtNode(0)},
+		{0.6, 0.8, [3]float64{2, 0, 0.5}, vertex.OnEdge(2, 0.2)},
+		{0, 0.8, [3]float64{2, 0, 0.5}, vertex.AtNode(0)},
 	} {
-		build := func() *graphpde.Network { return stickyStar(t, tc.capacity, tc.leak, tc.decay) }
+		build := func() *graphpde.Network { return stickyStarArms(t, tc.capacity, tc.leak, tc.decay) }
 		net := build()
 		p := graphpde.Point{Node: -1, Edge: tc.start.Edge, X: tc.start.X}
 		if tc.start.Edge < 0 {
@@ -148,7 +159,8 @@ func TestPositionsStickyExact(t *testing.T) {
 }
 
 // TestPositionsStickyForward: walkers stopped at three times on the
-// sticky, leaky star against the forward solution with its point mass at
+// sticky, leaky star (without decay, and with arms decaying at rates 2, 0
+// and 0.5) against the forward solution with its point mass at
 // the hub (graphpde.ForwardAmounts, 400 cells per edge). The forward point
 // mass and the amount left must match the exact ones (exactShares) to
 // 5e-4, the grid's error (measured 5e-5); the position checks (on-network share, share held at
@@ -157,8 +169,14 @@ func TestPositionsStickyExact(t *testing.T) {
 // without the capacity (no point mass, a different transport) must be
 // rejected.
 func TestPositionsStickyForward(t *testing.T) {
+	for ci, decay := range [][3]float64{{}, {2, 0, 0.5}} {
+		stickyForward(t, ci, decay)
+	}
+}
+
+func stickyForward(t *testing.T, ci int, decay [3]float64) {
 	times := []float64{0.05, 0.3, 1}
-	build := func() *graphpde.Network { return stickyStar(t, 0.6, 0.8, 0) }
+	build := func() *graphpde.Network { return stickyStarArms(t, 0.6, 0.8, decay) }
 	net := build()
 	start := vertex.OnEdge(0, 0.3)
 	p := graphpde.Point{Node: -1, Edge: 0, X: 0.3}
@@ -176,14 +194,17 @@ func TestPositionsStickyForward(t *testing.T) {
 			}
 		}
 		total += fa[k].Nodes[0]
-		t.Logf("t = %g: forward point mass %.5f, exact %.5f; forward amount left %.5f, exact %.5f", times[k], fa[k].Nodes[0], held[k], total, left[k])
+		t.Logf("case %d, t = %g: forward point mass %.5f, exact %.5f; forward amount left %.5f, exact %.5f", ci, times[k], fa[k].Nodes[0], held[k], total, left[k])
 		if math.Abs(fa[k].Nodes[0]-held[k]) > 5e-4 || math.Abs(total-left[k]) > 5e-4 {
-			t.Errorf("t = %g: forward point mass %.5f (exact %.5f), amount left %.5f (exact %.5f)", times[k], fa[k].Nodes[0], held[k], total, left[k])
+			t.Errorf("case %d, t = %g: forward point mass %.5f (exact %.5f), amount left %.5f (exact %.5f)", ci, times[k], fa[k].Nodes[0], held[k], total, left[k])
 		}
 	}
-	res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 20000, Seed: 41, PositionTimes: times})
+	res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 20000, Seed: uint64(41 + ci), PositionTimes: times})
 	if err != nil {
 		t.Fatal(err)
+	}
+	if res.PositionApprox {
+		t.Errorf("case %d: PositionApprox set on a star whose arms are walked on intervals", ci)
 	}
 	dens := func(fa []graphpde.ForwardAmount) []crosscheck.Density {
 		out := make([]crosscheck.Density, len(fa))
@@ -197,12 +218,12 @@ func TestPositionsStickyForward(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, c := range checks {
-		t.Logf("right: %s: pde %.4f walker %.4f D/z %.4f/%.2f p %.3g", c.Quantity, c.PDE, c.Walker, c.Stat, c.Z, c.P)
+		t.Logf("case %d, right: %s: pde %.4f walker %.4f D/z %.4f/%.2f p %.3g", ci, c.Quantity, c.PDE, c.Walker, c.Stat, c.Z, c.P)
 	}
 	if rep := compare.Decide(checks, &compare.Settings{Resolution: 0.05}); rep.Verdict != compare.Agree {
-		t.Errorf("sticky star: verdict %s (%s)", rep.Verdict, rep.Explain)
+		t.Errorf("case %d, sticky star: verdict %s (%s)", ci, rep.Verdict, rep.Explain)
 	}
-	wrongFa, err := graphpde.ForwardAmounts(stickyStar(t, 0, 0.8, 0), p, times, 400, 0)
+	wrongFa, err := graphpde.ForwardAmounts(stickyStarArms(t, 0, 0.8, decay), p, times, 400, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -211,7 +232,7 @@ func TestPositionsStickyForward(t *testing.T) {
 		t.Fatal(err)
 	}
 	if rep := compare.Decide(wrong, &compare.Settings{Resolution: 0.05}); rep.Verdict != compare.Disagree {
-		t.Errorf("forward solution without the capacity: verdict %s, want disagree (%s)", rep.Verdict, rep.Explain)
+		t.Errorf("case %d, forward solution without the capacity: verdict %s, want disagree (%s)", ci, rep.Verdict, rep.Explain)
 	}
 }
 
