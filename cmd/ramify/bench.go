@@ -88,6 +88,9 @@ func runBench(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	if err := benchScale(ctx, w, *size); err != nil {
 		return fail(stderr, "bench", err)
 	}
+	if err := benchIO(ctx, w, *size); err != nil {
+		return fail(stderr, "bench", err)
+	}
 	return 0
 }
 

@@ -2,8 +2,20 @@ package main
 
 import (
 	"bufio"
+	"context"
+	"encoding/csv"
+	"fmt"
 	"io"
+	"math"
 	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/metrics"
+	"strconv"
+	"sync"
+	"time"
+
+	"github.com/BurntSushi/toml"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
@@ -33,3 +45,268 @@ func writeNetFile(path string, net *graphpde.Network, write func(io.Writer, *gra
 	}
 	return f.Close()
 }
+
+// bestOf runs each of fs in turn, rounds times, and returns the least time
+// of each (alternating, so that a burst of load from another process falls
+// on both sides of a ratio alike).
+func bestOf(ctx context.Context, rounds int, fs ...func() error) ([]float64, error) {
+	best := make([]float64, len(fs))
+	for i := range best {
+		best[i] = math.Inf(1)
+	}
+	for range rounds {
+		for i, f := range fs {
+			if ctx.Err() != nil {
+				return nil, fmt.Errorf("%w during the input and output measurements", errInterruptedAny)
+			}
+			t0 := time.Now()
+			if err := f(); err != nil {
+				return nil, err
+			}
+			best[i] = min(best[i], time.Since(t0).Seconds())
+		}
+	}
+	return best, nil
+}
+
+// heapPeak runs f while sampling the bytes of live and not yet swept heap
+// objects every half millisecond, and returns their peak above what was
+// in use before f (after a collection).
+func heapPeak(f func() error) (float64, error) {
+	runtime.GC()
+	s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	metrics.Read(s)
+	base := s[0].Value.Uint64()
+	peak := base
+	done := make(chan struct{})
+	var wg sync.WaitGroup
+	wg.Add(1)
+	go func() {
+		defer wg.Done()
+		tk := time.NewTicker(500 * time.Microsecond)
+		defer tk.Stop()
+		for {
+			select {
+			case <-done:
+				return
+			case <-tk.C:
+				metrics.Read(s)
+				peak = max(peak, s[0].Value.Uint64())
+			}
+		}
+	}()
+	err := f()
+	close(done)
+	wg.Wait()
+	metrics.Read(s)
+	peak = max(peak, s[0].Value.Uint64())
+	return float64(peak - base), err
+}
+
+// liveBytes returns the heap in use after a collection.
+func liveBytes() float64 {
+	runtime.GC()
+	s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+	metrics.Read(s)
+	return float64(s[0].Value.Uint64())
+}
+
+// benchIO measures input and output on the square mesh (100×100 small,
+// 300×300 large, whose network file is about 20 MB): reading the network
+// file against a bare decode of it by the TOML library, with the heap it
+// needs; reading its edge list against a plain encoding/csv pass; the
+// whole `solve --json` against the solve alone; and the streamed JSON and
+// --field writers against encoding/json's indenting encoder and
+// encoding/csv's writer. Every ratio is of two best-of-3 times measured
+// alternately in this run.
+func benchIO(ctx context.Context, w io.Writer, size string) error {
+	n := 100
+	if size == "large" {
+		n = 300
+	}
+	dir, err := os.MkdirTemp("", "ramify-bench-")
+	if err != nil {
+		return err
+	}
+	defer os.RemoveAll(dir)
+	mesh := gen.SquareMesh(n, n)
+	tomlFile, csvFile := filepath.Join(dir, "mesh.toml"), filepath.Join(dir, "mesh.csv")
+	if err := writeNetFile(tomlFile, mesh, netfile.Write); err != nil {
+		return err
+	}
+	if err := writeNetFile(csvFile, mesh, netfile.WriteCSV); err != nil {
+		return err
+	}
+	mb := func(path string) float64 {
+		st, err := os.Stat(path)
+		if err != nil {
+			return math.NaN()
+		}
+		return float64(st.Size()) / 1e6
+	}
+	tomlMB, csvMB := mb(tomlFile), mb(csvFile)
+	fmt.Fprintf(w, "\ninput and output, %d×%d square mesh (%d nodes, %d edges; best of 3, alternating):\n", n, n, len(mesh.Nodes), len(mesh.Edges))
+
+	// The network file against the TOML library alone.
+	var net *graphpde.Network
+	t, err := bestOf(ctx, 3, func() error {
+		var err error
+		net, err = netfile.ReadFile(tomlFile)
+		return err
+	}, func() error {
+		data, err := os.ReadFile(tomlFile)
+		if err != nil {
+			return err
+		}
+		var root map[string]any
+		_, err = toml.Decode(string(data), &root)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	net = nil
+	peak, err := heapPeak(func() error {
+		var err error
+		net, err = netfile.ReadFile(tomlFile)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	before := liveBytes()
+	runtime.KeepAlive(net)
+	net = nil
+	netBytes := before - liveBytes()
+	fmt.Fprintf(w, "  network file, %.1f MB: read in %.3g s (%.0f MB/s; target ≤ 0.5 s for 20 MB%s), %.2f × a bare decode by the TOML library (%.3g s)\n",
+		tomlMB, t[0], tomlMB/t[0], unmet(t[0]/tomlMB*20 > 0.5), t[0]/t[1], t[1])
+	fmt.Fprintf(w, "    heap while reading: peak %.0f MB = %.1f × the file (target ≤ 3%s); the network read holds %.0f MB = %.1f × the file\n",
+		peak/1e6, peak/1e6/tomlMB, unmet(peak/1e6/tomlMB > 3), netBytes/1e6, netBytes/1e6/tomlMB)
+
+	// The edge list against a plain encoding/csv pass.
+	t, err = bestOf(ctx, 3, func() error {
+		_, err := netfile.ReadFile(csvFile)
+		return err
+	}, func() error {
+		return plainCSVPass(csvFile)
+	})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "  edge list (CSV), %.1f MB: read in %.3g s (%.0f MB/s), %.2f × a plain encoding/csv pass (%.3g s; target ≤ 2%s)\n",
+		csvMB, t[0], csvMB/t[0], t[0]/t[1], t[1], unmet(t[0]/t[1] > 2))
+
+	// The whole solve --json against the solve alone.
+	net, err = netfile.ReadFile(tomlFile)
+	if err != nil {
+		return err
+	}
+	var sol *graphpde.Solution
+	var jsonBytes countWriter
+	t, err = bestOf(ctx, 3, func() error {
+		jsonBytes = 0
+		if code := run(ctx, []string{"solve", tomlFile, "--json"}, &jsonBytes, io.Discard); code != 0 {
+			return fmt.Errorf("solve --json on the mesh: exit %d", code)
+		}
+		return nil
+	}, func() error {
+		var err error
+		sol, _, err = solveField(ctx, net, graphpde.MethodAuto, 0)
+		return err
+	})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "  solve --json, whole command (read, solve, summary, %.0f MB of JSON): %.3g s = %.2f × the solve alone (%.3g s; target ≤ 2%s)\n",
+		float64(jsonBytes)/1e6, t[0], t[0]/t[1], t[1], unmet(t[0]/t[1] > 2))
+
+	// The writers against the standard library's.
+	out := solveJSON(net, sol, nil, nil)
+	var rows int
+	var fieldBytes countWriter
+	t, err = bestOf(ctx, 3, func() error {
+		return writeSolveJSON(io.Discard, out)
+	}, func() error {
+		return writeJSON(io.Discard, out)
+	}, func() error {
+		rows, fieldBytes = 0, 0
+		bw := bufio.NewWriterSize(&fieldBytes, 1<<16)
+		if err := writeFieldRows(bw, sol, 0, &rows); err != nil {
+			return err
+		}
+		return bw.Flush()
+	}, func() error {
+		bw := bufio.NewWriterSize(io.Discard, 1<<16)
+		cw := csv.NewWriter(bw)
+		cw.Write([]string{"edge", "x", "u"})
+		var pts []graphpde.FieldPoint
+		for e := range sol.Net.Edges {
+			pts = sol.Sample(pts[:0], e)
+			for _, p := range pts {
+				cw.Write([]string{sol.Net.Edges[e].ID, strconv.FormatFloat(p.X, 'g', 10, 64), strconv.FormatFloat(p.U, 'g', 12, 64)})
+			}
+		}
+		cw.Flush()
+		if err := cw.Error(); err != nil {
+			return err
+		}
+		return bw.Flush()
+	})
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "  solve JSON streamed: %.3g s = %.2f × encoding/json's indenting encoder (%.3g s)\n", t[0], t[0]/t[1], t[1])
+	fmt.Fprintf(w, "  --field CSV streamed, %d rows, %.0f MB: %.3g s = %.2f × encoding/csv's writer (%.3g s)\n",
+		rows, float64(fieldBytes)/1e6, t[2], t[2]/t[3], t[3])
+	return nil
+}
+
+// plainCSVPass reads path with encoding/csv (records reused, comments
+// skipped, leading spaces trimmed, as the edge-list reader sets it) and
+// parses the length column: the reference for reading an edge list.
+func plainCSVPass(path string) error {
+	f, err := os.Open(path)
+	if err != nil {
+		return err
+	}
+	defer f.Close()
+	cr := csv.NewReader(f)
+	cr.ReuseRecord, cr.Comment, cr.TrimLeadingSpace = true, '#', true
+	head, err := cr.Read()
+	if err != nil {
+		return err
+	}
+	col := -1
+	for i, h := range head {
+		if h == "length" {
+			col = i
+		}
+	}
+	var sum float64
+	for {
+		rec, err := cr.Read()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return err
+		}
+		if col >= 0 && rec[col] != "" {
+			v, _ := strconv.ParseFloat(rec[col], 64)
+			sum += v
+		}
+	}
+	if math.IsNaN(sum) {
+		return fmt.Errorf("NaN length")
+	}
+	return nil
+}
+
+// countWriter counts the bytes written to it.
+type countWriter int64
+
+func (c *countWriter) Write(p []byte) (int, error) {
+	*c += countWriter(len(p))
+	return len(p), nil
+}
+

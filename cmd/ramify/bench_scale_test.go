@@ -26,3 +26,20 @@ func TestBenchScale(t *testing.T) {
 	}
 	t.Log(out)
 }
+
+// TestBenchIO runs the input and output figures of ramify bench at their
+// small size (the 100×100 mesh) and checks that every figure was printed.
+func TestBenchIO(t *testing.T) {
+	testenv.SkipUnlessLong(t, "the bench's input and output figures (a few seconds)")
+	var b bytes.Buffer
+	if err := benchIO(context.Background(), &b, "small"); err != nil {
+		t.Fatal(err)
+	}
+	out := b.String()
+	for _, want := range []string{"network file", "bare decode by the TOML library", "heap while reading", "edge list (CSV)", "solve --json, whole command", "solve JSON streamed", "--field CSV streamed"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("bench output lacks %q:\n%s", want, out)
+		}
+	}
+	t.Log(out)
+}
