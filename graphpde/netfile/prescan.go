@@ -353,7 +353,8 @@ type sectionIndex struct {
 	nodes, edges []section
 	cache        map[string]*sectionBatch // by kind: tables
 	locs         map[string]*sectionBatch // by kind: line locator
-	spare        map[string][]fastKV      // by kind: the array of the last batch's keys and values, reused
+	spare        map[string][]fastKV      // by kind: an array for a batch's keys and values, free for reuse
+	ahead        map[string]*prefetch     // by kind: the next batch, being read ahead
 }
 
 // sectionBatch is the decoded tables, or the locator, of sections [lo, hi).
@@ -362,12 +363,14 @@ type sectionBatch struct {
 	tables []map[string]any
 	orders [][]string // keys of each table in file order
 	kvs    [][]fastKV // instead of tables and orders: each table's keys and values in file order (fastscan.go)
+	all    []fastKV   // the array kvs are slices of
 	loc    *locator
 }
 
 func newSectionIndex(src, file string, lay *layout) *sectionIndex {
 	return &sectionIndex{src: src, file: file, nodes: lay.nodes, edges: lay.edges,
-		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch), spare: make(map[string][]fastKV)}
+		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch),
+		spare: make(map[string][]fastKV), ahead: make(map[string]*prefetch)}
 }
 
 func (x *sectionIndex) sections(kind string) []section {
@@ -381,23 +384,61 @@ func (x *sectionIndex) sections(kind string) []section {
 // if it is not the last one decoded.
 func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 	b := x.cache[kind]
-	if b == nil || i < b.lo || i >= b.hi {
-		secs := x.sections(kind)
-		j := batch(secs, i)
-		b = &sectionBatch{lo: i, hi: j}
+	if b != nil && i >= b.lo && i < b.hi {
+		return b, nil
+	}
+	secs := x.sections(kind)
+	var nb *sectionBatch
+	if p := x.ahead[kind]; p != nil {
+		<-p.done
+		delete(x.ahead, kind)
+		if p.lo == i && p.ok {
+			nb = &sectionBatch{lo: p.lo, hi: p.hi, kvs: p.kvs, all: p.all}
+		} else {
+			x.spare[kind] = p.all
+		}
+	}
+	if nb == nil {
+		nb = &sectionBatch{lo: i, hi: batch(secs, i)}
 		ok := false
 		if fastTables {
-			b.kvs, x.spare[kind], ok = fastBatch(x.src, kind, secs, i, j, x.spare[kind])
+			nb.kvs, nb.all, ok = fastBatch(x.src, kind, secs, nb.lo, nb.hi, x.spare[kind])
+			x.spare[kind] = nil
 		}
 		if !ok {
+			x.spare[kind], nb.kvs, nb.all = nb.all, nil, nil
 			var err error
-			if b.tables, b.orders, err = decodeBatch(x.src, x.file, kind, secs, i, j); err != nil {
+			if nb.tables, nb.orders, err = decodeBatch(x.src, x.file, kind, secs, nb.lo, nb.hi); err != nil {
 				return nil, err
 			}
 		}
-		x.cache[kind] = b
 	}
-	return b, nil
+	if b != nil && b.all != nil && x.spare[kind] == nil {
+		x.spare[kind] = b.all // the tables are read in order: the last batch is done with
+	}
+	x.cache[kind] = nb
+	if nb.kvs != nil && nb.hi < len(secs) {
+		// Read the next batch while this one is used, on another core.
+		p := &prefetch{lo: nb.hi, hi: batch(secs, nb.hi), done: make(chan struct{})}
+		all := x.spare[kind]
+		x.spare[kind] = nil
+		x.ahead[kind] = p
+		go func() {
+			defer close(p.done)
+			p.kvs, p.all, p.ok = fastBatch(x.src, kind, secs, p.lo, p.hi, all)
+		}()
+	}
+	return nb, nil
+}
+
+// prefetch is a batch of sections being read ahead (fastBatch in a
+// goroutine): its fields are set when done is closed.
+type prefetch struct {
+	lo, hi int
+	kvs    [][]fastKV
+	all    []fastKV
+	ok     bool
+	done   chan struct{}
 }
 
 // table returns the i-th [[kind]] table and its keys in file order.
