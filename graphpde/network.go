@@ -430,19 +430,29 @@ func (n *Network) ParsePoint(s string) (Point, error) {
 
 // Reserve makes room for nodes more nodes and edges more edges, so that
 // adding that many does not grow the network's arrays and indices step by
-// step (readers that know the counts call it first). It changes nothing
-// else.
+// step (readers that know or estimate the counts call it first, or early).
+// It changes nothing else.
 func (n *Network) Reserve(nodes, edges int) {
 	if nodes > 0 {
 		n.Nodes = slices.Grow(n.Nodes, nodes)
-		if n.nodeIndex == nil {
-			n.nodeIndex = make(map[string]int, nodes)
-		}
+		n.nodeIndex = regrow(n.nodeIndex, len(n.Nodes)+nodes)
 	}
 	if edges > 0 {
 		n.Edges = slices.Grow(n.Edges, edges)
-		if n.edgeIndex == nil {
-			n.edgeIndex = make(map[string]int, edges)
-		}
+		n.edgeIndex = regrow(n.edgeIndex, len(n.Edges)+edges)
 	}
+}
+
+// regrow returns an index with room for size entries holding those of m:
+// m itself if it is large already (copying it would cost more
+// than its growing saves), else a new map sized once.
+func regrow(m map[string]int, size int) map[string]int {
+	if m != nil && len(m) > size/4 {
+		return m
+	}
+	g := make(map[string]int, size)
+	for k, v := range m {
+		g[k] = v
+	}
+	return g
 }

@@ -309,4 +309,3 @@ func (c *countWriter) Write(p []byte) (int, error) {
 	*c += countWriter(len(p))
 	return len(p), nil
 }
-

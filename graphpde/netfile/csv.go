@@ -58,7 +58,7 @@ var (
 // csvReader holds the state of one ReadCSV.
 type csvReader struct {
 	file    string
-	cr      *csv.Reader
+	cr      *rowReader
 	col     [numCols]int // index of each column in a record, -1 if absent
 	rec     []string
 	net     *graphpde.Network
@@ -88,10 +88,7 @@ func ReadCSV(r io.Reader, name string) (*graphpde.Network, error) {
 
 // readCSV is ReadCSV with the options of ReadFileOptions (nil: none).
 func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
-	cr := csv.NewReader(r)
-	cr.Comment = '#'
-	cr.ReuseRecord = true
-	cr.TrimLeadingSpace = true
+	cr := newRowReader(r)
 	c := &csvReader{file: name, cr: cr, net: &graphpde.Network{}}
 	if err := c.header(); err != nil {
 		return nil, err
@@ -115,7 +112,7 @@ func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 		}
 		if err != nil {
 			line, _ := cr.FieldPos(0)
-			return nil, &Error{File: name, Line: line, Msg: fmt.Sprintf("row has %d fields but the header has %d", len(rec), cr.FieldsPerRecord), Err: err}
+			return nil, &Error{File: name, Line: line, Msg: fmt.Sprintf("row has %d fields but the header has %d", len(rec), cr.FieldsPerRecord()), Err: err}
 		}
 		c.rec = rec
 		switch kind := strings.ToLower(c.field(colKind)); kind {
@@ -167,7 +164,7 @@ func inputSize(r io.Reader) int64 {
 	return -1
 }
 
-// presize grows the edge and node slices to the counts extrapolated from
+// presize grows the edge and node slices and indices to the counts extrapolated from
 // the rows read so far to an input of size bytes (plus 1/16 for variation).
 func (c *csvReader) presize(size int64) {
 	read := c.cr.InputOffset()
@@ -176,14 +173,10 @@ func (c *csvReader) presize(size int64) {
 	}
 	scale := float64(size) / float64(read) * (1 + 1.0/16)
 	grow := func(n int) int { return int(min(float64(n)*scale, 1e9)) - n }
-	if g := grow(len(c.net.Edges)); g > 0 {
-		c.net.Edges = slices.Grow(c.net.Edges, g)
-		c.edgeRow = slices.Grow(c.edgeRow, g)
-	}
-	if g := grow(len(c.net.Nodes)); g > 0 {
-		c.net.Nodes = slices.Grow(c.net.Nodes, g)
-		c.nodeRow = slices.Grow(c.nodeRow, g)
-	}
+	ge, gn := max(grow(len(c.net.Edges)), 0), max(grow(len(c.net.Nodes)), 0)
+	c.net.Reserve(gn, ge)
+	c.edgeRow = slices.Grow(c.edgeRow, ge)
+	c.nodeRow = slices.Grow(c.nodeRow, gn)
 }
 
 func (c *csvReader) csvError(err error) error {
@@ -270,7 +263,11 @@ func (c *csvReader) number(k int, r rule) (v float64, ok bool, err error) {
 	if s == "" {
 		return 0, false, nil
 	}
-	v, perr := strconv.ParseFloat(s, 64)
+	var exact bool
+	var perr error
+	if v, exact = exactDecimal(s); !exact {
+		v, perr = strconv.ParseFloat(s, 64)
+	}
 	if perr != nil && units.LooksLikeQuantity(s) {
 		// "NUMBER UNIT", as in the network file: length must be a length,
 		// the other columns are converted to SI.

@@ -502,8 +502,8 @@ func (p *fastParser) number(x *fastKV) bool {
 var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 	1e11, 1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
 
-// exactDecimal converts a float written [+-]digits.digits with at most 15
-// digits in all (most numbers of a network file) faster than
+// exactDecimal converts a number written [+-]digits[.digits] with at most
+// 15 digits in all (most numbers of a network file) faster than
 // strconv.ParseFloat and to the same value: the digits as an integer and
 // the power of ten are both exact in a float64, so their quotient is the
 // correctly rounded value (Clinger's fast path; W. D. Clinger, "How to
@@ -532,9 +532,10 @@ func exactDecimal(s string) (float64, bool) {
 			return 0, false
 		}
 	}
-	if digits == 0 || digits > 15 || frac < 0 {
-		return 0, false
+	if digits == 0 || digits > 15 || frac == 0 {
+		return 0, false // no digits, too many, or none after the point
 	}
+	frac = max(frac, 0)
 	v := float64(mant) / pow10[frac]
 	if neg {
 		v = -v

@@ -309,7 +309,7 @@ func TestDirectTablesUsed(t *testing.T) {
 // numbers around the 15-digit limit, with many fraction digits, and on
 // random short decimals; forms it does not take are declined.
 func TestExactDecimal(t *testing.T) {
-	cases := []string{"0.0", "-0.0", "+0.5", "1.0", "0.1", "0.3", "299.0", "123456789012345.0", "12345678901234.5",
+	cases := []string{"0", "-0", "+7", ".5", "-.25", "123456789012345", "0.0", "-0.0", "+0.5", "1.0", "0.1", "0.3", "299.0", "123456789012345.0", "12345678901234.5",
 		"0.000000000000001", "0.123456789012345", "9.99999999999999", "-7.25", "3.14159265358979"}
 	rnd := uint64(1)
 	for range 20000 {
@@ -334,7 +334,7 @@ func TestExactDecimal(t *testing.T) {
 			t.Errorf("%s: %v, strconv %v", c, got, want)
 		}
 	}
-	for _, c := range []string{"1", "1e5", "1234567890123456.0", ".", "1.2.3", "", "-", "inf"} {
+	for _, c := range []string{"1.", "1e5", "1234567890123456.0", "1234567890123456", ".", "1.2.3", "", "-", "inf", " 1"} {
 		if _, ok := exactDecimal(c); ok {
 			t.Errorf("%q accepted", c)
 		}

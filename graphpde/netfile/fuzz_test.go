@@ -74,13 +74,18 @@ func FuzzRead(f *testing.F) {
 	})
 }
 
-// FuzzReadCSV checks that ReadCSV never panics and that its errors are
-// one-line *Error values.
+// FuzzReadCSV checks that ReadCSV never panics, that its errors are
+// one-line *Error values, and that splitting simple lines directly changes
+// nothing (the network, or the error with its line).
 func FuzzReadCSV(f *testing.F) {
 	seedFiles(f, ".csv")
 	f.Add([]byte(csvHead + "node,a,,,,,,,,,,1,,,\nedge,e,a,b,1,1,,,,,,,,,\n"))
+	for _, c := range csvCases {
+		f.Add([]byte(c))
+	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		net, err := ReadCSV(bytes.NewReader(data), "fuzz.csv")
+		readCSVBothWays(t, data)
 		checkOutcome(t, err, func() ([]byte, error) {
 			var buf bytes.Buffer
 			return buf.Bytes(), Write(&buf, net)
