@@ -57,16 +57,17 @@ var (
 
 // csvReader holds the state of one ReadCSV.
 type csvReader struct {
-	file    string
-	cr      *rowReader
-	col     [numCols]int // index of each column in a record, -1 if absent
-	rec     []string
-	net     *graphpde.Network
-	edgeRow []int // line of each edge's row
-	nodeRow []int // line of each node's own row, 0 if created by an edge
-	cells   int64
-	rowKind string // "edge" or "node": the current row, for errors
-	rowID   string // its id once checked, else ""
+	file       string
+	cr         *rowReader
+	col        [numCols]int // index of each column in a record, -1 if absent
+	rec        []string
+	net        *graphpde.Network
+	edgeRow    []int // line of each edge's row
+	nodeRow    []int // line of each node's own row, 0 if created by an edge
+	cells      int64
+	edgesSized bool   // presize saw edge rows
+	rowKind    string // "edge" or "node": the current row, for errors
+	rowID      string // its id once checked, else ""
 }
 
 // ReadCSV reads a network from an edge list in CSV (RFC 4180, comma
@@ -94,9 +95,20 @@ func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 		return nil, err
 	}
 	size := inputSize(r)
+	edgesFrom := int64(-1) // input offset before the first edge row
 	for rows := 0; ; rows++ {
 		if rows == presizeAfter && size > 0 {
 			c.presize(size)
+		}
+		if size > 0 {
+			switch {
+			case edgesFrom < 0 && len(c.net.Edges) == 0:
+				edgesFrom = cr.InputOffset()
+			case len(c.net.Edges) == presizeAfter && rows > presizeAfter && !c.edgesSized:
+				// Edge rows after many node rows: the first presize saw
+				// none. Extrapolate from the bytes of the first edges.
+				c.presizeEdges(size, edgesFrom)
+			}
 		}
 		if rows%stopEvery == 0 {
 			if err := opt.stopped(name); err != nil {
@@ -173,10 +185,27 @@ func (c *csvReader) presize(size int64) {
 	}
 	scale := float64(size) / float64(read) * (1 + 1.0/16)
 	grow := func(n int) int { return int(min(float64(n)*scale, 1e9)) - n }
+	c.edgesSized = len(c.net.Edges) > 0
 	ge, gn := max(grow(len(c.net.Edges)), 0), max(grow(len(c.net.Nodes)), 0)
 	c.net.Reserve(gn, ge)
 	c.edgeRow = slices.Grow(c.edgeRow, ge)
 	c.nodeRow = slices.Grow(c.nodeRow, gn)
+}
+
+// presizeEdges grows the edge slices to the edge rows that the rest of an
+// input of size bytes holds if it is all edge rows like the first
+// presizeAfter ones, which began at offset from (plus 1/16).
+func (c *csvReader) presizeEdges(size, from int64) {
+	read := c.cr.InputOffset()
+	per := float64(read-from) / float64(len(c.net.Edges))
+	if per <= 0 || size <= read {
+		return
+	}
+	g := int(min(float64(size-read)/per*(1+1.0/16), 1e9))
+	if g > cap(c.net.Edges)-len(c.net.Edges) {
+		c.net.Reserve(0, g)
+		c.edgeRow = slices.Grow(c.edgeRow, g)
+	}
 }
 
 func (c *csvReader) csvError(err error) error {
