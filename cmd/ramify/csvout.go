@@ -35,13 +35,24 @@ func (c *csvRows) sep() {
 // str appends a text field, quoted when encoding/csv would quote it.
 func (c *csvRows) str(s string) {
 	c.sep()
+	c.b = appendCSVField(c.b, s)
+}
+
+// raw appends a field formatted by appendCSVField.
+func (c *csvRows) raw(f []byte) {
+	c.sep()
+	c.b = append(c.b, f...)
+}
+
+// appendCSVField appends s as a CSV field, quoted when encoding/csv would
+// quote it.
+func appendCSVField(b []byte, s string) []byte {
 	if !csvNeedsQuotes(s) {
-		c.b = append(c.b, s...)
-		return
+		return append(b, s...)
 	}
-	c.b = append(c.b, '"')
-	c.b = append(c.b, strings.ReplaceAll(s, `"`, `""`)...)
-	c.b = append(c.b, '"')
+	b = append(b, '"')
+	b = append(b, strings.ReplaceAll(s, `"`, `""`)...)
+	return append(b, '"')
 }
 
 // num appends a number in strconv's 'g' format with the given digits.
