@@ -100,16 +100,12 @@ func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 		if rows == presizeAfter && size > 0 {
 			c.presize(size)
 		}
-		if size > 0 {
-			switch {
-			case edgesFrom < 0 && len(c.net.Edges) == 0:
-				edgesFrom = cr.InputOffset()
-			case len(c.net.Edges) == presizeAfter && rows > presizeAfter && !c.edgesSized:
-				// Edge rows after many node rows: the first presize saw
-				// none. Extrapolate from the bytes of the first edges.
-				c.presizeEdges(size, edgesFrom)
-			}
+		if size > 0 && len(c.net.Edges) == presizeAfter && rows > presizeAfter && !c.edgesSized {
+			// Edge rows after many node rows: the first presize saw
+			// none. Extrapolate from the bytes of the first edges.
+			c.presizeEdges(size, edgesFrom)
 		}
+		at := cr.InputOffset()
 		if rows%stopEvery == 0 {
 			if err := opt.stopped(name); err != nil {
 				return nil, err
@@ -129,6 +125,9 @@ func readCSV(r io.Reader, name string, opt *Options) (*graphpde.Network, error) 
 		c.rec = rec
 		switch kind := strings.ToLower(c.field(colKind)); kind {
 		case "", "edge":
+			if edgesFrom < 0 {
+				edgesFrom = at
+			}
 			err = c.edge()
 		case "node":
 			err = c.node()

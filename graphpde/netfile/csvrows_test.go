@@ -10,6 +10,8 @@ import (
 	"slices"
 	"strings"
 	"testing"
+
+	"github.com/ramify-dev/ramify/graphpde/gen"
 )
 
 // csvRecords reads every record of data with read and next (and the line
@@ -115,5 +117,24 @@ func readCSVBothWays(t *testing.T, data []byte) {
 		if d := diffNetworks(got, want, 0); d != "" {
 			t.Fatalf("networks differ: %s", d)
 		}
+	}
+}
+
+// TestCSVPresizeEdgesAfterNodes: an edge list whose node rows all come
+// first (as WriteCSV writes them) sizes its edge array from its first edge
+// rows, once, instead of growing it by doubling (which would leave up to
+// twice the room, and copy it all on the way).
+func TestCSVPresizeEdgesAfterNodes(t *testing.T) {
+	var buf bytes.Buffer
+	if err := WriteCSV(&buf, gen.SquareMesh(40, 40)); err != nil {
+		t.Fatal(err)
+	}
+	net, err := ReadCSV(bytes.NewReader(buf.Bytes()), "mesh.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := len(net.Edges)
+	if c := cap(net.Edges); c < n || c > n+n/4 {
+		t.Errorf("capacity %d for %d edges, want within 1/4 above", c, n)
 	}
 }
