@@ -522,6 +522,11 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	t := 0.0
 	if nw != nil {
 		if err := nw.initialRate(u); err != nil {
+			var ce *CanceledError
+			if errors.As(err, &ce) {
+				res.Status = IterationLimit // stopped before the first step
+				return res, nil
+			}
 			return nil, err
 		}
 	} else {

@@ -1,6 +1,7 @@
 package graphpde
 
 import (
+	"context"
 	"math"
 	"testing"
 
@@ -445,5 +446,41 @@ func BenchmarkEvolveGeneralStep(b *testing.B) {
 		b.ReportMetric(lin, "linear-step-s")
 		b.ReportMetric(gen, "general-step-s")
 		b.ReportMetric(gen/lin, "general/linear")
+	}
+}
+
+// TestEvolveGeneralCancel: a run of the general stepper stopped through its
+// Context in the middle of a stage (cancelled from inside the edge law, at
+// its 20000th evaluation) ends without error with Status IterationLimit,
+// keeping the output times reached, none past the stop; one cancelled
+// before it starts keeps t = 0 only.
+func TestEvolveGeneralCancel(t *testing.T) {
+	lambda := 1.0
+	net, m := bratuNet(t, &lambda, 16)
+	ctx, cancel := context.WithCancel(context.Background())
+	defer cancel()
+	calls := 0
+	for e := range net.Edges {
+		eq := net.Edges[e].Law.Equation
+		inner := eq.Fn
+		eq.Fn = func(x, u, p, X float64) (float64, float64, float64, float64) {
+			if calls++; calls == 20000 {
+				cancel()
+			}
+			return inner(x, u, p, X)
+		}
+	}
+	r, err := Evolve(net, &EvolveSettings{Until: 4, Probes: []Point{{Node: m, Edge: -1}}, Context: ctx})
+	if err != nil {
+		t.Fatal(err)
+	}
+	last := r.Times[len(r.Times)-1]
+	if r.Status != IterationLimit || !(last < 4) || r.Stats.Steps == 0 {
+		t.Fatalf("status %v, last time %g, %d steps", r.Status, last, r.Stats.Steps)
+	}
+	t.Logf("stopped at t = %g after %d steps", last, r.Stats.Steps)
+	r, err = Evolve(net, &EvolveSettings{Until: 4, Probes: []Point{{Node: m, Edge: -1}}, Context: ctx})
+	if err != nil || r.Status != IterationLimit || len(r.Times) != 1 {
+		t.Fatalf("cancelled before the start: err %v, status %v, times %v", err, r.Status, r.Times)
 	}
 }
