@@ -536,6 +536,16 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 	for _, v := range u {
 		umax = math.Max(umax, math.Abs(v))
 	}
+	// stopShort ends the run at t, keeping the output so far, with Status
+	// NotSolved and a note, when no step can go on.
+	stopShort := func(t float64, why string) {
+		big := 0.0
+		for _, v := range u {
+			big = math.Max(big, math.Abs(v))
+		}
+		res.Status = NotSolved
+		res.Notes = append(res.Notes, fmt.Sprintf("the run stops at t = %.6g: %s. The largest |u| there is %.4g (in the data and the initial field: %.4g); a field that grows without bound (thermal runaway, blow-up) ends like this. The output up to t = %.6g is kept", t, why, big, scale, t))
+	}
 	lastProgress := time.Now()
 	for t < s.Until {
 		if s.Context.Err() != nil {
@@ -580,10 +590,12 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 					h = hs / 2
 				}
 				if h < s.Until*1e-14 {
+					why := fmt.Sprintf("Newton's method does not converge even in a step of %.3g", hs)
 					if nw.lastErr != nil {
-						return nil, fmt.Errorf("at t = %g: Newton's method does not converge even in a step of %g: %w", t, hs, nw.lastErr)
+						why += " (last: " + nw.lastErr.Error() + ")"
 					}
-					return nil, fmt.Errorf("at t = %g: Newton's method does not converge even in a step of %g", t, hs)
+					stopShort(t, why)
+					break
 				}
 				continue
 			}
@@ -601,8 +613,12 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				res.Stats.Rejected++
 				res.Stats.NewtonRetries++
 				h = hs / 4
-				if !adaptive || h < s.Until*1e-14 {
+				if !adaptive {
 					return nil, fmt.Errorf("at t = %g: Newton's method does not converge in a step of %g", t, hs)
+				}
+				if h < s.Until*1e-14 {
+					stopShort(t, fmt.Sprintf("Newton's method does not converge even in a step of %.3g", hs))
+					break
 				}
 				continue
 			}
@@ -624,13 +640,20 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		}
 		errNorm = math.Sqrt(errNorm / float64(max(n, 1)))
 		if math.IsNaN(errNorm) {
-			return nil, fmt.Errorf("at t = %g: the field is not finite (step %g)", t, hs)
+			if !adaptive || hs < s.Until*1e-13 {
+				stopShort(t, fmt.Sprintf("the field is not finite after a step of %.3g", hs))
+				break
+			}
+			res.Stats.Rejected++
+			h = quantize(hs / 8)
+			continue
 		}
 		if adaptive && errNorm > 1 {
 			res.Stats.Rejected++
 			h = quantize(hs * math.Max(0.2, 0.9*math.Pow(errNorm, expo(hs))))
 			if h < s.Until*1e-14 {
-				return nil, fmt.Errorf("at t = %g: step size underflow (%g)", t, h)
+				stopShort(t, fmt.Sprintf("the error control asks for steps shorter than %.3g", h))
+				break
 			}
 			continue
 		}

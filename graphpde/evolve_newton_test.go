@@ -3,6 +3,7 @@ package graphpde
 import (
 	"context"
 	"math"
+	"strings"
 	"testing"
 
 	"github.com/ramify-dev/ramify/vertex"
@@ -482,5 +483,42 @@ func TestEvolveGeneralCancel(t *testing.T) {
 	r, err = Evolve(net, &EvolveSettings{Until: 4, Probes: []Point{{Node: m, Edge: -1}}, Context: ctx})
 	if err != nil || r.Status != IterationLimit || len(r.Times) != 1 {
 		t.Fatalf("cancelled before the start: err %v, status %v, times %v", err, r.Status, r.Times)
+	}
+}
+
+// TestEvolveRunaway: past a fold there is no steady state and the field
+// grows without bound in finite time — Bratu's problem at λ = 4 > λc ≈ 3.51
+// (an edge equation, the general stepper) and the rod with the source
+// 4eᵘ (a quasilinear law, the quasilinear stepper). Neither run may fail
+// or pass off the last values as an answer: each stops where the steps
+// shrink to nothing, with Status NotSolved, a note saying so, the output
+// up to there, and a middle value far above any steady one (the lower
+// branch at λc has u(½) ≈ 1.19).
+func TestEvolveRunaway(t *testing.T) {
+	lambda := 4.0
+	bratu, m := bratuNet(t, &lambda, 16)
+	b := newNetBuilder(t)
+	l, r := b.fixed("l", 0), b.fixed("r", 0)
+	mid := b.balance("m")
+	src := &Coef{Fn: func(_, u, _ float64) (float64, float64) { e := 4 * math.Exp(u); return e, e }, UsesU: true, Src: "4*exp(u)"}
+	b.edge(Edge{ID: "a", From: l, To: mid, Length: 0.5, A: 1, Rho: 1, Law: &EdgeLaw{F: src}})
+	b.edge(Edge{ID: "b", From: mid, To: r, Length: 0.5, A: 1, Rho: 1, Law: &EdgeLaw{F: src}})
+	for _, c := range []struct {
+		name string
+		net  *Network
+		node int
+	}{{"equation", bratu, m}, {"quasilinear", b.net, mid}} {
+		res, err := Evolve(c.net, &EvolveSettings{Until: 5, Probes: []Point{{Node: c.node, Edge: -1}}, Cells: 16})
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		last := len(res.Times) - 1
+		if res.Status != NotSolved || !(res.Times[last] < 5) || len(res.Notes) == 0 || !strings.Contains(res.Notes[0], "grows without bound") {
+			t.Fatalf("%s: status %v, last time %g, notes %q", c.name, res.Status, res.Times[last], res.Notes)
+		}
+		if u := res.Probes[0][last]; !(u > 5) {
+			t.Errorf("%s: u(½) = %g when the run stops", c.name, u)
+		}
+		t.Logf("%s: stops at t = %.4f with u(½) = %.4g after %d steps", c.name, res.Times[last], res.Probes[0][last], res.Stats.Steps)
 	}
 }
