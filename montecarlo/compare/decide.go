@@ -265,6 +265,16 @@ func percent(f float64) string {
 
 // sentence describes one check in plain words.
 func sentence(c Check) string {
+	if c.Kind == KindLaw && strings.HasPrefix(c.Quantity, "position:") {
+		// The places of walkers at a time along the network's line
+		// (montecarlo/crosscheck.PositionChecks; Note names the place).
+		s := fmt.Sprintf("%s: the walkers' places differ from the forward solution by up to %.2g in cumulative amount along the network (walkers %.3f, PDE %.3f; KS p = %s)",
+			c.Quantity, c.Stat, c.Walker, c.PDE, pString(c))
+		if c.Note != "" {
+			s += "; " + c.Note
+		}
+		return s
+	}
 	if c.Kind == KindLaw {
 		s := fmt.Sprintf("the walker exit times differ from the PDE law by up to %.2g in cumulative probability (at t = %.4g: walkers %.3f, PDE %.3f; KS p = %s)",
 			c.Stat, c.At, c.Walker, c.PDE, pString(c))
