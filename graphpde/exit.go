@@ -46,6 +46,9 @@ type ExitSettings struct {
 	// node-system factorisation and invert it on octave windows, as before
 	// the tree pass and the wide windows (tests compare the two).
 	general bool
+	// wideAnyCV lets wide windows serve whatever the coefficient of
+	// variation (tests of the fallback).
+	wideAnyCV bool
 	// Context, when not nil, stops the statistics early: every evaluation
 	// of the Laplace transform of τ (a complex node-system factorisation on
 	// the exact path, a grid solve on the grid path) first checks it, and
@@ -342,13 +345,23 @@ func exitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 	}
 	// Two octaves per contour where the law is spread enough for it
 	// (wideMinCV); the default number of nodes only.
-	x.law.wide = sys.reversible && (set == nil || set.InversionNodes == 0) && !s.general && x.SD >= wideMinCV*x.Mean
+	x.law.wide = sys.reversible && (set == nil || set.InversionNodes == 0) && !s.general && (x.SD >= wideMinCV*x.Mean || s.wideAnyCV)
 	if err := x.law.findDelay(x.Mean); err != nil {
 		x.law.delay, x.law.chernoff = 0, nil // invert without a shift; windows that fail are NaN
 	}
 	x.HasDistribution = true
+	notes := len(x.Notes)
 	if err := x.fillDistribution(&s); err != nil {
 		return nil, fail("lifetime distribution", err)
+	}
+	if lw := x.law; lw.wide && lw.wideGap > wideAgreement {
+		// Two wide windows disagree where they meet: start again on
+		// octave windows.
+		lw.wide, lw.win, lw.suspects, lw.worst, lw.evalErr = false, nil, nil, 0, nil
+		x.Notes = x.Notes[:notes]
+		if err := x.fillDistribution(&s); err != nil {
+			return nil, fail("lifetime distribution", err)
+		}
 	}
 	x.Transforms = x.law.tr.n
 	if len(x.law.suspects) > 0 {

@@ -251,6 +251,10 @@ type lifetimeLaw struct {
 	// nodes: for reversible walkers (no check contour) with the default
 	// number of nodes. Set before the first window.
 	wide bool
+	// wideGap is the largest difference of P(τ > t) between two wide
+	// windows at the time they share; above wideAgreement the law is
+	// inverted again on octave windows (exitStatistics).
+	wideGap float64
 	// check: evaluate every window also on a check contour, climbing the
 	// levels of laplace.TalbotWindowLevel until the two agree, and record
 	// where they never do (non-reversible problems only).
@@ -286,6 +290,12 @@ func (lw *lifetimeLaw) leftTail(t float64) bool {
 	}
 	return false
 }
+
+// wideAgreement is the largest difference between two neighbouring wide
+// windows at their common end time accepted as agreement: each is within
+// 5e−12 on smooth laws (laplace.TalbotWideWindow), and a larger gap shows
+// a law too sharp for them (common practice, no source: a margin of 200).
+const wideAgreement = 1e-9
 
 // contourAgreement is the largest difference between the window and check
 // contours accepted as agreement: the check contours' own errors (at most
@@ -341,6 +351,20 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 		}
 		if w.bad {
 			lw.suspects = append(lw.suspects, [2]float64{t0, ratio * t0})
+		} else {
+			// A free check: a neighbouring window shares an end time
+			// with this one, where both must give the same P(τ > t).
+			for _, nb := range [2]int{k - 1, k + 1} {
+				o, ok := lw.win[nb]
+				if !ok || o.bad {
+					continue
+				}
+				tb := t0
+				if nb > k {
+					tb = ratio * t0
+				}
+				lw.wideGap = math.Max(lw.wideGap, math.Abs(w.c.Apply(tb, w.fs)-o.c.Apply(tb, o.fs)))
+			}
 		}
 		lw.store(k, w)
 		return w, nil

@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"testing"
 
+	"github.com/ramify-dev/ramify/internal/laplace"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -227,6 +228,55 @@ func TestCsqrtCdiv(t *testing.T) {
 			if got, want := cdiv(v, w), v/w; cmplx.Abs(got-want) > rel*cmplx.Abs(want) {
 				t.Errorf("cdiv(%v, %v) = %v, Go %v", v, w, got, want)
 			}
+		}
+	}
+}
+
+// TestExitWideFallback: wide windows that disagree where they meet hand
+// the law back to octave windows. On one edge with drift b = 100 (an
+// inverse Gaussian law with CV 0.2, too sharp for the wide contour: 1e−6
+// wrong there, measured) forced onto wide windows, the gap between two
+// neighbouring windows exceeds wideAgreement, and the values are then
+// those of octave windows bit for bit; without drift (CV 0.8) the windows
+// agree within 1e−12 (measured 1e−13) and stay wide.
+func TestExitWideFallback(t *testing.T) {
+	for _, c := range []struct {
+		b    float64
+		wide bool
+	}{{100, false}, {0, true}} {
+		net := mustNet(t, []Node{{ID: "l", Law: fixedAt(0)}, {ID: "r", Law: fixedAt(0)}},
+			[]edgeSpec{{Edge{ID: "pipe", Length: 1, A: 1, B: c.b, Rho: 1}, "l", "r"}})
+		start := Point{Node: -1, Edge: 0, X: 0.5}
+		x0, err := ExitStatistics(net, start, &ExitSettings{Quantiles: []float64{}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var times []float64
+		for f := 0.05; f < 8; f *= 1.3 {
+			times = append(times, f*x0.Mean)
+		}
+		w, err := ExitStatistics(net, start, &ExitSettings{Times: times, wideAnyCV: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		o, err := ExitStatistics(net, start, &ExitSettings{Times: times, InversionNodes: laplace.DefaultWindowM})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w.law.wide != c.wide {
+			t.Errorf("b = %g: wide %v after the check (gap %.2g), want %v", c.b, w.law.wide, w.law.wideGap, c.wide)
+		}
+		for i := range times {
+			d := math.Abs(w.Survival[i].P - o.Survival[i].P)
+			if (!c.wide && d != 0) || d > 1e-11 {
+				t.Errorf("b = %g: P(τ > %g) %.15g on the windows used, %.15g on octave windows", c.b, times[i], w.Survival[i].P, o.Survival[i].P)
+			}
+		}
+		if c.wide && w.law.wideGap > 1e-12 {
+			t.Errorf("b = %g: wide windows differ by %.2g where they meet", c.b, w.law.wideGap)
+		}
+		if len(w.Notes) != len(o.Notes) {
+			t.Errorf("b = %g: notes %q, octave windows %q", c.b, w.Notes, o.Notes)
 		}
 	}
 }
