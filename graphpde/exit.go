@@ -114,7 +114,8 @@ type ExitStats struct {
 // per octave of t (absolute error about 1e−11): the first call in an octave
 // [M·2^k, M·2^{k+1}] (M the mean) costs InversionNodes complex node-system
 // factorisations, O(edges) each on a tree, later calls in the same octave
-// O(InversionNodes). On the grid path each new t costs 16 grid solves
+// O(InversionNodes); where wide windows serve (see InversionNodes), one
+// contour of 40 values per (M·4^k, M·4^{k+1}]. On the grid path each new t costs 16 grid solves
 // (Gaver–Stehfest, about 1e−5). It is safe for concurrent use (calls are
 // serialised). When the lifetime is nearly a delay (strong drift) the
 // transform of τ − T_s is inverted instead (findDelay); the result is NaN
