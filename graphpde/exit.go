@@ -358,7 +358,7 @@ func exitStatistics(net *Network, start Point, set *ExitSettings) (*ExitStats, e
 	if lw := x.law; lw.wide && lw.wideGap > wideAgreement {
 		// Two wide windows disagree where they meet: start again on
 		// octave windows.
-		lw.wide, lw.win, lw.suspects, lw.worst, lw.evalErr = false, nil, nil, 0, nil
+		lw.wide, lw.win, lw.points, lw.suspects, lw.worst, lw.evalErr = false, nil, nil, nil, 0, nil
 		x.Notes = x.Notes[:notes]
 		if err := x.fillDistribution(&s); err != nil {
 			return nil, fail("lifetime distribution", err)

@@ -10,6 +10,7 @@ import (
 	"math"
 	"math/cmplx"
 	"runtime"
+	"slices"
 	"sync"
 
 	"github.com/ramify-dev/ramify/internal/laplace"
@@ -21,14 +22,8 @@ import (
 // beyond the inversion's accuracy turns the whole list into NaN with a
 // note.
 func (x *ExitStats) fillDistribution(s *ExitSettings) error {
-	x.Survival = make([]TimeProb, len(s.Times))
-	for i, t := range s.Times {
-		p, _, err := x.law.survival(t)
-		if err != nil {
-			return err
-		}
-		x.Survival[i] = TimeProb{T: t, P: p}
-	}
+	// Quantiles first: their searches open the windows around the body
+	// of the law, which the requested times then share where they can.
 	x.Quantiles = make([]Quantile, len(s.Quantiles))
 	for i, p := range s.Quantiles {
 		t, err := x.law.quantile(p, x.Mean)
@@ -37,6 +32,17 @@ func (x *ExitStats) fillDistribution(s *ExitSettings) error {
 			t = math.NaN()
 		}
 		x.Quantiles[i] = Quantile{P: p, T: t}
+	}
+	if err := x.law.planPoints(s.Times); err != nil {
+		return err
+	}
+	x.Survival = make([]TimeProb, len(s.Times))
+	for i, t := range s.Times {
+		p, _, err := x.law.survival(t)
+		if err != nil {
+			return err
+		}
+		x.Survival[i] = TimeProb{T: t, P: p}
 	}
 	var nanT, nanP []float64
 	for _, sp := range x.Survival {
@@ -255,6 +261,9 @@ type lifetimeLaw struct {
 	// windows at the time they share; above wideAgreement the law is
 	// inverted again on octave windows (exitStatistics).
 	wideGap float64
+	// points holds the contours of single requested times (planPoints),
+	// which survival uses before the windows.
+	points map[float64]*lawWindow
 	// check: evaluate every window also on a check contour, climbing the
 	// levels of laplace.TalbotWindowLevel until the two agree, and record
 	// where they never do (non-reversible problems only).
@@ -313,38 +322,14 @@ type lawWindow struct {
 // window returns the octave window that contains t > 0, computing it if
 // needed. The caller holds lw.mu.
 func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
-	ratio := float64(laplace.WindowRatio)
 	if lw.wide && lw.check {
 		panic("graphpde: wide windows with a check contour")
 	}
-	if lw.wide {
-		ratio = laplace.WideWindowRatio
-	}
-	k := int(math.Floor(math.Log(t/lw.base) / math.Log(ratio)))
-	pow := func(k int) float64 { return lw.base * math.Pow(ratio, float64(k)) }
-	t0 := pow(k)
-	for t < t0 {
-		k--
-		t0 = pow(k)
-	}
-	for t > ratio*t0 {
-		k++
-		t0 = pow(k)
-	}
+	k, t0, ratio := lw.windowIndex(t)
 	if w, ok := lw.win[k]; ok {
 		return w, nil
 	}
 	if lw.wide {
-		// Windows (t0, 4t0]: a lattice time mean·4^k of the quantile
-		// brackets closes the window below it, which the times just
-		// below it need anyway, instead of opening one above.
-		if t <= t0*(1+1e-12) {
-			k--
-			t0 = pow(k)
-		}
-		if w, ok := lw.win[k]; ok {
-			return w, nil
-		}
 		w, err := lw.evalWindow(laplace.TalbotWideWindow(t0, ratio*t0))
 		if err != nil {
 			return nil, err
@@ -413,6 +398,79 @@ func (lw *lifetimeLaw) window(t float64) (*lawWindow, error) {
 	}
 	lw.store(k, w)
 	return w, nil
+}
+
+// windowIndex returns the window [t0, ratio·t0] that serves t > 0: the
+// octaves [base·2^k, base·2^{k+1}], or with wide windows (base·4^k,
+// base·4^{k+1}], closed on the right: a lattice time base·4^k of the
+// quantile brackets closes the window below it, which the times just below
+// it need anyway, instead of opening one above.
+func (lw *lifetimeLaw) windowIndex(t float64) (k int, t0, ratio float64) {
+	ratio = float64(laplace.WindowRatio)
+	if lw.wide {
+		ratio = laplace.WideWindowRatio
+	}
+	k = int(math.Floor(math.Log(t/lw.base) / math.Log(ratio)))
+	pow := func(k int) float64 { return lw.base * math.Pow(ratio, float64(k)) }
+	t0 = pow(k)
+	for t < t0 {
+		k--
+		t0 = pow(k)
+	}
+	for t > ratio*t0 {
+		k++
+		t0 = pow(k)
+	}
+	if lw.wide && t <= t0*(1+1e-12) {
+		k--
+		t0 = pow(k)
+	}
+	return k, t0, ratio
+}
+
+// planPoints gives each requested time that no window computed so far
+// serves, and that is alone in its wide window, a contour of its own
+// (laplace.TalbotContour, laplace.DefaultM = 24 values instead of 40):
+// times far from the body of the law, where no quantile search goes.
+// Times that share a window get the window when they are evaluated. Only
+// with wide windows (reversible laws; no delay). The caller must not hold
+// lw.mu.
+func (lw *lifetimeLaw) planPoints(times []float64) error {
+	if !lw.wide || lw.zero || lw.real != nil || lw.delay > 0 {
+		return nil
+	}
+	lw.mu.Lock()
+	defer lw.mu.Unlock()
+	alone := make(map[int][]float64)
+	for _, t := range times {
+		if !(t > 0) {
+			continue
+		}
+		k, _, _ := lw.windowIndex(t)
+		if _, ok := lw.win[k]; ok {
+			continue
+		}
+		if !slices.Contains(alone[k], t) {
+			alone[k] = append(alone[k], t)
+		}
+	}
+	for _, ts := range alone {
+		if len(ts) != 1 {
+			continue
+		}
+		w, err := lw.evalWindow(laplace.TalbotContour(ts[0], laplace.DefaultM))
+		if err != nil {
+			return err
+		}
+		if w.bad {
+			lw.suspects = append(lw.suspects, [2]float64{ts[0], ts[0]})
+		}
+		if lw.points == nil {
+			lw.points = make(map[float64]*lawWindow)
+		}
+		lw.points[ts[0]] = w
+	}
+	return nil
 }
 
 // evalWindow evaluates the transform at the nodes of c. The caller holds
@@ -502,7 +560,10 @@ func (lw *lifetimeLaw) survival(t float64) (S, dens float64, err error) {
 	if lw.real != nil {
 		return lw.stehfestAt(t)
 	}
-	w, err := lw.window(t)
+	w, ok := lw.points[t]
+	if !ok {
+		w, err = lw.window(t)
+	}
 	if err != nil {
 		return math.NaN(), math.NaN(), err
 	}
