@@ -25,8 +25,33 @@ type snPlan struct {
 	tasks   []snTask // in increasing lo
 	top     []int    // the other supernodes, increasing
 	// Predicted work (multiply-adds) of the largest worker's tasks, of
-	// the top and of everything, for Stats and the benchmarks.
+	// the top (its time: split supernodes count about half) and of
+	// everything, for the tests and the benchmarks.
 	maxWork, topWork, work float64
+	// split[s]: the updates of top supernode s are shared by two
+	// goroutines (snSplit), for the top supernodes with at least
+	// splitMinWork multiply-adds.
+	split []bool
+}
+
+// splitMinWork is the least work (multiply-adds) of a top supernode whose
+// updates two goroutines share: a hand-over costs microseconds, this much
+// work about a hundred (common practice, no source; a variable for the
+// tests).
+var splitMinWork = 2e5
+
+// splitShare is the share of a split supernode's work the plan counts as
+// time on the calling goroutine: half of the updates, plus its own dense
+// factorisation (a tenth or less on meshes; no source, measured on the
+// mesh benchmarks' plans).
+const splitShare = 0.55
+
+// topCost is the time the plan counts for a top supernode of work w.
+func topCost(w float64) float64 {
+	if w >= splitMinWork {
+		return splitShare * w
+	}
+	return w
 }
 
 // snTask is the subtree of supernodes lo … hi (hi its root) and the worker
@@ -178,7 +203,7 @@ func (f *Factor[T]) planParallel(sn *snodes) *snPlan {
 		s := cand[0]
 		cand = cand[1:]
 		tops = append(tops, s)
-		top += own[s]
+		top += topCost(own[s])
 		for c := chead[s]; c >= 0; c = cnext[c] {
 			cand = append(cand, c)
 		}
@@ -204,7 +229,7 @@ func (f *Factor[T]) planParallel(sn *snodes) *snPlan {
 		s := cand[0]
 		cand = cand[1:]
 		tops = append(tops, s)
-		top += own[s]
+		top += topCost(own[s])
 		for c := chead[s]; c >= 0; c = cnext[c] {
 			cand = append(cand, c)
 		}
@@ -222,7 +247,66 @@ func (f *Factor[T]) planParallel(sn *snodes) *snPlan {
 	slices.SortFunc(pl.tasks, func(a, b snTask) int { return a.lo - b.lo })
 	slices.Sort(tops)
 	pl.top = tops
+	pl.split = make([]bool, nsup)
+	for _, s := range tops {
+		pl.split[s] = own[s] >= splitMinWork
+	}
 	return pl
+}
+
+// snSplit runs the second half of split updates on a helper goroutine
+// during the top phase of a parallel factorisation.
+type snSplit[T Scalar] struct {
+	f      *Factor[T]
+	helper *snCtx[T]
+	req    chan snSplitReq
+	done   chan struct{}
+}
+
+type snSplitReq struct {
+	s, f0, e int
+	rel      []int
+	sym      bool
+}
+
+// newSNSplit starts the helper goroutine; stop ends it.
+func newSNSplit[T Scalar](f *Factor[T], helper *snCtx[T]) *snSplit[T] {
+	h := &snSplit[T]{f: f, helper: helper, req: make(chan snSplitReq), done: make(chan struct{})}
+	go func() {
+		for r := range h.req {
+			f.snUpdatesPart(h.helper, r.s, r.rel, r.sym, r.f0, r.e, 1, 2)
+			h.done <- struct{}{}
+		}
+	}()
+	return h
+}
+
+func (h *snSplit[T]) stop() { close(h.req) }
+
+// updates applies every update waiting for supernode s (columns f0 … e−1,
+// row positions rel): the target column pairs 0, 2, 4, … here, the others
+// on the helper.
+func (h *snSplit[T]) updates(s int, rel []int, sym bool, f0, e int, c *snCtx[T]) {
+	h.req <- snSplitReq{s: s, f0: f0, e: e, rel: rel, sym: sym}
+	h.f.snUpdatesPart(c, s, rel, sym, f0, e, 0, 2)
+	<-h.done
+}
+
+// snUpdatesPart applies the updates waiting on supernode s's list to the
+// target columns of part (snUpdate), without changing the list.
+func (f *Factor[T]) snUpdatesPart(c *snCtx[T], s int, rel []int, sym bool, f0, e, part, parts int) {
+	sn, w := f.sn, f.snw
+	lp, li := f.lp, f.li
+	for k := w.head[s]; k >= 0; k = w.next[k] {
+		ek := sn.start[k+1]
+		rk := li[lp[ek-1]:lp[ek]]
+		q0 := w.npos[k]
+		q1 := q0
+		for q1 < len(rk) && rk[q1] < e {
+			q1++
+		}
+		f.snUpdate(c, rel, sym, f0, e, k, q0, q1, part, parts)
+	}
 }
 
 // numericSNParallel runs the plan: the workers factor their tasks, then the
@@ -279,6 +363,13 @@ func (f *Factor[T]) numericSNParallel(m *Matrix[T], sym bool) error {
 
 	c := &w.ctx[0]
 	c.hi, c.pend, c.minRatio, c.minIdx = nsup-1, c.pend[:0], 1, -1
+	if slices.Contains(pl.split, true) {
+		c.split = newSNSplit(f, &w.ctx[1])
+		defer func() {
+			c.split.stop()
+			c.split = nil
+		}()
+	}
 	ti := 0
 	replay := func(upto int) error {
 		for ; ti < len(pl.tasks) && pl.tasks[ti].lo < upto; ti++ {

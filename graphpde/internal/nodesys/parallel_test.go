@@ -13,9 +13,9 @@ import (
 // restores the threshold afterwards.
 func splitSmall(t *testing.T) {
 	t.Helper()
-	old := parallelMinWork
-	parallelMinWork = 0
-	t.Cleanup(func() { parallelMinWork = old })
+	old, oldSplit := parallelMinWork, splitMinWork
+	parallelMinWork, splitMinWork = 0, 1e3
+	t.Cleanup(func() { parallelMinWork, splitMinWork = old, oldSplit })
 }
 
 // TestParallelSameBits factors systems with the supernodal kernel on one
@@ -67,8 +67,17 @@ func sameBits[T Scalar](t *testing.T, m *Matrix[T], set Settings, p int) {
 		t.Fatalf("workers %d: no parallel plan (stats %d)", p, fp.Stats().Workers)
 	}
 	pl := fp.sn.plan
-	t.Logf("workers %d: %d tasks, %d top supernodes of %d; predicted speed-up %.2f",
-		p, len(pl.tasks), len(pl.top), len(fp.sn.start)-1, pl.work/(pl.maxWork+pl.topWork))
+	nsplit := 0
+	for _, b := range pl.split {
+		if b {
+			nsplit++
+		}
+	}
+	t.Logf("workers %d: %d tasks, %d top supernodes of %d (%d split); predicted speed-up %.2f",
+		p, len(pl.tasks), len(pl.top), len(fp.sn.start)-1, nsplit, pl.work/(pl.maxWork+pl.topWork))
+	if nsplit == 0 {
+		t.Errorf("workers %d: no split top supernode: the split updates are not tested", p)
+	}
 	if !slices.Equal(f1.d, fp.d) || !slices.Equal(f1.lx, fp.lx) || !slices.Equal(f1.ux, fp.ux) {
 		t.Errorf("workers %d: factors differ from one goroutine's", p)
 	}

@@ -47,11 +47,12 @@ type snWork[T Scalar] struct {
 // buffers, the range of supernodes its current task may link into, and the
 // smallest pivot ratio it met.
 type snCtx[T Scalar] struct {
-	rel      []int // position of a row in the first column of the current supernode
-	relq     []int // positions in the target of one update's rows
-	wl, wu   []T   // dense update buffers
-	hi       int   // last supernode of the current task (all: nsup−1)
-	pend     []int // links out of the task, in the order made
+	rel      []int       // position of a row in the first column of the current supernode
+	relq     []int       // positions in the target of one update's rows
+	wl, wu   []T         // dense update buffers
+	hi       int         // last supernode of the current task (all: nsup−1)
+	split    *snSplit[T] // the helper of split top supernodes, nil for none
+	pend     []int       // links out of the task, in the order made
 	minRatio float64
 	minIdx   int
 }
@@ -269,131 +270,23 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 	}
 
 	// Updates from descendants.
+	split := c.split != nil && sn.plan.split[s]
+	if split {
+		// Two goroutines share the updates by target columns; the
+		// links below follow in list order as on one.
+		c.split.updates(s, rel, sym, f0, e, c)
+	}
 	for k := head[s]; k >= 0; {
 		nk := next[k]
-		fk, ek := sn.start[k], sn.start[k+1]
+		ek := sn.start[k+1]
 		rk := li[lp[ek-1]:lp[ek]]
 		q0 := npos[k]
 		q1 := q0
 		for q1 < len(rk) && rk[q1] < e {
 			q1++
 		}
-		mr, nc := len(rk)-q0, q1-q0
-		wl := c.wl[:mr*nc]
-		clear(wl)
-		var wu []T
-		if !sym {
-			wu = c.wu[:mr*nc]
-			clear(wu)
-		}
-		// W_L[q,jj] = Σ_t L(r_q,t)·d_t·U(t,j_jj) and W_U[q,jj] = Σ_t
-		// U(t,r_q)·d_t·L(j_jj,t) for rows q ≥ jj, two columns t at a
-		// time to halve the traffic on W.
-		off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
-		t := fk
-		for ; t+3 < ek; t += 4 {
-			o1, o2, o3, o4 := off(t), off(t+1), off(t+2), off(t+3)
-			d1, d2, d3, d4 := d[t], d[t+1], d[t+2], d[t+3]
-			jj0 := 0
-			if sym {
-				// Two target columns at a time: each entry of the
-				// four source columns is loaded once for both.
-				for ; jj0+1 < nc; jj0 += 2 {
-					jj := jj0
-					a := lx[o1+jj : o1+mr]
-					b := lx[o2+jj : o2+mr]
-					c := lx[o3+jj : o3+mr]
-					e := lx[o4+jj : o4+mr]
-					ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
-					ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
-					wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
-					axpy4x2(fma, wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
-						ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
-				}
-			}
-			for jj := jj0; jj < nc; jj++ {
-				dst := wl[jj*mr+jj : (jj+1)*mr]
-				a := lx[o1+jj : o1+mr]
-				b := lx[o2+jj : o2+mr]
-				c := lx[o3+jj : o3+mr]
-				e := lx[o4+jj : o4+mr]
-				if sym {
-					axpy4(fma, dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
-				} else {
-					au := ux[o1+jj : o1+mr]
-					bu := ux[o2+jj : o2+mr]
-					cu := ux[o3+jj : o3+mr]
-					eu := ux[o4+jj : o4+mr]
-					axpy4(fma, dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
-					axpy4(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
-				}
-			}
-		}
-		for ; t+1 < ek; t += 2 {
-			o1, o2 := off(t), off(t+1)
-			d1, d2 := d[t], d[t+1]
-			for jj := 0; jj < nc; jj++ {
-				dst := wl[jj*mr+jj : (jj+1)*mr]
-				a := lx[o1+jj : o1+mr]
-				b := lx[o2+jj : o2+mr]
-				if sym {
-					axpy2(fma, dst, a, b, a[0]*d1, b[0]*d2)
-				} else {
-					au := ux[o1+jj : o1+mr]
-					bu := ux[o2+jj : o2+mr]
-					axpy2(fma, dst, a, b, au[0]*d1, bu[0]*d2)
-					axpy2(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
-				}
-			}
-		}
-		if t < ek {
-			o1, d1 := off(t), d[t]
-			for jj := 0; jj < nc; jj++ {
-				dst := wl[jj*mr+jj : (jj+1)*mr]
-				a := lx[o1+jj : o1+mr]
-				if sym {
-					axpy1(dst, a, a[0]*d1)
-				} else {
-					au := ux[o1+jj : o1+mr]
-					axpy1(dst, a, au[0]*d1)
-					axpy1(wu[jj*mr+jj:(jj+1)*mr], au, a[0]*d1)
-				}
-			}
-		}
-		// Scatter: the rows' positions in the target once, and a
-		// plain subtraction where they are consecutive there.
-		relq := c.relq[:mr]
-		for q := range relq {
-			relq[q] = rel[rk[q0+q]]
-		}
-		// (Row 0 is the diagonal of the first target column, which
-		// has no position below the diagonal.)
-		run := mr < 2 || relq[mr-1]-relq[1] == mr-2
-		for jj := 0; jj < nc; jj++ {
-			j := rk[q0+jj]
-			base := lp[j] - (j - f0)
-			col := wl[jj*mr : (jj+1)*mr]
-			d[j] -= col[jj]
-			cs[j] += magMax(col[jj])
-			if run {
-				if jj+1 < mr {
-					p0 := base + relq[jj+1]
-					subTo(lx[p0:p0+mr-jj-1], col[jj+1:])
-					if !sym {
-						subTo(ux[p0:p0+mr-jj-1], wu[jj*mr+jj+1:(jj+1)*mr])
-					}
-				}
-				continue
-			}
-			for q := jj + 1; q < mr; q++ {
-				lx[base+relq[q]] -= col[q]
-			}
-			if !sym {
-				col := wu[jj*mr : (jj+1)*mr]
-				for q := jj + 1; q < mr; q++ {
-					ux[base+relq[q]] -= col[q]
-				}
-			}
+		if !split {
+			f.snUpdate(c, rel, sym, f0, e, k, q0, q1, 0, 1)
 		}
 		npos[k] = q1
 		if q1 < len(rk) {
@@ -524,6 +417,154 @@ func (f *Factor[T]) snSupernode(s int, m *Matrix[T], sym bool, c *snCtx[T]) erro
 		c.link(w, s, sn.of[rs[0]])
 	}
 	return nil
+}
+
+// snUpdate subtracts from the target supernode (columns f0 … e−1, row
+// positions rel) the update of descendant k for its rows q0 … (its columns
+// in the target are rows q0 … q1−1). With parts > 1 only the target
+// columns j with (j−f0)/2 = part modulo parts: the workers of a split
+// update own disjoint columns whatever the descendant, and pair columns
+// the same way as one worker, so the sums are the same bit for bit.
+func (f *Factor[T]) snUpdate(c *snCtx[T], rel []int, sym bool, f0, e, k, q0, q1, part, parts int) {
+	sn := f.sn
+	lp, li, lx, ux, d, cs := f.lp, f.li, f.lx, f.ux, f.d, f.snw.cs
+	fma := f.fma
+	fk, ek := sn.start[k], sn.start[k+1]
+	rk := li[lp[ek-1]:lp[ek]]
+	mr, nc := len(rk)-q0, q1-q0
+	wl := c.wl[:mr*nc]
+	clear(wl)
+	var wu []T
+	if !sym {
+		wu = c.wu[:mr*nc]
+		clear(wu)
+	}
+	// W_L[q,jj] = Σ_t L(r_q,t)·d_t·U(t,j_jj) and W_U[q,jj] = Σ_t
+	// U(t,r_q)·d_t·L(j_jj,t) for rows q ≥ jj, two columns t at a
+	// time to halve the traffic on W.
+	off := func(t int) int { return lp[t] + (ek - 1 - t) + q0 }
+	t := fk
+	for ; t+3 < ek; t += 4 {
+		o1, o2, o3, o4 := off(t), off(t+1), off(t+2), off(t+3)
+		d1, d2, d3, d4 := d[t], d[t+1], d[t+2], d[t+3]
+		for jj := 0; jj < nc; jj++ {
+			// Two target columns at a time where they are an even
+			// column of the target and the next (each entry of the
+			// four source columns is loaded once for both): the
+			// pairs, and so the sums, do not depend on the split.
+			jt := rk[q0+jj] - f0
+			pair := sym && jt%2 == 0 && jj+1 < nc && rk[q0+jj+1] == rk[q0+jj]+1
+			if parts > 1 && (jt/2)%parts != part {
+				if pair {
+					jj++
+				}
+				continue
+			}
+			if pair {
+				a := lx[o1+jj : o1+mr]
+				b := lx[o2+jj : o2+mr]
+				c := lx[o3+jj : o3+mr]
+				e := lx[o4+jj : o4+mr]
+				ca0, cb0, cc0, ce0 := a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4
+				ca1, cb1, cc1, ce1 := a[1]*d1, b[1]*d2, c[1]*d3, e[1]*d4
+				wl[jj*mr+jj] += a[0]*ca0 + b[0]*cb0 + c[0]*cc0 + e[0]*ce0
+				axpy4x2(fma, wl[jj*mr+jj+1:(jj+1)*mr], wl[(jj+1)*mr+jj+1:(jj+2)*mr], a[1:], b[1:], c[1:], e[1:],
+					ca0, cb0, cc0, ce0, ca1, cb1, cc1, ce1)
+				jj++
+				continue
+			}
+			dst := wl[jj*mr+jj : (jj+1)*mr]
+			a := lx[o1+jj : o1+mr]
+			b := lx[o2+jj : o2+mr]
+			c := lx[o3+jj : o3+mr]
+			e := lx[o4+jj : o4+mr]
+			if sym {
+				axpy4(fma, dst, a, b, c, e, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+			} else {
+				au := ux[o1+jj : o1+mr]
+				bu := ux[o2+jj : o2+mr]
+				cu := ux[o3+jj : o3+mr]
+				eu := ux[o4+jj : o4+mr]
+				axpy4(fma, dst, a, b, c, e, au[0]*d1, bu[0]*d2, cu[0]*d3, eu[0]*d4)
+				axpy4(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, cu, eu, a[0]*d1, b[0]*d2, c[0]*d3, e[0]*d4)
+			}
+		}
+	}
+	for ; t+1 < ek; t += 2 {
+		o1, o2 := off(t), off(t+1)
+		d1, d2 := d[t], d[t+1]
+		for jj := 0; jj < nc; jj++ {
+			if parts > 1 && ((rk[q0+jj]-f0)/2)%parts != part {
+				continue
+			}
+			dst := wl[jj*mr+jj : (jj+1)*mr]
+			a := lx[o1+jj : o1+mr]
+			b := lx[o2+jj : o2+mr]
+			if sym {
+				axpy2(fma, dst, a, b, a[0]*d1, b[0]*d2)
+			} else {
+				au := ux[o1+jj : o1+mr]
+				bu := ux[o2+jj : o2+mr]
+				axpy2(fma, dst, a, b, au[0]*d1, bu[0]*d2)
+				axpy2(fma, wu[jj*mr+jj:(jj+1)*mr], au, bu, a[0]*d1, b[0]*d2)
+			}
+		}
+	}
+	if t < ek {
+		o1, d1 := off(t), d[t]
+		for jj := 0; jj < nc; jj++ {
+			if parts > 1 && ((rk[q0+jj]-f0)/2)%parts != part {
+				continue
+			}
+			dst := wl[jj*mr+jj : (jj+1)*mr]
+			a := lx[o1+jj : o1+mr]
+			if sym {
+				axpy1(dst, a, a[0]*d1)
+			} else {
+				au := ux[o1+jj : o1+mr]
+				axpy1(dst, a, au[0]*d1)
+				axpy1(wu[jj*mr+jj:(jj+1)*mr], au, a[0]*d1)
+			}
+		}
+	}
+	// Scatter: the rows' positions in the target once, and a
+	// plain subtraction where they are consecutive there.
+	relq := c.relq[:mr]
+	for q := range relq {
+		relq[q] = rel[rk[q0+q]]
+	}
+	// (Row 0 is the diagonal of the first target column, which
+	// has no position below the diagonal.)
+	run := mr < 2 || relq[mr-1]-relq[1] == mr-2
+	for jj := 0; jj < nc; jj++ {
+		if parts > 1 && ((rk[q0+jj]-f0)/2)%parts != part {
+			continue
+		}
+		j := rk[q0+jj]
+		base := lp[j] - (j - f0)
+		col := wl[jj*mr : (jj+1)*mr]
+		d[j] -= col[jj]
+		cs[j] += magMax(col[jj])
+		if run {
+			if jj+1 < mr {
+				p0 := base + relq[jj+1]
+				subTo(lx[p0:p0+mr-jj-1], col[jj+1:])
+				if !sym {
+					subTo(ux[p0:p0+mr-jj-1], wu[jj*mr+jj+1:(jj+1)*mr])
+				}
+			}
+			continue
+		}
+		for q := jj + 1; q < mr; q++ {
+			lx[base+relq[q]] -= col[q]
+		}
+		if !sym {
+			col := wu[jj*mr : (jj+1)*mr]
+			for q := jj + 1; q < mr; q++ {
+				ux[base+relq[q]] -= col[q]
+			}
+		}
+	}
 }
 
 // block4 factors the columns j … j+3 of the supernode whose columns end
