@@ -138,18 +138,21 @@ func benchFactor(ctx context.Context, w io.Writer, size string) error {
 	if ctx.Err() != nil {
 		return fmt.Errorf("%w before the factorisation measurements", errInterruptedAny)
 	}
-	ff, err := gen.MeasureFactor(side, 3)
+	ff, err := gen.MeasureFactor(side, 5)
 	if err != nil {
 		return err
 	}
 	ref := ff.Reference.Seconds()
-	fmt.Fprintf(w, "factorisation of the %d×%d mesh's node system (%d unknowns, %d entries in L, %.3g multiply-adds), best of 3 alternating runs:\n",
+	fmt.Fprintf(w, "factorisation of the %d×%d mesh's node system (%d unknowns, %d entries in L, %.3g multiply-adds), best of 5 alternating runs:\n",
 		side, side, ff.Unknowns, ff.NNZL, ff.MultiplyAdds)
 	fmt.Fprintf(w, "  %d supernodes (%d before amalgamation); %.3g s on %d goroutines, %.3g s on one; the kernel before amalgamation and dense kernels %.3g s\n",
 		ff.Supernodes, ff.Fundamental, ff.Default.Seconds(), ff.Workers, ff.OneGoroutine.Seconds(), ref)
-	target := "" // the goal is stated for the 300×300 mesh
+	// The goal is stated for the 300×300 mesh, and judged on one
+	// goroutine like the kernel it replaced: on a machine whose cores
+	// are busy the second goroutine mostly waits.
+	target := ""
 	if size == "large" {
-		target = fmt.Sprintf(" (target ≤ 0.5%s)", unmet(ff.Default.Seconds()/ref > 0.5))
+		target = fmt.Sprintf(" (target ≤ 0.5 on one%s)", unmet(ff.OneGoroutine.Seconds()/ref > 0.5))
 	}
 	fmt.Fprintf(w, "  factorisation / that kernel = %.2f on %d goroutines, %.2f on one%s; %.2g multiply-adds/s on one\n",
 		ff.Default.Seconds()/ref, ff.Workers, ff.OneGoroutine.Seconds()/ref, target, ff.MultiplyAdds/ff.OneGoroutine.Seconds())

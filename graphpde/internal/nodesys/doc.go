@@ -56,6 +56,27 @@
 //     Van Loan, Matrix Computations, 3rd ed., §3.4, from memory), which covers
 //     node systems; complex symmetric systems (A = Aᵀ, not Hermitian) take the
 //     LDLᵀ path with the plain transpose.
+//   - Dense kernels of the supernodal path: small supernodes are merged into
+//     their parents (relaxed amalgamation, explicit zeros, our own rule); the
+//     update of a supernode by a descendant runs four source columns by two
+//     target columns per pass, and each trapezoid is factored four pivots at
+//     a time, its later columns updated two at a time. For real values on
+//     amd64 processors with AVX2 and FMA (CPUID) these loops are assembly,
+//     four rows per instruction; elsewhere, and for complex values, Go loops.
+//   - Independent subtrees of the supernodal elimination tree are factored by
+//     up to Settings.Workers goroutines (default GOMAXPROCS), the supernodes
+//     above them by the calling one. The split replays the kernel's update
+//     lists to count each supernode's work, then splits the heaviest
+//     subtree while that lowers (largest worker's share + top) and deals the
+//     subtrees largest first to the least loaded worker (R. L. Graham,
+//     SIAM J. Appl. Math. 17 (1969) 416–429, from memory). Links from a
+//     subtree to supernodes outside it are replayed in elimination order,
+//     and the updates of large supernodes above the subtrees are shared by
+//     two goroutines by target columns with the pairing of one, so the
+//     factors are the same bit for bit on any number of goroutines.
+//   - Analysis reuse: Factorize keeps the ordering and symbolic factorisation
+//     while the pattern is unchanged; Clone and NewFactorFrom (from
+//     Factor.Analysis) hand them to other Factors, with other settings.
 //   - Forests: when minimum-degree peeling eliminates every node (the network
 //     is a tree or a forest), the order, the parents, the pattern of L and
 //     the permuted upper triangle come out of the peeling pass itself, with
