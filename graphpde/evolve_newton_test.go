@@ -119,6 +119,8 @@ func TestEvolveBratuSettles(t *testing.T) {
 		}
 		if got := r.Probes[k][last]; math.Abs(got-want) > 1e-9 {
 			t.Errorf("probe %d: u(4) = %.12f, steady %.12f (diff %.2e)", k, got, want, got-want)
+		} else {
+			t.Logf("probe %d: u(4) − steady = %.1e", k, got-want)
 		}
 	}
 	t.Logf("u(½, 4) = %.12f, %d steps, %d rejected, %d factorisations", r.Probes[0][last], r.Stats.Steps, r.Stats.Rejected, r.Stats.Factorizations)
@@ -166,6 +168,8 @@ func TestEvolveFinSettles(t *testing.T) {
 		}
 		if got := r.Probes[k][last]; math.Abs(got-want) > 1e-9 {
 			t.Errorf("probe %d: u(12) = %.12f, steady %.12f (diff %.2e)", k, got, want, got-want)
+		} else {
+			t.Logf("probe %d: u(12) − steady = %.1e", k, got-want)
 		}
 		if math.Abs(r.Steady[k]-want) > 1e-9 {
 			t.Errorf("probe %d: steady value for the crossing %.12f, SolveNonlinear %.12f", k, r.Steady[k], want)
@@ -325,6 +329,7 @@ func TestEvolveGeneralConserves(t *testing.T) {
 		if math.Abs(amount-0.5) > 1e-9 {
 			t.Errorf("t = %g: stored amount %.12f, want 0.5", sn.T, amount)
 		}
+		t.Logf("t = %g: stored amount − ½ = %.1e", sn.T, amount-0.5)
 	}
 	last := r.Snapshots[len(r.Snapshots)-1].Edges[0]
 	if math.Abs(last[0]-0.5) > 1e-6 || math.Abs(last[cells]-0.5) > 1e-6 {
