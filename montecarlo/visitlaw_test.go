@@ -88,8 +88,10 @@ func starCDF(beta, capv float64, arms []starArm) func(float64) float64 {
 // too); sticky and leaky with decaying arms — against the exact distribution
 // function from the star's Laplace transform, by the Kolmogorov–Smirnov test
 // (KS resolution 1.36/sqrt(10⁶) = 1.4e−3). Measured with these seeds:
-// D = 1.75e−3 (p = 0.004), 6.3e−4 (p = 0.83), 9.9e−4 (p = 0.28), 1.05e−3
-// (p = 0.22), 8.2e−4 (p = 0.52); six more seeds of the leaky case gave
+// D = 1.75e−3 (p = 0.004), 6.3e−4 (p = 0.83), 9.9e−4 (p = 0.28), 9.2e−4
+// (p = 0.36), 7.7e−4 (p = 0.60) (the last two with the climb and killing
+// drawn by rejection; with their own tables 1.05e−3, p = 0.22, and 8.2e−4,
+// p = 0.52); six more seeds of the leaky case gave
 // p = 0.13…0.92. The former scheme (fate and duration drawn independently,
 // star at 1/8 of the free radius) failed it with the same seeds:
 // D = 1.15e−2 (p = 2e−115), 3.7e−3 (p = 4e−12), 1.16e−2 (p = 8e−118),
@@ -162,7 +164,8 @@ func TestLeakyStartLaw(t *testing.T) {
 // coefficients the Euler steps are exact in law; the arm's own bias comes
 // from the steps near its ends (exact mean, driftless shape) and from steps
 // that cross an end unseen, and is below the KS resolution: with this rule
-// D = 7.8e−4 and 5.2e−4 at dt = 1e−3 (p = 0.58, 0.95), 1.06e−3 and 6.0e−4
+// D = 1.08e−3 and 7.1e−4 at dt = 1e−3 (p = 0.20, 0.69; 7.8e−4 and 5.2e−4,
+// p = 0.58 and 0.95, before the climb was drawn by rejection), 1.06e−3 and 6.0e−4
 // at dt = 1e−4 (p = 0.21, 0.87), and 6.6e−4 at dt = 2e−5 (p = 0.78, leaky
 // centre). The former visit rule (fate and duration independent, exact in
 // mean, star at 1/8 of the hand-off zone) gave D = 4.2e−3 (p = 1e−15) and
