@@ -191,9 +191,12 @@ type Stats struct {
 	Prepare time.Duration
 	// Tables is the number of visit-law tables the walkers needed, and
 	// TableTime the time spent looking them up or building them, summed
-	// over workers. Tables are built on a node's first visit (a few
-	// milliseconds each; shared between nodes and runs with equal
-	// parameters), so nodes no walker reaches cost nothing.
+	// over workers. Tables are built on a node's first visit (about a
+	// millisecond or less each; shared between nodes whose laws have the
+	// same quantised parameters, and between runs), so nodes no walker
+	// reaches cost nothing. The climb and killing pieces of decaying arms
+	// are mostly drawn by rejection from two tables shared by all nodes,
+	// not counted here (docs/walkers.md §6).
 	Tables    int
 	TableTime time.Duration
 }
