@@ -18,10 +18,10 @@ import (
 // standard errors at two steps (fixed seeds). (A jump step that took the
 // right piece's reward and decay on both sides moved the value by only
 // about 0.003 here, below these walkers' resolution: TestJumpLaw checks the
-// step's law itself.) The PDE's grid is fitted
-// across the switch; with decay its cells are second order, so 4000 cells
-// make its error negligible (below 1e−6, from the change between 1000 and
-// 4000 cells).
+// step's law itself.) The PDE's grid is fitted across the switch; with
+// decay its cells are second order, so 4000 cells make its error
+// negligible (the change from 1000 cells is asked to stay below 1e−6;
+// measured 4.6e−9).
 func TestWalkersAcrossSwitchWithCosts(t *testing.T) {
 	net := &graphpde.Network{Objective: graphpde.Maximize}
 	for _, n := range []struct {
@@ -62,7 +62,9 @@ func TestWalkersAcrossSwitchWithCosts(t *testing.T) {
 		return u
 	}
 	exact := pde(4000)
-	if d := math.Abs(exact - pde(1000)); d > 2e-5 {
+	d1 := math.Abs(exact - pde(1000))
+	t.Logf("PDE at 4000 cells %.8f, change from 1000 cells %.2g", exact, d1)
+	if d := d1; d > 1e-6 {
 		t.Fatalf("PDE at 1000 and 4000 cells differ by %g", d)
 	}
 	for i, step := range []float64{2e-3, 1e-3} {
