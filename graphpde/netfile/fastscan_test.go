@@ -75,9 +75,11 @@ func TestFastTablesSameAsLibrary(t *testing.T) {
 		t.Fatal(err)
 	}
 	t.Run("mesh", func(t *testing.T) { readBothWays(t, buf.Bytes()) })
-	for i, c := range fastCases {
-		src := fmt.Sprintf(fastCaseFile, c)
-		t.Run(fmt.Sprintf("case%d", i), func(t *testing.T) { readBothWays(t, []byte(src)) })
+	for i, c := range append(fastCases, fastNodeCases...) {
+		for k, tmpl := range []string{fastCaseFile, fastNodeCaseFile} {
+			src := fmt.Sprintf(tmpl, c)
+			t.Run(fmt.Sprintf("case%d/%d", i, k), func(t *testing.T) { readBothWays(t, []byte(src)) })
+		}
 	}
 }
 
@@ -96,6 +98,24 @@ from = "a"
 to = "b"
 diffusivity = 1
 %s
+`
+
+// fastNodeCaseFile is a small network whose node "b" holds a line of a
+// case (the node tables' direct reading).
+const fastNodeCaseFile = `[[node]]
+id = "a"
+fixed = 1
+
+[[node]]
+id = "b"
+%s
+
+[[edge]]
+id = "e"
+from = "a"
+to = "b"
+length = 1
+diffusivity = 1
 `
 
 // fastCases are lines of an [[edge]] table: forms of TOML that the direct
@@ -173,6 +193,27 @@ var fastCases = []string{
 	"length = 1\n[[edge]]\nid = \"f\"\nfrom = \"a\"\nto = \"c\"\nlength = 1\ndiffusivity = 1",
 	"length = 1\n[[ edge ]]\nid = \"f\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1",
 	"length = 1\n  [[edge]] # next\n\tid = \"f\"\nfrom = \"a\"\nto = \"b\"\nlength = 1\ndiffusivity = 1",
+}
+
+// fastNodeCases are lines of a [[node]] table (the edge cases serve too).
+var fastNodeCases = []string{
+	"xy = [1, 2]",
+	"xy = [1.5, -2e3]",
+	"xy = [1, 2, 3]",
+	"xy = [1, \"2\"]",
+	"xy = [inf, 0]",
+	"fixed = 0.5",
+	"fixed = 1\nleak = 0",
+	"leak = 0.25\ninject = -3\ncapacity = 2",
+	"leak = -1",
+	"capacity = nan",
+	"inject = \"2 * 3\"",
+	"leak = \"2 W/K\"",
+	"initial = 1",
+	"split = { e = 1 }",
+	"id = \"c\"",
+	"fixed = true",
+	"fixed = 1_0",
 }
 
 // TestFastSectionAgreesOrDeclines: on each case the direct reading of one
@@ -272,9 +313,13 @@ func FuzzFastTables(f *testing.F) {
 	for _, c := range fastCases {
 		f.Add([]byte(c))
 	}
+	for _, c := range fastNodeCases {
+		f.Add([]byte(c))
+	}
 	f.Fuzz(func(t *testing.T, data []byte) {
 		sameTable(t, "[[edge]]\n"+string(data)+"\n")
 		readBothWays(t, []byte(fmt.Sprintf(fastCaseFile, data)))
+		readBothWays(t, []byte(fmt.Sprintf(fastNodeCaseFile, data)))
 	})
 }
 
