@@ -9,9 +9,10 @@ import (
 // The [[node]] and [[edge]] tables of a large file are nearly all of its
 // text and nearly all alike: a header and a few lines of the form
 // key = value, with a number, a string or a one-line array of those. The
-// TOML library decodes them at about 10 MB/s; fastTables reads that simple
-// form directly, into the same maps the library would build, at several
-// times the speed. It accepts only text whose meaning under TOML 1.0 it is
+// TOML library decodes them at about 10 MB/s; fastSection reads that
+// simple form directly, at several times the speed, into typed key-value
+// lists, from which the reader adds plain nodes and edges at once
+// (direct.go) and builds the library's map for any other table (fastMap). It accepts only text whose meaning under TOML 1.0 it is
 // sure of and declines (returns ok = false) on anything else: multi-line
 // strings and arrays, inline tables, dotted or quoted keys, dates, hex,
 // octal and binary integers, escapes other than \b \t \n \f \r \" \\,
@@ -44,13 +45,14 @@ func fastBatch(src, kind string, secs []section, i, j int, all []fastKV) (kvs []
 }
 
 // fastMap returns the table of a key-value list, as the library decodes it,
-// and its keys in file order.
+// and its keys in file order (keys and strings copied from the text).
 func fastMap(kv []fastKV) (map[string]any, []string) {
 	m := make(map[string]any, len(kv))
 	order := make([]string, len(kv))
-	for n, x := range kv {
-		m[x.k] = x.val()
-		order[n] = x.k
+	for n := range kv {
+		k := strings.Clone(kv[n].k)
+		m[k] = kv[n].val()
+		order[n] = k
 	}
 	return m, order
 }
