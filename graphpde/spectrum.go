@@ -560,10 +560,11 @@ func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	return res, nil
 }
 
-// slopeCounter is an eigenCounter that also gives g'(λ) of its last count
-// (NaN when it has none), for Newton steps.
+// slopeCounter is an eigenCounter that also gives g'(λ) and g″(λ) of its
+// last count (NaN when it has none), for Newton and Halley steps.
 type slopeCounter interface {
 	lastSlope() float64
+	lastCurvature() float64
 }
 
 // probeCounter is an eigenCounter whose vector x of g(λ) = 1/(xᵀA(λ)⁻¹x)
@@ -576,6 +577,8 @@ type probeCounter interface {
 
 func (c *exactCounter) lastSlope() float64 { return c.slope }
 
+func (c *exactCounter) lastCurvature() float64 { return c.curv }
+
 // byCount finds the s.Count smallest eigenvalues of a self-adjoint problem
 // by bracketing with the counter c and refining each by Newton steps on g
 // where the counter gives g' (slopeCounter), by a secant on g otherwise,
@@ -585,16 +588,16 @@ func (c *exactCounter) lastSlope() float64 { return c.slope }
 func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumResult, seeds *countSeeds) error {
 	absTol := 1e-13 * scale
 	type eval struct {
-		lam, g, slope float64
-		n             int
+		lam, g, slope, curv float64
+		n                   int
 	}
 	sc, _ := w.(slopeCounter)
 	pc, _ := w.(probeCounter)
 	count := func(lam float64) (eval, error) {
 		n, g, err := w.countAt(lam)
-		ev := eval{lam: lam, g: g, n: n, slope: math.NaN()}
+		ev := eval{lam: lam, g: g, n: n, slope: math.NaN(), curv: math.NaN()}
 		if sc != nil {
-			ev.slope = sc.lastSlope()
+			ev.slope, ev.curv = sc.lastSlope(), sc.lastCurvature()
 		}
 
 		return ev, err
@@ -744,6 +747,15 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 			width := h.lam - l.lam
 			if last != nil && !math.IsNaN(last.slope) && !math.IsNaN(last.g) && last.slope != 0 {
 				step := -last.g / last.slope
+				// Halley's step where g″ is known and the step is no
+				// more than twice Newton's (cubic convergence, Householder,
+				// The Numerical Treatment of a Single Nonlinear Equation,
+				// McGraw-Hill 1970, §4.3 — from memory)
+				if den := 2*last.slope*last.slope - last.g*last.curv; !math.IsNaN(last.curv) && den != 0 {
+					if hs := -2 * last.g * last.slope / den; math.Abs(hs) <= 2*math.Abs(step) && hs*step > 0 {
+						step = hs
+					}
+				}
 				c := last.lam + step
 				switch {
 				case math.Abs(step) < tol && last.lam >= l.lam && last.lam <= h.lam:

@@ -37,6 +37,8 @@ type dynSystem struct {
 	// (both ends; a loop's whole contribution), off-diagonal ko; and those
 	// of M: md, mo.
 	kd, ko, md, mo []float64
+	// and those of K″(λ)
+	k2d, k2o []float64
 	// Per unknown: leak − λ·capacity, and the capacity.
 	nk, nm []float64
 	lam    float64
@@ -69,7 +71,8 @@ func newDyn(net *Network) *dynSystem {
 	ends := make([][2]int, len(net.Edges))
 	ne := len(net.Edges)
 	d := &dynSystem{net: net, n: len(nodes), w: make([]float64, ne),
-		kd: make([]float64, ne), ko: make([]float64, ne), md: make([]float64, ne), mo: make([]float64, ne)}
+		kd: make([]float64, ne), ko: make([]float64, ne), md: make([]float64, ne), mo: make([]float64, ne),
+		k2d: make([]float64, ne), k2o: make([]float64, ne)}
 	d.ea, d.ec, d.er, d.el = make([]float64, ne), make([]float64, ne), make([]float64, ne), make([]float64, ne)
 	d.r0, d.r1, d.loop = make([]int, ne), make([]int, ne), make([]bool, ne)
 	for e := range net.Edges {
@@ -113,16 +116,18 @@ func (d *dynSystem) assemble(lam float64) {
 		if r0 < 0 && r1 < 0 {
 			continue
 		}
-		diag, off, dm, om := edgeDynCoef(d.ea[e], d.ec[e], d.er[e], d.el[e], lam)
+		diag, off, dm, om, d2, o2 := edgeDynCoef(d.ea[e], d.ec[e], d.er[e], d.el[e], lam)
 		if d.loop[e] {
 			k := 2 * w * loopDyn(&net.Edges[e], lam)
 			d.kd[e], d.ko[e] = k, 0
 			d.md[e], d.mo[e] = -2*w*(dm+om), 0
+			d.k2d[e], d.k2o[e] = 2*w*(d2+o2), 0
 			val[p.dslot[r0]] += k
 			continue
 		}
 		d.kd[e], d.ko[e] = w*diag, w*off
 		d.md[e], d.mo[e] = -w*dm, -w*om
+		d.k2d[e], d.k2o[e] = w*d2, w*o2
 		if r0 >= 0 {
 			val[p.dslot[r0]] += w * diag
 			if r1 >= 0 {
@@ -153,6 +158,28 @@ func (d *dynSystem) mulK(y, x []float64) { d.mul(y, x, d.nk, d.kd, d.ko) }
 
 // mulM sets y = M(λ)x = −K'(λ)x for the λ of the last assembly.
 func (d *dynSystem) mulM(y, x []float64) { d.mul(y, x, d.nm, d.md, d.mo) }
+
+// quadK2 returns xᵀK″(λ)x for the λ of the last assembly (the node
+// terms are linear in λ). Cost O(edges).
+func (d *dynSystem) quadK2(x []float64) float64 {
+	s := 0.0
+	for e, r0 := range d.r0 {
+		r1 := d.r1[e]
+		switch {
+		case d.loop[e]:
+			if r0 >= 0 {
+				s += d.k2d[e] * x[r0] * x[r0]
+			}
+		case r0 >= 0 && r1 >= 0:
+			s += d.k2d[e]*(x[r0]*x[r0]+x[r1]*x[r1]) + 2*d.k2o[e]*x[r0]*x[r1]
+		case r0 >= 0:
+			s += d.k2d[e] * x[r0] * x[r0]
+		case r1 >= 0:
+			s += d.k2d[e] * x[r1] * x[r1]
+		}
+	}
+	return s
+}
 
 func (d *dynSystem) mul(y, x, node, diag, off []float64) {
 	for i := range y {
@@ -217,18 +244,28 @@ func edgeDynDeriv(ed *Edge, L, lam float64) (dDiag, dOff float64) {
 	return rho * L / a * fp, -rho * L / a * gp
 }
 
-// edgeDynCoef returns the entries of edgeDyn and their derivatives of
-// edgeDynDeriv, for an edge with coefficients a, c, ρ and length L, with
-// one evaluation of the trigonometric or exponential functions (the values
-// as edgeDyn forms them).
-func edgeDynCoef(a, c, rho, L, lam float64) (diag, off, dDiag, dOff float64) {
+// edgeDynCoef returns the entries of edgeDyn, their derivatives of
+// edgeDynDeriv and their second derivatives in λ, for an edge with
+// coefficients a, c, ρ and length L, with one evaluation of the
+// trigonometric or exponential functions (the values as edgeDyn forms
+// them). With F and G as in edgeDynDeriv, 2wF' = F − w − F² and
+// 2wG' = G(1 − F) (derived from d(z cot z)/dz = cot z − z/sin²z and
+// d(z/sin z)/dz = (1 − z cot z)/sin z), so
+//
+//	F″ = −(1 + F' + 2FF')/(2w),   G″ = −(G'(1 + F) + GF')/(2w),
+//
+// and d²diag/dλ² = (ρ²L³/a²)F″, d²off/dλ² = −(ρ²L³/a²)G″; near w = 0
+// the differentiated Taylor series.
+func edgeDynCoef(a, c, rho, L, lam float64) (diag, off, dDiag, dOff, d2Diag, d2Off float64) {
 	q := (lam*rho - c) / a
 	w := q * L * L
-	var fp, gp float64
+	var fp, gp, fpp, gpp float64
 	small := math.Abs(w) < 0.01
 	if small {
 		fp = -1.0/3 - w*(2.0/45+w*(6.0/945+w*4.0/4725))
 		gp = 1.0/6 + w*(7.0/180+w*(31.0/5040+w*127.0/151200))
+		fpp = -2.0/45 - w*(12.0/945+w*12.0/4725)
+		gpp = 7.0/180 + w*(62.0/5040+w*381.0/151200)
 	}
 	switch {
 	case q > 0:
@@ -270,5 +307,12 @@ func edgeDynCoef(a, c, rho, L, lam float64) (diag, off, dDiag, dOff float64) {
 	default:
 		diag, off = 1, -1
 	}
-	return diag / L, off / L, rho * L / a * fp, -rho * L / a * gp
+	if !small {
+		F, G := diag, -off // z cot z and z/sin z (before the division by L)
+		fpp = -(1 + fp + 2*F*fp) / (2 * w)
+		gpp = -(gp*(1+F) + G*fp) / (2 * w)
+	}
+	s1 := rho * L / a
+	s2 := s1 * s1 * L
+	return diag / L, off / L, s1 * fp, -s1 * gp, s2 * fpp, -s2 * gpp
 }

@@ -12,7 +12,8 @@ import (
 // q = 0 they are minus the consistent mass matrix ρL/3, ρL/6 of a linear
 // element (derived: M = −K' is the Gram matrix of the shape functions,
 // which are linear at q = 0). The merged edgeDynCoef must give the same
-// values as edgeDyn and edgeDynDeriv.
+// values as edgeDyn and edgeDynDeriv, and second derivatives that agree
+// with central differences of its first ones (same tolerance).
 func TestEdgeDynDeriv(t *testing.T) {
 	const fdTol = 1e-7
 	ed := &Edge{A: 1.7, C: 0.3, Rho: 1.3}
@@ -28,7 +29,12 @@ func TestEdgeDynDeriv(t *testing.T) {
 				t.Errorf("L=%g w=%g: derivative %.10g %.10g, differences %.10g %.10g", L, w, dd, do, fd, fo)
 			}
 			d, o, _, _ := edgeDyn(ed, L, lam)
-			ad, ao, add, ado := edgeDynCoef(ed.A, ed.C, ed.Rho, L, lam)
+			ad, ao, add, ado, a2d, a2o := edgeDynCoef(ed.A, ed.C, ed.Rho, L, lam)
+			_, _, p1d, p1o, _, _ := edgeDynCoef(ed.A, ed.C, ed.Rho, L, lam+h)
+			_, _, p0d, p0o, _, _ := edgeDynCoef(ed.A, ed.C, ed.Rho, L, lam-h)
+			if f2d, f2o := (p1d-p0d)/(2*h), (p1o-p0o)/(2*h); math.Abs(a2d-f2d) > fdTol*math.Max(1, math.Abs(f2d)) || math.Abs(a2o-f2o) > fdTol*math.Max(1, math.Abs(f2o)) {
+				t.Errorf("L=%g w=%g: second derivative %.10g %.10g, differences of the first %.10g %.10g", L, w, a2d, a2o, f2d, f2o)
+			}
 			if ad != d || ao != o || math.Abs(add-dd) > 1e-14*math.Abs(dd) || math.Abs(ado-do) > 1e-14*math.Abs(do)+1e-300 {
 				t.Errorf("L=%g w=%g: edgeDynCoef %g %g %g %g, want %g %g %g %g", L, w, ad, ao, add, ado, d, o, dd, do)
 			}

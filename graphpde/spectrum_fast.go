@@ -46,9 +46,9 @@ type exactCounter struct {
 	// probe is the vector x of g (nil: dyn's fixed vector); y is K(λ)⁻¹x
 	// and my = M y of the last count with dyn, slope g'(λ) there (NaN after
 	// a count with ww).
-	probe, y, my []float64
-	slope        float64
-	fresh        bool // the probe was reset since the last count
+	probe, y, my, z []float64
+	slope, curv     float64 // g' and g″ of the last count with dyn (NaN otherwise)
+	fresh           bool    // the probe was reset since the last count
 }
 
 func newExactCounter(net *Network, scale float64) *exactCounter {
@@ -59,6 +59,7 @@ func newExactCounter(net *Network, scale float64) *exactCounter {
 		c.lim = lim
 		c.y = make([]float64, c.dyn.n)
 		c.my = make([]float64, c.dyn.n)
+		c.z = make([]float64, c.dyn.n)
 	}
 	return c
 }
@@ -83,10 +84,10 @@ func (c *exactCounter) factorizations() int {
 	return n
 }
 
-// countAt returns N(λ) and g(λ) (see eigenCounter) and sets c.slope to
-// g'(λ) where dyn counted, NaN otherwise.
+// countAt returns N(λ) and g(λ) (see eigenCounter) and sets c.slope and
+// c.curv to g'(λ) and g″(λ) where dyn counted, NaN otherwise.
 func (c *exactCounter) countAt(lam float64) (int, float64, error) {
-	c.slope = math.NaN()
+	c.slope, c.curv = math.NaN(), math.NaN()
 	if c.dyn == nil || !(lam < c.lim) {
 		return c.split().countAt(lam)
 	}
@@ -130,8 +131,12 @@ func (c *exactCounter) countAt(lam float64) (int, float64, error) {
 		h += x[i] * v
 		hp += v * c.my[i]
 	}
+	// h″ = 2(My)ᵀK⁻¹(My) − yᵀK″y (derived, as h')
+	d.fac.SolveTo(c.z, c.my)
+	hpp := 2*dot(c.my, c.z) - d.quadK2(c.y)
 	g := 1 / h
 	c.slope = -g * g * hp
+	c.curv = g * g * (2*g*hp*hp - hpp)
 	return neg, g, nil
 }
 
