@@ -38,7 +38,7 @@ import (
 // eigenvalue is bracketed by N to a width of about 1e-13 of the scale.
 // Below the least λ at which an edge nears a clamped eigenvalue the trial
 // values come from shift-invert Lanczos on the linearised pencil and
-// Newton steps on 1/(xᵀK(λ)⁻¹x) (spectrum_fast.go); above it from a
+// Halley steps on 1/(xᵀK(λ)⁻¹x) (spectrum_fast.go); above it from a
 // secant on 1/(eᵀK(λ)⁻¹e), safeguarded by bisection either way.
 //
 // Other networks (coefficients varying along edges, drift, unequal end
@@ -540,7 +540,7 @@ func eigenScale(net *Network) float64 {
 
 // spectrumExact finds the s.Count smallest eigenvalues by the count: below
 // fastLimit with the node system alone, trial values from shift-invert
-// Lanczos and Newton steps (spectrum_fast.go), above it with the split
+// Lanczos and Halley steps (spectrum_fast.go), above it with the split
 // system and the secant.
 func spectrumExact(net *Network, s *SpectrumSettings) (*SpectrumResult, error) {
 	scale := eigenScale(net)
@@ -580,9 +580,10 @@ func (c *exactCounter) lastSlope() float64 { return c.slope }
 func (c *exactCounter) lastCurvature() float64 { return c.curv }
 
 // byCount finds the s.Count smallest eigenvalues of a self-adjoint problem
-// by bracketing with the counter c and refining each by Newton steps on g
-// where the counter gives g' (slopeCounter), by a secant on g otherwise,
-// safeguarded by bisection; scale is the size of the smallest eigenvalues.
+// by bracketing with the counter c and refining each by Halley (or
+// Newton) steps on g where the counter gives g″ and g' (slopeCounter), by
+// a secant on g otherwise, safeguarded by bisection; scale is the size of
+// the smallest eigenvalues.
 // seeds (nil: none) add counts already taken and estimates of eigenvalues,
 // tried as trial values before bisection.
 func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumResult, seeds *countSeeds) error {
@@ -735,8 +736,8 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 				done = true
 				break
 			}
-			// A Newton step on g from the last evaluation where the
-			// counter gives g', if it falls inside the bracket and is
+			// A Halley or Newton step on g from the last evaluation where
+			// the counter gives g', if it falls inside the bracket and is
 			// less than half the step before; else a secant on g through
 			// the last two evaluations, if it falls inside the bracket
 			// and the bracket has at least halved over the last two

@@ -19,14 +19,15 @@ import (
 //
 //  1. shift-invert Lanczos on the linearised pencil K(σ) − μ M(σ),
 //     M = −K', estimates every eigenvalue near σ from one factorisation
-//     (error O(μ²), the curvature of K); a second shift at the middle of
-//     the first estimates sharpens them. Those estimates are the first
-//     trial values of byCount, so that no bisection is needed to separate
+//     (error O(μ²), the curvature of K); a second shift just below the
+//     first estimate sharpens them. Those estimates are the first trial
+//     values of byCount, so that no bisection is needed to separate
 //     neighbours;
-//  2. from a trial value, Newton's method on g(λ) = 1/(xᵀK(λ)⁻¹x) uses
-//     g' = −g²·yᵀM y with y = K(λ)⁻¹x (derived: d K⁻¹/dλ = K⁻¹ M K⁻¹), which
-//     the same factorisation gives, and converges quadratically where the
-//     secant on the old fixed vector converged superlinearly;
+//  2. from a trial value, Halley's method on g(λ) = 1/(xᵀK(λ)⁻¹x) uses
+//     g' = −g²·yᵀM y with y = K(λ)⁻¹x (derived: d K⁻¹/dλ = K⁻¹ M K⁻¹) and
+//     g″ from one more solve and K″, which the same factorisation gives,
+//     and converges cubically where the secant on the old fixed vector
+//     converged superlinearly;
 //  3. the probe x is the last y (one step of inverse iteration per count),
 //     so that near λ_k it is the k-th mode and g has no pole near λ_k: the
 //     other modes' poles of xᵀK⁻¹x are divided out.
