@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"text/tabwriter"
 
@@ -200,6 +201,12 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		Steps: r.Stats.Steps, Rejected: r.Stats.Rejected, Factorizations: r.Stats.Factorizations,
 		Unknowns: r.Stats.Unknowns, ErrEstimate: num(r.Stats.ErrEstimate), Seconds: r.Stats.Time.Seconds(),
 		NewtonRetries: r.Stats.NewtonRetries, Notes: r.Notes}
+	if r.Status == graphpde.IterationLimit {
+		// The stepper ends early with IterationLimit only when stopped
+		// (Ctrl-C): say so, as spectrum does, not "iteration limit".
+		out.Status = "interrupted"
+		out.Notes = append(slices.Clip(out.Notes), fmt.Sprintf("interrupted (Ctrl-C) at t = %g: the output ends at the last output time reached", r.Times[len(r.Times)-1]))
+	}
 	if hazard(net) && !*forward { // a tracer's whereabouts feed no load or heating decision
 		out.Caution = caution
 	}
@@ -255,7 +262,7 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 	if name == "" {
 		name = "(unnamed network)" // as solve and sweep say it
 	}
-	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), r.Status)
+	fmt.Fprintf(w, "%s: %s, %s; %s\n", name, plural(len(net.Nodes), "node"), plural(len(net.Edges), "edge"), out.Status)
 	if out.Method == "exact" {
 		fmt.Fprintf(w, "method exact: Laplace transform of the exact elements inverted on Talbot contours, %.3g s\n", r.Stats.Time.Seconds())
 	} else {
@@ -265,10 +272,10 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 	if out.Quantity == "concentration" {
 		fmt.Fprintln(w, "forward transport: tracer concentration per unit capacity (at a node: a·q/α, the value every edge end shares)")
 	}
-	if r.Status == graphpde.IterationLimit || r.Status == graphpde.NotSolved {
+	if r.Status == graphpde.NotSolved {
 		fmt.Fprintf(w, "stopped early at t = %g: the values below are those reached\n", r.Times[len(r.Times)-1])
 	}
-	for _, n := range r.Notes {
+	for _, n := range out.Notes {
 		fmt.Fprintf(w, "note: %s\n", n)
 	}
 	fmt.Fprintln(w)
