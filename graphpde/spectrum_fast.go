@@ -212,22 +212,26 @@ func lanczosSeeds(c *exactCounter, scale float64, count int, stop func() bool) *
 	if !(sigma < c.lim) || stop() {
 		return seeds
 	}
-	// (the first shift is for the least eigenvalue and a rough picture:
-	// fewer steps)
-	n, est0, err := c.dyn.lanczos(sigma, min(steps, count+10), stop)
-	if err != nil || len(est0) == 0 {
-		return seeds
-	}
-	add(sigma, n)
+	sigma0 := sigma
 	keep := func(est []float64) []float64 {
 		var out []float64
 		for _, l := range est {
-			if l > sigma && l < c.lim {
+			if l > sigma0 && l < c.lim {
 				out = append(out, l)
 			}
 		}
 		return out
 	}
+	// (the first shift is for the least eigenvalue and a rough picture:
+	// fewer steps, and all of them only if that gave no estimate)
+	n, est0, err := c.dyn.lanczos(sigma, min(steps, count+10), stop)
+	if err == nil && len(keep(est0)) == 0 && steps > count+10 && !stop() {
+		n, est0, err = c.dyn.lanczos(sigma, steps, stop)
+	}
+	if err != nil || len(est0) == 0 {
+		return seeds
+	}
+	add(sigma, n)
 	est0 = keep(est0)
 	seeds.est = est0
 	if len(est0) == 0 || stop() {
