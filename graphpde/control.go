@@ -286,14 +286,16 @@ func copyNetwork(net *Network) *Network {
 	cp.Nodes = append([]Node(nil), net.Nodes...)
 	cp.Edges = append([]Edge(nil), net.Edges...)
 	cp.incident = nil
-	if cp.nodeIndex == nil || cp.edgeIndex == nil {
-		cp.nodeIndex = make(map[string]int, len(cp.Nodes))
-		cp.edgeIndex = make(map[string]int, len(cp.Edges))
+	if cp.nodeIndex.n != len(cp.Nodes) || cp.edgeIndex.n != len(cp.Edges) {
+		// Built without AddNode and AddEdge (or changed since): index anew.
+		cp.nodeIndex, cp.edgeIndex = idIndex{}, idIndex{}
+		cp.nodeIndex.reserve(len(cp.Nodes))
+		cp.edgeIndex.reserve(len(cp.Edges))
 		for i := range cp.Nodes {
-			cp.nodeIndex[cp.Nodes[i].ID] = i
+			cp.nodeIndex.add(cp.Nodes[i].ID, i)
 		}
 		for i := range cp.Edges {
-			cp.edgeIndex[cp.Edges[i].ID] = i
+			cp.edgeIndex.add(cp.Edges[i].ID, i)
 		}
 	}
 	return &cp
@@ -369,7 +371,7 @@ func setNodeWeights(cp *Network, cs []NodeControl, base [][2]float64, v, k int) 
 		return
 	}
 	for id, w := range cs[k].Weights {
-		e := cp.edgeIndex[id]
+		e, _ := cp.EdgeIndex(id)
 		ed := &cp.Edges[e]
 		if ed.From == v {
 			ed.Weight[0] = w

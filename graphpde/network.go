@@ -141,8 +141,8 @@ type Network struct {
 	// or maximise the payoff (NoObjective for a network without controls).
 	Objective Objective
 
-	nodeIndex map[string]int
-	edgeIndex map[string]int
+	nodeIndex idIndex // by id (idindex.go)
+	edgeIndex idIndex
 	incident  [][]vertex.End // built lazily by Incident; reset by Add*
 }
 
@@ -184,10 +184,7 @@ func (n *Network) AddNode(nd Node) (int, error) {
 	if !ValidID(nd.ID) {
 		return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "id must be letters, digits, '_', '-' or '.'"}
 	}
-	if n.nodeIndex == nil {
-		n.nodeIndex = make(map[string]int)
-	}
-	if _, dup := n.nodeIndex[nd.ID]; dup {
+	if _, dup := n.NodeIndex(nd.ID); dup {
 		return -1, &ModelError{Object: "node", ID: nd.ID, Reason: "duplicate id"}
 	}
 	if err := nd.Law.Validate(); err != nil {
@@ -208,7 +205,7 @@ func (n *Network) AddNode(nd Node) (int, error) {
 	if nd.Initial != nil && (math.IsNaN(*nd.Initial) || math.IsInf(*nd.Initial, 0)) {
 		return -1, &ModelError{Object: "node", ID: nd.ID, Field: "initial", Reason: fmt.Sprintf("= %g must be a finite number", *nd.Initial)}
 	}
-	n.nodeIndex[nd.ID] = len(n.Nodes)
+	n.nodeIndex.add(nd.ID, len(n.Nodes))
 	n.Nodes = append(n.Nodes, nd)
 	n.incident = nil
 	return len(n.Nodes) - 1, nil
@@ -236,10 +233,7 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 	if !ValidID(e.ID) {
 		return bad("", "id must be letters, digits, '_', '-' or '.'")
 	}
-	if n.edgeIndex == nil {
-		n.edgeIndex = make(map[string]int)
-	}
-	if _, dup := n.edgeIndex[e.ID]; dup {
+	if _, dup := n.EdgeIndex(e.ID); dup {
 		return bad("", "duplicate id")
 	}
 	if e.From < 0 || e.From >= len(n.Nodes) || e.To < 0 || e.To >= len(n.Nodes) {
@@ -288,7 +282,7 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 			return bad("weight", fmt.Sprintf("= %g at the %s end must be a finite number > 0", w, [2]string{"from", "to"}[s]))
 		}
 	}
-	n.edgeIndex[e.ID] = len(n.Edges)
+	n.edgeIndex.add(e.ID, len(n.Edges))
 	n.Edges = append(n.Edges, e)
 	n.incident = nil
 	return len(n.Edges) - 1, nil
@@ -296,14 +290,12 @@ func (n *Network) AddEdge(e Edge) (int, error) {
 
 // NodeIndex returns the index of the node with the given id.
 func (n *Network) NodeIndex(id string) (int, bool) {
-	i, ok := n.nodeIndex[id]
-	return i, ok
+	return find(&n.nodeIndex, n.Nodes, nodeID, id)
 }
 
 // EdgeIndex returns the index of the edge with the given id.
 func (n *Network) EdgeIndex(id string) (int, bool) {
-	i, ok := n.edgeIndex[id]
-	return i, ok
+	return find(&n.edgeIndex, n.Edges, edgeID, id)
 }
 
 // Incident returns the edge ends at node v, in edge order (a self-loop gives
@@ -435,24 +427,10 @@ func (n *Network) ParsePoint(s string) (Point, error) {
 func (n *Network) Reserve(nodes, edges int) {
 	if nodes > 0 {
 		n.Nodes = slices.Grow(n.Nodes, nodes)
-		n.nodeIndex = regrow(n.nodeIndex, len(n.Nodes)+nodes)
+		n.nodeIndex.reserve(len(n.Nodes) + nodes)
 	}
 	if edges > 0 {
 		n.Edges = slices.Grow(n.Edges, edges)
-		n.edgeIndex = regrow(n.edgeIndex, len(n.Edges)+edges)
+		n.edgeIndex.reserve(len(n.Edges) + edges)
 	}
-}
-
-// regrow returns an index with room for size entries holding those of m:
-// m itself if it is large already (copying it would cost more
-// than its growing saves), else a new map sized once.
-func regrow(m map[string]int, size int) map[string]int {
-	if m != nil && len(m) > size/4 {
-		return m
-	}
-	g := make(map[string]int, size)
-	for k, v := range m {
-		g[k] = v
-	}
-	return g
 }
