@@ -66,8 +66,9 @@ func exactModes(net *Network, w *wwSystem, res *SpectrumResult) error {
 			ed := &net.Edges[e]
 			L := ed.Length
 			_, _, _, dist := edgeDyn(ed, L, lam)
-			_, _, _, d1 := edgeDyn(ed, splitAt*L, lam)
-			_, _, _, d2 := edgeDyn(ed, (1-splitAt)*L, lam)
+			sf := splitFrac(e)
+			_, _, _, d1 := edgeDyn(ed, sf*L, lam)
+			_, _, _, d2 := edgeDyn(ed, (1-sf)*L, lam)
 			split := dist < 0.1 && dist < math.Min(d1, d2)
 			u0, uL := node(ed.From), node(ed.To)
 			vals := make([]float64, modeSamples)
@@ -76,10 +77,10 @@ func exactModes(net *Network, w *wwSystem, res *SpectrumResult) error {
 				switch {
 				case !split:
 					vals[i] = pieceValue(ed, L, lam, u0, uL, y)
-				case y <= splitAt*L:
-					vals[i] = pieceValue(ed, splitAt*L, lam, u0, x[w.mid[e]], y)
+				case y <= sf*L:
+					vals[i] = pieceValue(ed, sf*L, lam, u0, x[w.mid[e]], y)
 				default:
-					vals[i] = pieceValue(ed, (1-splitAt)*L, lam, x[w.mid[e]], uL, y-splitAt*L)
+					vals[i] = pieceValue(ed, (1-sf)*L, lam, x[w.mid[e]], uL, y-sf*L)
 				}
 			}
 			m.Edges[e] = vals
