@@ -125,8 +125,7 @@ func (l *Law) window(t float64) *octave {
 	if l.cache == nil {
 		l.cache = map[int]*octave{}
 	}
-	t0 := math.Ldexp(1, k)
-	c := laplace.TalbotWindow(t0, 2*t0, laplace.DefaultWindowM)
+	c := octaveWindow(k)
 	n := len(c.S)
 	o := &octave{c: c, fcdf: make([]complex128, n), fsurv: make([]complex128, n), fden: make([]complex128, n)}
 	for i, s := range c.S {
@@ -137,6 +136,25 @@ func (l *Law) window(t float64) *octave {
 	}
 	l.cache[k] = o
 	return o
+}
+
+// unitWindow is the window contour of the octave [1, 2).
+var unitWindow = laplace.TalbotWindow(1, 2, laplace.DefaultWindowM)
+
+// octaveWindow returns laplace.TalbotWindow(2^k, 2^{k+1}, DefaultWindowM)
+// without its trigonometry: the contour's nodes and weights are those of
+// the unit octave times 2^{−k} (they are proportional to 1/Tmax, and a
+// power of two scales every rounded product exactly, so the two agree bit
+// for bit while no number is subnormal; TestOctaveWindow).
+func octaveWindow(k int) laplace.Contour {
+	n := len(unitWindow.S)
+	c := laplace.Contour{Tmin: math.Ldexp(1, k), Tmax: math.Ldexp(1, k+1), S: make([]complex128, n), D: make([]complex128, n)}
+	for i := range n {
+		s, d := unitWindow.S[i], unitWindow.D[i]
+		c.S[i] = complex(math.Ldexp(real(s), -k), math.Ldexp(imag(s), -k))
+		c.D[i] = complex(math.Ldexp(real(d), -k), math.Ldexp(imag(d), -k))
+	}
+	return c
 }
 
 // eval returns F(t), 1 − F(t) and the density at t > 0 from one set of

@@ -6,6 +6,8 @@ import (
 	"math/rand/v2"
 	"reflect"
 	"testing"
+
+	"github.com/ramify-dev/ramify/internal/laplace"
 )
 
 // TestKillBaseLimit checks KillBase as the limit q → 0 of KillLaw: its
@@ -234,6 +236,18 @@ func TestChebKnots(t *testing.T) {
 		t.Logf("%s: %d solves, max value error %.2g, max slope error %.2g (relative to h·max|y'|)", c.name, solves, worst, worstSlope)
 		if !(worst <= valueErr) || !(worstSlope <= slopeErr) {
 			t.Errorf("%s: value error %.3g, slope error %.3g", c.name, worst, worstSlope)
+		}
+	}
+}
+
+// TestOctaveWindow: the scaled unit window is laplace.TalbotWindow of the
+// octave, bit for bit, over the octaves the tables use (and beyond).
+func TestOctaveWindow(t *testing.T) {
+	for _, k := range []int{-60, -37, -20, -5, -1, 0, 1, 3, 10, 30} {
+		t0 := math.Ldexp(1, k)
+		want := laplace.TalbotWindow(t0, 2*t0, laplace.DefaultWindowM)
+		if got := octaveWindow(k); !reflect.DeepEqual(got, want) {
+			t.Errorf("octave 2^%d: the scaled window differs from TalbotWindow", k)
 		}
 	}
 }
