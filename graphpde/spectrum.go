@@ -889,6 +889,19 @@ func byCount(w eigenCounter, scale float64, s *SpectrumSettings, res *SpectrumRe
 		}
 		res.Eigenvalues = append(res.Eigenvalues, ev)
 	}
+	if n := len(res.Eigenvalues); n > 0 && res.Status != IterationLimit {
+		// The last eigenvalue's multiplicity: its bracket may end at a
+		// count taken within round-off of it, where only part of its
+		// jump shows (the loop above stops at Count). A count just past
+		// the window in which brackets are merged gives the rest.
+		p := &res.Eigenvalues[n-1]
+		x := p.Value + 2*p.Err + 128*0x1p-52*math.Abs(p.Value) + 2*absTol
+		if ev, err := count(x); err == nil && ev.n > found {
+			lo := p.Value - p.Err
+			p.Multiplicity += ev.n - found
+			p.Value, p.Err = 0.5*(lo+x), 0.5*(x-lo)
+		}
+	}
 	res.Stats.Factorizations = w.factorizations()
 	return nil
 }

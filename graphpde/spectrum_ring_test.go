@@ -63,3 +63,19 @@ func TestSpectrumRingOfEqualEdges(t *testing.T) {
 }
 
 func flattenLen(ev []Eigenvalue) int { return len(flatten(ev)) }
+
+// TestSpectrumLastMultiplicity: when Count ends inside a multiple
+// eigenvalue, the last one is reported with its whole multiplicity. A
+// star of five equal arms held at their tips has (mπ)² with multiplicity
+// 4 (derived: sin(mπx) on any two arms with opposite signs, four
+// independent such modes, as for the equilateral star of
+// TestSpectrumExact); asked for 12, it gave the 12th, 9π², with
+// multiplicity 2 (a count within round-off of it showed half its jump).
+func TestSpectrumLastMultiplicity(t *testing.T) {
+	r := mustSpectrum(t, starTips(t, []float64{1, 1, 1, 1, 1}, nil, false), 12)
+	last := r.Eigenvalues[len(r.Eigenvalues)-1]
+	want := 9 * math.Pi * math.Pi
+	if last.Multiplicity != 4 || math.Abs(last.Value-want) > math.Max(last.Err, eigRel*want) {
+		t.Errorf("last eigenvalue %.12g ± %.2g multiplicity %d, want %.12g multiplicity 4", last.Value, last.Err, last.Multiplicity, want)
+	}
+}
