@@ -88,7 +88,7 @@ func benchScale(ctx context.Context, w io.Writer, size string) error {
 		st.Tables, perTable, st.TableTime.Seconds(), int(workers), prep/step, float64(st.Steps)/step)
 
 	// Exit statistics against a steady solve.
-	fmt.Fprintln(w, "exit statistics (4 survival times, 5 quantiles, moments) on random trees whose one fixed node is a leaf (every edge in the exit problem), against one steady solve (best of 3):")
+	fmt.Fprintln(w, "exit statistics (4 survival times, 5 quantiles, moments) on random trees whose one fixed node is a leaf (every edge in the exit problem), against one steady solve (each the best of 3):")
 	var first, last float64
 	for _, n := range exitSizes {
 		if ctx.Err() != nil {
@@ -109,12 +109,17 @@ func benchScale(ctx context.Context, w io.Writer, size string) error {
 			}
 			solve = math.Min(solve, time.Since(t0).Seconds())
 		}
-		t0 := time.Now()
-		x, err := graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Times: []float64{0.1, 0.5, 1, 2}, Context: ctx})
-		if err != nil {
-			return err
+		exit := math.Inf(1)
+		var x *graphpde.ExitStats
+		for range 3 {
+			t0 := time.Now()
+			var err error
+			x, err = graphpde.ExitStatistics(net, p, &graphpde.ExitSettings{Times: []float64{0.1, 0.5, 1, 2}, Context: ctx})
+			if err != nil {
+				return err
+			}
+			exit = math.Min(exit, time.Since(t0).Seconds())
 		}
-		exit := time.Since(t0).Seconds()
 		if n == exitSizes[0] {
 			first = exit
 		}
