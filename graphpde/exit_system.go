@@ -65,9 +65,19 @@ type exitEl struct {
 // extraction of the package (the grid path uses it too). Cost O(nodes +
 // edges).
 func newExitSystem(net *Network, p Point) (*exitSystem, error) {
-	sub, nodeOf, edgeOf, sp, err := componentNetwork(net, p)
-	if err != nil {
-		return nil, err
+	var sub *Network
+	var nodeOf, edgeOf []int
+	var sp Point
+	if _, count := net.Components(); count == 1 {
+		// The whole network is the component: read it in place (the
+		// copy costs about a steady solve on large networks).
+		sub, sp = net, p
+		nodeOf, edgeOf = identityMap(len(net.Nodes)), identityMap(len(net.Edges))
+	} else {
+		var err error
+		if sub, nodeOf, edgeOf, sp, err = componentNetwork(net, p); err != nil {
+			return nil, err
+		}
 	}
 	sys := &exitSystem{}
 	anchored := false
@@ -503,4 +513,13 @@ func pointComponent(net *Network, comp []int, p Point) int {
 		return comp[net.Edges[p.Edge].From]
 	}
 	return comp[p.Node]
+}
+
+// identityMap returns 0, 1, …, n−1.
+func identityMap(n int) []int {
+	m := make([]int, n)
+	for i := range m {
+		m[i] = i
+	}
+	return m
 }
