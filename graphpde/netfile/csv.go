@@ -68,6 +68,7 @@ type csvReader struct {
 	edgesSized bool   // presize saw edge rows
 	rowKind    string // "edge" or "node": the current row, for errors
 	rowID      string // its id once checked, else ""
+	last       [2]int // node named last by the from and to columns (nodeFor)
 }
 
 // ReadCSV reads a network from an edge list in CSV (RFC 4180, comma
@@ -186,6 +187,15 @@ func (c *csvReader) presize(size int64) {
 	grow := func(n int) int { return int(min(float64(n)*scale, 1e9)) - n }
 	c.edgesSized = len(c.net.Edges) > 0
 	ge, gn := max(grow(len(c.net.Edges)), 0), max(grow(len(c.net.Nodes)), 0)
+	if !c.edgesSized {
+		// Node rows only so far (a file that lists its nodes first): how
+		// many node rows follow is not known (the edge rows to come are not
+		// among them; extrapolating would reserve room for every row of the
+		// file as a node, three times the nodes of a mesh), so the nodes
+		// grow by appending; presizeEdges sizes the edges once their rows
+		// begin.
+		gn = 0
+	}
 	c.net.Reserve(gn, ge)
 	c.edgeRow = slices.Grow(c.edgeRow, ge)
 	c.nodeRow = slices.Grow(c.nodeRow, gn)
@@ -349,7 +359,22 @@ func (c *csvReader) nodeFor(k int) (int, error) {
 	if id == "" {
 		return 0, c.fail(k, fmt.Sprintf("missing %s", csvNames[k]))
 	}
+	// Generated edge lists name their nodes in runs (a chain's next node,
+	// a mesh's next row): the node after the one this column named last,
+	// or that one again, is tried before the index (an id names one node
+	// only, so a match is the answer).
+	last := &c.last[0]
+	if k == colTo {
+		last = &c.last[1]
+	}
+	for _, v := range [2]int{*last + 1, *last} {
+		if v < len(c.net.Nodes) && c.net.Nodes[v].ID == id {
+			*last = v
+			return v, nil
+		}
+	}
 	if v, ok := c.net.NodeIndex(id); ok {
+		*last = v
 		return v, nil
 	}
 	if !graphpde.ValidID(id) {
@@ -362,6 +387,7 @@ func (c *csvReader) nodeFor(k int) (int, error) {
 		return 0, e
 	}
 	c.nodeRow = append(c.nodeRow, 0)
+	*last = v
 	return v, nil
 }
 
