@@ -1,15 +1,18 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"errors"
 	"fmt"
+	"runtime"
 	"strings"
 	"sync/atomic"
 	"testing"
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
+	"github.com/ramify-dev/ramify/graphpde/netfile"
 )
 
 // countdown is a context that reports itself cancelled from its n-th look
@@ -102,5 +105,36 @@ func TestNodeErrorsNameTheLine(t *testing.T) {
 	other := errors.New("something else")
 	if placed(net, other) != other || placed(gen.Chain(3), sing) != sing {
 		t.Error("placed changed an error it has no line for")
+	}
+}
+
+// TestNodeErrorsNameTheLineLate: in a file of many batches of tables, an
+// unanchored component defined at its end, and a singular pivot at a node
+// of its first batch, are reported with the line of that node's id key,
+// which the reader recorded while it read (the file's text is gone by
+// the time the node system fails).
+func TestNodeErrorsNameTheLineLate(t *testing.T) {
+	var buf bytes.Buffer
+	if err := netfile.Write(&buf, gen.Chain(3000)); err != nil {
+		t.Fatal(err)
+	}
+	head := buf.String()
+	n := strings.Count(head, "\n")
+	path := writeFile(t, "late.toml", head+"\n[[node]]\nid = \"loose1\"\n\n[[node]]\nid = \"loose2\"\n\n[[edge]]\nid = \"el\"\nfrom = \"loose1\"\nto = \"loose2\"\nlength = 1\ndiffusivity = 1\n")
+	code, _, errs := runCLI(t, context.Background(), "solve", path)
+	if want := fmt.Sprintf("ramify solve: %s:%d: the component of nodes loose1, loose2", path, n+3); code != 1 || !strings.HasPrefix(errs, want) {
+		t.Errorf("unanchored: exit %d, stderr %q; want 1 and the prefix %q", code, errs, want)
+	}
+	net, err := load(context.Background(), path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	runtime.GC()
+	// The second node's id key, by a plain text search.
+	id := net.Nodes[1].ID
+	line := 1 + strings.Count(head[:strings.Index(head, fmt.Sprintf("id = %q", id))], "\n")
+	got := placed(net, &graphpde.SingularNodeError{Node: id, Pivot: 0, Scale: 1})
+	if want := fmt.Sprintf("%s:%d: ", path, line); !strings.HasPrefix(got.Error(), want) {
+		t.Errorf("singular: %q, want the prefix %q", got, want)
 	}
 }

@@ -63,6 +63,7 @@ func fastMap(kv []fastKV) (map[string]any, []string) {
 type fastKV struct {
 	k   string
 	typ fastType
+	ln  int32 // line breaks before the key in its section (the header's line is 0)
 	s   string
 	f   float64
 	i   int64
@@ -99,6 +100,7 @@ func fastSection(s, kind string, kv []fastKV) ([]fastKV, bool) {
 		return kv, false
 	}
 	first := len(kv)
+	lines, counted := 0, 0 // line breaks in s[:counted]
 	for {
 		p.blank()
 		if p.eof() {
@@ -132,7 +134,9 @@ func fastSection(s, kind string, kv []fastKV) ([]fastKV, bool) {
 		}
 		p.pos++
 		p.blank()
-		x := fastKV{k: k}
+		lines += strings.Count(s[counted:p.pos], "\n")
+		counted = p.pos
+		x := fastKV{k: k, ln: int32(lines)}
 		if !p.value(&x, true) || !p.lineEnd() {
 			return kv, false
 		}

@@ -5,6 +5,10 @@ import (
 	"bytes"
 	"errors"
 	"fmt"
+	"os"
+	"path/filepath"
+	"runtime"
+	"runtime/metrics"
 	"strings"
 	"testing"
 
@@ -140,4 +144,62 @@ func TestLazyLinesLateErrors(t *testing.T) {
 			}
 		})
 	}
+}
+
+// TestLinesRecordKeepsNoText: the line record of a network file holds the
+// lines (four bytes per node and edge) and the network, not the file's
+// text: after reading a file of many batches from disk, what the network
+// and its record hold together exceeds the network alone by far less than
+// the file's size (a record that kept the text would add all of it), and
+// the record still gives every line.
+func TestLinesRecordKeepsNoText(t *testing.T) {
+	src := bigChain(t, 3000)
+	wantN, wantE := idLines(t, src)
+	path := filepath.Join(t.TempDir(), "chain.toml")
+	if err := os.WriteFile(path, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	src = "" // the test's own copy is not counted
+	live := func() float64 {
+		runtime.GC()
+		s := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
+		metrics.Read(s)
+		return float64(s[0].Value.Uint64())
+	}
+	base := live()
+	net, err := ReadFileOptions(path, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	alone := live() - base
+	runtime.KeepAlive(net)
+	net = nil
+	base = live()
+	var lines Lines
+	net, err = ReadFileOptions(path, &Options{Lines: &lines})
+	if err != nil {
+		t.Fatal(err)
+	}
+	withLines := live() - base
+	st, err := os.Stat(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	size := float64(st.Size())
+	// 6001 lines of 4 bytes are 0.04 of this file; a quarter leaves room
+	// for the runtime's own allocations between the two measurements.
+	if extra := withLines - alone; extra > size/4 {
+		t.Errorf("the line record adds %.0f bytes to the network's %.0f: more than a quarter of the file's %.0f (its text kept?)", extra, alone, size)
+	}
+	for id, ln := range wantN {
+		if got := lines.Node(id); got != ln {
+			t.Fatalf("node %q at line %d, want %d", id, got, ln)
+		}
+	}
+	for id, ln := range wantE {
+		if got := lines.Edge(id); got != ln {
+			t.Fatalf("edge %q at line %d, want %d", id, got, ln)
+		}
+	}
+	runtime.KeepAlive(net)
 }

@@ -51,16 +51,16 @@ func (o *Options) stopped(file string) error {
 // Lines holds the 1-based line on which each node and edge of a file read
 // by ReadFileOptions is defined: the line of its id key in a network file,
 // of its row in an edge list (a node that only edges name has none). Node
-// and Edge give them; the maps hold the lines recorded up front (edge
-// lists), while the lines of a network file are looked up when asked for
-// (scanning for them costs as much as decoding the file), which keeps the
-// file's text in memory as long as l is kept.
+// and Edge give them. The maps hold the lines of an edge list; a network
+// file's lines are recorded while it is read, four bytes per node and
+// edge, and found through the network's own indices (the record keeps the
+// network, not the file's text).
 type Lines struct {
-	Nodes map[string]int // node id → line, when recorded up front
-	Edges map[string]int // edge id → line, when recorded up front
+	Nodes map[string]int // node id → line (edge lists)
+	Edges map[string]int // edge id → line (edge lists)
 
 	mu   sync.Mutex
-	find func(kind, id string) int // lines looked up on demand (nil: none)
+	find func(kind, id string) int // lines of a network file (nil: none)
 }
 
 // Node returns the line of node id, or 0 if it is not known.

@@ -146,6 +146,12 @@ type reader struct {
 	net      *graphpde.Network // being built: node and edge i come from the i-th [[node]] and [[edge]] table (nodeLineOf gives the line)
 	cells    int64             // cells so far, for the memory guard
 
+	// The line of each node's and edge's id key (of its table's header
+	// if it has none), indexed like the network's nodes and edges, when
+	// Options.Lines asks for them: recorded while the text is at hand, so
+	// that the record needs no text afterwards.
+	nodeLines, edgeLines []int32
+
 	params *graphpde.Params // the [parameters] table (nil: none)
 	laws   []lawSpec        // general node laws, compiled once the edges are known
 	ph     *physState       // physical models met so far (models.go)
@@ -629,6 +635,9 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		*sec.dst = tables{n: len(arr), get: func(i int) (map[string]any, []string, error) { return arr[i], nil, nil }}
 	}
 	net.Reserve(nodes.n, edges.n)
+	if rd.opt != nil && rd.opt.Lines != nil {
+		rd.nodeLines, rd.edgeLines = make([]int32, 0, nodes.n), make([]int32, 0, edges.n)
+	}
 	var splits []splitSpec
 	for i := range nodes.n {
 		if i%stopEvery == 0 {
@@ -639,6 +648,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if rd.sections != nil {
 			if kv := rd.sections.simple("node", i); kv != nil && rd.directNode(net, kv) {
 				rd.opt.countDirect()
+				rd.recordLine("node", i)
 				continue
 			}
 		}
@@ -658,6 +668,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if split != nil {
 			splits = append(splits, splitSpec{t: t, node: v, m: split})
 		}
+		rd.recordLine("node", i)
 	}
 	direct := rd.sections != nil && plainDefaults(&def)
 	for i := range edges.n {
@@ -669,6 +680,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if direct {
 			if kv := rd.sections.simple("edge", i); kv != nil && rd.directEdge(net, kv, &def) {
 				rd.opt.countDirect()
+				rd.recordLine("edge", i)
 				continue
 			}
 		}
@@ -680,6 +692,7 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		if err := rd.edge(net, t, &def); err != nil {
 			return nil, err
 		}
+		rd.recordLine("edge", i)
 	}
 	for _, s := range splits {
 		if err := rd.split(net, s); err != nil {
@@ -696,15 +709,55 @@ func (rd *reader) network(root map[string]any) (*graphpde.Network, error) {
 		return nil, err
 	}
 	if rd.opt != nil && rd.opt.Lines != nil {
+		// The record holds the network and the lines, not the reader (nor
+		// the file's text).
+		nodeLines, edgeLines := rd.nodeLines, rd.edgeLines
 		rd.opt.Lines.reset()
 		rd.opt.Lines.find = func(kind, id string) int {
+			lines, i, ok := nodeLines, 0, false
 			if kind == "node" {
-				return rd.nodeLineOf(id)
+				i, ok = net.NodeIndex(id)
+			} else {
+				lines = edgeLines
+				i, ok = net.EdgeIndex(id)
 			}
-			return rd.edgeLineOf(id)
+			if !ok || i >= len(lines) {
+				return 0
+			}
+			return int(lines[i])
 		}
 	}
 	return net, nil
+}
+
+// recordLine records the line of the i-th [[kind]] table's id key, just
+// added as the network's i-th node or edge, when Options.Lines asks for
+// lines: from the directly read keys when its batch was read so (no
+// scan), else by the line scanner.
+func (rd *reader) recordLine(kind string, i int) {
+	if rd.opt == nil || rd.opt.Lines == nil {
+		return
+	}
+	ln := 0
+	if rd.sections != nil {
+		if b := rd.sections.cache[kind]; b != nil && b.kvs != nil && i >= b.lo && i < b.hi {
+			ln = rd.sections.sections(kind)[i].line
+			for _, x := range b.kvs[i-b.lo] {
+				if x.k == "id" {
+					ln += int(x.ln)
+					break
+				}
+			}
+		}
+	}
+	if ln == 0 {
+		ln = rd.tableLine(kind, i)
+	}
+	if kind == "node" {
+		rd.nodeLines = append(rd.nodeLines, int32(ln))
+	} else {
+		rd.edgeLines = append(rd.edgeLines, int32(ln))
+	}
 }
 
 // modelError wraps an error of AddNode or AddEdge (which the reader's own
