@@ -19,6 +19,7 @@ import (
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/netfile"
+	"github.com/ramify-dev/ramify/montecarlo"
 	"github.com/ramify-dev/ramify/vertex"
 )
 
@@ -204,13 +205,22 @@ func placed(net *graphpde.Network, err error) error {
 		return nil
 	}
 	var id string
+	edge := false
 	var sing *graphpde.SingularNodeError
 	var loose *graphpde.UnanchoredError
+	var model *graphpde.ModelError
+	var posErr *montecarlo.PositionError
 	switch {
 	case errors.As(err, &sing):
 		id = sing.Node
 	case errors.As(err, &loose) && len(loose.Nodes) > 0:
 		id = loose.Nodes[0]
+	case errors.As(err, &posErr):
+		id = posErr.Node
+	case errors.As(err, &model) && (model.Object == "node" || model.Object == "edge"):
+		// a refusal by a solver that names a node or edge of the file
+		// (evolve --method exact, positions at fixed times, …)
+		id, edge = model.ID, model.Object == "edge"
 	default:
 		return err
 	}
@@ -219,7 +229,11 @@ func placed(net *graphpde.Network, err error) error {
 		return err
 	}
 	src := v.(source)
-	if ln := src.lines.Node(id); ln > 0 {
+	ln := src.lines.Node(id)
+	if edge {
+		ln = src.lines.Edge(id)
+	}
+	if ln > 0 {
 		return &placedError{file: src.file, line: ln, err: err}
 	}
 	return err

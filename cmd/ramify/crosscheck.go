@@ -121,6 +121,9 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		bar.Done()
 	}
 	if err != nil {
+		if pe := (*montecarlo.PositionError)(nil); errors.As(err, &pe) {
+			err = inFile(net, file, err) // the node's line
+		}
 		return fail(stderr, "crosscheck", walkError(err, "the exit-time comparison keeps"))
 	}
 	if *wf.samples != "" {
