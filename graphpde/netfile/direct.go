@@ -46,6 +46,14 @@ func kvNumber(x *fastKV, r rule) (float64, bool) {
 	return 0, false
 }
 
+// kvPair returns an array of two numbers that obey r.
+func kvPair(x *fastKV, r rule) ([2]float64, bool) {
+	if x.typ != fastPair {
+		return plainPair(x.v, r)
+	}
+	return [2]float64{x.f, x.f2}, check(x.f, r) == "" && check(x.f2, r) == ""
+}
+
 // plainPair returns an array of two numbers that obey r.
 func plainPair(v any, r rule) ([2]float64, bool) {
 	var out [2]float64
@@ -76,7 +84,7 @@ func (rd *reader) directNode(net *graphpde.Network, kv []fastKV) bool {
 			nd.ID, ok = strings.Clone(x.s), true
 		case "xy":
 			var xy [2]float64
-			xy, ok = plainPair(x.v, finite)
+			xy, ok = kvPair(x, finite)
 			nd.XY = &xy
 		case "fixed":
 			nd.Law.Kind, fixed = vertex.Fixed, true
@@ -159,7 +167,7 @@ func (rd *reader) directEdge(net *graphpde.Network, kv []fastKV, def *edgeVals) 
 			w, ok = kvNumber(x, positive)
 			e.Weight, weight = [2]float64{w, w}, true
 		case "weights":
-			e.Weight, ok = plainPair(x.v, positive)
+			e.Weight, ok = kvPair(x, positive)
 			weights = true
 		case "cells":
 			var n int64

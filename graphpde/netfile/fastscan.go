@@ -29,19 +29,31 @@ var fastTables = true
 // fastBatch reads the [[kind]] sections secs[i:j] (adjacent in src) in the
 // simple form, returning the keys and values of each table in file order,
 // or ok = false if any of them is not in that form.
-// The tables are slices of one array, all (given for reuse: the tables
-// of the previous batch, no longer needed), returned with them.
-func fastBatch(src, kind string, secs []section, i, j int, all []fastKV) (kvs [][]fastKV, _ []fastKV, ok bool) {
-	kvs = make([][]fastKV, 0, j-i)
-	all = all[:0]
+// The tables are slices of one array, held with the array of tables in a
+// fastBuf: buf is given for reuse (that of the previous batch, no longer
+// needed) and returned with them, so that a file's batches reuse two of
+// them instead of leaving one of each per batch to the collector.
+func fastBatch(src, kind string, secs []section, i, j int, buf fastBuf) (kvs [][]fastKV, _ fastBuf, ok bool) {
+	kvs, all := buf.kvs[:0], buf.all[:0]
+	if cap(all) == 0 {
+		// About one key per 16 bytes of text (a key, " = ", a value and a
+		// line break take more), so that the array rarely grows.
+		all = make([]fastKV, 0, (secs[j-1].end-secs[i].start)/16+8)
+	}
 	for n := i; n < j; n++ {
 		from := len(all)
 		if all, ok = fastSection(src[secs[n].start:secs[n].end], kind, all); !ok {
-			return nil, all, false
+			return nil, fastBuf{all, kvs[:0]}, false
 		}
 		kvs = append(kvs, all[from:len(all):len(all)])
 	}
-	return kvs, all, true
+	return kvs, fastBuf{all, kvs}, true
+}
+
+// fastBuf holds the arrays of a batch read by fastBatch, for reuse.
+type fastBuf struct {
+	all []fastKV   // the keys and values of every table
+	kvs [][]fastKV // each table's, slices of all
 }
 
 // fastMap returns the table of a key-value list, as the library decodes it,
@@ -68,6 +80,9 @@ type fastKV struct {
 	f   float64
 	i   int64
 	v   any
+
+	f2   float64 // the second number of a fastPair
+	ints [2]bool // which numbers of a fastPair are integers
 }
 
 type fastType uint8
@@ -76,6 +91,7 @@ const (
 	fastString fastType = iota
 	fastInt
 	fastFloat
+	fastPair  // an array of two numbers: f, f2 (ints says which are integers)
 	fastOther // v
 )
 
@@ -88,6 +104,16 @@ func (x *fastKV) val() any {
 		return x.i
 	case fastFloat:
 		return x.f
+	case fastPair:
+		out := make([]any, 2)
+		for k, f := range [2]float64{x.f, x.f2} {
+			if x.ints[k] {
+				out[k] = int64(f)
+			} else {
+				out[k] = f
+			}
+		}
+		return out
 	}
 	return x.v
 }
@@ -241,6 +267,15 @@ func (p *fastParser) key() (string, bool) {
 // value reads a string, number, boolean or (when top) a one-line array of
 // those into x.
 func (p *fastParser) value(x *fastKV, top bool) bool {
+	if !p.eof() && p.s[p.pos] == '[' {
+		return top && p.array(x)
+	}
+	return p.scalar(x)
+}
+
+// scalar reads a string, number or boolean into x (apart from value, so
+// that array's elements, which it reads, stay on its stack).
+func (p *fastParser) scalar(x *fastKV) bool {
 	if p.eof() {
 		return false
 	}
@@ -259,13 +294,6 @@ func (p *fastParser) value(x *fastKV, top bool) bool {
 		}
 		x.typ = fastString
 		x.s, ok = p.literal()
-		return ok
-	case c == '[':
-		if !top {
-			return false
-		}
-		x.typ = fastOther
-		x.v, ok = p.array()
 		return ok
 	case c == 't' || c == 'f':
 		for _, w := range [...]string{"true", "false"} {
@@ -369,38 +397,81 @@ func (p *fastParser) literal() (string, bool) {
 }
 
 // array reads a one-line array of strings, numbers and booleans (a
-// trailing comma allowed).
-func (p *fastParser) array() (any, bool) {
+// trailing comma allowed) into x: a pair of numbers (a position, a pair of
+// weights: most arrays of a large file) held in place as fastPair,
+// anything else as the library decodes it.
+func (p *fastParser) array(x *fastKV) bool {
 	p.pos++
-	out := make([]any, 0, 2)
+	var pair [2]fastKV // the first two elements
+	var out []any      // all of them, once there are more than two
+	n := 0
 	for {
 		p.blank()
 		if p.eof() {
-			return nil, false
+			return false
 		}
 		if p.s[p.pos] == ']' {
 			p.pos++
-			return out, true
+			break
 		}
-		var x fastKV
-		if !p.value(&x, false) {
-			return nil, false
+		var e fastKV
+		if !p.scalar(&e) {
+			return false
 		}
-		out = append(out, x.val())
+		switch {
+		case n < 2:
+			pair[n] = e
+		case n == 2:
+			out = append(out, pair[0].val(), pair[1].val(), e.val())
+		default:
+			out = append(out, e.val())
+		}
+		n++
 		p.blank()
 		if p.eof() {
-			return nil, false
+			return false
 		}
-		switch p.s[p.pos] {
-		case ',':
+		if p.s[p.pos] == ',' {
 			p.pos++
-		case ']':
+			continue
+		}
+		if p.s[p.pos] == ']' {
 			p.pos++
-			return out, true
-		default:
-			return nil, false
+			break
+		}
+		return false
+	}
+	if n == 2 {
+		if a, aInt, ok := pairNumber(&pair[0]); ok {
+			if b, bInt, ok := pairNumber(&pair[1]); ok {
+				x.typ, x.f, x.f2, x.ints = fastPair, a, b, [2]bool{aInt, bInt}
+				return true
+			}
 		}
 	}
+	if n <= 2 {
+		out = make([]any, n)
+		for k := range n {
+			out[k] = pair[k].val()
+		}
+	}
+	x.typ, x.v = fastOther, out
+	return true
+}
+
+// pairNumber returns a number element of an array as a float64 and whether
+// it is an integer, if it is a float or an integer that a float64 holds
+// exactly (|i| ≤ 2⁵³).
+func pairNumber(e *fastKV) (float64, bool, bool) {
+	switch e.typ {
+	case fastFloat:
+		return e.f, false, true
+	case fastInt:
+		if e.i >= -1<<53 && e.i <= 1<<53 {
+			return float64(e.i), true, true
+		}
+	}
+	return 0, false, false
 }
 
 // digits reads DIGIT *( DIGIT / "_" DIGIT ) and reports whether it read

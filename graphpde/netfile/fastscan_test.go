@@ -385,3 +385,27 @@ func TestExactDecimal(t *testing.T) {
 		}
 	}
 }
+
+// TestFastArraysAsLibrary: an array read directly (a pair of numbers held
+// in place, any other array as a list) gives the value the TOML library
+// decodes, element types included (int64 for integers, also in a pair;
+// an integer a float64 does not hold exactly keeps its list form).
+func TestFastArraysAsLibrary(t *testing.T) {
+	for _, v := range []string{
+		"[1, 2]", "[1.5, -2e3]", "[1, 2.5]", "[-0.0, 7]", "[ 1 , 2 , ]", "[9007199254740993, 1]",
+		"[1, 9007199254740992]", "[1, 2, 3]", "[]", "[1]", "[true, 1]", `["a", 2]`, "[inf, nan]",
+	} {
+		var want map[string]any
+		if _, err := toml.Decode("k = "+v, &want); err != nil {
+			t.Fatalf("%s: %v", v, err)
+		}
+		kv, ok := fastSection("[[edge]]\nk = "+v+"\n", "edge", nil)
+		if !ok || len(kv) != 1 {
+			t.Fatalf("%s: not read directly", v)
+		}
+		got := kv[0].val()
+		if fmt.Sprintf("%#v", got) != fmt.Sprintf("%#v", want["k"]) {
+			t.Errorf("%s: %#v, want %#v", v, got, want["k"])
+		}
+	}
+}

@@ -353,7 +353,7 @@ type sectionIndex struct {
 	nodes, edges []section
 	cache        map[string]*sectionBatch // by kind: tables
 	locs         map[string]*sectionBatch // by kind: line locator
-	spare        map[string][]fastKV      // by kind: an array for a batch's keys and values, free for reuse
+	spare        map[string]fastBuf       // by kind: arrays for a batch's keys and values, free for reuse
 	ahead        map[string]*prefetch     // by kind: the next batch, being read ahead
 }
 
@@ -363,14 +363,14 @@ type sectionBatch struct {
 	tables []map[string]any
 	orders [][]string // keys of each table in file order
 	kvs    [][]fastKV // instead of tables and orders: each table's keys and values in file order (fastscan.go)
-	all    []fastKV   // the array kvs are slices of
+	buf    fastBuf    // the arrays kvs is and its elements are slices of
 	loc    *locator
 }
 
 func newSectionIndex(src, file string, lay *layout) *sectionIndex {
 	return &sectionIndex{src: src, file: file, nodes: lay.nodes, edges: lay.edges,
 		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch),
-		spare: make(map[string][]fastKV), ahead: make(map[string]*prefetch)}
+		spare: make(map[string]fastBuf), ahead: make(map[string]*prefetch)}
 }
 
 func (x *sectionIndex) sections(kind string) []section {
@@ -393,39 +393,39 @@ func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 		<-p.done
 		delete(x.ahead, kind)
 		if p.lo == i && p.ok {
-			nb = &sectionBatch{lo: p.lo, hi: p.hi, kvs: p.kvs, all: p.all}
+			nb = &sectionBatch{lo: p.lo, hi: p.hi, kvs: p.kvs, buf: p.buf}
 		} else {
-			x.spare[kind] = p.all
+			x.spare[kind] = p.buf
 		}
 	}
 	if nb == nil {
 		nb = &sectionBatch{lo: i, hi: batch(secs, i)}
 		ok := false
 		if fastTables {
-			nb.kvs, nb.all, ok = fastBatch(x.src, kind, secs, nb.lo, nb.hi, x.spare[kind])
-			x.spare[kind] = nil
+			nb.kvs, nb.buf, ok = fastBatch(x.src, kind, secs, nb.lo, nb.hi, x.spare[kind])
+			x.spare[kind] = fastBuf{}
 		}
 		if !ok {
-			x.spare[kind], nb.kvs, nb.all = nb.all, nil, nil
+			x.spare[kind], nb.kvs, nb.buf = nb.buf, nil, fastBuf{}
 			var err error
 			if nb.tables, nb.orders, err = decodeBatch(x.src, x.file, kind, secs, nb.lo, nb.hi); err != nil {
 				return nil, err
 			}
 		}
 	}
-	if b != nil && b.all != nil && x.spare[kind] == nil {
-		x.spare[kind] = b.all // the tables are read in order: the last batch is done with
+	if b != nil && b.buf.all != nil && x.spare[kind].all == nil {
+		x.spare[kind] = b.buf // the tables are read in order: the last batch is done with
 	}
 	x.cache[kind] = nb
 	if nb.kvs != nil && nb.hi < len(secs) {
 		// Read the next batch while this one is used, on another core.
 		p := &prefetch{lo: nb.hi, hi: batch(secs, nb.hi), done: make(chan struct{})}
-		all := x.spare[kind]
-		x.spare[kind] = nil
+		buf := x.spare[kind]
+		x.spare[kind] = fastBuf{}
 		x.ahead[kind] = p
 		go func() {
 			defer close(p.done)
-			p.kvs, p.all, p.ok = fastBatch(x.src, kind, secs, p.lo, p.hi, all)
+			p.kvs, p.buf, p.ok = fastBatch(x.src, kind, secs, p.lo, p.hi, buf)
 		}()
 	}
 	return nb, nil
@@ -436,7 +436,7 @@ func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 type prefetch struct {
 	lo, hi int
 	kvs    [][]fastKV
-	all    []fastKV
+	buf    fastBuf
 	ok     bool
 	done   chan struct{}
 }
