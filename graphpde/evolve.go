@@ -452,8 +452,16 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		default:
 			uinf, err = steadyOf(ig.sys, s.Until)
 		}
-		if err != nil {
+		var ce *CanceledError
+		noSteady := err != nil && (nw != nil || ig.nl != nil) && !errors.As(err, &ce)
+		if err != nil && !noSteady {
 			return nil, fmt.Errorf("steady values for the crossing times: %w", err)
+		}
+		if noSteady {
+			// A nonlinear law past its fold (a runaway) has no steady
+			// state: the transient is still wanted, the crossing times
+			// are not reported.
+			res.Notes = append(res.Notes, fmt.Sprintf("no steady state for the crossing times (%v): steady values and crossing times not reported", err))
 		}
 		res.Steady = make([]float64, len(s.Probes))
 		res.Crossing = make([]float64, len(s.Probes))
@@ -461,10 +469,15 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		start = make([]float64, len(s.Probes))
 		crossed = make([]bool, len(s.Probes))
 		for k, p := range s.Probes {
+			res.Crossing[k] = math.NaN()
+			if noSteady {
+				res.Steady[k] = math.NaN()
+				crossed[k] = true // nothing to cross
+				continue
+			}
 			res.Steady[k] = sys.at(uinf, p, s.Until)
 			start[k] = sys.at(u, p, 0)
 			level[k] = start[k] + s.Crossing*(res.Steady[k]-start[k])
-			res.Crossing[k] = math.NaN()
 		}
 	}
 

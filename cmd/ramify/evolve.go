@@ -311,7 +311,11 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 			if !math.IsNaN(r.Crossing[k]) {
 				c = fmt.Sprintf("%.6g", r.Crossing[k])
 			}
-			fmt.Fprintf(tw, "%s\t%.6g\t%.6g\t%s\n", s, r.Probes[k][0], r.Steady[k], c)
+			st := fmt.Sprintf("%.6g", r.Steady[k])
+			if math.IsNaN(r.Steady[k]) {
+				st, c = "not reported", "not reported" // no steady state (a note says why)
+			}
+			fmt.Fprintf(tw, "%s\t%.6g\t%s\t%s\n", s, r.Probes[k][0], st, c)
 		}
 		tw.Flush()
 	}

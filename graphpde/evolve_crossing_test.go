@@ -1,0 +1,41 @@
+package graphpde
+
+import (
+	"math"
+	"strings"
+	"testing"
+)
+
+// TestEvolveCrossingWithoutSteadyState: asking for crossing times of a
+// field past its fold (Bratu's problem at λ = 4 > λc ≈ 3.51, as an edge
+// equation and as a quasilinear source) still steps the transient, which
+// runs away as in TestEvolveRunaway; the steady values and crossing
+// times are NaN with a note. The whole run used to fail with "steady
+// values for the crossing times: Newton's method found no steady state".
+func TestEvolveCrossingWithoutSteadyState(t *testing.T) {
+	lambda := 4.0
+	bratu, m := bratuNet(t, &lambda, 16)
+	b := newNetBuilder(t)
+	l, r := b.fixed("l", 0), b.fixed("r", 0)
+	mid := b.balance("m")
+	src := &Coef{Fn: func(_, u, _ float64) (float64, float64) { e := 4 * math.Exp(u); return e, e }, UsesU: true, Src: "4*exp(u)"}
+	b.edge(Edge{ID: "a", From: l, To: mid, Length: 0.5, A: 1, Rho: 1, Law: &EdgeLaw{F: src}})
+	b.edge(Edge{ID: "b", From: mid, To: r, Length: 0.5, A: 1, Rho: 1, Law: &EdgeLaw{F: src}})
+	for _, c := range []struct {
+		name string
+		net  *Network
+		node int
+	}{{"equation", bratu, m}, {"quasilinear", b.net, mid}} {
+		res, err := Evolve(c.net, &EvolveSettings{Until: 5, Probes: []Point{{Node: c.node, Edge: -1}}, Cells: 16, Crossing: 0.5})
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		notes := strings.Join(res.Notes, " | ")
+		if res.Status != NotSolved || !strings.Contains(notes, "no steady state") || !strings.Contains(notes, "grows without bound") {
+			t.Errorf("%s: status %v, notes %q", c.name, res.Status, notes)
+		}
+		if !math.IsNaN(res.Steady[0]) || !math.IsNaN(res.Crossing[0]) {
+			t.Errorf("%s: steady %g, crossing %g: want NaN (not reported)", c.name, res.Steady[0], res.Crossing[0])
+		}
+	}
+}
