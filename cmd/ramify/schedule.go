@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bufio"
 	"encoding/csv"
 	"errors"
 	"fmt"
@@ -30,18 +31,30 @@ func applySchedule(net *graphpde.Network, path string, steps bool) error {
 		return fmt.Errorf("--schedule: %w", err)
 	}
 	defer f.Close()
-	r := csv.NewReader(f)
+	// A byte-order mark (spreadsheets write one) is not part of the header.
+	br := bufio.NewReader(f)
+	if b, err := br.Peek(3); err == nil && string(b) == "\uFEFF" {
+		br.Discard(3)
+	}
+	r := csv.NewReader(br)
 	r.FieldsPerRecord = 0
 	r.TrimLeadingSpace = true
 	bad := func(line int, format string, args ...any) error {
 		return fmt.Errorf("%s:%d: %s", path, line, fmt.Sprintf(format, args...))
+	}
+	csvErr := func(err error) error {
+		var pe *csv.ParseError
+		if errors.As(err, &pe) {
+			return bad(pe.Line, "%v", pe.Err)
+		}
+		return fmt.Errorf("%s: %w", path, err)
 	}
 	head, err := r.Read()
 	if err != nil {
 		if errors.Is(err, io.EOF) {
 			return fmt.Errorf("%s: empty schedule (want a header t,NODE,...)", path)
 		}
-		return fmt.Errorf("%s: %w", path, err)
+		return csvErr(err)
 	}
 	if len(head) < 2 || strings.TrimSpace(head[0]) != "t" {
 		return bad(1, "the header must be t followed by node ids, e.g. t,drive")
@@ -67,10 +80,10 @@ func applySchedule(net *graphpde.Network, path string, steps bool) error {
 		if errors.Is(err, io.EOF) {
 			break
 		}
-		line, _ := r.FieldPos(0)
 		if err != nil {
-			return fmt.Errorf("%s: %w", path, err)
+			return csvErr(err)
 		}
+		line, _ := r.FieldPos(0)
 		num := func(s, what string) (float64, error) {
 			v, err := strconv.ParseFloat(strings.TrimSpace(s), 64)
 			if err != nil || math.IsNaN(v) || math.IsInf(v, 0) {
