@@ -263,6 +263,7 @@ func runMerge(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 	var parts []*montecarlo.Part
 	var first *walkOut
 	var firstFile string
+	seen := map[int]string{} // part index → its file
 	seconds := 0.0
 	for _, file := range fs.Args() {
 		if ctx.Err() != nil {
@@ -281,6 +282,10 @@ func runMerge(ctx context.Context, args []string, stdout, stderr io.Writer) int 
 		if err != nil {
 			return fail(stderr, "merge", err)
 		}
+		if other, ok := seen[p.Index]; ok {
+			return fail(stderr, "merge", fmt.Errorf("%s and %s are both part %d/%d", other, file, p.Index, p.Count))
+		}
+		seen[p.Index] = file
 		seconds += w.Shard.Seconds
 		parts = append(parts, p)
 	}

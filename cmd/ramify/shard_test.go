@@ -139,7 +139,7 @@ func TestShardsInProcesses(t *testing.T) {
 		want string
 	}{
 		{[]string{"merge", p1}, 1, "part 2 of 2 missing"},
-		{[]string{"merge", p1, p2, p2}, 1, "part 2/2 is given twice"},
+		{[]string{"merge", p1, p2, p2}, 1, p2 + " and " + p2 + " are both part 2/2"}, // naming the files
 		{[]string{"merge", p1, q2}, 1, "network files differ"},
 		{[]string{"merge", p1, s2}, 1, "--seed 3 and 4"},
 		{[]string{"merge", p1, t2}, 1, "--step 0.01 and 0.02"},
