@@ -188,13 +188,16 @@ func (c *csvReader) presize(size int64) {
 	c.edgesSized = len(c.net.Edges) > 0
 	ge, gn := max(grow(len(c.net.Edges)), 0), max(grow(len(c.net.Nodes)), 0)
 	if !c.edgesSized {
-		// Node rows only so far (a file that lists its nodes first): how
-		// many node rows follow is not known (the edge rows to come are not
-		// among them; extrapolating would reserve room for every row of the
-		// file as a node, three times the nodes of a mesh), so the nodes
-		// grow by appending; presizeEdges sizes the edges once their rows
-		// begin.
-		gn = 0
+		// Node rows only so far (a file that lists its nodes first): the
+		// edge rows to come are not among them, so extrapolating would
+		// reserve room for every row of the file as a node (three times
+		// the nodes of a mesh). A connected network whose nodes all have
+		// rows has at least as many edges as nodes less one, so about
+		// half the rows at most are node rows (derived): room for that
+		// many, once (growing by appending instead copies the nodes
+		// several times, which costs more than the spare room's zeroing);
+		// presizeEdges sizes the edges once their rows begin.
+		gn = max(int(min(float64(len(c.net.Nodes))*scale/2, 1e9))-len(c.net.Nodes), 0)
 	}
 	c.net.Reserve(gn, ge)
 	c.edgeRow = slices.Grow(c.edgeRow, ge)

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"io"
 	"slices"
+	"unsafe"
 )
 
 // rowReader reads the records of an edge list as an encoding/csv Reader
@@ -55,8 +56,8 @@ func (r *rowReader) handOver(line []byte) {
 	r.cr, r.lineOff, r.offOff = cr, r.next-1, r.offset
 }
 
-// Read returns the next record (valid until the next call), as
-// csv.Reader.Read does.
+// Read returns the next record, valid until the next call: its slice, as
+// csv.Reader.Read's with ReuseRecord, and here its strings too.
 func (r *rowReader) Read() ([]string, error) {
 	if r.cr != nil {
 		return r.readCSV()
@@ -91,7 +92,12 @@ func (r *rowReader) Read() ([]string, error) {
 		r.line = r.next
 		r.next++
 		r.offset += int64(len(line))
-		r.split(string(content))
+		// The fields are views of the buffered reader's bytes, valid until
+		// the next Read (encoding/csv copies each record into a new
+		// string): the reader keeps none of them past its row (ids and
+		// every string it stores are cloned; errors quote them), which
+		// TestRowFieldsNotKept checks over many refills of the buffer.
+		r.split(unsafe.String(unsafe.SliceData(content), len(content)))
 		if r.fields == 0 {
 			r.fields = len(r.rec)
 		} else if len(r.rec) != r.fields {
