@@ -39,3 +39,39 @@ func TestEvolveCrossingWithoutSteadyState(t *testing.T) {
 		}
 	}
 }
+
+// TestEvolveFixedStepAccuracy: fixed steps (Step > 0) are not controlled.
+// A rod driven by a slow smooth ramp, u(0, t) = 1 − e^(−t), stepped at
+// 0.01 has no step whose local error estimate exceeds the whole tolerance
+// (its values are within 6e-6 of a run at tol 1e-10): no note; the same
+// rod with a unit step at one end stepped at 0.25 gets a note that the
+// step is not controlled (nothing was said beside an estimate of
+// 10⁴ × tol).
+func TestEvolveFixedStepAccuracy(t *testing.T) {
+	rod := func(ramp bool) (*Network, int) {
+		b := newNetBuilder(t)
+		g := b.fixed("g", 1)
+		e := b.balance("e")
+		b.edge(Edge{ID: "rod", From: g, To: e, Length: 1, A: 1, Rho: 1})
+		if ramp {
+			b.net.Nodes[g].Law.Value = 0
+			b.net.Nodes[g].Time = &NodeTime{Fixed: func(t float64) float64 { return -math.Expm1(-t) }, UsesT: true, Src: "1 - exp(-t)"}
+		}
+		return b.net, e
+	}
+	for _, c := range []struct {
+		name string
+		ramp bool
+		step float64
+		note bool
+	}{{"smooth ramp, step 0.01", true, 0.01, false}, {"unit step, step 0.25", false, 0.25, true}} {
+		net, e := rod(c.ramp)
+		res, err := Evolve(net, &EvolveSettings{Until: 2, Step: c.step, Probes: []Point{{Node: e, Edge: -1}}, Cells: 16})
+		if err != nil {
+			t.Fatalf("%s: %v", c.name, err)
+		}
+		if res.Status != Converged || c.note != strings.Contains(strings.Join(res.Notes, " "), "not controlled") {
+			t.Errorf("%s: status %v (estimate %.3g × tol), notes %q; want a note: %v", c.name, res.Status, res.Stats.ErrEstimate, res.Notes, c.note)
+		}
+	}
+}
