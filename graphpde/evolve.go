@@ -527,6 +527,12 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		}
 		return -1.0 / 3
 	}
+	// tooShort says that a step h at time t is too short to go on with:
+	// below round-off of t, or of a millionth of the run where t is still
+	// smaller (an initial layer of a long run needs steps far below
+	// Until·1e-14: a run to 1e9 of a network whose data jump at t = 0 was
+	// stopped at t = 0 as a blow-up).
+	tooShort := func(h, t float64) bool { return h < 1e-14*math.Max(math.Abs(t), 1e-6*s.Until) }
 	h := s.Step
 	adaptive := h == 0
 	if adaptive {
@@ -603,7 +609,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				if h >= hs {
 					h = hs / 2
 				}
-				if h < s.Until*1e-14 {
+				if tooShort(h, t) {
 					why := fmt.Sprintf("Newton's method does not converge even in a step of %.3g", hs)
 					if nw.lastErr != nil {
 						why += " (last: " + nw.lastErr.Error() + ")"
@@ -630,7 +636,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 				if !adaptive {
 					return nil, fmt.Errorf("at t = %g: Newton's method does not converge in a step of %g", t, hs)
 				}
-				if h < s.Until*1e-14 {
+				if tooShort(h, t) {
 					stopShort(t, fmt.Sprintf("Newton's method does not converge even in a step of %.3g", hs))
 					break
 				}
@@ -654,7 +660,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		}
 		errNorm = math.Sqrt(errNorm / float64(max(n, 1)))
 		if math.IsNaN(errNorm) {
-			if !adaptive || hs < s.Until*1e-13 {
+			if !adaptive || tooShort(hs/10, t) {
 				stopShort(t, fmt.Sprintf("the field is not finite after a step of %.3g", hs))
 				break
 			}
@@ -665,7 +671,7 @@ func evolveGrid(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 		if adaptive && errNorm > 1 {
 			res.Stats.Rejected++
 			h = quantize(hs * math.Max(0.2, 0.9*math.Pow(errNorm, expo(hs))))
-			if h < s.Until*1e-14 {
+			if tooShort(h, t) {
 				stopShort(t, fmt.Sprintf("the error control asks for steps shorter than %.3g", h))
 				break
 			}

@@ -4,6 +4,8 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/ramify-dev/ramify/vertex"
 )
 
 // TestEvolveCrossingWithoutSteadyState: asking for crossing times of a
@@ -73,5 +75,28 @@ func TestEvolveFixedStepAccuracy(t *testing.T) {
 		if res.Status != Converged || c.note != strings.Contains(strings.Join(res.Notes, " "), "not controlled") {
 			t.Errorf("%s: status %v (estimate %.3g × tol), notes %q; want a note: %v", c.name, res.Status, res.Stats.ErrEstimate, res.Notes, c.note)
 		}
+	}
+}
+
+// TestEvolveLongRun: a run to t = 1e9 of a rod (a = 1, L = 1, 256 cells) held at 1 at
+// one end and leaking at the other (β = 0.5), from 0: its initial layer
+// needs steps of about 1e-6, far below 1e9·1e-14, where the run was
+// stopped at t = 0 as a blow-up ("the error control asks for steps
+// shorter than 3.55e-06", status NotSolved). It must reach the end and
+// the steady value u(1) = a/(a + βL) = 2/3 (derived: u linear, a u'(1) +
+// β u(1) = 0), to the grid's accuracy (a linear field: round-off;
+// 1e-9 allows for the time stepping's remainder of the layer).
+func TestEvolveLongRun(t *testing.T) {
+	b := newNetBuilder(t)
+	g := b.fixed("g", 1)
+	e := b.node("e", vertex.Law{Kind: vertex.Balance, Leak: 0.5})
+	b.edge(Edge{ID: "rod", From: g, To: e, Length: 1, A: 1, Rho: 1})
+	res, err := Evolve(b.net, &EvolveSettings{Until: 1e9, Every: 2.5e8, Probes: []Point{{Node: e, Edge: -1}}, Cells: 256})
+	if err != nil {
+		t.Fatal(err)
+	}
+	last := len(res.Times) - 1
+	if res.Status != Converged || res.Times[last] != 1e9 || math.Abs(res.Probes[0][last]-2.0/3) > 1e-9 {
+		t.Errorf("status %v, last time %g, u = %.12g (want 2/3), notes %q", res.Status, res.Times[last], res.Probes[0][last], res.Notes)
 	}
 }
