@@ -95,9 +95,13 @@ func runCrosscheck(ctx context.Context, args []string, stdout, stderr io.Writer)
 		}
 		times := slices.Clone(*posAt)
 		slices.Sort(times)
-		for _, t := range times {
+		for i, t := range times {
 			if !(t > 0) || math.IsInf(t, 0) {
 				return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at %g: times must be finite numbers > 0", t))
+			}
+			if i > 0 && t == times[i-1] {
+				// the same checks twice would count twice in the family
+				return badFlag(stderr, "crosscheck", fmt.Errorf("--positions-at: time %g is given twice", t))
 			}
 		}
 		set.PositionTimes = times

@@ -35,3 +35,14 @@ func TestRefusalsNameTheLine(t *testing.T) {
 		})
 	}
 }
+
+// TestPositionTimesTwice: a time given twice to --positions-at is a usage
+// error (it made the same three checks twice, counted twice in the
+// family-wise level).
+func TestPositionTimesTwice(t *testing.T) {
+	f := writeFile(t, "rod.toml", "[[node]]\nid = \"a\"\nfixed = 1.0\n[[node]]\nid = \"b\"\nleak = 1\n[[edge]]\nid = \"rod\"\nfrom = \"a\"\nto = \"b\"\nlength = 1.0\ndiffusivity = 1.0\n")
+	code, _, errs := runCLI(t, context.Background(), "crosscheck", f, "--from", "b", "--positions-at", "0.5,0.2,0.5", "--particles", "100")
+	if code != 2 || !strings.Contains(errs, "time 0.5 is given twice") {
+		t.Errorf("exit %d, stderr %q", code, errs)
+	}
+}
