@@ -273,7 +273,9 @@ func printEvolve(w io.Writer, net *graphpde.Network, specs []string, r *graphpde
 		fmt.Fprintln(w, "forward transport: tracer concentration per unit capacity (at a node: a·q/α, the value every edge end shares)")
 	}
 	if r.Status == graphpde.NotSolved {
-		fmt.Fprintf(w, "stopped early at t = %g: the values below are those reached\n", r.Times[len(r.Times)-1])
+		// (the run itself may have gone on past the last output time: the
+		// note says where it stopped)
+		fmt.Fprintf(w, "stopped early: the output ends at t = %g, the last output time reached\n", r.Times[len(r.Times)-1])
 	}
 	for _, n := range out.Notes {
 		fmt.Fprintf(w, "note: %s\n", n)
