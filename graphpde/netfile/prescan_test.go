@@ -55,7 +55,7 @@ func TestPrescanLayout(t *testing.T) {
 	lines := func(s []section) []int {
 		var l []int
 		for _, x := range s {
-			l = append(l, x.line)
+			l = append(l, int(x.line))
 		}
 		return l
 	}

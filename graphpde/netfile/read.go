@@ -741,7 +741,7 @@ func (rd *reader) recordLine(kind string, i int) {
 	ln := 0
 	if rd.sections != nil {
 		if b := rd.sections.cache[kind]; b != nil && b.kvs != nil && i >= b.lo && i < b.hi {
-			ln = rd.sections.sections(kind)[i].line
+			ln = int(rd.sections.sections(kind)[i].line)
 			for _, x := range b.kvs[i-b.lo] {
 				if x.k == "id" {
 					ln += int(x.ln)
