@@ -81,7 +81,7 @@ func runEvolve(ctx context.Context, args []string, stdout, stderr io.Writer) int
 		return code
 	}
 	if !(*until > 0) || math.IsInf(*until, 0) {
-		return badFlag(stderr, "evolve", fmt.Errorf("--until %g: give a final time > 0", *until))
+		return badFlag(stderr, "evolve", fmt.Errorf("--until %g: give a finite final time > 0 (for the steady state use 'ramify solve')", *until))
 	}
 	m, err := graphpde.ParseMethod(*method)
 	if err != nil {
