@@ -340,6 +340,13 @@ func evolveExact(net *Network, s *EvolveSettings) (*EvolveResult, error) {
 			up := level >= start
 			reached := func(v float64) bool { return (up && v >= level) || (!up && v <= level) }
 			res.Crossing[j] = math.NaN()
+			if reached(start) {
+				// Nothing to cover (the steady value is the initial one, as
+				// at a fixed node): the level holds from the start, as the
+				// stepper reports it.
+				res.Crossing[j] = res.Times[0]
+				continue
+			}
 			// first output time at which the level is reached, then bisection
 			for i := 1; i < len(res.Times); i++ {
 				if !reached(res.Probes[j][i]) {

@@ -167,6 +167,23 @@ func TestEvolveRCLine(t *testing.T) {
 	}
 }
 
+// TestEvolveCrossingAtStart: a probe whose steady value is its initial one
+// (the driven node of the RC line, held fixed from t = 0) has nothing to
+// cover, so both methods report the crossing at the start time exactly; the
+// exact method used to bisect down to its bracket width (1.5e-9) instead.
+func TestEvolveCrossingAtStart(t *testing.T) {
+	near := Point{Node: 0, Edge: -1}
+	for _, m := range []Method{MethodExact, MethodGrid} {
+		r, err := Evolve(rcLine(t), &EvolveSettings{Until: 1.5, Every: 0.05, Probes: []Point{near}, Crossing: 0.5, Method: m, Cells: 50})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := r.Crossing[0]; got != 0 {
+			t.Errorf("%v: crossing of the fixed node at %g, want 0", m, got)
+		}
+	}
+}
+
 // TestEvolveExactReference: the exact transient of the warm rod matches its
 // Fourier series to 1e-9, and the grid stepper matches the exact transient
 // within its tolerance plus the grid's error (200 cells: h²-small, measured
