@@ -337,7 +337,7 @@ func crossCheck(ctx context.Context, net *graphpde.Network, p graphpde.Point, fr
 			biasNotes = append(biasNotes, biasLine(bias), "the value, hitting-probability, killed and mean-exit-time checks are widened by the estimated bias of each quantity, 2·(walkers − finer run), and its standard error, added in quadrature to the walkers' standard error")
 			if len(res.PositionTimes) > 0 {
 				opt.PositionsFine = fine
-				biasNotes = append(biasNotes, "the position checks are widened by the estimated bias of the places: the shares still on the network and held at nodes like the values, the KS distance reduced by 2·D(walkers, finer run) (docs/walkers.md §10)")
+				biasNotes = append(biasNotes, "the position checks are widened by the estimated bias of the places: the shares still on the network and held at nodes like the values, the KS distance reduced by 3.4·D(walkers, finer run), for a bias of order 1/2 in the step (docs/walkers.md §10)")
 			}
 		}
 	} else if needsBiasPass(res) {
