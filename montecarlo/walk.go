@@ -586,8 +586,8 @@ func (w *walker) tsStep(e int, x, t, val, wgt, s float64) (int, float64, float64
 	// in between: given both ends of the step, the path is a Brownian
 	// bridge (whatever the drift), which touches a level at distances d0
 	// and d1 from its ends with probability exp(−2·d0·d1/v2), v2 the
-	// step's variance (Borodin & Salminen, Handbook of Brownian Motion,
-	// 2nd ed. 2002, Part II ch. 4, the bridge's maximum). Without this
+	// step's variance (the law of a Brownian bridge's maximum, from
+	// memory; checked here by the ring of docs/walkers.md §10). Without this
 	// check the walker misses those visits and its law near the ends is
 	// off by O(sqrt(dt)) (measured on positions at record times, which
 	// take such steps close to nodes); with it, O(dt). The draw is made
