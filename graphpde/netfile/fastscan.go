@@ -26,7 +26,8 @@ import (
 // tables (tests compare it with the library's decoding).
 var fastTables = true
 
-// fastBatch reads the [[kind]] sections secs[i:j] (adjacent in src) in the
+// fastBatch reads the [[kind]] sections secs[i:j], adjacent in the file and
+// whose text is src (from the start of secs[i]), in the
 // simple form, returning the keys and values of each table in file order,
 // or ok = false if any of them is not in that form.
 // The tables are slices of one array, held with the array of tables in a
@@ -42,18 +43,21 @@ func fastBatch(src, kind string, secs []section, i, j int, buf fastBuf) (kvs [][
 	}
 	for n := i; n < j; n++ {
 		from := len(all)
-		if all, ok = fastSection(src[secs[n].start:secs[n].end], kind, all); !ok {
-			return nil, fastBuf{all, kvs[:0]}, false
+		if all, ok = fastSection(src[secs[n].start-secs[i].start:secs[n].end-secs[i].start], kind, all); !ok {
+			return nil, fastBuf{all, kvs[:0], buf.text}, false
 		}
 		kvs = append(kvs, all[from:len(all):len(all)])
 	}
-	return kvs, fastBuf{all, kvs}, true
+	return kvs, fastBuf{all, kvs, buf.text}, true
 }
 
 // fastBuf holds the arrays of a batch read by fastBatch, for reuse.
 type fastBuf struct {
 	all []fastKV   // the keys and values of every table
 	kvs [][]fastKV // each table's, slices of all
+	// The batch's text, when read back from the file: its keys and
+	// strings are views of it (strings kept are copied).
+	text []byte
 }
 
 // fastMap returns the table of a key-value list, as the library decodes it,

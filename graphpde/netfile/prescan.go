@@ -3,10 +3,12 @@ package netfile
 import (
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"slices"
 	"strconv"
 	"strings"
+	"unsafe"
 
 	"github.com/BurntSushi/toml"
 )
@@ -47,6 +49,9 @@ const maxText = math.MaxInt32
 // layout is what prescan finds in a file.
 type layout struct {
 	nodes, edges []section
+	// gaps is the text outside those sections (other tables; what comes
+	// before the first section), with the line each piece starts on.
+	gaps []section
 	// simple is false when a table header other than the five of the format
 	// occurs: the file must then be decoded whole.
 	simple bool
@@ -62,99 +67,229 @@ func nestingError(file string, line int) *Error {
 // O(len(src)), memory O(tables).
 func prescan(src, file string) (*layout, error) {
 	if len(src) > maxText {
-		return nil, &Error{File: file, Msg: fmt.Sprintf("the file is %d bytes: network files over %d bytes (2 GiB) are not read; write the network as an edge list (CSV), which is read row by row", len(src), maxText)}
+		return nil, tooLarge(file, int64(len(src)))
 	}
 	// Room for the tables a file written by Write has (a hint: a header
 	// inside a string counts too).
-	lay := &layout{simple: true,
-		nodes: make([]section, 0, strings.Count(src, "[[node]]")),
-		edges: make([]section, 0, strings.Count(src, "[[edge]]"))}
-	var cur *[]section // the array whose last section is open
-	closeSection := func(at int) {
-		if cur != nil {
-			(*cur)[len(*cur)-1].end = int32(at)
-			cur = nil
+	p := newPrescanner(file, strings.Count(src, "[[node]]"), strings.Count(src, "[[edge]]"))
+	if _, err := p.scan(src, 0, true); err != nil {
+		return nil, err
+	}
+	return p.finish(len(src)), nil
+}
+
+// prescanChunk is how much text prescanReader reads at a time (tests set
+// it small, so that constructs fall across the chunks' ends).
+var prescanChunk = 64 << 10
+
+// prescanReader runs the lexical pass over the size bytes of r a chunk at
+// a time, so that the text is never held whole: a chunk is scanned up to
+// the start of the first construct (string, comment, table header) that
+// may go on in the next one, which is kept and scanned again with more
+// text (the chunk grows for a construct longer than itself). It finds what
+// prescan finds on the whole text. The context of opt is looked at
+// between chunks.
+func prescanReader(r io.Reader, size int64, file string, opt *Options) (*layout, error) {
+	if size > maxText {
+		return nil, tooLarge(file, size)
+	}
+	p := newPrescanner(file, 0, 0)
+	buf := make([]byte, max(prescanChunk, 1))
+	base, have := 0, 0 // buf[:have] is the text from offset base on
+	for {
+		if err := opt.stopped(file); err != nil {
+			return nil, err
+		}
+		if have == len(buf) {
+			buf = append(buf, make([]byte, len(buf))...)
+		}
+		k, err := io.ReadFull(r, buf[have:])
+		have += k
+		eof := false
+		switch {
+		case err == io.EOF || err == io.ErrUnexpectedEOF:
+			eof = true
+		case err != nil:
+			return nil, &Error{File: file, Msg: "cannot read: " + errMsg(err), Err: err}
+		}
+		if int64(base)+int64(have) > maxText {
+			return nil, tooLarge(file, max(size, int64(base)+int64(have)))
+		}
+		// A view of buf, not a copy: scan keeps no part of it.
+		w := ""
+		if have > 0 {
+			w = unsafe.String(&buf[0], have)
+		}
+		used, err := p.scan(w, base, eof)
+		if err != nil {
+			return nil, err
+		}
+		if eof {
+			return p.finish(base + have), nil
+		}
+		copy(buf, buf[used:have])
+		base, have = base+used, have-used
+	}
+}
+
+// tooLarge refuses a file of size bytes over maxText.
+func tooLarge(file string, size int64) *Error {
+	return &Error{File: file, Msg: fmt.Sprintf("the file is %d bytes: network files over %d bytes (2 GiB) are not read; write the network as an edge list (CSV), which is read row by row", size, maxText)}
+}
+
+// prescanner is the state of the lexical pass between two pieces of text.
+type prescanner struct {
+	file      string
+	lay       *layout
+	cur       *[]section // the array whose last section is open
+	line      int        // of the next byte
+	depth     int        // of arrays and inline tables
+	lineStart bool       // at the start of a line, outside any value
+	lineAt    int        // offset of the start of the current line
+	gapAt     int        // offset where the text outside sections began (-1: in a section)
+	gapLine   int        // its line
+}
+
+func newPrescanner(file string, nodes, edges int) *prescanner {
+	return &prescanner{file: file, line: 1, lineStart: true, gapLine: 1,
+		lay: &layout{simple: true, nodes: make([]section, 0, nodes), edges: make([]section, 0, edges)}}
+}
+
+// boundary ends the open section, or the text outside sections, at the
+// start of the line of a table header, at offset at; a [[node]] or
+// [[edge]] header (kind) opens a section there, any other opens or goes
+// on with text outside sections.
+func (p *prescanner) boundary(at int, kind string) {
+	if p.cur != nil {
+		(*p.cur)[len(*p.cur)-1].end = int32(at)
+		p.cur = nil
+		p.gapAt, p.gapLine = at, p.line
+	}
+	if kind != "node" && kind != "edge" {
+		return
+	}
+	if p.gapAt >= 0 && at > p.gapAt {
+		p.lay.gaps = append(p.lay.gaps, section{start: int32(p.gapAt), end: int32(at), line: int32(p.gapLine)})
+	}
+	p.gapAt = -1
+	arr := &p.lay.nodes
+	if kind == "edge" {
+		arr = &p.lay.edges
+	}
+	*arr = append(*arr, section{start: int32(at), line: int32(p.line)})
+	p.cur = arr
+}
+
+// finish ends the pass at the end of the text, offset n.
+func (p *prescanner) finish(n int) *layout {
+	if p.cur != nil {
+		(*p.cur)[len(*p.cur)-1].end = int32(n)
+		p.cur = nil
+	} else if p.gapAt >= 0 && n > p.gapAt {
+		p.lay.gaps = append(p.lay.gaps, section{start: int32(p.gapAt), end: int32(n), line: int32(p.gapLine)})
+	}
+	fit := func(s []section) []section { // grown by appends: cut to size
+		if cap(s) > len(s)+len(s)/16 {
+			return slices.Clone(s)
+		}
+		return s
+	}
+	p.lay.nodes, p.lay.edges = fit(p.lay.nodes), fit(p.lay.edges)
+	return p.lay
+}
+
+// scan runs the pass over w, the text from offset base of the file on.
+// When eof (w runs to the end of the file) it scans all of w; else it
+// stops before a string, comment or table header that may go on after w
+// and returns the offset in w to go on from with more text.
+func (p *prescanner) scan(w string, base int, eof bool) (int, error) {
+	pos, n := 0, len(w)
+	if base == 0 {
+		if !eof && n < len("\uFEFF") {
+			return 0, nil
+		}
+		if strings.HasPrefix(w, "\uFEFF") {
+			pos = len("\uFEFF")
 		}
 	}
-	pos, line, depth := 0, 1, 0
-	lineStart := true // at the start of a line, outside any value
-	if strings.HasPrefix(src, "\uFEFF") {
-		pos = len("\uFEFF")
-	}
-	n := len(src)
 	for pos < n {
-		c := src[pos]
+		c := w[pos]
 		switch {
 		case c == '\n':
-			line++
+			p.line++
 			pos++
-			if depth == 0 {
-				lineStart = true
+			p.lineAt = base + pos
+			if p.depth == 0 {
+				p.lineStart = true
 			}
 			continue
 		case c == ' ' || c == '\t' || c == '\r':
 			pos++
 			continue
 		case c == '#':
-			if i := strings.IndexByte(src[pos:], '\n'); i >= 0 {
+			if i := strings.IndexByte(w[pos:], '\n'); i >= 0 {
 				pos += i
-			} else {
+			} else if eof {
 				pos = n
+			} else {
+				return pos, nil
 			}
 			continue
 		case c == '"' || c == '\'':
-			pos, line = skipString(src, pos, line)
-			lineStart = false
+			end, line := skipString(w, pos, p.line)
+			if !eof && end+4 > n {
+				// skipString looks up to three bytes past a string's
+				// end: it may end differently with more text.
+				return pos, nil
+			}
+			pos, p.line = end, line
+			p.lineStart = false
 			continue
 		}
-		if lineStart && c == '[' {
+		if p.lineStart && c == '[' {
 			// A table header: up to the end of the line.
-			start := pos
-			end := strings.IndexByte(src[pos:], '\n')
+			end := strings.IndexByte(w[pos:], '\n')
 			if end < 0 {
+				if !eof {
+					return pos, nil
+				}
 				end = n
 			} else {
 				end += pos
 			}
-			closeSection(lineStartOf(src, start))
-			switch kind := headerKind(src[start:end]); kind {
-			case "node", "edge":
-				arr := &lay.nodes
-				if kind == "edge" {
-					arr = &lay.edges
-				}
-				*arr = append(*arr, section{start: int32(lineStartOf(src, start)), end: int32(n), line: int32(line)})
-				cur = arr
-			case "network", "parameters", "defaults":
+			// Only blanks since the last line break: this line starts at lineAt.
+			switch kind := headerKind(w[pos:end]); kind {
+			case "node", "edge", "network", "parameters", "defaults":
+				p.boundary(p.lineAt, kind)
 			default:
-				lay.simple = false
+				p.boundary(p.lineAt, "")
+				p.lay.simple = false
 			}
 			pos = end
 			continue
 		}
-		lineStart = false
+		p.lineStart = false
 		if !prescanSpecial[c] {
 			// A run of bytes that change nothing here (most of a file):
 			// skipped in a tight loop.
-			for pos++; pos < n && !prescanSpecial[src[pos]]; pos++ {
+			for pos++; pos < n && !prescanSpecial[w[pos]]; pos++ {
 			}
 			continue
 		}
 		switch c {
 		case '[', '{':
-			depth++
-			if depth > MaxNesting {
-				return nil, nestingError(file, line)
+			p.depth++
+			if p.depth > MaxNesting {
+				return 0, nestingError(p.file, p.line)
 			}
 		case ']', '}':
-			if depth > 0 {
-				depth--
+			if p.depth > 0 {
+				p.depth--
 			}
 		}
 		pos++
 	}
-	closeSection(n)
-	return lay, nil
+	return n, nil
 }
 
 // prescanSpecial marks the bytes prescan must look at once a line has
@@ -242,35 +377,65 @@ func headerKind(h string) string {
 	return ""
 }
 
-// headText returns src with the text of the [[node]] and [[edge]] sections
-// taken out but their line breaks kept, so that what is left decodes to the
-// other tables with the lines of the whole file. The line breaks of
-// sections after the last other text are left out too: the head of a large
-// file is then its first lines only, not a line break per line of it.
-func headText(src string, lay *layout) string {
+// headText returns the text of the file with the text of the [[node]] and
+// [[edge]] sections taken out but their line breaks kept, so that what is
+// left decodes to the other tables with the lines of the whole file. The
+// line breaks of sections after the last other text are left out too: the
+// head of a large file is then its first lines only, not a line break per
+// line of it.
+func headText(t *text, lay *layout) (string, error) {
 	var b strings.Builder
-	at, run := 0, 0        // text before at is handled; src[run:at] is sections not yet written as line breaks
-	put := func(end int) { // the other text src[at:end]
-		b.WriteString(strings.Repeat("\n", strings.Count(src[run:at], "\n")))
-		b.WriteString(src[at:end])
-		run = end
-	}
-	for n, e := 0, 0; n < len(lay.nodes) || e < len(lay.edges); { // both in file order: merged
-		var s section
-		if e == len(lay.edges) || n < len(lay.nodes) && lay.nodes[n].start < lay.edges[e].start {
-			s, n = lay.nodes[n], n+1
-		} else {
-			s, e = lay.edges[e], e+1
+	line := 1 // of the end of b
+	for _, g := range lay.gaps {
+		b.WriteString(strings.Repeat("\n", max(int(g.line)-line, 0)))
+		s, err := t.copy(g.start, g.end)
+		if err != nil {
+			return "", err
 		}
-		if int(s.start) > at {
-			put(int(s.start))
+		b.WriteString(s)
+		line = int(g.line) + strings.Count(s, "\n")
+	}
+	return b.String(), nil
+}
+
+// text gives pieces of a file's text: from the whole text in memory, or
+// read back from the file (ReadAt) when it was scanned a chunk at a time.
+type text struct {
+	s    string      // the whole text, when r is nil
+	r    io.ReaderAt // the file
+	file string      // its name, for errors
+}
+
+// view returns the text at [start, end): a part of the text in memory, or
+// read from the file into buf (grown if need be; returned), a view of buf
+// valid until buf is used again.
+func (t *text) view(start, end int32, buf []byte) (string, []byte, error) {
+	if t.r == nil {
+		return t.s[start:end], buf, nil
+	}
+	m := int(end - start)
+	if cap(buf) < m {
+		buf = make([]byte, 0, max(m, batchBytes+batchBytes/4))
+	}
+	buf = buf[:m]
+	if m <= 0 {
+		return "", buf, nil
+	}
+	k, err := t.r.ReadAt(buf, int64(start))
+	if k < m {
+		if err == nil || err == io.EOF {
+			err = io.ErrUnexpectedEOF // the file was cut short while read
 		}
-		at = int(s.end)
+		return "", buf, &Error{File: t.file, Msg: "cannot read: " + errMsg(err), Err: err}
 	}
-	if at < len(src) {
-		put(len(src))
-	}
-	return b.String()
+	return unsafe.String(&buf[0], m), buf, nil
+}
+
+// copy returns the text at [start, end) as a string of its own (a part of
+// the text in memory).
+func (t *text) copy(start, end int32) (string, error) {
+	s, _, err := t.view(start, end, nil)
+	return s, err
 }
 
 // batchBytes is about the most text of [[node]] or [[edge]] tables decoded
@@ -288,12 +453,11 @@ func batch(secs []section, i int) int {
 	return j
 }
 
-// decodeBatch decodes the [[kind]] sections secs[i:j] (adjacent in src) and
+// decodeBatch decodes the [[kind]] sections secs[i:j], whose text is text, and
 // returns their tables and, for each, its keys in file order (from the
 // order in which the library met them, so that no line lookup is needed
 // to sort them). Errors carry the line in the whole file.
-func decodeBatch(src, file, kind string, secs []section, i, j int) ([]map[string]any, [][]string, error) {
-	text := src[secs[i].start:secs[j-1].end]
+func decodeBatch(text, file, kind string, secs []section, i, j int) ([]map[string]any, [][]string, error) {
 	var root map[string]any
 	md, err := toml.Decode(text, &root)
 	if err != nil {
@@ -359,7 +523,8 @@ func tomlError(text, file string, err error) *Error {
 // line locators on demand, a batch of adjacent sections at a time, keeping
 // the last batch of each (tables are read in order).
 type sectionIndex struct {
-	src, file    string
+	txt          *text
+	file         string
 	nodes, edges []section
 	cache        map[string]*sectionBatch // by kind: tables
 	locs         map[string]*sectionBatch // by kind: line locator
@@ -377,8 +542,8 @@ type sectionBatch struct {
 	loc    *locator
 }
 
-func newSectionIndex(src, file string, lay *layout) *sectionIndex {
-	return &sectionIndex{src: src, file: file, nodes: lay.nodes, edges: lay.edges,
+func newSectionIndex(txt *text, file string, lay *layout) *sectionIndex {
+	return &sectionIndex{txt: txt, file: file, nodes: lay.nodes, edges: lay.edges,
 		cache: make(map[string]*sectionBatch), locs: make(map[string]*sectionBatch),
 		spare: make(map[string]fastBuf), ahead: make(map[string]*prefetch)}
 }
@@ -412,13 +577,16 @@ func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 		nb = &sectionBatch{lo: i, hi: batch(secs, i)}
 		ok := false
 		if fastTables {
-			nb.kvs, nb.buf, ok = fastBatch(x.src, kind, secs, nb.lo, nb.hi, x.spare[kind])
+			nb.kvs, nb.buf, ok = x.fastBatch(kind, secs, nb.lo, nb.hi, x.spare[kind])
 			x.spare[kind] = fastBuf{}
 		}
 		if !ok {
 			x.spare[kind], nb.kvs, nb.buf = nb.buf, nil, fastBuf{}
-			var err error
-			if nb.tables, nb.orders, err = decodeBatch(x.src, x.file, kind, secs, nb.lo, nb.hi); err != nil {
+			bt, err := x.txt.copy(secs[nb.lo].start, secs[nb.hi-1].end)
+			if err != nil {
+				return nil, err
+			}
+			if nb.tables, nb.orders, err = decodeBatch(bt, x.file, kind, secs, nb.lo, nb.hi); err != nil {
 				return nil, err
 			}
 		}
@@ -435,10 +603,23 @@ func (x *sectionIndex) load(kind string, i int) (*sectionBatch, error) {
 		x.ahead[kind] = p
 		go func() {
 			defer close(p.done)
-			p.kvs, p.buf, p.ok = fastBatch(x.src, kind, secs, p.lo, p.hi, buf)
+			p.kvs, p.buf, p.ok = x.fastBatch(kind, secs, p.lo, p.hi, buf)
 		}()
 	}
 	return nb, nil
+}
+
+// fastBatch reads the text of the sections secs[i:j] into buf.text (or
+// takes it from the text in memory) and reads it in the simple form
+// (fastscan.go); ok = false when it cannot, also when the text cannot be
+// read (the library's reading then reports why).
+func (x *sectionIndex) fastBatch(kind string, secs []section, i, j int, buf fastBuf) ([][]fastKV, fastBuf, bool) {
+	s, t, err := x.txt.view(secs[i].start, secs[j-1].end, buf.text)
+	buf.text = t
+	if err != nil {
+		return nil, buf, false
+	}
+	return fastBatch(s, kind, secs, i, j, buf)
 }
 
 // prefetch is a batch of sections being read ahead (fastBatch in a
@@ -489,7 +670,11 @@ func (x *sectionIndex) locatorFor(path []string) *locator {
 	b := x.locs[kind]
 	if b == nil || i < b.lo || i >= b.hi {
 		j := batch(secs, i)
-		l := &locator{src: x.src[secs[i].start:secs[j-1].end], line: int(secs[i].line), lines: make(map[string]int), arrays: map[string]int{kind: i}}
+		bt, err := x.txt.copy(secs[i].start, secs[j-1].end)
+		if err != nil {
+			return nil // the text cannot be read back: lines of the head only
+		}
+		l := &locator{src: bt, line: int(secs[i].line), lines: make(map[string]int), arrays: map[string]int{kind: i}}
 		if strings.HasPrefix(l.src, "\uFEFF") {
 			l.pos = len("\uFEFF") // the first table right after a byte-order mark
 		}

@@ -1,6 +1,7 @@
 package netfile
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
@@ -92,6 +93,19 @@ func readTOML(r io.Reader, name string, opt *Options) (*graphpde.Network, error)
 
 // read is Read without the check for an empty network.
 func read(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
+	if ra, size := readerAt(r); ra != nil {
+		// A file (or text in memory): the first pass reads it a chunk at
+		// a time and the tables are read back from it, so that its text
+		// is never held whole, unless it must be decoded whole.
+		lay, err := prescanReader(io.NewSectionReader(ra, 0, size), size, name, opt)
+		if err != nil {
+			return nil, err
+		}
+		if net, done, err := readSections(&text{r: ra, file: name}, name, opt, lay); done {
+			return net, err
+		}
+		r = io.NewSectionReader(ra, 0, size)
+	}
 	var b strings.Builder
 	if size := inputSize(r); size > 0 {
 		b.Grow(int(size))
@@ -107,30 +121,84 @@ func read(r io.Reader, name string, opt *Options) (*graphpde.Network, error) {
 	if err != nil {
 		return nil, err
 	}
-	rd := &reader{file: name, opt: opt}
-	if lay.simple && len(lay.nodes)+len(lay.edges) > 0 && !decodeWhole {
-		// One table at a time: the head (every other table) whole, each
-		// [[node]] and [[edge]] when it is read.
-		head := headText(src, lay)
-		var root map[string]any
-		if _, err := toml.Decode(head, &root); err != nil {
-			return nil, tomlError(head, name, err)
-		}
-		_, hasNodes := root["node"]
-		_, hasEdges := root["edge"]
-		if !hasNodes && !hasEdges {
-			rd.loc = locate(head)
-			rd.sections = newSectionIndex(src, name, lay)
-			return rd.network(root)
-		}
-		// node = [...] beside [[node]]: let the library say what is wrong.
+	if net, done, err := readSections(&text{s: src, file: name}, name, opt, lay); done {
+		return net, err
 	}
 	var root map[string]any
 	if _, err := toml.Decode(src, &root); err != nil {
 		return nil, tomlError(src, name, err)
 	}
+	rd := &reader{file: name, opt: opt}
 	rd.loc = locate(src)
 	return rd.network(root)
+}
+
+// readerAt returns r as an io.ReaderAt over its size bytes from its
+// current offset when it is a regular file or text in memory that can be
+// read back so (else nil).
+func readerAt(r io.Reader) (io.ReaderAt, int64) {
+	switch x := r.(type) {
+	case *os.File:
+		fi, err := x.Stat()
+		if err != nil || !fi.Mode().IsRegular() {
+			return nil, 0
+		}
+		off, err := x.Seek(0, io.SeekCurrent)
+		if err != nil || off > fi.Size() {
+			return nil, 0
+		}
+		return io.NewSectionReader(x, off, fi.Size()-off), fi.Size() - off
+	case *strings.Reader:
+		if !readBack {
+			return nil, 0
+		}
+		// Its unread part: a string is never changed.
+		n := x.Len()
+		return io.NewSectionReader(x, x.Size()-int64(n), int64(n)), int64(n)
+	case *bytes.Reader:
+		if !readBack {
+			return nil, 0
+		}
+		// Its unread part, which is not changed while Read runs.
+		n := x.Len()
+		return io.NewSectionReader(x, x.Size()-int64(n), int64(n)), int64(n)
+	}
+	return nil, 0
+}
+
+// readBack makes Read read text in a *strings.Reader back from it as it
+// reads a file, as in use; tests turn it off to compare with the reading
+// of the whole text.
+var readBack = true
+
+// readSections reads the network of a file whose layout is lay one table
+// at a time: the head (every other table) whole, each [[node]] and
+// [[edge]] when it is read, from txt. done is false when the file must be
+// decoded whole instead (other table headers, no tables, node = [...]
+// beside [[node]]).
+func readSections(txt *text, name string, opt *Options, lay *layout) (net *graphpde.Network, done bool, err error) {
+	if !lay.simple || len(lay.nodes)+len(lay.edges) == 0 || decodeWhole {
+		return nil, false, nil
+	}
+	head, err := headText(txt, lay)
+	if err != nil {
+		return nil, true, err
+	}
+	var root map[string]any
+	if _, err := toml.Decode(head, &root); err != nil {
+		return nil, true, tomlError(head, name, err)
+	}
+	_, hasNodes := root["node"]
+	_, hasEdges := root["edge"]
+	if hasNodes || hasEdges {
+		// node = [...] beside [[node]]: let the library say what is wrong.
+		return nil, false, nil
+	}
+	rd := &reader{file: name, opt: opt}
+	rd.loc = locate(head)
+	rd.sections = newSectionIndex(txt, name, lay)
+	net, err = rd.network(root)
+	return net, true, err
 }
 
 // decodeWhole makes Read decode every file whole, as files with other
