@@ -72,10 +72,12 @@ func errMsg(err error) string {
 // and returns the network it describes. name is the file name used in error
 // messages. Every error is an *Error carrying the line of the offending key.
 // Values nested deeper than MaxNesting are refused before anything is
-// decoded. Read holds the file's text in memory and decodes the [[node]]
-// and [[edge]] tables one at a time (files with other sub-tables are decoded
-// whole), so that its memory is the text plus the network it builds plus
-// one table; its cost is linear in the file size.
+// decoded. Read decodes the [[node]] and [[edge]] tables a batch at a time
+// (files with other sub-tables are decoded whole). When r is a regular
+// file (or a *strings.Reader or *bytes.Reader) it is scanned in chunks and
+// each batch read back from it, so that Read's memory is the network it
+// builds plus a batch; from any other reader the text is held whole while
+// reading. Its cost is linear in the file size.
 func Read(r io.Reader, name string) (*graphpde.Network, error) {
 	return readTOML(r, name, nil)
 }
