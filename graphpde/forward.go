@@ -194,15 +194,6 @@ func (s *fwdSystem) edgeField(u []float64, e int, _ float64) []float64 {
 	return out
 }
 
-// amount returns the total amount Σ M_i u_i of tracer in the network.
-func (s *fwdSystem) amount(u []float64) float64 {
-	t := 0.0
-	for i, v := range u {
-		t += s.M[i] * v
-	}
-	return t
-}
-
 // ForwardOccupation returns, per edge, the expected time that walkers (a
 // tracer) released at release spend on the edge before they are absorbed or
 // killed: ∫₀^∞ ∫_e ρ q dx dt for the forward problem (Evolve with

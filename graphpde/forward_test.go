@@ -163,3 +163,12 @@ func TestForwardConserves(t *testing.T) {
 		}
 	}
 }
+
+// amount returns the total amount Σ M_i u_i of tracer in the network.
+func (s *fwdSystem) amount(u []float64) float64 {
+	t := 0.0
+	for i, v := range u {
+		t += s.M[i] * v
+	}
+	return t
+}

@@ -162,3 +162,31 @@ func TestSecantSchemeDifferences(t *testing.T) {
 		t.Fatalf("%d one-sided vertices: the test must cover both differences", upwind)
 	}
 }
+
+// perturbed returns a copy of sol with fn(e, x, u) added to the
+// field at every grid vertex and delta(v) to every balance node's value: a
+// deliberately wrong field, for testing that a check catches it. It panics
+// if sol has no grid values for an edge that fn changes (exact edges are
+// left as they are).
+func perturbed(sol *Solution, fn func(e int, x float64) float64, delta func(v int) float64) *Solution {
+	c := *sol
+	c.U = append([]float64(nil), sol.U...)
+	c.gval = append([]float64(nil), sol.gval...)
+	for v := range c.U {
+		if sol.Net.Nodes[v].Law.Kind == vertex.Balance {
+			c.U[v] += delta(v)
+		}
+	}
+	for e := range sol.Net.Edges {
+		g, ok := sol.els[e].(gridCells)
+		if !ok {
+			continue
+		}
+		n := g.cells()
+		h := sol.Net.Edges[e].Length / float64(n)
+		for i := 1; i < n; i++ {
+			c.gval[sol.off[e]+i-1] += fn(e, float64(i)*h)
+		}
+	}
+	return &c
+}

@@ -45,3 +45,44 @@ func TestEdgeDynDeriv(t *testing.T) {
 		}
 	}
 }
+
+// edgeDynDeriv returns the derivatives in λ of the entries of edgeDyn (per
+// unit weight, piece of length L). With w = qL² = (λρ − c)L²/a the entries
+// are F(w)/L and −G(w)/L, F(w) = z cot z and G(w) = z/sin z for z = √w
+// (z coth z and z/sinh z for w < 0), so
+//
+//	d diag/dλ = (ρL/a) F'(w),   d off/dλ = −(ρL/a) G'(w),
+//
+// F'(w) = (cot z − z/sin²z)/(2z), G'(w) = (1/sin z − z cos z/sin²z)/(2z)
+// (derived), with the Taylor series of z cot z and z/sin z (Abramowitz and
+// Stegun, Handbook of Mathematical Functions, 4.3.70 and 4.3.68) for
+// |w| < 0.01, and exponentially scaled forms for large negative w. At w = 0
+// they are −ρL/(3a) and −ρL/(6a): the consistent mass matrix of a linear
+// element, as it must be (M = −K' is the Gram matrix of the shape
+// functions).
+func edgeDynDeriv(ed *Edge, L, lam float64) (dDiag, dOff float64) {
+	a, c, rho := ed.A, ed.C, ed.Rho
+	w := (lam*rho - c) / a * L * L
+	var fp, gp float64
+	switch {
+	case math.Abs(w) < 0.01:
+		fp = -1.0/3 - w*(2.0/45+w*(6.0/945+w*4.0/4725))
+		gp = 1.0/6 + w*(7.0/180+w*(31.0/5040+w*127.0/151200))
+	case w > 0:
+		z := math.Sqrt(w)
+		s, co := math.Sincos(z)
+		fp = (co/s - z/(s*s)) / (2 * z)
+		gp = (1/s - z*co/(s*s)) / (2 * z)
+	default:
+		z := math.Sqrt(-w)
+		e2 := math.Exp(-2 * z)
+		den := -math.Expm1(-2 * z) // 1 − e^{−2z}
+		coth := (1 + e2) / den
+		ez := math.Exp(-z)
+		// z/sinh²z = 4z e^{−2z}/(1 − e^{−2z})², 1/sinh z = 2e^{−z}/(1 − e^{−2z}),
+		// cosh z/sinh²z = 2e^{−z}(1 + e^{−2z})/(1 − e^{−2z})²
+		fp = -(coth - 4*z*e2/(den*den)) / (2 * z)
+		gp = -(2*ez/den - 2*z*ez*(1+e2)/(den*den)) / (2 * z)
+	}
+	return rho * L / a * fp, -rho * L / a * gp
+}

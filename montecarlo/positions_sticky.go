@@ -207,18 +207,6 @@ func (m *model) preparePosStar(v int) *posNode {
 	return pn
 }
 
-// armShare returns w_k/Σw of arm k of nd (from the cumulative cw).
-func armShare(nd *nodeInfo, k int) float64 {
-	hi := 1.0
-	if k < len(nd.arms)-1 {
-		hi = nd.arms[k].cw
-	}
-	if k == 0 {
-		return hi
-	}
-	return hi - nd.arms[k-1].cw
-}
-
 // fits reports whether a visit of radius eps ends within s except with
 // probability below 5e-11: s is shared between the diffusive part, which
 // outlasts its share s_d with probability below 3e-11 when

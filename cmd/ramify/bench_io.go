@@ -22,12 +22,6 @@ import (
 	"github.com/ramify-dev/ramify/graphpde/netfile"
 )
 
-// writeMeshFile writes the n×n square mesh to path as a network file
-// (netfile.Write; 300×300 is about 20 MB).
-func writeMeshFile(path string, n int) error {
-	return writeNetFile(path, gen.SquareMesh(n, n), netfile.Write)
-}
-
 // writeNetFile writes net to path with write (a netfile writer).
 func writeNetFile(path string, net *graphpde.Network, write func(io.Writer, *graphpde.Network) error) error {
 	f, err := os.Create(path)

@@ -20,27 +20,10 @@ func TestCrosscheckPositions(t *testing.T) {
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var r struct {
-		Checks []struct {
-			Quantity string
-			P        float64
-			Pass     bool
-		}
-		Verdict string
-	}
-	if err := json.Unmarshal([]byte(out), &r); err != nil {
-		t.Fatal(err)
-	}
-	seen := map[string]bool{}
-	for _, c := range r.Checks {
-		seen[c.Quantity] = true
-		if !c.Pass {
-			t.Errorf("%s: p = %g", c.Quantity, c.P)
-		}
-	}
+	r := passingChecks(t, out)
 	for _, q := range []string{"on-network:t=0.05", "position:t=0.05", "on-network:t=0.5", "position:t=0.5"} {
-		if !seen[q] {
-			t.Errorf("no check %s in %v", q, seen)
+		if !r.seen[q] {
+			t.Errorf("no check %s in %v", q, r.seen)
 		}
 	}
 	if r.Verdict != "agree" {
@@ -109,27 +92,10 @@ diffusivity = 0.5
 	if code != 0 {
 		t.Fatalf("exit %d: %s", code, errs)
 	}
-	var r struct {
-		Checks []struct {
-			Quantity string
-			P        float64
-			Pass     bool
-		}
-		Verdict string
-	}
-	if err := json.Unmarshal([]byte(out), &r); err != nil {
-		t.Fatal(err)
-	}
-	seen := map[string]bool{}
-	for _, c := range r.Checks {
-		seen[c.Quantity] = true
-		if !c.Pass {
-			t.Errorf("%s: p = %g", c.Quantity, c.P)
-		}
-	}
+	r := passingChecks(t, out)
 	for _, q := range []string{"held:hub:t=0.1", "held:hub:t=0.5", "on-network:t=0.5", "position:t=0.5"} {
-		if !seen[q] {
-			t.Errorf("no check %s in %v", q, seen)
+		if !r.seen[q] {
+			t.Errorf("no check %s in %v", q, r.seen)
 		}
 	}
 	if r.Verdict != "agree" {
@@ -200,4 +166,33 @@ weights = [0.5, 0.25]
 	if strings.Join(r.BiasEstimate.Halved, ",") != "star_fraction,step" {
 		t.Errorf("halved %v, want star_fraction and step", r.BiasEstimate.Halved)
 	}
+}
+
+// crossChecks is what the position tests read of crosscheck --json.
+type crossChecks struct {
+	Checks []struct {
+		Quantity string
+		P        float64
+		Pass     bool
+	}
+	Verdict string
+	seen    map[string]bool // the quantities checked
+}
+
+// passingChecks parses crosscheck's JSON output and reports every check
+// that did not pass.
+func passingChecks(t *testing.T, out string) *crossChecks {
+	t.Helper()
+	var r crossChecks
+	if err := json.Unmarshal([]byte(out), &r); err != nil {
+		t.Fatal(err)
+	}
+	r.seen = map[string]bool{}
+	for _, c := range r.Checks {
+		r.seen[c.Quantity] = true
+		if !c.Pass {
+			t.Errorf("%s: p = %g", c.Quantity, c.P)
+		}
+	}
+	return &r
 }

@@ -14,6 +14,7 @@ import (
 
 	"github.com/ramify-dev/ramify/graphpde"
 	"github.com/ramify-dev/ramify/graphpde/gen"
+	"github.com/ramify-dev/ramify/graphpde/netfile"
 )
 
 // secondsLine is the one line of solve --json that differs between two
@@ -221,4 +222,10 @@ func BenchmarkSolveJSONWhole(b *testing.B) {
 	b.ReportMetric(whole/solve, "whole/solve")
 	b.ReportMetric(whole, "whole-s")
 	b.ReportMetric(solve, "solve-s")
+}
+
+// writeMeshFile writes the n×n square mesh to path as a network file
+// (netfile.Write; 300×300 is about 20 MB).
+func writeMeshFile(path string, n int) error {
+	return writeNetFile(path, gen.SquareMesh(n, n), netfile.Write)
 }

@@ -296,11 +296,6 @@ func (p *prescanner) scan(w string, base int, eof bool) (int, error) {
 // begun: line breaks, comments, quotes and brackets.
 var prescanSpecial = [256]bool{'\n': true, '#': true, '"': true, '\'': true, '[': true, ']': true, '{': true, '}': true}
 
-// lineStartOf returns the offset of the start of the line holding pos.
-func lineStartOf(src string, pos int) int {
-	return strings.LastIndexByte(src[:pos], '\n') + 1
-}
-
 // skipString skips the basic, literal or multi-line string that starts at
 // pos and returns the position after it and the line it ends on. An
 // unterminated string runs to the end of its line (single-line) or of the

@@ -18,31 +18,11 @@ import (
 // drift on two arms (time-stepped), decay on one; weightsAsA turns the
 // forward junction condition into continuity of q (the wrong density).
 func driftingJunction(t *testing.T, weightsAsA bool) *graphpde.Network {
-	var net graphpde.Network
-	add := func(nd graphpde.Node) int {
-		i, err := net.AddNode(nd)
-		if err != nil {
-			t.Fatal(err)
-		}
-		return i
-	}
-	c := add(graphpde.Node{ID: "c"})
-	e1 := add(graphpde.Node{ID: "e1"})
-	e2 := add(graphpde.Node{ID: "e2", Law: vertex.Law{Kind: vertex.Fixed}})
-	e3 := add(graphpde.Node{ID: "e3", Law: vertex.Law{Kind: vertex.Fixed}})
-	for _, ed := range []graphpde.Edge{
-		{ID: "a1", From: c, To: e1, Length: 1, A: 1, B: 0.8, Weight: [2]float64{2, 1}},
-		{ID: "a2", From: e2, To: c, Length: 1.5, A: 0.5, B: -0.4, C: 0.2, Weight: [2]float64{0.5, 0.25}},
-		{ID: "a3", From: c, To: e3, Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
-	} {
-		if weightsAsA {
-			ed.Weight = [2]float64{ed.A, ed.A}
-		}
-		if _, err := net.AddEdge(ed); err != nil {
-			t.Fatal(err)
-		}
-	}
-	return &net
+	return threeArmJunction(t, weightsAsA, [3]graphpde.Edge{
+		{ID: "a1", Length: 1, A: 1, B: 0.8, Weight: [2]float64{2, 1}},
+		{ID: "a2", Length: 1.5, A: 0.5, B: -0.4, C: 0.2, Weight: [2]float64{0.5, 0.25}},
+		{ID: "a3", Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
+	})
 }
 
 // TestPositionsBiasDefault: at the drifting junction with the default

@@ -160,6 +160,17 @@ func TestPositionsAdvectionPulse(t *testing.T) {
 // junction condition of the forward problem into continuity of q (the
 // deliberately wrong density).
 func skewedJunction(t *testing.T, weightsAsA bool) *graphpde.Network {
+	return threeArmJunction(t, weightsAsA, [3]graphpde.Edge{
+		{ID: "a1", Length: 1, A: 1, Weight: [2]float64{2, 1}},
+		{ID: "a2", Length: 1.5, A: 0.5, Weight: [2]float64{0.5, 0.25}},
+		{ID: "a3", Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
+	})
+}
+
+// threeArmJunction builds the junction c with a reflecting tip e1 on arm
+// a1 (c → e1) and absorbing ends e2 (a2: e2 → c) and e3 (a3: c → e3), the
+// arms' coefficients and weights as given (From and To are set here).
+func threeArmJunction(t *testing.T, weightsAsA bool, arms [3]graphpde.Edge) *graphpde.Network {
 	var net graphpde.Network
 	add := func(nd graphpde.Node) int {
 		i, err := net.AddNode(nd)
@@ -172,11 +183,9 @@ func skewedJunction(t *testing.T, weightsAsA bool) *graphpde.Network {
 	e1 := add(graphpde.Node{ID: "e1"})
 	e2 := add(graphpde.Node{ID: "e2", Law: vertex.Law{Kind: vertex.Fixed}})
 	e3 := add(graphpde.Node{ID: "e3", Law: vertex.Law{Kind: vertex.Fixed}})
-	for _, ed := range []graphpde.Edge{
-		{ID: "a1", From: c, To: e1, Length: 1, A: 1, Weight: [2]float64{2, 1}},
-		{ID: "a2", From: e2, To: c, Length: 1.5, A: 0.5, Weight: [2]float64{0.5, 0.25}},
-		{ID: "a3", From: c, To: e3, Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
-	} {
+	ends := [3][2]int{{c, e1}, {e2, c}, {c, e3}}
+	for k, ed := range arms {
+		ed.From, ed.To = ends[k][0], ends[k][1]
 		if weightsAsA {
 			ed.Weight = [2]float64{ed.A, ed.A}
 		}
@@ -256,34 +265,7 @@ func TestPositionsSkewedJunction(t *testing.T) {
 // 3 minutes, the fine step).
 func TestPositionsDriftingJunction(t *testing.T) {
 	testenv.SkipUnlessLong(t, "positions at a drifting junction with a fine Euler step")
-	build := func(weightsAsA bool) *graphpde.Network {
-		var net graphpde.Network
-		add := func(nd graphpde.Node) int {
-			i, err := net.AddNode(nd)
-			if err != nil {
-				t.Fatal(err)
-			}
-			return i
-		}
-		c := add(graphpde.Node{ID: "c"})
-		e1 := add(graphpde.Node{ID: "e1"})
-		e2 := add(graphpde.Node{ID: "e2", Law: vertex.Law{Kind: vertex.Fixed}})
-		e3 := add(graphpde.Node{ID: "e3", Law: vertex.Law{Kind: vertex.Fixed}})
-		for _, ed := range []graphpde.Edge{
-			{ID: "a1", From: c, To: e1, Length: 1, A: 1, B: 0.8, Weight: [2]float64{2, 1}},
-			{ID: "a2", From: e2, To: c, Length: 1.5, A: 0.5, B: -0.4, C: 0.2, Weight: [2]float64{0.5, 0.25}},
-			{ID: "a3", From: c, To: e3, Length: 0.8, A: 1, Weight: [2]float64{1.5, 1}},
-		} {
-			if weightsAsA {
-				ed.Weight = [2]float64{ed.A, ed.A}
-			}
-			if _, err := net.AddEdge(ed); err != nil {
-				t.Fatal(err)
-			}
-		}
-		return &net
-	}
-	net := build(false)
+	net := driftingJunction(t, false)
 	start := vertex.OnEdge(0, 0.3)
 	times := []float64{0.1, 0.4, 1}
 	res, err := montecarlo.Run(context.Background(), net, start, &montecarlo.Settings{Particles: 40000, Seed: 14, PositionTimes: times, Step: 2e-5, StarFraction: 1.0 / 32})
@@ -293,7 +275,7 @@ func TestPositionsDriftingJunction(t *testing.T) {
 	if !res.PositionApprox {
 		t.Error("PositionApprox not set at a drifting junction")
 	}
-	for i, n := range []*graphpde.Network{net, build(true)} {
+	for i, n := range []*graphpde.Network{net, driftingJunction(t, true)} {
 		fwd, err := graphpde.ForwardDensity(n, start, times, 400, 0)
 		if err != nil {
 			t.Fatal(err)
